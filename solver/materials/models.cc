@@ -1,0 +1,91 @@
+#include "solver/materials/models.h"
+
+#include <fmt/format.h>
+
+#include <limits>
+#include <stdexcept>
+
+#include "solver/constants.h"
+
+namespace roundtrip {
+
+DrudeLorentz::DrudeLorentz(std::string name, DrudeLorentzParams p, std::string source)
+    : name_(std::move(name)), source_(std::move(source)), p_(std::move(p)) {
+  if (!(p_.eps_inf >= 1.0))
+    throw std::invalid_argument(fmt::format("material '{}': eps_inf = {} must be >= 1", name_,
+                                            p_.eps_inf));
+  if (!(p_.plasma_frequency >= 0.0) || !(p_.damping >= 0.0))
+    throw std::invalid_argument(
+        fmt::format("material '{}': plasma frequency and damping must be >= 0", name_));
+  for (const auto& o : p_.oscillators)
+    if (!(o.strength >= 0.0) || !(o.frequency > 0.0) || !(o.damping >= 0.0))
+      throw std::invalid_argument(fmt::format(
+          "material '{}': oscillator needs strength >= 0, frequency > 0, damping >= 0", name_));
+}
+
+double DrudeLorentz::epsilon(double xi) const {
+  double eps = p_.eps_inf;
+  if (p_.plasma_frequency > 0.0) {
+    const double wp2 = p_.plasma_frequency * p_.plasma_frequency;
+    eps += wp2 / (xi * (xi + p_.damping));
+  }
+  for (const auto& o : p_.oscillators) {
+    const double w2 = o.frequency * o.frequency;
+    eps += o.strength * w2 / (w2 + xi * xi + o.damping * xi);
+  }
+  return eps;
+}
+
+StaticLimit DrudeLorentz::static_limit() const {
+  if (p_.plasma_frequency > 0.0) {
+    if (p_.damping > 0.0) return {StaticClass::kDrudeConductor, 0.0, 0.0};
+    const double kp = p_.plasma_frequency / kSpeedOfLight;
+    return {StaticClass::kPlasmaConductor, 0.0, kp * kp};
+  }
+  double eps0 = p_.eps_inf;
+  for (const auto& o : p_.oscillators) eps0 += o.strength;
+  return {StaticClass::kDielectric, eps0, 0.0};
+}
+
+std::string DrudeLorentz::description() const {
+  std::string s;
+  const double ev = kRadPerSecondPerEv;
+  if (p_.plasma_frequency > 0.0) {
+    s = p_.damping > 0.0 ? fmt::format("Drude, omega_p = {:.6g} eV, gamma = {:.6g} meV",
+                                       p_.plasma_frequency / ev, 1e3 * p_.damping / ev)
+                         : fmt::format("plasma, omega_p = {:.6g} eV", p_.plasma_frequency / ev);
+  } else if (p_.oscillators.empty()) {
+    s = fmt::format("constant, eps = {:.6g}", p_.eps_inf);
+  } else {
+    s = "oscillators";
+  }
+  if (p_.eps_inf != 1.0 && (p_.plasma_frequency > 0.0 || !p_.oscillators.empty()))
+    s += fmt::format(", eps_inf = {:.6g}", p_.eps_inf);
+  if (!p_.oscillators.empty()) s += fmt::format(", {} oscillator(s)", p_.oscillators.size());
+  return s;
+}
+
+double PerfectConductor::epsilon(double) const { return std::numeric_limits<double>::infinity(); }
+
+MaterialPtr make_perfect_conductor() { return std::make_shared<PerfectConductor>(); }
+MaterialPtr make_vacuum() {
+  return std::make_shared<DrudeLorentz>("vacuum", DrudeLorentzParams{}, "exact");
+}
+MaterialPtr make_constant(std::string name, double eps) {
+  DrudeLorentzParams p;
+  p.eps_inf = eps;
+  return std::make_shared<DrudeLorentz>(std::move(name), p);
+}
+MaterialPtr make_plasma(std::string name, double omega_p) {
+  DrudeLorentzParams p;
+  p.plasma_frequency = omega_p;
+  return std::make_shared<DrudeLorentz>(std::move(name), p);
+}
+MaterialPtr make_drude(std::string name, double omega_p, double gamma) {
+  DrudeLorentzParams p;
+  p.plasma_frequency = omega_p;
+  p.damping = gamma;
+  return std::make_shared<DrudeLorentz>(std::move(name), p);
+}
+
+}  // namespace roundtrip

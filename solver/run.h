@@ -1,0 +1,62 @@
+#pragma once
+// A separation sweep: one Geometry, a list of gaps, a frequency rule -> energies, forces,
+// gradients and PFA values at each gap. This is the library entry point the CLI uses.
+#include <functional>
+#include <map>
+#include <optional>
+#include <string>
+#include <vector>
+
+#include "solver/frequency/frequency_rule.h"
+#include "solver/geometries/geometry.h"
+
+namespace roundtrip {
+
+struct Quantities {
+  bool energy = true;
+  bool force = true;
+  bool gradient = false;
+  DerivativeOrder order() const {
+    return gradient ? DerivativeOrder::kGradient
+                    : (force ? DerivativeOrder::kForce : DerivativeOrder::kEnergy);
+  }
+};
+
+struct RunOptions {
+  FrequencyRuleOptions frequency;
+  Quantities quantities;
+  int threads = 0;  ///< 0: OpenMP default
+  /// Called after each finished gap with (done, total); may be empty.
+  std::function<void(int, int)> progress;
+};
+
+/// Result at one gap. Units: J, N, N/m for compact bodies; J/m^2, Pa, Pa/m when per_area.
+struct PointResult {
+  double gap = 0.0;       ///< m
+  double energy = 0.0;    ///< free energy (T > 0) or energy (T = 0)
+  double force = 0.0;     ///< -dE/dL
+  double gradient = 0.0;  ///< dF/dL = -d2E/dL2
+  double energy_error = 0.0;  ///< estimated absolute error of energy
+  std::optional<PfaValues> pfa;
+  FrequencySum frequencies;
+  std::map<std::string, double> truncation;
+  double wall_seconds = 0.0;
+};
+
+struct RunResult {
+  std::string kind;       ///< Geometry::kind()
+  std::string description;
+  bool per_area = false;
+  std::vector<PointResult> points;
+  double wall_seconds = 0.0;
+  int threads = 1;
+};
+
+/// Compute every gap in `gaps` (m, each > 0). Deterministic for any thread count.
+RunResult run_sweep(const Geometry& geometry, const std::vector<double>& gaps,
+                    const RunOptions& options);
+
+/// Unit strings for a result: {"energy", "force", "gradient"} -> "J" / "J/m^2" etc.
+std::map<std::string, std::string> result_units(bool per_area);
+
+}  // namespace roundtrip
