@@ -12,8 +12,8 @@ namespace roundtrip {
 DrudeLorentz::DrudeLorentz(std::string name, DrudeLorentzParams p, std::string source)
     : name_(std::move(name)), source_(std::move(source)), p_(std::move(p)) {
   if (!(p_.eps_inf >= 1.0))
-    throw std::invalid_argument(fmt::format("material '{}': eps_inf = {} must be >= 1", name_,
-                                            p_.eps_inf));
+    throw std::invalid_argument(
+        fmt::format("material '{}': eps_inf = {} must be >= 1", name_, p_.eps_inf));
   if (!(p_.plasma_frequency >= 0.0) || !(p_.damping >= 0.0))
     throw std::invalid_argument(
         fmt::format("material '{}': plasma frequency and damping must be >= 0", name_));
@@ -21,6 +21,10 @@ DrudeLorentz::DrudeLorentz(std::string name, DrudeLorentzParams p, std::string s
     if (!(o.strength >= 0.0) || !(o.frequency > 0.0) || !(o.damping >= 0.0))
       throw std::invalid_argument(fmt::format(
           "material '{}': oscillator needs strength >= 0, frequency > 0, damping >= 0", name_));
+  for (const auto& r : p_.relaxations)
+    if (!(r.strength >= 0.0) || !(r.rate > 0.0))
+      throw std::invalid_argument(
+          fmt::format("material '{}': relaxation needs strength >= 0, rate > 0", name_));
 }
 
 double DrudeLorentz::epsilon(double xi) const {
@@ -33,6 +37,7 @@ double DrudeLorentz::epsilon(double xi) const {
     const double w2 = o.frequency * o.frequency;
     eps += o.strength * w2 / (w2 + xi * xi + o.damping * xi);
   }
+  for (const auto& r : p_.relaxations) eps += r.strength / (1.0 + xi / r.rate);
   return eps;
 }
 
@@ -44,6 +49,7 @@ StaticLimit DrudeLorentz::static_limit() const {
   }
   double eps0 = p_.eps_inf;
   for (const auto& o : p_.oscillators) eps0 += o.strength;
+  for (const auto& r : p_.relaxations) eps0 += r.strength;
   return {StaticClass::kDielectric, eps0, 0.0};
 }
 
@@ -54,14 +60,19 @@ std::string DrudeLorentz::description() const {
     s = p_.damping > 0.0 ? fmt::format("Drude, omega_p = {:.6g} eV, gamma = {:.6g} meV",
                                        p_.plasma_frequency / ev, 1e3 * p_.damping / ev)
                          : fmt::format("plasma, omega_p = {:.6g} eV", p_.plasma_frequency / ev);
-  } else if (p_.oscillators.empty()) {
+  } else if (p_.oscillators.empty() && p_.relaxations.empty()) {
     s = fmt::format("constant, eps = {:.6g}", p_.eps_inf);
   } else {
     s = "oscillators";
   }
-  if (p_.eps_inf != 1.0 && (p_.plasma_frequency > 0.0 || !p_.oscillators.empty()))
+  if (p_.eps_inf != 1.0 &&
+      (p_.plasma_frequency > 0.0 || !p_.oscillators.empty() || !p_.relaxations.empty()))
     s += fmt::format(", eps_inf = {:.6g}", p_.eps_inf);
-  if (!p_.oscillators.empty()) s += fmt::format(", {} oscillator(s)", p_.oscillators.size());
+  for (const auto& o : p_.oscillators)
+    s += fmt::format(", C = {:.6g} at {:.6g} rad/s (damping {:.6g} rad/s)", o.strength, o.frequency,
+                     o.damping);
+  for (const auto& r : p_.relaxations)
+    s += fmt::format(", Debye d = {:.6g} at rate {:.6g} rad/s", r.strength, r.rate);
   return s;
 }
 

@@ -7,7 +7,9 @@
 // oscillator dielectric (Bergstrom, Adv. Colloid Interface Sci. 70, 125 (1997)), no terms a
 // constant. With omega_p > 0 and oscillators it is the generalized plasma-like (gamma = 0) or
 // Drude-Lorentz (gamma > 0) model (Klimchitskaya, Mohideen, Mostepanenko, RMP 81, 1827 (2009)).
-// All frequencies in rad/s; C_j dimensionless.
+// All frequencies in rad/s; C_j dimensionless. Optional Debye relaxation terms
+//   + sum_r d_r / (1 + xi / w_r)
+// describe orientational polarisation (water; Parsegian, Van der Waals Forces, CUP (2006), ch. L2).
 #include <string>
 #include <vector>
 
@@ -21,11 +23,18 @@ struct Oscillator {
   double damping = 0.0;    ///< g_j (rad/s), >= 0
 };
 
+/// Debye relaxation d / (1 + xi / rate) on the imaginary axis.
+struct Relaxation {
+  double strength = 0.0;  ///< d (dimensionless), >= 0
+  double rate = 0.0;      ///< 1/tau (rad/s), > 0
+};
+
 struct DrudeLorentzParams {
   double eps_inf = 1.0;
   double plasma_frequency = 0.0;  ///< omega_p (rad/s)
   double damping = 0.0;           ///< gamma (rad/s); 0 = plasma model
   std::vector<Oscillator> oscillators;
+  std::vector<Relaxation> relaxations;
 };
 
 class DrudeLorentz final : public Material {
