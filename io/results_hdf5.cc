@@ -1,0 +1,258 @@
+#include "io/results_hdf5.h"
+
+#include <H5Cpp.h>
+#include <fmt/format.h>
+#include <unistd.h>
+
+#include <chrono>
+#include <cmath>
+#include <ctime>
+#include <limits>
+#include <set>
+#include <system_error>
+#include <vector>
+
+#include "io/errors.h"
+#include "roundtrip/version.h"
+
+namespace roundtrip::io {
+namespace {
+
+H5::StrType utf8_string_type() {
+  H5::StrType t(H5::PredType::C_S1, H5T_VARIABLE);
+  t.setCset(H5T_CSET_UTF8);
+  return t;
+}
+
+void attr(H5::H5Object& obj, const std::string& name, const std::string& value) {
+  const H5::StrType t = utf8_string_type();
+  obj.createAttribute(name, t, H5::DataSpace(H5S_SCALAR)).write(t, value);
+}
+void attr(H5::H5Object& obj, const std::string& name, double value) {
+  obj.createAttribute(name, H5::PredType::NATIVE_DOUBLE, H5::DataSpace(H5S_SCALAR))
+      .write(H5::PredType::NATIVE_DOUBLE, &value);
+}
+void attr(H5::H5Object& obj, const std::string& name, int value) {
+  obj.createAttribute(name, H5::PredType::NATIVE_INT, H5::DataSpace(H5S_SCALAR))
+      .write(H5::PredType::NATIVE_INT, &value);
+}
+
+void vector_dataset(H5::Group& g, const std::string& name, const std::vector<double>& v,
+                    const std::string& units, const std::string& meaning) {
+  const hsize_t n = v.size();
+  H5::DataSet ds = g.createDataSet(name, H5::PredType::NATIVE_DOUBLE, H5::DataSpace(1, &n));
+  if (n > 0) ds.write(v.data(), H5::PredType::NATIVE_DOUBLE);
+  attr(ds, "units", units);
+  attr(ds, "description", meaning);
+}
+
+void text_dataset(H5::Group& g, const std::string& name, const std::string& text) {
+  const H5::StrType t = utf8_string_type();
+  H5::DataSet ds = g.createDataSet(name, t, H5::DataSpace(H5S_SCALAR));
+  ds.write(text, t);
+}
+
+template <class F>
+std::vector<double> column(const RunResult& r, F f) {
+  std::vector<double> out;
+  out.reserve(r.points.size());
+  for (const auto& p : r.points) out.push_back(f(p));
+  return out;
+}
+
+void write_file(H5::H5File& file, const RunResult& r, const ResultsInfo& info) {
+  const QuantityUnits u = quantity_units(r.per_area);
+  const Quantities& q = info.quantities;
+
+  attr(file, "format", std::string(kResultsFormatName));
+  attr(file, "format_version", kResultsFormatVersion);
+  attr(file, "roundtrip_version", std::string(kVersion));
+  attr(file, "git_commit", std::string(kGitCommit));
+  attr(file, "created_utc", iso8601_utc_now());
+  attr(file, "threads", r.threads);
+  attr(file, "wall_time_s", r.wall_seconds);
+  attr(file, "geometry", r.kind);
+  attr(file, "description", r.description);
+  attr(file, "title", info.title);
+  attr(file, "per_area", r.per_area ? 1 : 0);
+  attr(file, "temperature_K", info.temperature_K);
+  attr(file, "rel_tol", info.rel_tol);
+  attr(file, "frequency_rule", info.frequency_rule);
+
+  H5::Group input = file.createGroup("input");
+  text_dataset(input, "case_file", info.case_text);
+  {
+    H5::DataSet ds = input.openDataSet("case_file");
+    attr(ds, "path", info.case_path);
+  }
+
+  H5::Group res = file.createGroup("results");
+  vector_dataset(res, "gap", column(r, [](auto& p) { return p.gap; }), "m",
+                 "surface-to-surface gap L");
+  if (q.energy) {
+    vector_dataset(res, "energy", column(r, [](auto& p) { return p.energy; }), u.energy,
+                   "energy (T = 0) or free energy (T > 0); < 0 is attraction");
+    vector_dataset(res, "energy_error", column(r, [](auto& p) { return p.energy_error; }), u.energy,
+                   "estimated absolute error of energy");
+  }
+  if (q.force || q.gradient)
+    vector_dataset(res, "force", column(r, [](auto& p) { return p.force; }), u.force,
+                   "force F = -dE/dL; < 0 is attraction");
+  if (q.gradient)
+    vector_dataset(res, "gradient", column(r, [](auto& p) { return p.gradient; }), u.gradient,
+                   "force gradient dF/dL = -d2E/dL2");
+  std::vector<int> converged;
+  for (const auto& p : r.points) converged.push_back(p.frequencies.converged ? 1 : 0);
+  {
+    const hsize_t n = converged.size();
+    H5::DataSet ds = res.createDataSet("converged", H5::PredType::NATIVE_INT, H5::DataSpace(1, &n));
+    if (n > 0) ds.write(converged.data(), H5::PredType::NATIVE_INT);
+    attr(ds, "units", std::string("1"));
+    attr(ds, "description", std::string("1 if the frequency rule met rel_tol at this gap"));
+  }
+  vector_dataset(res, "wall_time_s", column(r, [](auto& p) { return p.wall_seconds; }), "s",
+                 "wall time spent on this gap");
+
+  bool any_pfa = false;
+  for (const auto& p : r.points) any_pfa = any_pfa || p.pfa.has_value();
+  if (any_pfa) {
+    constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
+    const auto pfa_of = [&](auto get) {
+      return column(r, [&](const PointResult& p) { return p.pfa ? get(*p.pfa) : kNaN; });
+    };
+    const auto ratio = [](const std::vector<double>& a, const std::vector<double>& b) {
+      std::vector<double> out(a.size());
+      for (std::size_t i = 0; i < a.size(); ++i) out[i] = a[i] / b[i];
+      return out;
+    };
+    const auto e = column(r, [](auto& p) { return p.energy; });
+    const auto f = column(r, [](auto& p) { return p.force; });
+    const auto g = column(r, [](auto& p) { return p.gradient; });
+    const auto ep = pfa_of([](const PfaValues& v) { return v.energy; });
+    const auto fp = pfa_of([](const PfaValues& v) { return v.force; });
+    const auto gp = pfa_of([](const PfaValues& v) { return v.gradient; });
+    if (q.energy) {
+      vector_dataset(res, "energy_pfa", ep, u.energy, "proximity force approximation of energy");
+      vector_dataset(res, "energy_ratio", ratio(e, ep), "1", "energy / energy_pfa");
+    }
+    if (q.force || q.gradient) {
+      vector_dataset(res, "force_pfa", fp, u.force, "proximity force approximation of force");
+      vector_dataset(res, "force_ratio", ratio(f, fp), "1", "force / force_pfa");
+    }
+    if (q.gradient) {
+      vector_dataset(res, "gradient_pfa", gp, u.gradient,
+                     "proximity force approximation of gradient");
+      vector_dataset(res, "gradient_ratio", ratio(g, gp), "1", "gradient / gradient_pfa");
+    }
+  }
+
+  std::set<std::string> trunc_names;
+  for (const auto& p : r.points)
+    for (const auto& [k, v] : p.truncation) trunc_names.insert(k);
+  H5::Group trunc = res.createGroup("truncation");
+  for (const auto& name : trunc_names) {
+    const auto v = column(r, [&](const PointResult& p) {
+      const auto it = p.truncation.find(name);
+      return it == p.truncation.end() ? std::numeric_limits<double>::quiet_NaN() : it->second;
+    });
+    vector_dataset(trunc, name, v, "1", "truncation used at each gap (NaN: not used)");
+  }
+
+  // Per-gap frequency contributions: E = sum_j weight_j s(xi_j) (see geometry.h).
+  const bool zero_t = info.temperature_K == 0.0;
+  const std::string s_units = r.per_area ? "1/m^2" : "1";
+  H5::Group freq = file.createGroup("frequencies");
+  for (std::size_t i = 0; i < r.points.size(); ++i) {
+    const PointResult& p = r.points[i];
+    H5::Group g = freq.createGroup(std::to_string(i));
+    attr(g, "gap", p.gap);
+    attr(g, "gap_units", std::string("m"));
+    attr(g, "converged", p.frequencies.converged ? 1 : 0);
+    attr(g, "abs_error", p.frequencies.abs_error);
+    attr(g, "message", p.frequencies.message);
+    const auto& t = p.frequencies.terms;
+    const auto col = [&](auto get) {
+      std::vector<double> v;
+      v.reserve(t.size());
+      for (const auto& term : t) v.push_back(get(term));
+      return v;
+    };
+    vector_dataset(g, "xi", col([](auto& x) { return x.xi; }), "rad/s", "imaginary frequency");
+    vector_dataset(g, "weight", col([](auto& x) { return x.weight; }), zero_t ? "J s/rad" : "J",
+                   "weight of the term in the frequency rule");
+    vector_dataset(g, "s", col([](auto& x) { return x.s.value; }), s_units,
+                   "sum over blocks of log det(1 - M)");
+    vector_dataset(g, "ds_dL", col([](auto& x) { return x.s.d1; }), r.per_area ? "1/m^3" : "1/m",
+                   "first derivative of s with respect to the gap");
+    vector_dataset(g, "d2s_dL2", col([](auto& x) { return x.s.d2; }),
+                   r.per_area ? "1/m^4" : "1/m^2",
+                   "second derivative of s with respect to the gap");
+  }
+}
+
+}  // namespace
+
+QuantityUnits quantity_units(bool per_area) {
+  if (per_area) return {"J/m^2", "Pa", "Pa/m"};
+  return {"J", "N", "N/m"};
+}
+
+std::string iso8601_utc_now() {
+  const std::time_t now = std::chrono::system_clock::to_time_t(std::chrono::system_clock::now());
+  std::tm utc{};
+  gmtime_r(&now, &utc);
+  char buf[32];
+  std::strftime(buf, sizeof buf, "%Y-%m-%dT%H:%M:%SZ", &utc);
+  return buf;
+}
+
+ResultsWriter::ResultsWriter(std::filesystem::path final_path, std::string field)
+    : final_(std::move(final_path)), field_(std::move(field)) {
+  const auto fail = [&](const std::string& why) {
+    return CaseError(fmt::format("{} = \"{}\": cannot write the results file: {}", field_,
+                                 final_.string(), why));
+  };
+  if (final_.empty()) throw fail("empty path");
+  std::error_code ec;
+  if (std::filesystem::is_directory(final_, ec)) throw fail("it is a directory");
+  const auto dir = final_.has_parent_path() ? final_.parent_path() : std::filesystem::path(".");
+  if (!std::filesystem::is_directory(dir, ec))
+    throw fail(fmt::format("directory \"{}\" does not exist", dir.string()));
+  temp_ = final_;
+  temp_ += fmt::format(".tmp.{}", static_cast<long>(getpid()));
+  H5::Exception::dontPrint();
+  try {
+    H5::H5File probe(temp_.string(), H5F_ACC_TRUNC);
+    probe.close();
+  } catch (const H5::Exception&) {
+    std::filesystem::remove(temp_, ec);
+    throw fail(access(dir.c_str(), W_OK) != 0 ? "no permission to write in its directory"
+                                              : "HDF5 could not create the file");
+  }
+}
+
+ResultsWriter::~ResultsWriter() {
+  if (!committed_) {
+    std::error_code ec;
+    std::filesystem::remove(temp_, ec);
+  }
+}
+
+void ResultsWriter::commit(const RunResult& result, const ResultsInfo& info) {
+  try {
+    H5::H5File file(temp_.string(), H5F_ACC_TRUNC);
+    write_file(file, result, info);
+    file.close();
+  } catch (const H5::Exception& e) {
+    throw CaseError(fmt::format("{} = \"{}\": writing the results file failed: {}", field_,
+                                final_.string(), e.getDetailMsg()));
+  }
+  std::error_code ec;
+  std::filesystem::rename(temp_, final_, ec);
+  if (ec)
+    throw CaseError(fmt::format("{} = \"{}\": could not move the finished file into place: {}",
+                                field_, final_.string(), ec.message()));
+  committed_ = true;
+}
+
+}  // namespace roundtrip::io

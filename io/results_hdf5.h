@@ -1,0 +1,57 @@
+#pragma once
+// Results of one run in one HDF5 file (layout documented in README.md, "HDF5 results layout").
+//
+// The file is written to "<final>.tmp.<pid>" in the same directory and renamed at the end, so a
+// file at the final path is always complete. The temporary file is created when the writer is
+// constructed, before anything is computed: an unwritable path fails at once. All values are SI,
+// each dataset carries a `units` attribute.
+#include <filesystem>
+#include <string>
+
+#include "solver/run.h"
+
+namespace roundtrip::io {
+
+inline constexpr const char* kResultsFormatName = "roundtrip-results";
+inline constexpr int kResultsFormatVersion = 1;
+
+/// What the file records beside the numbers.
+struct ResultsInfo {
+  std::string title;           ///< case title (may be empty)
+  std::string case_path;       ///< path of the case file as given
+  std::string case_text;       ///< the case file verbatim
+  double temperature_K = 0.0;  ///< K
+  double rel_tol = 0.0;
+  std::string frequency_rule;  ///< e.g. "matsubara"
+  Quantities quantities;       ///< which of energy / force / gradient were computed
+};
+
+/// SI units of energy, force and gradient: J, N, N/m (compact bodies) or J/m^2, Pa, Pa/m.
+struct QuantityUnits {
+  std::string energy, force, gradient;
+};
+QuantityUnits quantity_units(bool per_area);
+
+class ResultsWriter {
+ public:
+  /// Creates the temporary file now. Throws CaseError naming `field` and the path if the file
+  /// cannot be created (missing directory, no permission, path is a directory).
+  ResultsWriter(std::filesystem::path final_path, std::string field);
+  ~ResultsWriter();  ///< removes the temporary file unless commit() succeeded
+  ResultsWriter(const ResultsWriter&) = delete;
+  ResultsWriter& operator=(const ResultsWriter&) = delete;
+
+  /// Write everything into the temporary file, close it and rename it to the final path.
+  void commit(const RunResult& result, const ResultsInfo& info);
+  const std::filesystem::path& path() const { return final_; }
+
+ private:
+  std::filesystem::path final_, temp_;
+  std::string field_;
+  bool committed_ = false;
+};
+
+/// Current time as ISO 8601 UTC, e.g. "2026-12-01T18:40:00Z".
+std::string iso8601_utc_now();
+
+}  // namespace roundtrip::io

@@ -1,0 +1,143 @@
+// The HDF5 results file, read back by an outside reader (h5py under /usr/bin/python3).
+#include "io/results_hdf5.h"
+
+#include <fmt/format.h>
+#include <gtest/gtest.h>
+#include <unistd.h>
+
+#include <cstdlib>
+#include <filesystem>
+#include <fstream>
+#include <string>
+
+#include "io/errors.h"
+
+namespace roundtrip::io {
+namespace {
+
+namespace fs = std::filesystem;
+
+fs::path fresh_dir(const std::string& name) {
+  const fs::path d = fs::temp_directory_path() / fmt::format("roundtrip_io_{}_{}", name, getpid());
+  fs::remove_all(d);
+  fs::create_directories(d);
+  return d;
+}
+
+// A small hand-made result with known numbers (invented, only the layout is under test).
+RunResult sample_result() {
+  RunResult r;
+  r.kind = "sphere-plate";
+  r.description = "sphere R = 50 um of gold-drude above half-space of gold-drude";
+  r.per_area = false;
+  r.threads = 2;
+  r.wall_seconds = 1.5;
+  for (int i = 0; i < 3; ++i) {
+    PointResult p;
+    p.gap = 100e-9 * (i + 1);
+    p.energy = -1e-18 / (i + 1);
+    p.force = -2e-11 / (i + 1);
+    p.gradient = 3e-4 / (i + 1);
+    p.energy_error = 1e-24;
+    p.pfa = PfaValues{p.energy * 1.01, p.force * 1.02, p.gradient * 1.03};
+    p.truncation = {{"l_max", 20.0 + i}};
+    p.wall_seconds = 0.5;
+    for (int j = 0; j < 4; ++j)
+      p.frequencies.terms.push_back({1e14 * j, 2e-21, Spectral{-0.1 * j, 1e6, -1e13}});
+    r.points.push_back(p);
+  }
+  return r;
+}
+
+// h5py checks of the README layout; prints "OK" on success.
+constexpr const char* kChecker = R"PY(
+import sys, h5py, math
+f = h5py.File(sys.argv[1], "r")
+a = f.attrs
+assert a["format"] == "roundtrip-results", a["format"]
+assert int(a["format_version"]) == 1
+for k in ["roundtrip_version", "git_commit", "created_utc", "geometry", "description",
+          "frequency_rule", "title"]:
+    assert isinstance(a[k], str) and a[k] != "" or k == "title", k
+assert a["created_utc"].endswith("Z") and a["created_utc"][4] == "-"
+assert int(a["threads"]) == 2 and float(a["wall_time_s"]) == 1.5
+assert float(a["temperature_K"]) == 300.0 and float(a["rel_tol"]) == 1e-6
+assert a["geometry"] == "sphere-plate"
+text = f["input/case_file"].asstr()[()]
+assert text == 'geometry = "sphere-plate"\n# µ\n', repr(text)
+r = f["results"]
+units = {"gap": "m", "energy": "J", "force": "N", "gradient": "N/m", "energy_error": "J",
+         "energy_pfa": "J", "force_pfa": "N", "gradient_pfa": "N/m", "energy_ratio": "1",
+         "force_ratio": "1", "gradient_ratio": "1", "wall_time_s": "s", "converged": "1"}
+for name, u in units.items():
+    assert r[name].shape == (3,), name
+    assert r[name].attrs["units"] == u, (name, r[name].attrs["units"])
+assert abs(r["gap"][1] - 200e-9) < 1e-22
+assert abs(r["energy_ratio"][0] - 1 / 1.01) < 1e-12
+assert list(r["truncation/l_max"][:]) == [20.0, 21.0, 22.0]
+g = f["frequencies/2"]
+assert abs(g.attrs["gap"] - 300e-9) < 1e-22
+for name, u in {"xi": "rad/s", "weight": "J", "s": "1", "ds_dL": "1/m", "d2s_dL2": "1/m^2"}.items():
+    assert g[name].shape == (4,) and g[name].attrs["units"] == u, name
+assert abs(g["s"][3] + 0.3) < 1e-15
+assert sorted(f["frequencies"].keys(), key=int) == ["0", "1", "2"]
+print("OK")
+)PY";
+
+TEST(ResultsHdf5, LayoutReadsBackWithH5py) {
+  const fs::path dir = fresh_dir("layout");
+  const fs::path out = dir / "run.h5";
+  {
+    ResultsWriter w(out, "output.file");
+    ResultsInfo info;
+    info.case_path = "case.toml";
+    info.case_text = "geometry = \"sphere-plate\"\n# \u00b5\n";
+    info.temperature_K = 300.0;
+    info.rel_tol = 1e-6;
+    info.frequency_rule = "matsubara";
+    info.quantities = {true, true, true};
+    w.commit(sample_result(), info);
+  }
+  ASSERT_TRUE(fs::exists(out));
+  EXPECT_EQ(std::distance(fs::directory_iterator(dir), fs::directory_iterator()), 1)
+      << "temporary file left behind";
+  const fs::path script = dir / "check.py";
+  std::ofstream(script) << kChecker;
+  const std::string cmd = fmt::format("/usr/bin/python3 {} {} > {} 2>&1", script.string(),
+                                      out.string(), (dir / "log").string());
+  const int rc = std::system(cmd.c_str());
+  std::ifstream log(dir / "log");
+  const std::string text((std::istreambuf_iterator<char>(log)), std::istreambuf_iterator<char>());
+  EXPECT_EQ(rc, 0) << text;
+  EXPECT_EQ(text, "OK\n");
+  fs::remove_all(dir);
+}
+
+TEST(ResultsHdf5, AbandonedRunLeavesNoFile) {
+  const fs::path dir = fresh_dir("abandon");
+  { ResultsWriter w(dir / "run.h5", "output.file"); }  // no commit: the computation failed
+  EXPECT_TRUE(fs::is_empty(dir));
+  fs::remove_all(dir);
+}
+
+TEST(ResultsHdf5, UnwritablePathFailsBeforeComputing) {
+  const fs::path dir = fresh_dir("unwritable");
+  const auto message = [](const fs::path& p) -> std::string {
+    try {
+      ResultsWriter w(p, "output.file");
+    } catch (const CaseError& e) {
+      return e.what();
+    }
+    return "no error";
+  };
+  const std::string missing = message(dir / "no_such_dir" / "run.h5");
+  EXPECT_NE(missing.find("output.file"), std::string::npos) << missing;
+  EXPECT_NE(missing.find("does not exist"), std::string::npos) << missing;
+  const std::string is_dir = message(dir);
+  EXPECT_NE(is_dir.find("is a directory"), std::string::npos) << is_dir;
+  EXPECT_TRUE(fs::is_empty(dir));
+  fs::remove_all(dir);
+}
+
+}  // namespace
+}  // namespace roundtrip::io
