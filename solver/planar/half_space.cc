@@ -1,6 +1,7 @@
 // Homogeneous half-space: Fresnel coefficients at imaginary frequency (conventions in planar.h).
-#include <cmath>
 #include <fmt/format.h>
+
+#include <cmath>
 
 #include "solver/constants.h"
 #include "solver/planar/planar.h"

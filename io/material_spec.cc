@@ -1,0 +1,340 @@
+// Case-file materials and plates (io/material_spec.h). Every malformed input is a CaseError
+// naming the dotted field, the value and the line.
+#include "io/material_spec.h"
+
+#include <fmt/format.h>
+
+#include <cmath>
+#include <initializer_list>
+#include <stdexcept>
+#include <string_view>
+
+#include "io/errors.h"
+#include "io/units.h"
+#include "solver/materials/library.h"
+#include "solver/materials/models.h"
+#include "solver/materials/tabulated.h"
+#include "solver/planar/hydrodynamic.h"
+#include "solver/planar/layered.h"
+
+namespace roundtrip::io {
+namespace {
+
+std::string prefix(const toml::node& node) {
+  const std::string where = location(node.source());
+  return where.empty() ? std::string() : where + ": ";
+}
+
+std::string join(const std::vector<std::string>& v) {
+  std::string s;
+  for (const auto& x : v) s += (s.empty() ? "" : ", ") + x;
+  return s;
+}
+
+void check_keys(const toml::table& t, const std::string& field,
+                std::initializer_list<std::string_view> allowed) {
+  for (const auto& [key, node] : t) {
+    bool ok = false;
+    for (auto a : allowed) ok = ok || key.str() == a;
+    if (!ok) {
+      std::vector<std::string> names(allowed.begin(), allowed.end());
+      throw error_at(node, field + "." + std::string(key.str()),
+                     fmt::format("unknown key here (allowed: {})", join(names)));
+    }
+  }
+}
+
+const toml::node& required(const toml::table& t, std::string_view key, const std::string& field,
+                           const std::string& why = "") {
+  const toml::node* n = t.get(key);
+  if (n == nullptr)
+    throw CaseError(fmt::format("{}{}: missing required key '{}'{}", prefix(t), field, key,
+                                why.empty() ? "" : " (" + why + ")"));
+  return *n;
+}
+
+std::string get_string(const toml::node& n, const std::string& field) {
+  const auto* s = n.as_string();
+  if (s == nullptr) throw error_at(n, field, "expected a string");
+  return s->get();
+}
+
+// Frequency in rad/s; `positive` demands > 0, else >= 0.
+double frequency(const toml::node& n, const std::string& field, bool positive) {
+  const double v = parse_quantity(n, Dimension::kFrequency, field);
+  if (positive ? !(v > 0.0) : !(v >= 0.0))
+    throw error_at(n, field, positive ? "must be > 0" : "must be >= 0");
+  return v;
+}
+
+double eps_value(const toml::node& n, const std::string& field) {
+  const double v = parse_quantity(n, Dimension::kDimensionless, field);
+  if (!(v >= 1.0))
+    throw error_at(n, field, "a passive medium needs eps >= 1 on the imaginary axis");
+  return v;
+}
+
+// Speeds are not a units.h dimension: "<length>/s", e.g. "1.40e6 m/s", "1.4e8 cm/s".
+double speed(const toml::node& n, const std::string& field) {
+  const auto* s = n.as_string();
+  if (s == nullptr)
+    throw error_at(n, field, "expected a string with a speed unit, e.g. \"1.4e6 m/s\"");
+  std::string_view text = s->get();
+  while (!text.empty() && text.back() == ' ') text.remove_suffix(1);
+  if (text.size() < 3 || text.substr(text.size() - 2) != "/s")
+    throw error_at(n, field, "expected a speed: a length per second, e.g. \"1.4e6 m/s\"");
+  double v = 0.0;
+  try {
+    v = parse_quantity_string(text.substr(0, text.size() - 2), Dimension::kLength, field);
+  } catch (const CaseError& e) {
+    throw error_at(n, field, "expected a speed: a length per second, e.g. \"1.4e6 m/s\"");
+  }
+  if (!(v >= 0.0)) throw error_at(n, field, "must be >= 0");
+  return v;
+}
+
+std::vector<Oscillator> oscillators(const toml::node& n, const std::string& field) {
+  const auto* arr = n.as_array();
+  if (arr == nullptr)
+    throw error_at(n, field,
+                   "expected an array of tables, e.g. [{strength = 1.5, frequency = \"2 eV\", "
+                   "damping = \"0.1 eV\"}]");
+  std::vector<Oscillator> out;
+  for (std::size_t i = 0; i < arr->size(); ++i) {
+    const std::string f = fmt::format("{}[{}]", field, i);
+    const auto* t = (*arr)[i].as_table();
+    if (t == nullptr)
+      throw error_at((*arr)[i], f, "expected a table {strength, frequency, damping}");
+    check_keys(*t, f, {"strength", "frequency", "damping"});
+    Oscillator o;
+    const auto& sn = required(*t, "strength", f);
+    o.strength = parse_quantity(sn, Dimension::kDimensionless, f + ".strength");
+    if (!(o.strength >= 0.0)) throw error_at(sn, f + ".strength", "must be >= 0");
+    o.frequency = frequency(required(*t, "frequency", f), f + ".frequency", true);
+    if (const auto* dn = t->get("damping")) o.damping = frequency(*dn, f + ".damping", false);
+    out.push_back(o);
+  }
+  if (out.empty()) throw error_at(n, field, "needs at least one oscillator");
+  return out;
+}
+
+MaterialPtr build_user(const std::string& name, const toml::table& t, const std::string& field,
+                       const std::filesystem::path& dir) {
+  const toml::node& mnode = required(t, "model", field);
+  const std::string model = get_string(mnode, field + ".model");
+  std::string source = "user defined (case file)";
+  if (const auto* sn = t.get("source")) source = get_string(*sn, field + ".source");
+  const auto fld = [&](std::string_view key) { return field + "." + std::string(key); };
+  DrudeLorentzParams p;
+  const auto eps_inf = [&] {
+    if (const auto* n = t.get("eps_inf")) p.eps_inf = eps_value(*n, fld("eps_inf"));
+  };
+  const auto wp = [&] {
+    p.plasma_frequency =
+        frequency(required(t, "plasma_frequency", field), fld("plasma_frequency"), true);
+  };
+  const auto gamma = [&] {
+    p.damping = frequency(required(t, "damping", field), fld("damping"), true);
+  };
+  const auto osc = [&] {
+    p.oscillators = oscillators(required(t, "oscillators", field), fld("oscillators"));
+  };
+  const auto dl = [&] { return std::make_shared<DrudeLorentz>(name, p, source); };
+
+  if (model == "perfect-conductor") {
+    check_keys(t, field, {"model", "source"});
+    return make_perfect_conductor();
+  }
+  if (model == "constant") {
+    check_keys(t, field, {"model", "source", "eps"});
+    p.eps_inf = eps_value(required(t, "eps", field), fld("eps"));
+    return dl();
+  }
+  if (model == "plasma") {
+    check_keys(t, field, {"model", "source", "plasma_frequency", "eps_inf"});
+    wp(), eps_inf();
+    return dl();
+  }
+  if (model == "drude") {
+    check_keys(t, field, {"model", "source", "plasma_frequency", "damping", "eps_inf"});
+    wp(), gamma(), eps_inf();
+    return dl();
+  }
+  if (model == "oscillators") {
+    check_keys(t, field, {"model", "source", "oscillators", "eps_inf"});
+    osc(), eps_inf();
+    return dl();
+  }
+  if (model == "drude-lorentz") {
+    check_keys(t, field,
+               {"model", "source", "plasma_frequency", "damping", "oscillators", "eps_inf"});
+    wp(), gamma(), osc(), eps_inf();
+    return dl();
+  }
+  if (model == "generalized-plasma") {
+    check_keys(t, field, {"model", "source", "plasma_frequency", "oscillators", "eps_inf"});
+    wp(), osc(), eps_inf();
+    return dl();
+  }
+  if (model == "table") {
+    check_keys(t, field,
+               {"model", "source", "file", "low_frequency", "plasma_frequency", "damping"});
+    const toml::node& fnode = required(t, "file", field);
+    std::filesystem::path file = get_string(fnode, fld("file"));
+    if (file.is_relative()) file = dir / file;
+    KramersKronigOptions o;
+    if (const auto* ln = t.get("low_frequency")) {
+      const std::string low = get_string(*ln, fld("low_frequency"));
+      if (low == "drude")
+        o.low = LowFrequencyModel::kDrude;
+      else if (low == "none")
+        o.low = LowFrequencyModel::kNone;
+      else
+        throw error_at(*ln, fld("low_frequency"), "expected \"drude\" or \"none\"");
+    }
+    const auto* pn = t.get("plasma_frequency");
+    const auto* dn = t.get("damping");
+    if ((pn == nullptr) != (dn == nullptr))
+      throw error_at(pn ? *pn : *dn, pn ? fld("plasma_frequency") : fld("damping"),
+                     "give both plasma_frequency and damping for the Drude extension, or neither "
+                     "(then they are fitted to the lowest table points)");
+    if (pn != nullptr) {
+      if (o.low == LowFrequencyModel::kNone)
+        throw error_at(*pn, fld("plasma_frequency"),
+                       "low_frequency = \"none\" takes no Drude parameters");
+      o.plasma_frequency = frequency(*pn, fld("plasma_frequency"), true);
+      o.damping = frequency(*dn, fld("damping"), true);
+    }
+    if (!std::filesystem::exists(file))
+      throw error_at(fnode, fld("file"), fmt::format("no such file: {}", file.string()));
+    OpticalData data = read_optical_csv(file);  // CaseError with file:line
+    try {
+      return std::make_shared<TabulatedMaterial>(name, std::move(data), o, source);
+    } catch (const std::invalid_argument& e) {
+      throw error_at(fnode, fld("file"), e.what());
+    }
+  }
+  throw error_at(mnode, field + ".model",
+                 "unknown model (known: drude, plasma, constant, oscillators, drude-lorentz, "
+                 "generalized-plasma, perfect-conductor, table)");
+}
+
+}  // namespace
+
+MaterialResolver::MaterialResolver(const toml::table* user, std::filesystem::path case_dir)
+    : user_(user), dir_(std::move(case_dir)) {
+  if (user_ == nullptr) return;
+  // Build every user material now, so that errors in unused tables are reported too.
+  for (const auto& [key, node] : *user_) {
+    const std::string name(key.str());
+    const std::string field = "materials." + name;
+    if (builtin_material(name))
+      throw error_at(node, field,
+                     "this name is a built-in material; choose another name for a user material");
+    const auto* t = node.as_table();
+    if (t == nullptr) throw error_at(node, field, "expected a table [materials." + name + "]");
+    try {
+      cache_[name] = build_user(name, *t, field, dir_);
+    } catch (const std::invalid_argument& e) {  // model constructors: out-of-range parameters
+      throw error_at(node, field, e.what());
+    }
+  }
+}
+
+MaterialPtr MaterialResolver::get(const std::string& name, const std::string& field) const {
+  if (auto it = cache_.find(name); it != cache_.end()) return it->second;
+  if (auto m = builtin_material(name)) return m;
+  std::vector<std::string> user;
+  for (const auto& [n, m] : cache_) user.push_back(n);
+  throw CaseError(fmt::format("{} = \"{}\": unknown material (built-in: {}{}{})", field, name,
+                              join(builtin_material_names()),
+                              user.empty() ? "" : "; case file: ", join(user)));
+}
+
+namespace {
+
+MaterialPtr material_at(const toml::table& t, const std::string& field,
+                        const MaterialResolver& materials) {
+  const toml::node& n = required(t, "material", field);
+  const std::string name = get_string(n, field + ".material");
+  try {
+    return materials.get(name, field + ".material");
+  } catch (const CaseError& e) {
+    throw CaseError(prefix(n) + e.what());
+  }
+}
+
+}  // namespace
+
+PlanarPtr planar_from_toml(const toml::table& plate, const std::string& field,
+                           const MaterialResolver& materials) {
+  check_keys(plate, field, {"material", "layers", "nonlocal"});
+  MaterialPtr substrate = material_at(plate, field, materials);
+  const auto* ln = plate.get("layers");
+  const auto* nn = plate.get("nonlocal");
+  if (ln != nullptr && nn != nullptr)
+    throw error_at(*nn, field + ".nonlocal",
+                   "a nonlocal substrate under layers is not supported; use a local substrate");
+  if (ln != nullptr) {
+    const auto* arr = ln->as_array();
+    if (arr == nullptr)
+      throw error_at(*ln, field + ".layers",
+                     "expected an array of tables, e.g. [{material = \"gold-drude\", thickness = "
+                     "\"100 nm\"}]");
+    std::vector<Layer> layers;
+    for (std::size_t i = 0; i < arr->size(); ++i) {
+      const std::string f = fmt::format("{}.layers[{}]", field, i);
+      const auto* t = (*arr)[i].as_table();
+      if (t == nullptr) throw error_at((*arr)[i], f, "expected a table {material, thickness}");
+      check_keys(*t, f, {"material", "thickness"});
+      Layer l;
+      l.material = material_at(*t, f, materials);
+      const toml::node& tn = required(*t, "thickness", f);
+      l.thickness = parse_quantity(tn, Dimension::kLength, f + ".thickness");
+      if (!(l.thickness > 0.0)) throw error_at(tn, f + ".thickness", "must be > 0");
+      layers.push_back(std::move(l));
+    }
+    return make_layered(std::move(layers), substrate);
+  }
+  if (nn != nullptr) {
+    const std::string f = field + ".nonlocal";
+    const auto* t = nn->as_table();
+    if (t == nullptr)
+      throw error_at(*nn, f,
+                     "expected a table, e.g. {model = \"hydrodynamic\", fermi_velocity = \"1.40e6 "
+                     "m/s\"}");
+    check_keys(*t, f, {"model", "fermi_velocity", "beta", "regime"});
+    const toml::node& mn = required(*t, "model", f);
+    if (get_string(mn, f + ".model") != "hydrodynamic")
+      throw error_at(mn, f + ".model", "unknown nonlocal model (known: hydrodynamic)");
+    const auto* vn = t->get("fermi_velocity");
+    const auto* bn = t->get("beta");
+    if ((vn == nullptr) == (bn == nullptr))
+      throw CaseError(
+          fmt::format("{}{}: give exactly one of fermi_velocity and beta", prefix(*t), f));
+    double beta = 0.0;
+    if (bn != nullptr) {
+      if (const auto* rn = t->get("regime"))
+        throw error_at(*rn, f + ".regime", "regime applies to fermi_velocity only");
+      beta = speed(*bn, f + ".beta");
+    } else {
+      HydrodynamicRegime regime = HydrodynamicRegime::kHighFrequency;
+      if (const auto* rn = t->get("regime")) {
+        const std::string r = get_string(*rn, f + ".regime");
+        if (r == "low-frequency")
+          regime = HydrodynamicRegime::kLowFrequency;
+        else if (r != "high-frequency")
+          throw error_at(*rn, f + ".regime", "expected \"high-frequency\" or \"low-frequency\"");
+      }
+      beta = hydrodynamic_beta(speed(*vn, f + ".fermi_velocity"), regime);
+    }
+    try {
+      return make_hydrodynamic(substrate, beta);
+    } catch (const std::invalid_argument& e) {
+      throw error_at(required(plate, "material", field), field + ".material", e.what());
+    }
+  }
+  return make_half_space(substrate);
+}
+
+}  // namespace roundtrip::io

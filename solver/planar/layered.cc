@@ -1,0 +1,156 @@
+// Layered planar body by the recursive Airy formula (conventions and static limits in layered.h).
+#include "solver/planar/layered.h"
+
+#include <fmt/format.h>
+
+#include <cmath>
+#include <stdexcept>
+
+#include "solver/constants.h"
+
+namespace roundtrip {
+namespace {
+
+// One slab (or the substrate, thickness ignored) bound to a frequency.
+struct Slab {
+  bool pec = false;
+  double eps = 1.0;    // TM weight (static eps for dielectrics at xi = 0)
+  double q2_te = 0.0;  // kappa^2 - k^2 for TE (1/m^2)
+  double q2_tm = 0.0;  // kappa^2 - k^2 for TM (1/m^2)
+  double thickness = 0.0;
+};
+
+class LayeredAt final : public PlanarAtFrequency {
+ public:
+  LayeredAt(double xi, const std::vector<Layer>& layers, const Material& substrate,
+            const Material& medium) {
+    const double q2 = (xi / kSpeedOfLight) * (xi / kSpeedOfLight);
+    std::vector<const Material*> mats;
+    std::vector<double> thick;
+    for (const auto& l : layers) {
+      mats.push_back(l.material.get());
+      thick.push_back(l.thickness);
+    }
+    mats.push_back(&substrate);
+    thick.push_back(0.0);
+    if (xi > 0.0) {
+      medium_.eps = medium.epsilon(xi);
+      medium_.q2_te = medium_.q2_tm = medium_.eps * q2;
+      for (std::size_t j = 0; j < mats.size(); ++j) {
+        Slab s;
+        s.thickness = thick[j];
+        if (mats[j]->is_perfect_conductor()) {
+          s.pec = true;
+        } else {
+          s.eps = mats[j]->epsilon(xi);
+          s.q2_te = s.q2_tm = s.eps * q2;
+        }
+        // Below a perfect conductor nothing is seen, in either polarisation.
+        te_.push_back(s);
+        if (s.pec) break;
+      }
+      tm_ = te_;
+      return;
+    }
+    // xi = 0: static limits (layered.h), kappa = k in the (dielectric) medium.
+    medium_.eps = medium.static_limit().static_eps;
+    for (std::size_t j = 0; j < mats.size(); ++j) {
+      const StaticLimit sl = mats[j]->static_limit();
+      Slab s;
+      s.thickness = thick[j];
+      switch (sl.kind) {
+        case StaticClass::kDielectric:
+          s.eps = sl.static_eps;
+          break;
+        case StaticClass::kDrudeConductor:
+          break;
+        case StaticClass::kPlasmaConductor:
+          s.q2_te = sl.plasma_wavenumber_sq;
+          break;
+        case StaticClass::kPerfectConductor:
+          s.pec = true;
+          break;
+      }
+      if (te_.empty() || !te_.back().pec) te_.push_back(s);
+      if (tm_.empty() || !tm_.back().pec) {
+        Slab t = s;
+        t.pec = sl.is_conductor();  // r_TM = +1 at the first conductor
+        tm_.push_back(t);
+      }
+    }
+  }
+
+  Reflection reflect(double k) const override {
+    return {recurse(te_, k, false), recurse(tm_, k, true)};
+  }
+
+ private:
+  // Recursive Airy formula from the bottom interface up to the medium.
+  double recurse(const std::vector<Slab>& slabs, double k, bool tm) const {
+    const double k2 = k * k;
+    const auto kappa = [&](const Slab& s) { return std::sqrt(k2 + (tm ? s.q2_tm : s.q2_te)); };
+    const auto interface = [&](const Slab& a, double ka, const Slab& b, double kb) {
+      if (b.pec) return tm ? 1.0 : -1.0;
+      return tm ? (b.eps * ka - a.eps * kb) / (b.eps * ka + a.eps * kb) : (ka - kb) / (ka + kb);
+    };
+    const std::size_t n = slabs.size();
+    double kb = slabs[n - 1].pec ? 0.0 : kappa(slabs[n - 1]);
+    if (n == 1) return interface(medium_, kappa(medium_), slabs[0], kb);
+    // Bottom interface: slab n-2 over slab n-1.
+    double ka = kappa(slabs[n - 2]);
+    double R = interface(slabs[n - 2], ka, slabs[n - 1], kb);
+    for (std::size_t j = n - 1; j-- > 0;) {
+      const Slab& above = j == 0 ? medium_ : slabs[j - 1];
+      const double kj = ka;
+      const double kup = kappa(above);
+      const double r = interface(above, kup, slabs[j], kj);
+      const double e = std::exp(-2.0 * kj * slabs[j].thickness);
+      R = (r + R * e) / (1.0 + r * R * e);
+      ka = kup;
+    }
+    return R;
+  }
+
+  Slab medium_;
+  std::vector<Slab> te_, tm_;  // slabs from the gap side, truncated at the first reflector
+};
+
+class Layered final : public PlanarSurface {
+ public:
+  Layered(std::vector<Layer> layers, MaterialPtr substrate)
+      : layers_(std::move(layers)), substrate_(std::move(substrate)) {}
+  std::unique_ptr<PlanarAtFrequency> at(double xi, const Material& medium) const override {
+    return std::make_unique<LayeredAt>(xi, layers_, *substrate_, medium);
+  }
+  std::string describe() const override {
+    std::string s;
+    for (const auto& l : layers_)
+      s += fmt::format("{} nm {} on ", l.thickness * 1e9, l.material->name());
+    return s + fmt::format("half-space of {}", substrate_->name());
+  }
+  bool is_perfect_conductor() const override {
+    return layers_.empty() ? substrate_->is_perfect_conductor()
+                           : layers_.front().material->is_perfect_conductor();
+  }
+
+ private:
+  std::vector<Layer> layers_;
+  MaterialPtr substrate_;
+};
+
+}  // namespace
+
+PlanarPtr make_layered(std::vector<Layer> layers, MaterialPtr substrate) {
+  if (!substrate) throw std::invalid_argument("make_layered: substrate material is null");
+  for (std::size_t j = 0; j < layers.size(); ++j) {
+    if (!layers[j].material)
+      throw std::invalid_argument(fmt::format("make_layered: layer {} material is null", j));
+    if (!(layers[j].thickness > 0.0) || !std::isfinite(layers[j].thickness))
+      throw std::invalid_argument(fmt::format("make_layered: layer {} thickness = {} m must be > 0",
+                                              j, layers[j].thickness));
+  }
+  if (layers.empty()) return make_half_space(std::move(substrate));
+  return std::make_shared<Layered>(std::move(layers), std::move(substrate));
+}
+
+}  // namespace roundtrip
