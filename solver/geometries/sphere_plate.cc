@@ -1,0 +1,365 @@
+// Sphere above a planar body: round-trip operator in the spherical multipole basis.
+//
+// Physics and conventions (derivation in DEVELOPERS.md, "Sphere-plate round trip"):
+// imaginary frequency xi, kappa = n_m xi / c in the medium, D = R + L. Per azimuthal number m the
+// round trip M = T U, T the Mie amplitudes (solver/scatterers/mie.h) and U the plate reflection
+// between outgoing and regular multipoles, by the plane-wave (Weyl) expansion
+// (Canaguier-Durand, Maia Neto, Lambrecht, Reynaud, PRA 82, 012511 (2010); Emig, J. Stat. Mech.
+// (2008) P04007). With x = sqrt(k^2 + kappa^2)/kappa >= 1 and the real functions of x
+//   Pt_l^m (solver/special/legendre.h),  p_lm = m Pt_l^m / s,  t_lm = m x Pt_l^m / s + Pt_l^{m+1},
+//   s = sqrt(x^2 - 1),  a_l = sqrt((2l+1)(l-m)! / ((l+m)! l(l+1))),
+// and after the similarity transforms sqrt|T| (.) sqrt|T|, (-1)^l and i on TM rows, the
+// symmetric matrix is
+//   M = sigma \int_1^inf dx e^{-2 kappa D x} [ r_TE(k) u(x) u(x)^T - r_TM(k) v(x) v(x)^T ],
+//   u = (sqrt|T^TE_l| a_l t_lm ; sqrt|T^TM_l| a_l p_lm),  v = (sqrt|T^TE_l| a_l p_lm ;
+//   sqrt|T^TM_l| a_l t_lm),  sigma = sign(T^TE) = -sign(T^TM)  (= -1 for ordinary spheres),
+// k = kappa s. The x integral is done by Gauss-Laguerre in t = 2 kappa D (x - 1) (exact for a
+// perfectly reflecting plate once N > l_max), so M = S W C W^T (solver/logdet/low_rank.h).
+// Scalar fields: one block with a_l = sqrt((2l+1)(l-m)!/(l+m)!), Pt_l^m instead of t, p, l >= 0,
+// and r = -1 (Dirichlet) or +1 (Neumann).
+// xi = 0 is taken exactly (kappa -> 0 at fixed k): TE and TM decouple and
+//   M_{l l'} = g_l g_l' (R/2D)^{l+l'+1} / sqrt((l-m)!(l+m)!(l'-m)!(l'+m)!)
+//              \int_0^inf dt t^{l+l'} e^{-t} rho(t/2D),
+// rho_TM = r_TM(0,k), rho_TE = -r_TE(0,k), g_l^2 from static_sphere(); for a Drude sphere over a
+// Drude plate this is the matrix whose log det Bimonte & Emig, PRL 109, 160403 (2012) sum exactly.
+#include "solver/geometries/sphere_plate.h"
+
+#include <fmt/format.h>
+#include <omp.h>
+
+#include <algorithm>
+#include <cmath>
+#include <limits>
+#include <stdexcept>
+#include <vector>
+
+#include "solver/constants.h"
+#include "solver/logdet/low_rank.h"
+#include "solver/materials/models.h"
+#include "solver/scatterers/mie.h"
+#include "solver/special/gauss_laguerre.h"
+#include "solver/special/legendre.h"
+
+namespace roundtrip {
+namespace {
+
+constexpr double kNegInf = -std::numeric_limits<double>::infinity();
+/// m-blocks computed per parallel batch; fixed so that the set of computed m (and hence the
+/// result) does not depend on the thread count.
+constexpr int kMBatch = 8;
+
+double log_add_exp(double a, double b) {
+  if (a == kNegInf) return b;
+  if (b == kNegInf) return a;
+  const double m = std::max(a, b);
+  return m + std::log1p(std::exp(-std::abs(a - b)));
+}
+
+/// Quadrature nodes and everything about them that does not depend on m.
+struct NodeSet {
+  std::vector<double> x;             // dynamic: x_j >= 1; static: t_j
+  std::vector<double> half_log_w;    // 1/2 log Omega_j
+  std::vector<double> c_te, c_tm;    // reflection factors per node (see block builders)
+  std::vector<double> f1, f2;        // dOmega/dL / Omega, d2Omega/dL2 / Omega
+};
+
+class SpherePlate final : public Geometry {
+ public:
+  explicit SpherePlate(SpherePlateOptions o) : o_(std::move(o)) {
+    if (!o_.medium) o_.medium = make_vacuum();
+  }
+
+  bool per_area() const override { return false; }
+  bool parallel_inside() const override { return true; }
+  std::string kind() const override { return "sphere-plate"; }
+
+  double frequency_scale(double gap) const override {
+    const StaticLimit sm = o_.medium->static_limit();
+    const double nm = sm.kind == StaticClass::kDielectric ? std::sqrt(sm.static_eps) : 1.0;
+    return kSpeedOfLight / (2.0 * nm * gap);
+  }
+
+  std::string describe() const override {
+    if (o_.field != FieldKind::kElectromagnetic)
+      return fmt::format("{} sphere (R = {:.6g} m) over a {} plate, scalar field", to_string(o_.field),
+                         o_.radius, to_string(o_.field));
+    return fmt::format("sphere of {} (R = {:.6g} m) over {} in {}", o_.sphere->name(), o_.radius,
+                       o_.plate->describe(), o_.medium->name());
+  }
+
+  std::map<std::string, double> truncation(double gap) const override {
+    const int lmax = lmax_for(gap);
+    return {{"l_max", double(lmax)}, {"quadrature_nodes", double(nodes_for(lmax))}};
+  }
+
+  std::optional<PfaValues> pfa(double gap, const FrequencyRuleOptions& opts) const override;
+
+  Spectral at_frequency(double xi, double gap, DerivativeOrder order) const override {
+    const int lmax = lmax_for(gap);
+    const bool is_static = xi == 0.0;
+    // Per-frequency data shared by all m.
+    NodeSet nodes;
+    MieLog mie;
+    StaticSphere st;
+    if (is_static)
+      prepare_static(gap, lmax, nodes, st);
+    else
+      prepare_dynamic(xi, gap, lmax, nodes, mie);
+
+    const int mlimit = o_.m_max >= 0 ? std::min(o_.m_max, lmax) : lmax;
+    Spectral total;
+    std::vector<LogDetResult> batch(kMBatch);
+    for (int m0 = 0; m0 <= mlimit; m0 += kMBatch) {
+      const int m1 = std::min(mlimit + 1, m0 + kMBatch);
+#pragma omp parallel for schedule(dynamic, 1)
+      for (int m = m0; m < m1; ++m) {
+        const LowRankBlock b =
+            is_static ? static_block(m, gap, lmax, nodes, st) : dynamic_block(m, lmax, nodes, mie);
+        batch[m - m0] = logdet_one_minus(b, order);
+      }
+      double largest = 0.0;
+      for (int m = m0; m < m1; ++m) {
+        const LogDetResult& r = batch[m - m0];
+        if (!r.ok)
+          throw std::runtime_error(fmt::format(
+              "sphere-plate: xi = {:.6g} rad/s, L = {:.6g} m, m = {}: {} (l_max = {})", xi, gap, m,
+              r.message, lmax));
+        const double mult = m == 0 ? 1.0 : 2.0;  // +m and -m give the same block
+        total += r.s * mult;
+        largest = std::max(largest, std::abs(mult * r.s.value));
+        if (order != DerivativeOrder::kEnergy)
+          largest = std::max(largest, std::abs(mult * r.s.d1) * gap);
+      }
+      // Stop once a whole batch no longer matters at the requested tolerance (terms fall
+      // off monotonically, roughly geometrically, in m).
+      const double scale = std::max(std::abs(total.value),
+                                    order != DerivativeOrder::kEnergy ? std::abs(total.d1) * gap : 0.0);
+      if (o_.m_max < 0 && largest <= 1e-3 * o_.rel_tol * scale) break;
+    }
+    return total;
+  }
+
+  int lmax_for(double gap) const {
+    if (o_.l_max > 0) return o_.l_max;
+    // Multipoles up to l ~ eta R/L matter near contact (the plate's image sits at depth ~L,
+    // seen by the sphere as harmonics of order R/L); far away the (R/2D)^{2l} decay decides.
+    const double tol = o_.rel_tol;
+    const double eta = std::max(2.0, 0.6 * std::log(1.0 / tol));
+    const double near = eta * o_.radius / gap;
+    const double D = o_.radius + gap;
+    const double far = 0.5 * std::log(tol) / std::log(o_.radius / (2.0 * D)) + 2.0;
+    return std::max(3, static_cast<int>(std::ceil(std::max(near, far))));
+  }
+
+  int nodes_for(int lmax) const { return lmax + 2; }
+
+ private:
+  void prepare_dynamic(double xi, double gap, int lmax, NodeSet& nodes, MieLog& mie) const {
+    const double eps_m = o_.medium->epsilon(xi);
+    const double kappa = std::sqrt(eps_m) * xi / kSpeedOfLight;
+    const double D = o_.radius + gap;
+    const bool em = o_.field == FieldKind::kElectromagnetic;
+    const bool pec = em && o_.sphere->is_perfect_conductor();
+    const double n = (em && !pec) ? std::sqrt(o_.sphere->epsilon(xi) / eps_m) : 1.0;
+    mie = mie_imaginary(o_.field, pec, kappa * o_.radius, n, lmax);
+
+    const auto& gl = special::gauss_laguerre(nodes_for(lmax));
+    const int N = static_cast<int>(gl.nodes.size());
+    const double tau = 2.0 * kappa * D;
+    std::unique_ptr<PlanarAtFrequency> plate;
+    if (em) plate = o_.plate->at(xi, *o_.medium);
+    nodes.x.resize(N);
+    nodes.half_log_w.resize(N);
+    nodes.c_te.resize(N);
+    nodes.c_tm.resize(N);
+    nodes.f1.resize(N);
+    nodes.f2.resize(N);
+    for (int j = 0; j < N; ++j) {
+      const double t = gl.nodes[j];
+      const double x = 1.0 + t / tau;
+      nodes.x[j] = x;
+      // \int_1^inf dx e^{-tau x} f(x) = (e^{-tau}/tau) \int_0^inf dt e^{-t} f(1 + t/tau)
+      nodes.half_log_w[j] = 0.5 * (gl.log_weights[j] - tau - std::log(tau));
+      nodes.f1[j] = -2.0 * kappa * x;
+      nodes.f2[j] = 4.0 * kappa * kappa * x * x;
+      if (em) {
+        const double k = kappa * std::sqrt((t / tau) * (2.0 + t / tau));
+        const Reflection r = plate->reflect(k);
+        nodes.c_te[j] = r.te;
+        nodes.c_tm[j] = -r.tm;
+      } else {
+        nodes.c_te[j] = o_.field == FieldKind::kDirichlet ? -1.0 : 1.0;
+      }
+    }
+  }
+
+  LowRankBlock dynamic_block(int m, int lmax, const NodeSet& nodes, const MieLog& mie) const {
+    const bool em = o_.field == FieldKind::kElectromagnetic;
+    const int lmin = em ? std::max(1, m) : m;
+    const int nl = lmax - lmin + 1;
+    const int N = static_cast<int>(nodes.x.size());
+    LowRankBlock b;
+    const int dim = em ? 2 * nl : nl;
+    const int q = em ? 2 * N : N;
+    b.W.resize(dim, q);
+    b.c.resize(q);
+    b.f1.resize(q);
+    b.f2.resize(q);
+    b.s.resize(dim);
+    std::vector<double> log_a(nl);
+    for (int l = lmin; l <= lmax; ++l) {
+      double la = std::log(2.0 * l + 1.0) + std::lgamma(l - m + 1.0) - std::lgamma(l + m + 1.0);
+      if (em) la -= std::log(double(l) * (l + 1.0));
+      log_a[l - lmin] = 0.5 * la;
+      if (em) {
+        b.s[l - lmin] = mie.sign_te[l];
+        b.s[nl + l - lmin] = -mie.sign_tm[l];
+      } else {
+        b.s[l - lmin] = mie.sign_te[l];
+      }
+    }
+    std::vector<double> pm, pm1;
+    for (int j = 0; j < N; ++j) {
+      const double x = nodes.x[j];
+      special::legendre_log(x, m, lmax, pm);
+      if (em) special::legendre_log(x, m + 1, lmax, pm1);
+      const double log_s = 0.5 * std::log((x - 1.0) * (x + 1.0));
+      const double log_mx = m > 0 ? std::log(m * x) : kNegInf;
+      const double log_m = m > 0 ? std::log(double(m)) : kNegInf;
+      for (int l = lmin; l <= lmax; ++l) {
+        const int i = l - lmin;
+        const double base = log_a[i] + nodes.half_log_w[j];
+        if (!em) {
+          b.W(i, j) = std::exp(base + 0.5 * mie.log_abs_te[l] + pm[l]);
+          continue;
+        }
+        const double log_t = log_add_exp(log_mx + pm[l] - log_s, pm1[l]);
+        const double log_p = log_m + pm[l] - log_s;
+        const double hte = base + 0.5 * mie.log_abs_te[l];
+        const double htm = base + 0.5 * mie.log_abs_tm[l];
+        b.W(i, j) = std::exp(hte + log_t);            // u_j, TE rows
+        b.W(nl + i, j) = std::exp(htm + log_p);       // u_j, TM rows
+        b.W(i, N + j) = std::exp(hte + log_p);        // v_j, TE rows
+        b.W(nl + i, N + j) = std::exp(htm + log_t);   // v_j, TM rows
+      }
+      b.c[j] = nodes.c_te[j];
+      b.f1[j] = nodes.f1[j];
+      b.f2[j] = nodes.f2[j];
+      if (em) {
+        b.c[N + j] = nodes.c_tm[j];
+        b.f1[N + j] = nodes.f1[j];
+        b.f2[N + j] = nodes.f2[j];
+      }
+    }
+    return b;
+  }
+
+  void prepare_static(double gap, int lmax, NodeSet& nodes, StaticSphere& st) const {
+    const bool em = o_.field == FieldKind::kElectromagnetic;
+    const StaticLimit sm = o_.medium->static_limit();
+    const StaticLimit ss = em ? o_.sphere->static_limit() : StaticLimit{};
+    st = static_sphere(o_.field, ss, sm.static_eps, o_.radius, lmax);
+    // N > l_max makes the t-integral exact when rho is constant (degree 2 l_max polynomial).
+    const auto& gl = special::gauss_laguerre(lmax + 2);
+    const int N = static_cast<int>(gl.nodes.size());
+    const double D = o_.radius + gap;
+    std::unique_ptr<PlanarAtFrequency> plate;
+    if (em) plate = o_.plate->at(0.0, *o_.medium);
+    nodes.x = gl.nodes;
+    nodes.half_log_w.resize(N);
+    nodes.c_te.resize(N);
+    nodes.c_tm.resize(N);
+    nodes.f1.resize(N);
+    nodes.f2.resize(N);
+    for (int j = 0; j < N; ++j) {
+      const double t = gl.nodes[j];
+      nodes.half_log_w[j] = 0.5 * gl.log_weights[j];
+      nodes.f1[j] = -t / D;  // d/dL e^{-2kD} = -2k e^{-2kD}, k = t/(2D)
+      nodes.f2[j] = t * t / (D * D);
+      if (em) {
+        const Reflection r = plate->reflect(t / (2.0 * D));
+        nodes.c_te[j] = -r.te;
+        nodes.c_tm[j] = r.tm;
+      } else {
+        nodes.c_te[j] = 1.0;  // Dirichlet: -r = 1; Neumann: r = 1
+      }
+    }
+  }
+
+  LowRankBlock static_block(int m, double gap, int lmax, const NodeSet& nodes,
+                            const StaticSphere& st) const {
+    const bool em = o_.field == FieldKind::kElectromagnetic;
+    const int lmin = em ? std::max(1, m) : m;
+    const int nl = lmax - lmin + 1;
+    const int N = static_cast<int>(nodes.x.size());
+    const int dim = em ? 2 * nl : nl;
+    const int q = em ? 2 * N : N;
+    LowRankBlock b;
+    b.W = Eigen::MatrixXd::Zero(dim, q);
+    b.c.resize(q);
+    b.f1.resize(q);
+    b.f2.resize(q);
+    b.s.resize(dim);
+    const double log_ratio = std::log(o_.radius / (2.0 * (o_.radius + gap)));
+    std::vector<double> row_log(dim, kNegInf);
+    for (int l = lmin; l <= lmax; ++l) {
+      const int i = l - lmin;
+      const double common = (l + 0.5) * log_ratio -
+                            0.5 * (std::lgamma(l - m + 1.0) + std::lgamma(l + m + 1.0));
+      const double g2te = st.g2_te[l], g2tm = st.g2_tm[l];
+      b.s[i] = g2te > 0 ? 1.0 : (g2te < 0 ? -1.0 : 0.0);
+      if (g2te != 0.0) row_log[i] = common + 0.5 * std::log(std::abs(g2te));
+      if (em) {
+        b.s[nl + i] = g2tm > 0 ? 1.0 : (g2tm < 0 ? -1.0 : 0.0);
+        if (g2tm != 0.0) row_log[nl + i] = common + 0.5 * std::log(std::abs(g2tm));
+      }
+    }
+    for (int j = 0; j < N; ++j) {
+      const double log_t = std::log(nodes.x[j]);
+      for (int l = lmin; l <= lmax; ++l) {
+        const int i = l - lmin;
+        const double e = nodes.half_log_w[j] + l * log_t;
+        if (row_log[i] != kNegInf) b.W(i, j) = std::exp(row_log[i] + e);
+        if (em && row_log[nl + i] != kNegInf) b.W(nl + i, N + j) = std::exp(row_log[nl + i] + e);
+      }
+      b.c[j] = nodes.c_te[j];
+      b.f1[j] = nodes.f1[j];
+      b.f2[j] = nodes.f2[j];
+      if (em) {
+        b.c[N + j] = nodes.c_tm[j];
+        b.f1[N + j] = nodes.f1[j];
+        b.f2[N + j] = nodes.f2[j];
+      }
+    }
+    return b;
+  }
+
+  SpherePlateOptions o_;
+};
+
+std::optional<PfaValues> SpherePlate::pfa(double, const FrequencyRuleOptions&) const {
+  return std::nullopt;  // wired to solver/pfa once the plate-plate engine is in
+}
+
+}  // namespace
+
+std::string SpherePlateOptions::validate() const {
+  if (!(radius > 0.0) || !std::isfinite(radius))
+    return fmt::format("sphere radius must be a positive length, got {} m", radius);
+  if (!(rel_tol > 0.0 && rel_tol < 0.1))
+    return fmt::format("rel_tol must lie in (0, 0.1), got {}", rel_tol);
+  if (l_max < 0) return fmt::format("l_max must be >= 0 (0 = automatic), got {}", l_max);
+  if (field == FieldKind::kElectromagnetic) {
+    if (!sphere) return "sphere material is missing";
+    if (!plate) return "plate is missing";
+  }
+  return {};
+}
+
+std::shared_ptr<Geometry> make_sphere_plate(const SpherePlateOptions& options) {
+  const std::string why = options.validate();
+  if (!why.empty()) throw std::invalid_argument("sphere-plate: " + why);
+  return std::make_shared<SpherePlate>(options);
+}
+
+}  // namespace roundtrip

@@ -1,0 +1,28 @@
+#pragma once
+// Sphere above a planar body (any PlanarSurface), exact by the scattering approach.
+// Conventions: R sphere radius, L surface-to-surface gap, D = R + L centre-to-plate.
+// Implementation and physics notes in sphere_plate.cc.
+#include <memory>
+
+#include "solver/geometries/geometry.h"
+#include "solver/materials/material.h"
+#include "solver/planar/planar.h"
+#include "solver/scatterers/field.h"
+
+namespace roundtrip {
+
+struct SpherePlateOptions {
+  double radius = 0.0;  ///< R (m), > 0
+  MaterialPtr sphere;   ///< sphere material (ignored for scalar fields)
+  PlanarPtr plate;      ///< planar body (ignored for scalar fields)
+  MaterialPtr medium;   ///< medium between the bodies (vacuum if null)
+  FieldKind field = FieldKind::kElectromagnetic;
+  double rel_tol = 1e-5;  ///< target relative error; sets l_max and quadrature unless fixed
+  int l_max = 0;          ///< 0: automatic from rel_tol and R/L
+  int m_max = -1;         ///< -1: automatic (up to l_max, stopped by decay of the m terms)
+  std::string validate() const;  ///< empty if valid, else a sentence naming the bad field
+};
+
+std::shared_ptr<Geometry> make_sphere_plate(const SpherePlateOptions& options);
+
+}  // namespace roundtrip

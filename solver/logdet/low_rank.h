@@ -1,0 +1,39 @@
+#pragma once
+// log det(1 - M) and its derivatives for a round-trip matrix given in factored form
+//   M(L) = S W C(L) W^T,   C(L) = diag(c_i(L)),   dC/dL = diag(f1_i c_i),  d2C/dL2 = diag(f2_i c_i)
+// where W (n x q) is independent of L and S = diag(s_r), s_r = +-1 (the signs of the scattering
+// amplitudes after the symmetrisation sqrt|T| ... sqrt|T|). This is the form every
+// plane-wave-mediated geometry takes after a quadrature of the transverse momentum integral.
+//   d log det(1-M)/dL   = -Tr[(1-M)^{-1} dM]          = -sum_i c_i f1_i G_ii
+//   d2 log det(1-M)/dL2 = -Tr[(1-M)^{-1} d2M] - Tr[((1-M)^{-1} dM)^2]
+//                       = -sum_i c_i f2_i G_ii - sum_ik c_i f1_i G_ik c_k f1_k G_ki,
+// with G = W^T (1-M)^{-1} S W (Jacobi's formula).
+// With S = +-1 uniformly, 1 - M is symmetric, and positive definite for a physical round trip
+// at imaginary frequency (||M|| < 1), so the log det comes from a Cholesky factorisation
+// (Hartmann, Ingold, Maia Neto, Phys. Scr. 93, 114003 (2018) use the same symmetrisation).
+// Mixed signs fall back to a pivoted LU.
+#include <Eigen/Dense>
+#include <string>
+
+#include "solver/geometries/geometry.h"
+
+namespace roundtrip {
+
+struct LowRankBlock {
+  Eigen::MatrixXd W;   ///< n x q
+  Eigen::VectorXd c;   ///< q
+  Eigen::VectorXd f1;  ///< q, only read for order >= 1
+  Eigen::VectorXd f2;  ///< q, only read for order 2
+  Eigen::VectorXd s;   ///< n, entries +-1 (0 allowed for zero rows)
+};
+
+struct LogDetResult {
+  Spectral s;
+  bool ok = true;
+  std::string message;  ///< set if the factorisation failed (1 - M not positive definite)
+  int dimension = 0;
+};
+
+LogDetResult logdet_one_minus(const LowRankBlock& block, DerivativeOrder order);
+
+}  // namespace roundtrip

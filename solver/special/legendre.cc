@@ -1,0 +1,33 @@
+#include "solver/special/legendre.h"
+
+#include <cassert>
+#include <cmath>
+#include <limits>
+
+namespace roundtrip::special {
+
+double log_double_factorial_odd(int m) {
+  // (2m-1)!! = (2m)! / (2^m m!)
+  return std::lgamma(2.0 * m + 1.0) - m * std::log(2.0) - std::lgamma(m + 1.0);
+}
+
+void legendre_log(double x, int m, int lmax, std::vector<double>& out) {
+  assert(x >= 1.0 && m >= 0);
+  out.assign(lmax + 1, -std::numeric_limits<double>::infinity());
+  if (lmax < m) return;
+  const double s2 = (x - 1.0) * (x + 1.0);
+  if (m > 0 && s2 <= 0.0) return;
+  double logp = log_double_factorial_odd(m) + (m > 0 ? 0.5 * m * std::log(s2) : 0.0);
+  out[m] = logp;
+  if (lmax == m) return;
+  double q = (2.0 * m + 1.0) * x;  // Pt_{m+1}/Pt_m
+  logp += std::log(q);
+  out[m + 1] = logp;
+  for (int l = m + 1; l < lmax; ++l) {
+    q = ((2.0 * l + 1.0) * x - (l + m) / q) / (l - m + 1.0);
+    logp += std::log(q);
+    out[l + 1] = logp;
+  }
+}
+
+}  // namespace roundtrip::special
