@@ -4,6 +4,47 @@
 
 namespace roundtrip {
 
+namespace {
+
+// Sylvester's identity det(1 - sigma W C W^T) = det(1 - K), K = (sigma C)^{1/2} W^T W
+// (sigma C)^{1/2} (q x q), for sigma c_i >= 0. With B = (1 - K)^{-1} and dC/dL = F1 C:
+//   d log det/dL   = -Tr[B F1 K] = -sum_i f1_i (B_ii - 1),
+//   d2 log det/dL2 = -sum_i f2_i (B_ii - 1) - Tr[(B F1 K)^2].
+LogDetResult logdet_node_space(const LowRankBlock& b, double sigma, DerivativeOrder order) {
+  LogDetResult out;
+  out.dimension = static_cast<int>(b.W.cols());
+  const Eigen::VectorXd sq = (sigma * b.c).cwiseSqrt();
+  const Eigen::MatrixXd Ws = b.W * sq.asDiagonal();
+  const Eigen::Index q = b.W.cols();
+  Eigen::MatrixXd A = Eigen::MatrixXd::Identity(q, q);
+  A.selfadjointView<Eigen::Lower>().rankUpdate(Ws.transpose(), -1.0);
+  Eigen::LLT<Eigen::MatrixXd, Eigen::Lower> llt(A);
+  if (llt.info() != Eigen::Success) {
+    out.ok = false;
+    out.message = "1 - M is not positive definite (Cholesky failed); truncation too small?";
+    return out;
+  }
+  double ld = 0.0;
+  for (Eigen::Index i = 0; i < q; ++i) ld += std::log(llt.matrixLLT()(i, i));
+  out.s.value = 2.0 * ld;
+  if (order == DerivativeOrder::kEnergy) return out;
+  const Eigen::MatrixXd B = llt.solve(Eigen::MatrixXd::Identity(q, q));
+  double d1 = 0.0;
+  for (Eigen::Index i = 0; i < q; ++i) d1 -= b.f1[i] * (B(i, i) - 1.0);
+  out.s.d1 = d1;
+  if (order == DerivativeOrder::kForce) return out;
+  double d2 = 0.0;
+  for (Eigen::Index i = 0; i < q; ++i) d2 -= b.f2[i] * (B(i, i) - 1.0);
+  // B F1 K = B F1 (1 - B^{-1}) -> P = B F1 - B F1 B^{-1}; use K = 1 - A directly.
+  Eigen::MatrixXd K = Eigen::MatrixXd::Identity(q, q) - A.selfadjointView<Eigen::Lower>().toDenseMatrix();
+  const Eigen::MatrixXd P = B * b.f1.asDiagonal() * K;
+  d2 -= (P.array() * P.transpose().array()).sum();
+  out.s.d2 = d2;
+  return out;
+}
+
+}  // namespace
+
 LogDetResult logdet_one_minus(const LowRankBlock& b, DerivativeOrder order) {
   LogDetResult out;
   const Eigen::Index n = b.W.rows();
@@ -19,6 +60,11 @@ LogDetResult logdet_one_minus(const LowRankBlock& b, DerivativeOrder order) {
     if (b.s[r] != sigma) uniform = false;
   }
   if (sigma == 0.0) return out;  // M = 0
+
+  const Eigen::Index q = b.W.cols();
+  bool positive = uniform;  // sigma c_i >= 0 for all i: M is positive semidefinite
+  for (Eigen::Index i = 0; positive && i < q; ++i) positive = sigma * b.c[i] >= 0.0;
+  if (positive && q < n) return logdet_node_space(b, sigma, order);
 
   Eigen::MatrixXd A = Eigen::MatrixXd::Identity(n, n);
   Eigen::MatrixXd Z;  // (1-M)^{-1} S W
@@ -70,7 +116,6 @@ LogDetResult logdet_one_minus(const LowRankBlock& b, DerivativeOrder order) {
     Z = lu.solve(b.s.asDiagonal() * b.W);
   }
 
-  const Eigen::Index q = b.W.cols();
   // G_ii = sum_r W_ri Z_ri
   const Eigen::VectorXd Gdiag = (b.W.array() * Z.array()).colwise().sum().transpose();
   double d1 = 0.0;
