@@ -153,6 +153,7 @@ std::string location(const toml::source_region& where) {
 
 std::string value_text(const toml::node& node) {
   if (const auto* str = node.as_string()) return fmt::format("\"{}\"", str->get());
+  if (const auto* f = node.as_floating_point()) return fmt::format("{}", f->get());
   std::ostringstream os;
   node.visit([&](const auto& v) { os << v; });
   std::string s = os.str();

@@ -1,6 +1,75 @@
-// roundtrip command-line program: a thin layer over the library (see io/cli/commands.h).
-#include <cstdio>
-int main() {
-  std::fprintf(stderr, "roundtrip: the command-line interface is being built\n");
-  return 1;
+// roundtrip command-line program: option parsing only; the commands live in io/cli/commands.cc.
+#include <CLI/CLI.hpp>
+#include <exception>
+#include <iostream>
+#include <string>
+
+#include "io/cli/commands.h"
+#include "io/errors.h"
+
+namespace cli = roundtrip::io::cli;
+
+int main(int argc, char** argv) {
+  CLI::App app{
+      "roundtrip computes Casimir (fluctuation-induced) energies, forces and force gradients\n"
+      "between bodies made of real materials at any temperature, and compares them with the\n"
+      "proximity force approximation (PFA).",
+      "roundtrip"};
+  app.set_version_flag("--version", cli::version_line(), "Print the version and exit");
+  app.require_subcommand(1);
+  app.footer(
+      "Case-file reference: README.md. Exit status: 0 ok, 1 bad input (nothing written),\n"
+      "2 bad command line, 3 results written but not converged, 4 solver failure.");
+
+  cli::RunArgs run_args;
+  CLI::App* run = app.add_subcommand("run", "Compute a case, print a table, write an HDF5 file");
+  run->add_option("CASE", run_args.case_path, "Case file (TOML)")->required();
+  run->add_option("-o,--output", run_args.output,
+                  "Results file (HDF5); overrides [output] file of the case");
+  run->add_option("--threads", run_args.threads, "Worker threads (default: all cores)")
+      ->check(CLI::Range(1, 4096));
+  run->add_flag("--quiet", run_args.quiet, "No progress messages on stderr");
+
+  std::string check_path;
+  CLI::App* check =
+      app.add_subcommand("check", "Parse and validate a case, print the plan, compute nothing");
+  check->add_option("CASE", check_path, "Case file (TOML)")->required();
+
+  CLI::App* materials = app.add_subcommand("materials", "Built-in materials");
+  materials->require_subcommand(1);
+  CLI::App* list =
+      materials->add_subcommand("list", "Built-in materials with description and source");
+  cli::EpsArgs eps_args;
+  CLI::App* eps = materials->add_subcommand("eps", "Table of eps(i xi) of a built-in material");
+  eps->add_option("NAME", eps_args.name, "Material name (see `roundtrip materials list`)")
+      ->required();
+  eps->add_option("--from", eps_args.from, "Lowest imaginary frequency, with unit")
+      ->capture_default_str();
+  eps->add_option("--to", eps_args.to, "Highest imaginary frequency, with unit")
+      ->capture_default_str();
+  eps->add_option("--count", eps_args.count, "Number of frequencies")->capture_default_str();
+  eps->add_option("--spacing", eps_args.spacing, "log or linear")->capture_default_str();
+
+  try {
+    app.parse(argc, argv);
+  } catch (const CLI::ParseError& e) {
+    if (e.get_exit_code() == 0) return app.exit(e);  // --help, --version
+    std::cerr << "roundtrip: error: " << e.what() << "\n"
+              << "run 'roundtrip --help' or 'roundtrip <command> --help' for usage\n";
+    return 2;
+  }
+
+  try {
+    if (*run) return cli::run_command(run_args, std::cout, std::cerr);
+    if (*check) return cli::check_command(check_path, std::cout);
+    if (*list) return cli::materials_list_command(std::cout);
+    if (*eps) return cli::materials_eps_command(eps_args, std::cout);
+  } catch (const roundtrip::io::CaseError& e) {
+    std::cerr << "roundtrip: error: " << e.what() << "\n";
+    return cli::kExitInputError;
+  } catch (const std::exception& e) {
+    std::cerr << "roundtrip: error: the solver failed: " << e.what() << "\n";
+    return cli::kExitInternalError;
+  }
+  return 2;
 }

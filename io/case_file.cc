@@ -1,0 +1,407 @@
+#include "io/case_file.h"
+
+#include <fmt/format.h>
+#include <fmt/ranges.h>
+#include <toml++/toml.h>
+
+#include <algorithm>
+#include <cmath>
+#include <fstream>
+#include <optional>
+#include <set>
+#include <sstream>
+
+#include "io/errors.h"
+#include "io/material_spec.h"
+#include "io/units.h"
+#include "solver/geometries/plate_plate.h"
+#include "solver/materials/library.h"
+
+namespace roundtrip::io {
+namespace {
+
+using geometry::ConfigurationKind;
+
+constexpr int kMaxGaps = 100000;      // a typo guard: more gaps than any sweep needs
+constexpr double kMaxRelTol = 0.1;    // beyond 10 % the numbers are not worth printing
+constexpr double kMinRelTol = 1e-14;  // below this, round-off of the sums dominates
+constexpr int kMaxLMax = 100000;      // a typo guard for the multipole cut-off
+
+std::string join(const std::vector<std::string>& v) {
+  return fmt::format("{}", fmt::join(v, ", "));
+}
+
+std::string quoted_list(const std::vector<std::string>& v) {
+  std::vector<std::string> q;
+  for (const auto& s : v) q.push_back("\"" + s + "\"");
+  return join(q);
+}
+
+std::string dotted(const std::string& prefix, std::string_view key) {
+  return prefix.empty() ? std::string(key) : prefix + "." + std::string(key);
+}
+
+// A table-level error (missing key): "<file>:<line>: <field>: <what>".
+CaseError table_error(const toml::table& t, const std::string& field, const std::string& what) {
+  const std::string where = location(t.source());
+  return CaseError(fmt::format("{}{}{}: {}", where, where.empty() ? "" : ": ", field, what));
+}
+
+void check_keys(const toml::table& t, const std::string& prefix,
+                const std::vector<std::string>& allowed) {
+  for (const auto& [key, node] : t) {
+    if (std::find(allowed.begin(), allowed.end(), key.str()) == allowed.end())
+      throw error_at(node, dotted(prefix, key.str()),
+                     fmt::format("unknown key{} (allowed here: {})",
+                                 prefix.empty() ? "" : " in [" + prefix + "]", join(allowed)));
+  }
+}
+
+const toml::table* optional_table(const toml::table& parent, std::string_view key,
+                                  const std::string& field) {
+  const toml::node* n = parent.get(key);
+  if (n == nullptr) return nullptr;
+  if (const auto* t = n->as_table()) return t;
+  throw error_at(*n, field, "expected a table, e.g. [" + field + "]");
+}
+
+const toml::table& required_table(const toml::table& root, const toml::table& parent,
+                                  std::string_view key, const std::string& field,
+                                  const std::string& why) {
+  if (const auto* t = optional_table(parent, key, field)) return *t;
+  throw table_error(root, field, fmt::format("missing table [{}] ({})", field, why));
+}
+
+std::optional<std::string> optional_string(const toml::table& t, std::string_view key,
+                                           const std::string& field) {
+  const toml::node* n = t.get(key);
+  if (n == nullptr) return std::nullopt;
+  if (const auto* s = n->as_string()) return s->get();
+  throw error_at(*n, field, "expected a string in double quotes");
+}
+
+std::string required_string(const toml::table& t, std::string_view key, const std::string& field,
+                            const std::string& example) {
+  if (auto s = optional_string(t, key, field)) return *s;
+  throw table_error(t, field, "missing required key (e.g. " + example + ")");
+}
+
+std::optional<std::int64_t> optional_integer(const toml::table& t, std::string_view key,
+                                             const std::string& field) {
+  const toml::node* n = t.get(key);
+  if (n == nullptr) return std::nullopt;
+  if (const auto* i = n->as_integer()) return i->get();
+  throw error_at(*n, field, "expected an integer");
+}
+
+double positive_length(const toml::node& n, const std::string& field,
+                       std::string (*problem)(double)) {
+  const double v = parse_quantity(n, Dimension::kLength, field);
+  if (const std::string p = problem(v); !p.empty()) throw error_at(n, field, p);
+  return v;
+}
+
+// Collect every `material = "NAME"` below a plate table (substrate, layers,
+// ...).
+void collect_material_names(const toml::node& n, std::vector<std::string>& out) {
+  if (const auto* t = n.as_table()) {
+    for (const auto& [k, v] : *t) {
+      if (k.str() == "material" && v.is_string())
+        out.push_back(v.as_string()->get());
+      else
+        collect_material_names(v, out);
+    }
+  } else if (const auto* a = n.as_array()) {
+    for (const auto& v : *a) collect_material_names(v, out);
+  }
+}
+
+class MaterialList {
+ public:
+  void add(const MaterialPtr& m) {
+    if (m && std::find(list_.begin(), list_.end(), m) == list_.end()) list_.push_back(m);
+  }
+  std::vector<MaterialPtr> take() { return std::move(list_); }
+
+ private:
+  std::vector<MaterialPtr> list_;
+};
+
+std::vector<double> parse_separations(const toml::table& root, const toml::table& s) {
+  check_keys(s, "separations", {"values", "from", "to", "count", "spacing"});
+  const toml::node* values = s.get("values");
+  const bool has_range =
+      s.contains("from") || s.contains("to") || s.contains("count") || s.contains("spacing");
+  std::vector<double> gaps;
+  if (values != nullptr) {
+    if (has_range)
+      throw error_at(*values, "separations.values",
+                     "give either values = [...] or from/to/count, not both");
+    const auto* arr = values->as_array();
+    if (arr == nullptr)
+      throw error_at(*values, "separations.values",
+                     "expected an array of lengths, e.g. [\"100 nm\", \"200 nm\"]");
+    if (arr->empty()) throw error_at(*values, "separations.values", "needs at least one gap");
+    if (arr->size() > static_cast<std::size_t>(kMaxGaps))
+      throw error_at(*values, "separations.values", fmt::format("more than {} gaps", kMaxGaps));
+    for (std::size_t i = 0; i < arr->size(); ++i)
+      gaps.push_back(positive_length((*arr)[i], fmt::format("separations.values[{}]", i),
+                                     geometry::gap_problem));
+    return gaps;
+  }
+  if (!has_range)
+    throw table_error(s, "separations",
+                      "give values = [\"100 nm\", ...] or from = \"...\", to = "
+                      "\"...\", count = N");
+  for (const char* k : {"from", "to", "count"})
+    if (!s.contains(k))
+      throw table_error(s, dotted("separations", k),
+                        "missing required key (a range needs from, to and count)");
+  const double from = positive_length(*s.get("from"), "separations.from", geometry::gap_problem);
+  const double to = positive_length(*s.get("to"), "separations.to", geometry::gap_problem);
+  const std::int64_t count = *optional_integer(s, "count", "separations.count");
+  if (count < 1 || count > kMaxGaps)
+    throw error_at(*s.get("count"), "separations.count",
+                   fmt::format("must be between 1 and {}", kMaxGaps));
+  if (count == 1 && from != to)
+    throw error_at(*s.get("count"), "separations.count",
+                   "count = 1 needs from == to (or use values = [...])");
+  if (count > 1 && !(from < to))
+    throw error_at(*s.get("to"), "separations.to", "must be larger than separations.from");
+  const std::string spacing =
+      optional_string(s, "spacing", "separations.spacing").value_or("linear");
+  if (spacing != "linear" && spacing != "log")
+    throw error_at(*s.get("spacing"), "separations.spacing", "expected \"linear\" or \"log\"");
+  for (std::int64_t i = 0; i < count; ++i) {
+    const double t = count == 1 ? 0.0 : static_cast<double>(i) / static_cast<double>(count - 1);
+    gaps.push_back(spacing == "log" ? from * std::pow(to / from, t) : from + (to - from) * t);
+  }
+  gaps.back() = to;  // exact end point despite rounding
+  (void)root;
+  return gaps;
+}
+
+Quantities parse_quantities(const toml::table& c) {
+  check_keys(c, "compute", {"quantities"});
+  Quantities q;
+  const toml::node* n = c.get("quantities");
+  if (n == nullptr) return q;  // energy and force
+  const auto* arr = n->as_array();
+  if (arr == nullptr || arr->empty())
+    throw error_at(*n, "compute.quantities",
+                   "expected a non-empty array such as [\"energy\", \"force\", "
+                   "\"gradient\"]");
+  q = Quantities{false, false, false};
+  std::set<std::string> seen;
+  for (std::size_t i = 0; i < arr->size(); ++i) {
+    const toml::node& e = (*arr)[i];
+    const std::string field = fmt::format("compute.quantities[{}]", i);
+    const auto* s = e.as_string();
+    if (s == nullptr) throw error_at(e, field, "expected \"energy\", \"force\" or \"gradient\"");
+    const std::string v = s->get();
+    if (!seen.insert(v).second) throw error_at(e, field, "listed twice");
+    if (v == "energy")
+      q.energy = true;
+    else if (v == "force")
+      q.force = true;
+    else if (v == "gradient")
+      q.gradient = true;
+    else
+      throw error_at(e, field, "unknown quantity (use \"energy\", \"force\" or \"gradient\")");
+  }
+  return q;
+}
+
+}  // namespace
+
+std::vector<std::string> field_names() { return {"electromagnetic", "dirichlet", "neumann"}; }
+
+geometry::Configuration CaseSpec::configuration() const {
+  geometry::Configuration c;
+  c.kind = kind;
+  c.gaps = gaps;
+  if (kind == ConfigurationKind::kSpherePlate) c.sphere = geometry::SphereBody{sphere_radius};
+  return c;
+}
+
+CaseSpec parse_case(std::string text, const std::filesystem::path& path) {
+  CaseSpec spec;
+  spec.path = path;
+  spec.text = std::move(text);
+  const std::string name = path.string();
+  toml::table root;
+  try {
+    root = toml::parse(std::string_view(spec.text), std::string_view(name));
+  } catch (const toml::parse_error& e) {
+    throw CaseError(fmt::format("{}:{}:{}: malformed TOML: {}", name, e.source().begin.line,
+                                e.source().begin.column, e.description()));
+  }
+  check_keys(root, "",
+             {"title", "geometry", "field", "plate", "plate2", "sphere", "medium", "separations",
+              "conditions", "compute", "numerics", "output", "materials"});
+
+  spec.title = optional_string(root, "title", "title").value_or("");
+  const std::string kind =
+      required_string(root, "geometry", "geometry", "geometry = \"plate-plate\"");
+  const auto k = geometry::configuration_kind_from_string(kind);
+  if (!k)
+    throw error_at(
+        *root.get("geometry"), "geometry",
+        "unknown geometry (use " + quoted_list(geometry::configuration_kind_names()) + ")");
+  spec.kind = *k;
+  const bool sphere_plate = spec.kind == ConfigurationKind::kSpherePlate;
+
+  if (const auto f = optional_string(root, "field", "field")) {
+    if (!sphere_plate)
+      throw error_at(*root.get("field"), "field",
+                     "only sphere-plate cases choose a field (plate-plate is "
+                     "electromagnetic)");
+    const auto names = field_names();
+    if (std::find(names.begin(), names.end(), *f) == names.end())
+      throw error_at(*root.get("field"), "field", "unknown field (use " + quoted_list(names) + ")");
+    spec.field = *f;
+  }
+  const bool electromagnetic = spec.field == "electromagnetic";
+
+  // Materials: built-ins plus [materials.NAME]; every user definition is
+  // checked, used or not.
+  const toml::table* user = optional_table(root, "materials", "materials");
+  const MaterialResolver resolver(
+      user, path.has_parent_path() ? path.parent_path() : std::filesystem::path("."));
+  const auto material_at = [&](const toml::table& t, std::string_view key,
+                               const std::string& field) {
+    const toml::node& n = *t.get(key);
+    const auto* s = n.as_string();
+    if (s == nullptr) throw error_at(n, field, "expected a material name in double quotes");
+    try {
+      return resolver.get(s->get(), field);
+    } catch (const CaseError& e) {
+      const std::string where = location(n.source());
+      throw CaseError(where.empty() ? std::string(e.what()) : where + ": " + e.what());
+    }
+  };
+  MaterialList used;
+
+  // Bodies.
+  const auto plate_from = [&](const toml::table& t, const std::string& field) {
+    PlanarPtr p = planar_from_toml(t, field, resolver);
+    std::vector<std::string> names;
+    collect_material_names(t, names);
+    for (const auto& n : names) used.add(resolver.get(n, field + ".material"));
+    return p;
+  };
+  const toml::table* plate = optional_table(root, "plate", "plate");
+  if (plate == nullptr && electromagnetic)
+    throw table_error(root, "plate", "missing table [plate] (e.g. material = \"gold-drude\")");
+  if (plate != nullptr) spec.plate = plate_from(*plate, "plate");
+  if (const toml::table* p2 = optional_table(root, "plate2", "plate2")) {
+    if (sphere_plate)
+      throw error_at(*root.get("plate2"), "plate2", "[plate2] is only for plate-plate cases");
+    spec.plate2 = plate_from(*p2, "plate2");
+  } else {
+    spec.plate2 = spec.plate;
+  }
+  if (const toml::table* s = optional_table(root, "sphere", "sphere")) {
+    if (!sphere_plate)
+      throw error_at(*root.get("sphere"), "sphere", "[sphere] is only for sphere-plate cases");
+    check_keys(*s, "sphere", {"radius", "material"});
+    if (!s->contains("radius"))
+      throw table_error(*s, "sphere.radius", "missing required key (e.g. radius = \"50 um\")");
+    spec.sphere_radius =
+        positive_length(*s->get("radius"), "sphere.radius", geometry::radius_problem);
+    if (s->contains("material")) {
+      spec.sphere_material = material_at(*s, "material", "sphere.material");
+      used.add(spec.sphere_material);
+    } else if (electromagnetic) {
+      throw table_error(*s, "sphere.material", "missing required key (e.g. \"gold-drude\")");
+    }
+  } else if (sphere_plate) {
+    throw table_error(root, "sphere", "missing table [sphere] (radius and material)");
+  }
+  if (const toml::table* m = optional_table(root, "medium", "medium")) {
+    check_keys(*m, "medium", {"material"});
+    if (!m->contains("material"))
+      throw table_error(*m, "medium.material", "missing required key (e.g. \"water\")");
+    spec.medium = material_at(*m, "material", "medium.material");
+  } else {
+    spec.medium = builtin_material("vacuum");
+  }
+  used.add(spec.medium);
+  spec.materials = used.take();
+
+  // Separations.
+  spec.gaps =
+      parse_separations(root, required_table(root, root, "separations", "separations",
+                                             "values = [\"100 nm\", ...] or from/to/count"));
+
+  // Conditions.
+  const toml::table& cond =
+      required_table(root, root, "conditions", "conditions", "temperature = \"300 K\"");
+  check_keys(cond, "conditions", {"temperature"});
+  if (!cond.contains("temperature"))
+    throw table_error(cond, "conditions.temperature",
+                      "missing required key (e.g. \"300 K\"; \"0 K\" for zero temperature)");
+  const toml::node& tn = *cond.get("temperature");
+  spec.frequency.temperature_K =
+      parse_quantity(tn, Dimension::kTemperature, "conditions.temperature");
+  if (spec.frequency.temperature_K < 0.0)
+    throw error_at(tn, "conditions.temperature", "a temperature must be >= 0 K");
+
+  // Compute, numerics, output.
+  if (const toml::table* c = optional_table(root, "compute", "compute"))
+    spec.quantities = parse_quantities(*c);
+  if (const toml::table* n = optional_table(root, "numerics", "numerics")) {
+    check_keys(*n, "numerics",
+               sphere_plate ? std::vector<std::string>{"rel_tol", "l_max"}
+                            : std::vector<std::string>{"rel_tol"});
+    if (const toml::node* r = n->get("rel_tol")) {
+      const double tol = parse_quantity(*r, Dimension::kDimensionless, "numerics.rel_tol");
+      if (!(tol > 0.0 && tol < kMaxRelTol))
+        throw error_at(*r, "numerics.rel_tol", "must satisfy 0 < rel_tol < 0.1");
+      if (tol < kMinRelTol)
+        throw error_at(*r, "numerics.rel_tol",
+                       "below 1e-14 the round-off of the frequency sums dominates");
+      spec.frequency.rel_tol = tol;
+    }
+    if (const auto l = optional_integer(*n, "l_max", "numerics.l_max")) {
+      if (*l < 0 || *l > kMaxLMax)
+        throw error_at(*n->get("l_max"), "numerics.l_max",
+                       fmt::format("must be 0 (automatic) or between 1 and {}", kMaxLMax));
+      spec.l_max = static_cast<int>(*l);
+    }
+  }
+  if (const toml::table* o = optional_table(root, "output", "output")) {
+    check_keys(*o, "output", {"file"});
+    if (const auto f = optional_string(*o, "file", "output.file")) {
+      if (f->empty()) throw error_at(*o->get("file"), "output.file", "an empty file name");
+      spec.output_file = *f;
+      spec.output_where = location(o->get("file")->source());
+    }
+  }
+  if (const std::string p = spec.configuration().validate(); !p.empty())
+    throw CaseError(name + ": " + p);
+  return spec;
+}
+
+CaseSpec load_case(const std::filesystem::path& path) {
+  std::ifstream in(path, std::ios::binary);
+  if (!in) throw CaseError(fmt::format("{}: cannot open the case file", path.string()));
+  std::ostringstream ss;
+  ss << in.rdbuf();
+  return parse_case(ss.str(), path);
+}
+
+std::shared_ptr<Geometry> build_geometry(const CaseSpec& spec) {
+  switch (spec.kind) {
+    case ConfigurationKind::kPlatePlate:
+      return make_plate_plate(spec.plate, spec.plate2, spec.medium);
+    case ConfigurationKind::kSpherePlate:
+      throw CaseError(
+          fmt::format("{}: geometry = \"sphere-plate\": sphere-plate geometry is not "
+                      "built yet in this version",
+                      spec.path.string()));
+  }
+  throw CaseError("unknown geometry kind");
+}
+
+}  // namespace roundtrip::io

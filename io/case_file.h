@@ -1,0 +1,54 @@
+#pragma once
+// Case files (TOML) -> a validated CaseSpec -> solver objects. The schema is documented in
+// README.md ("Case files"). Every unknown key, wrong type, missing field and bad value is a
+// CaseError "<file>:<line>: <dotted.key> = <value>: <what is wrong>". Quantities carry units
+// (io/units.h); everything in CaseSpec is SI.
+#include <filesystem>
+#include <memory>
+#include <string>
+#include <vector>
+
+#include "geometry/configuration.h"
+#include "solver/frequency/frequency_rule.h"
+#include "solver/geometries/geometry.h"
+#include "solver/materials/material.h"
+#include "solver/planar/planar.h"
+#include "solver/run.h"
+
+namespace roundtrip::io {
+
+struct CaseSpec {
+  std::filesystem::path path;  ///< the case file as given
+  std::string text;            ///< its contents, verbatim
+  std::string title;
+  geometry::ConfigurationKind kind = geometry::ConfigurationKind::kPlatePlate;
+  std::string field = "electromagnetic";  ///< sphere-plate: electromagnetic | dirichlet | neumann
+  PlanarPtr plate;                        ///< [plate] (null for scalar fields without [plate])
+  PlanarPtr plate2;                       ///< [plate2], or the same object as plate
+  double sphere_radius = 0.0;             ///< m (sphere-plate)
+  MaterialPtr sphere_material;            ///< sphere-plate, electromagnetic field
+  MaterialPtr medium;                     ///< never null (vacuum by default)
+  std::vector<double> gaps;               ///< m, each > 0, in the order given
+  FrequencyRuleOptions frequency;         ///< temperature_K and rel_tol
+  Quantities quantities;
+  int l_max = 0;             ///< sphere-plate: 0 = automatic
+  std::string output_file;   ///< [output] file, empty if not given
+  std::string output_where;  ///< "file:line" of output.file, for messages
+  /// Every material the case uses (plates, layers, sphere, medium), in order of first mention.
+  std::vector<MaterialPtr> materials;
+
+  geometry::Configuration configuration() const;
+};
+
+/// Parse and validate case text; `path` is used in messages and anchors relative table paths.
+CaseSpec parse_case(std::string text, const std::filesystem::path& path);
+/// Read and parse a case file (a missing or unreadable file is a CaseError).
+CaseSpec load_case(const std::filesystem::path& path);
+
+/// The solver Geometry of a case. Throws CaseError for geometries not built in this version.
+std::shared_ptr<Geometry> build_geometry(const CaseSpec& spec);
+
+/// Accepted values of the top-level `field` key.
+std::vector<std::string> field_names();
+
+}  // namespace roundtrip::io

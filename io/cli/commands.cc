@@ -1,0 +1,265 @@
+#include "io/cli/commands.h"
+
+#include <fmt/format.h>
+#include <fmt/ostream.h>
+
+#include <algorithm>
+#include <chrono>
+#include <cmath>
+#include <filesystem>
+
+#include "io/case_file.h"
+#include "io/errors.h"
+#include "io/results_hdf5.h"
+#include "io/table.h"
+#include "io/units.h"
+#include "roundtrip/version.h"
+#include "solver/constants.h"
+#include "solver/materials/library.h"
+#include "solver/run.h"
+
+namespace roundtrip::io::cli {
+namespace {
+
+namespace fs = std::filesystem;
+
+FrequencyRuleKind rule_of(const CaseSpec& spec) {
+  return spec.frequency.temperature_K > 0.0 ? FrequencyRuleKind::kMatsubara
+                                            : FrequencyRuleKind::kZeroTemperatureQuadrature;
+}
+
+std::string rule_sentence(const CaseSpec& spec) {
+  return spec.frequency.temperature_K > 0.0
+             ? fmt::format("T = {} K, Matsubara sum", spec.frequency.temperature_K)
+             : std::string("T = 0 K, integral over imaginary frequency");
+}
+
+std::string gap_text(double gap_m, const DisplayUnit& u) {
+  return fmt::format("{:.6g}", gap_m / u.factor);
+}
+
+std::string quantities_text(const Quantities& q) {
+  std::vector<std::string> v;
+  if (q.energy) v.push_back("energy");
+  if (q.force) v.push_back("force");
+  if (q.gradient) v.push_back("gradient");
+  std::string s;
+  for (const auto& x : v) s += (s.empty() ? "" : ", ") + x;
+  return s;
+}
+
+std::string static_text(const StaticLimit& s) {
+  switch (s.kind) {
+    case StaticClass::kDielectric:
+      return fmt::format("dielectric, eps(0) = {:.6g}", s.static_eps);
+    case StaticClass::kDrudeConductor:
+      return "Drude-type conductor (no TE reflection at xi = 0)";
+    case StaticClass::kPlasmaConductor:
+      return fmt::format("plasma-type conductor (TE reflection at xi = 0, k_p = {:.6g} 1/m)",
+                         std::sqrt(s.plasma_wavenumber_sq));
+    case StaticClass::kPerfectConductor:
+      return "perfect conductor";
+  }
+  return "?";
+}
+
+// Where the results go and the field to blame when that path is bad.
+struct OutputChoice {
+  fs::path path;
+  std::string field;
+};
+OutputChoice choose_output(const RunArgs& args, const CaseSpec& spec) {
+  if (!args.output.empty()) return {args.output, "-o"};
+  if (!spec.output_file.empty())
+    return {spec.output_file, spec.output_where.empty() ? std::string("output.file")
+                                                        : spec.output_where + ": output.file"};
+  return {fs::path(spec.path).stem().string() + ".h5", "output file (default: <case name>.h5)"};
+}
+
+void print_results(const CaseSpec& spec, const RunResult& r, std::ostream& out) {
+  std::vector<double> gaps;
+  for (const auto& p : r.points) gaps.push_back(p.gap);
+  const DisplayUnit gu = length_display_unit(gaps);
+  const QuantityUnits u = quantity_units(r.per_area);
+  const Quantities& q = spec.quantities;
+  const bool force = q.force || q.gradient;
+  bool any_pfa = false, any_unconverged = false;
+  for (const auto& p : r.points) {
+    any_pfa = any_pfa || p.pfa.has_value();
+    any_unconverged = any_unconverged || !p.frequencies.converged;
+  }
+  std::vector<std::string> head{fmt::format("gap [{}]", gu.name)};
+  if (q.energy) head.push_back(fmt::format("E [{}]", u.energy));
+  if (force) head.push_back(fmt::format("F [{}]", u.force));
+  if (q.gradient) head.push_back(fmt::format("F\u2032 [{}]", u.gradient));
+  if (any_pfa) {
+    if (q.energy) head.push_back("E/E_PFA");
+    if (force) head.push_back("F/F_PFA");
+    if (q.gradient) head.push_back("F\u2032/F\u2032_PFA");
+  }
+  TextTable t(head);
+  for (const auto& p : r.points) {
+    std::vector<std::string> row{gap_text(p.gap, gu) + (p.frequencies.converged ? "" : " !")};
+    if (q.energy) row.push_back(sci(p.energy));
+    if (force) row.push_back(sci(p.force));
+    if (q.gradient) row.push_back(sci(p.gradient));
+    if (any_pfa) {
+      const auto ratio = [&](double a, double b) { return p.pfa ? fixed(a / b, 6) : "-"; };
+      if (q.energy) row.push_back(ratio(p.energy, p.pfa ? p.pfa->energy : 1.0));
+      if (force) row.push_back(ratio(p.force, p.pfa ? p.pfa->force : 1.0));
+      if (q.gradient) row.push_back(ratio(p.gradient, p.pfa ? p.pfa->gradient : 1.0));
+    }
+    t.add_row(std::move(row));
+  }
+  if (!spec.title.empty()) out << spec.title << "\n";
+  out << r.description << "\n";
+  out << rule_sentence(spec) << ", rel_tol = " << spec.frequency.rel_tol
+      << (r.per_area ? "; values per unit area" : "") << "\n";
+  out << "sign: E < 0 and F < 0 mean attraction; F = -dE/dL, F\u2032 = dF/dL\n\n";
+  out << t.render();
+  if (any_unconverged) out << "! the frequency rule did not reach rel_tol at this gap\n";
+}
+
+}  // namespace
+
+std::string version_line() { return fmt::format("roundtrip {} (git {})", kVersion, kGitCommit); }
+
+int run_command(const RunArgs& args, std::ostream& out, std::ostream& err) {
+  if (args.threads < 0)
+    throw CaseError(
+        fmt::format("--threads = {}: must be >= 1 (or 0 for the default)", args.threads));
+  const CaseSpec spec = load_case(args.case_path);
+  const std::shared_ptr<Geometry> geometry = build_geometry(spec);
+  const OutputChoice where = choose_output(args, spec);
+  ResultsWriter writer(where.path, where.field);  // fails now if the path is unwritable
+
+  RunOptions opts;
+  opts.frequency = spec.frequency;
+  opts.quantities = spec.quantities;
+  opts.threads = args.threads;
+  const auto start = std::chrono::steady_clock::now();
+  if (!args.quiet && spec.gaps.size() > 1)
+    opts.progress = [&](int done, int total) {
+      const double s =
+          std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
+      err << fmt::format("roundtrip: gap {} of {} done ({:.1f} s)\n", done, total, s) << std::flush;
+    };
+  const RunResult result = run_sweep(*geometry, spec.gaps, opts);
+
+  print_results(spec, result, out);
+  ResultsInfo info;
+  info.title = spec.title;
+  info.case_path = spec.path.string();
+  info.case_text = spec.text;
+  info.temperature_K = spec.frequency.temperature_K;
+  info.rel_tol = spec.frequency.rel_tol;
+  info.frequency_rule = to_string(rule_of(spec));
+  info.quantities = spec.quantities;
+  writer.commit(result, info);
+  out << fmt::format("\nresults: {} ({} gap{}, {:.2f} s on {} thread{})\n", where.path.string(),
+                     result.points.size(), result.points.size() == 1 ? "" : "s",
+                     result.wall_seconds, result.threads, result.threads == 1 ? "" : "s");
+  const bool converged = std::all_of(result.points.begin(), result.points.end(),
+                                     [](const PointResult& p) { return p.frequencies.converged; });
+  if (!converged) {
+    err << "roundtrip: warning: some gaps missed rel_tol (marked '!'; results/converged = 0)\n";
+    return kExitNotConverged;
+  }
+  return kExitOk;
+}
+
+int check_command(const std::string& case_path, std::ostream& out) {
+  const CaseSpec spec = load_case(case_path);
+  std::string geometry_line;
+  std::string not_built;
+  try {
+    geometry_line = build_geometry(spec)->describe();
+  } catch (const CaseError& e) {
+    not_built = e.what();
+  }
+  const auto row = [&](const std::string& k, const std::string& v) {
+    out << fmt::format("{:<13}{}\n", k, v);
+  };
+  row("case", spec.path.string() + " (valid)");
+  if (!spec.title.empty()) row("title", spec.title);
+  row("geometry",
+      geometry::to_string(spec.kind) + (spec.kind == geometry::ConfigurationKind::kSpherePlate
+                                            ? ", field: " + spec.field
+                                            : std::string()));
+  if (!geometry_line.empty()) row("bodies", geometry_line);
+  if (spec.kind == geometry::ConfigurationKind::kPlatePlate) {
+    row("plate", spec.plate->describe());
+    row("plate2", spec.plate2 == spec.plate ? "same as plate" : spec.plate2->describe());
+  } else {
+    row("sphere", fmt::format("radius {:.6g} um", spec.sphere_radius * 1e6) +
+                      (spec.sphere_material ? ", " + spec.sphere_material->name() : ""));
+    if (spec.plate) row("plate", spec.plate->describe());
+    row("l_max", spec.l_max == 0 ? std::string("automatic") : std::to_string(spec.l_max));
+  }
+  row("medium", spec.medium->name());
+  for (std::size_t i = 0; i < spec.materials.size(); ++i) {
+    const auto& m = spec.materials[i];
+    row(i == 0 ? "materials" : "", fmt::format("{}: {}", m->name(), m->description()));
+    row("", fmt::format("  source: {}", m->source()));
+  }
+  const DisplayUnit gu = length_display_unit(spec.gaps);
+  std::string gl;
+  for (double g : spec.gaps) gl += (gl.empty() ? "" : ", ") + gap_text(g, gu);
+  row("gaps", fmt::format("{} gap{} [{}]: {}", spec.gaps.size(), spec.gaps.size() == 1 ? "" : "s",
+                          gu.name, gl));
+  row("temperature", rule_sentence(spec));
+  row("rel_tol", fmt::format("{}", spec.frequency.rel_tol));
+  row("quantities", quantities_text(spec.quantities));
+  row("output", spec.output_file.empty() ? fs::path(spec.path).stem().string() + ".h5 (default)"
+                                         : spec.output_file);
+  if (!not_built.empty()) row("note", "`roundtrip run` will fail: " + not_built);
+  out << "nothing was computed (check only)\n";
+  return kExitOk;
+}
+
+int materials_list_command(std::ostream& out) {
+  const auto names = builtin_material_names();
+  std::size_t w = 0;
+  for (const auto& n : names) w = std::max(w, display_width(n));
+  for (const auto& n : names) {
+    const MaterialPtr m = builtin_material(n);
+    out << fmt::format("{:<{}}  {}\n", n, w, m->description());
+    out << fmt::format("{:<{}}  source: {}\n", "", w, m->source());
+  }
+  return kExitOk;
+}
+
+int materials_eps_command(const EpsArgs& a, std::ostream& out) {
+  const MaterialPtr m = builtin_material(a.name);
+  if (!m) {
+    std::string known;
+    for (const auto& n : builtin_material_names()) known += (known.empty() ? "" : ", ") + n;
+    throw CaseError(fmt::format("NAME = \"{}\": unknown material (built-in: {})", a.name, known));
+  }
+  const double from = parse_quantity_string(a.from, Dimension::kFrequency, "--from");
+  const double to = parse_quantity_string(a.to, Dimension::kFrequency, "--to");
+  if (!(from > 0.0))
+    throw CaseError(
+        fmt::format("--from = \"{}\": must be > 0 (xi = 0 is the static limit, "
+                    "shown separately)",
+                    a.from));
+  if (a.count < 1 || a.count > 100000)
+    throw CaseError(fmt::format("--count = {}: must be between 1 and 100000", a.count));
+  if (a.count > 1 && !(to > from))
+    throw CaseError(fmt::format("--to = \"{}\": must be larger than --from", a.to));
+  if (a.spacing != "log" && a.spacing != "linear")
+    throw CaseError(fmt::format("--spacing = \"{}\": expected \"log\" or \"linear\"", a.spacing));
+  out << m->name() << ": " << m->description() << "\n";
+  out << "source: " << m->source() << "\n";
+  out << "at xi = 0: " << static_text(m->static_limit()) << "\n\n";
+  TextTable t({"\u03be [rad/s]", "\u0127\u03be [eV]", "\u03b5(i\u03be)"});
+  for (int i = 0; i < a.count; ++i) {
+    const double s = a.count == 1 ? 0.0 : static_cast<double>(i) / (a.count - 1);
+    const double xi = a.spacing == "log" ? from * std::pow(to / from, s) : from + (to - from) * s;
+    t.add_row({sci(xi, 6), sci(xi / kRadPerSecondPerEv, 6), sci(m->epsilon(xi), 8)});
+  }
+  out << t.render();
+  return kExitOk;
+}
+
+}  // namespace roundtrip::io::cli

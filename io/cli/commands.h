@@ -1,0 +1,41 @@
+#pragma once
+// The commands of the `roundtrip` program, callable without the command-line parser (main.cc
+// only parses options). Each returns the process exit status and writes the human-readable
+// output to `out` and progress and warnings to `err`. User-input errors are thrown as
+// io::CaseError; main prints them as "roundtrip: error: <message>".
+#include <ostream>
+#include <string>
+
+namespace roundtrip::io::cli {
+
+/// Exit statuses (documented in README.md, "Command-line reference").
+inline constexpr int kExitOk = 0;
+inline constexpr int kExitInputError = 1;     // bad case file, option or path: nothing written
+inline constexpr int kExitNotConverged = 3;   // results written, but some gap missed rel_tol
+inline constexpr int kExitInternalError = 4;  // a solver failure (a bug or an unhandled regime)
+
+struct RunArgs {
+  std::string case_path;
+  std::string output;  ///< -o; empty: [output] file of the case, else <case stem>.h5
+  int threads = 0;     ///< 0: OpenMP default
+  bool quiet = false;  ///< no progress on stderr
+};
+int run_command(const RunArgs& args, std::ostream& out, std::ostream& err);
+
+int check_command(const std::string& case_path, std::ostream& out);
+
+int materials_list_command(std::ostream& out);
+
+struct EpsArgs {
+  std::string name;
+  std::string from = "1e13 rad/s";
+  std::string to = "1e17 rad/s";
+  int count = 20;
+  std::string spacing = "log";  ///< "log" | "linear"
+};
+int materials_eps_command(const EpsArgs& args, std::ostream& out);
+
+/// "roundtrip 0.1.0 (git 0123456789ab)".
+std::string version_line();
+
+}  // namespace roundtrip::io::cli

@@ -1,0 +1,292 @@
+// The `roundtrip` program end to end: bad input is refused with a message naming the field and
+// no output file; good input prints a table and writes an HDF5 file an outside reader (h5py)
+// agrees with.
+#include <fmt/format.h>
+#include <gtest/gtest.h>
+#include <sys/wait.h>
+#include <unistd.h>
+
+#include <cmath>
+#include <cstdlib>
+#include <filesystem>
+#include <fstream>
+#include <sstream>
+#include <string>
+
+namespace {
+
+namespace fs = std::filesystem;
+
+struct Outcome {
+  int status = -1;
+  std::string out, err;
+};
+
+std::string slurp(const fs::path& p) {
+  std::ifstream in(p, std::ios::binary);
+  std::ostringstream s;
+  s << in.rdbuf();
+  return s.str();
+}
+
+// A scratch directory per test; the CLI runs with it as the current directory.
+class Cli : public ::testing::Test {
+ protected:
+  void SetUp() override {
+    const auto* info = ::testing::UnitTest::GetInstance()->current_test_info();
+    dir_ = fs::temp_directory_path() / fmt::format("roundtrip_cli_{}_{}", info->name(), getpid());
+    fs::remove_all(dir_);
+    fs::create_directories(dir_);
+  }
+  void TearDown() override {
+    if (!HasFailure()) fs::remove_all(dir_);
+  }
+  void write(const std::string& name, const std::string& text) {
+    std::ofstream(dir_ / name) << text;
+  }
+  Outcome cli(const std::string& args) {
+    const std::string cmd =
+        fmt::format("cd '{}' && '{}' {} > out.txt 2> err.txt", dir_.string(), ROUNDTRIP_CLI, args);
+    const int raw = std::system(cmd.c_str());
+    Outcome o;
+    o.status = WIFEXITED(raw) ? WEXITSTATUS(raw) : -1;
+    o.out = slurp(dir_ / "out.txt");
+    o.err = slurp(dir_ / "err.txt");
+    return o;
+  }
+  bool any_h5() const {
+    for (const auto& e : fs::directory_iterator(dir_))
+      if (e.path().string().find(".h5") != std::string::npos) return true;
+    return false;
+  }
+  fs::path dir_;
+};
+
+// A small valid plate-plate case (invented numbers); tests break it one line at a time.
+const std::string kGoodCase = R"(title = "cli test"
+geometry = "plate-plate"
+[plate]
+material = "gold-drude"
+[separations]
+values = ["200 nm", "400 nm"]
+[conditions]
+temperature = "300 K"
+[numerics]
+rel_tol = 1e-4
+[output]
+file = "out.h5"
+)";
+
+std::string replaced(std::string text, const std::string& from, const std::string& to) {
+  const auto at = text.find(from);
+  EXPECT_NE(at, std::string::npos) << "test set-up: '" << from << "' not in the case";
+  if (at != std::string::npos) text.replace(at, from.size(), to);
+  return text;
+}
+
+struct BadCase {
+  const char* what;
+  std::string text;
+  std::vector<std::string> expected;  // fragments of the error message
+};
+
+TEST_F(Cli, EveryKindOfBadCaseFailsNamingTheFieldAndWritesNothing) {
+  const std::vector<BadCase> cases = {
+      {"unknown key",
+       replaced(kGoodCase, "[conditions]\n", "[conditions]\ntemprature = \"1 K\"\n"),
+       {"bad.toml:8: conditions.temprature = \"1 K\": unknown key"}},
+      {"unknown table",
+       kGoodCase + "[sphre]\nradius = \"1 um\"\n",
+       {"bad.toml:13: sphre", "unknown key"}},
+      {"missing table",
+       replaced(kGoodCase, "[conditions]\ntemperature = \"300 K\"\n", ""),
+       {"conditions", "missing table [conditions]"}},
+      {"missing field",
+       replaced(kGoodCase, "material = \"gold-drude\"\n", ""),
+       {"plate", "missing required key 'material'"}},
+      {"malformed TOML",
+       replaced(kGoodCase, "\"plate-plate\"", "\"plate-plate"),
+       {"bad.toml:2:", "malformed TOML"}},
+      {"negative gap",
+       replaced(kGoodCase, "\"400 nm\"", "\"-400 nm\""),
+       {"bad.toml:6: separations.values[1] = \"-400 nm\": a gap must be > 0"}},
+      {"zero gap",
+       replaced(kGoodCase, "values = [\"200 nm\", \"400 nm\"]",
+                "from = \"0 nm\"\nto = \"1 um\"\ncount = 3"),
+       {"bad.toml:6: separations.from = \"0 nm\": a gap must be > 0"}},
+      {"gap without unit",
+       replaced(kGoodCase, "\"200 nm\"", "200e-9"),
+       {"bad.toml:6: separations.values[0] = 2e-07: a bare number has no unit"}},
+      {"NaN gap",
+       replaced(kGoodCase, "\"200 nm\"", "\"nan nm\""),
+       {"separations.values[0] = \"nan nm\": not a finite number"}},
+      {"negative temperature",
+       replaced(kGoodCase, "\"300 K\"", "\"-1 K\""),
+       {"bad.toml:8: conditions.temperature = \"-1 K\": a temperature must be >= 0 K"}},
+      {"NaN tolerance",
+       replaced(kGoodCase, "1e-4", "nan"),
+       {"bad.toml:10: numerics.rel_tol = nan: not a finite number"}},
+      {"tolerance out of range",
+       replaced(kGoodCase, "1e-4", "0.5"),
+       {"bad.toml:10: numerics.rel_tol = 0.5", "0 < rel_tol < 0.1"}},
+      {"unknown material",
+       replaced(kGoodCase, "\"gold-drude\"", "\"unobtainium\""),
+       {"bad.toml:4: plate.material = \"unobtainium\": unknown material", "gold-drude"}},
+      {"wrong type",
+       replaced(kGoodCase, "\"plate-plate\"", "3"),
+       {"bad.toml:2: geometry = 3: expected a string"}},
+      {"unknown geometry",
+       replaced(kGoodCase, "\"plate-plate\"", "\"plate-cylinder\""),
+       {"geometry = \"plate-cylinder\": unknown geometry"}},
+      {"unwritable output",
+       replaced(kGoodCase, "\"out.h5\"", "\"no_such_dir/out.h5\""),
+       {"bad.toml:12: output.file = \"no_such_dir/out.h5\"", "does not exist"}},
+  };
+  for (const auto& c : cases) {
+    SCOPED_TRACE(c.what);
+    write("bad.toml", c.text);
+    const Outcome o = cli("run bad.toml --quiet");
+    EXPECT_EQ(o.status, 1) << o.err;
+    EXPECT_EQ(o.err.rfind("roundtrip: error: ", 0), 0u) << o.err;
+    for (const auto& e : c.expected) EXPECT_NE(o.err.find(e), std::string::npos) << o.err;
+    EXPECT_EQ(o.out, "");
+    EXPECT_FALSE(any_h5()) << "an output file was written";
+    // `check` refuses the same input.
+    const Outcome chk = cli("check bad.toml");
+    if (std::string(c.what) != "unwritable output") {
+      EXPECT_EQ(chk.status, 1) << chk.err;
+      EXPECT_NE(chk.err.find(c.expected.front()), std::string::npos) << chk.err;
+    }
+  }
+}
+
+TEST_F(Cli, MissingCaseFileAndBadOptionsAreErrors) {
+  Outcome o = cli("run nowhere.toml");
+  EXPECT_EQ(o.status, 1);
+  EXPECT_NE(o.err.find("nowhere.toml: cannot open the case file"), std::string::npos) << o.err;
+  write("good.toml", kGoodCase);
+  o = cli("run good.toml -o /proc/roundtrip.h5");
+  EXPECT_EQ(o.status, 1);
+  EXPECT_NE(o.err.find("-o = \"/proc/roundtrip.h5\""), std::string::npos) << o.err;
+  o = cli("run good.toml --threads 0");
+  EXPECT_EQ(o.status, 2);
+  EXPECT_NE(o.err.find("--threads"), std::string::npos) << o.err;
+  o = cli("frobnicate");
+  EXPECT_EQ(o.status, 2);
+  EXPECT_FALSE(any_h5());
+}
+
+TEST_F(Cli, CheckPrintsThePlanAndComputesNothing) {
+  write("good.toml", kGoodCase);
+  const Outcome o = cli("check good.toml");
+  EXPECT_EQ(o.status, 0) << o.err;
+  for (const char* s :
+       {"plate-plate", "gold-drude", "200, 400", "Matsubara", "nothing was computed"})
+    EXPECT_NE(o.out.find(s), std::string::npos) << s << "\n" << o.out;
+  EXPECT_FALSE(any_h5());
+}
+
+TEST_F(Cli, HelpAndVersionExitZero) {
+  Outcome o = cli("--version");
+  EXPECT_EQ(o.status, 0);
+  EXPECT_EQ(o.out.rfind("roundtrip 0.", 0), 0u) << o.out;
+  o = cli("--help");
+  EXPECT_EQ(o.status, 0);
+  for (const char* s : {"run", "check", "materials"}) EXPECT_NE(o.out.find(s), std::string::npos);
+  o = cli("run --help");
+  EXPECT_EQ(o.status, 0);
+  EXPECT_NE(o.out.find("--threads"), std::string::npos) << o.out;
+}
+
+// Drude model eps(i xi) = 1 + wp^2 / (xi (xi + gamma)) with wp = 9.0 eV, gamma = 35 meV
+// (common practice for gold; Svetovoy et al., PRB 77, 035439 (2008)); eV -> rad/s by CODATA 2018.
+TEST_F(Cli, MaterialsEpsPrintsTheDrudeFormulaForGold) {
+  const Outcome o =
+      cli("materials eps gold-drude --from \"1e15 rad/s\" --to \"1e16 rad/s\" --count 2");
+  ASSERT_EQ(o.status, 0) << o.err;
+  const double ev = 2.0 * M_PI * 2.417989242e14;  // rad/s per eV (CODATA 2018, from memory)
+  const double wp = 9.0 * ev, gamma = 0.035 * ev;
+  const double expected = 1.0 + wp * wp / (1e15 * (1e15 + gamma));
+  // The table prints 8 significant digits.
+  constexpr double kPrintedRelTol = 1e-7;
+  const auto line_at = o.out.find("1.00000e+15");
+  ASSERT_NE(line_at, std::string::npos) << o.out;
+  std::istringstream row(o.out.substr(line_at));
+  double xi = 0, ev_col = 0, eps = 0;
+  row >> xi >> ev_col >> eps;
+  EXPECT_NEAR(eps, expected, expected * kPrintedRelTol);
+  EXPECT_NEAR(ev_col, 1e15 / ev, 1e15 / ev * 1e-5);
+  const Outcome list = cli("materials list");
+  EXPECT_EQ(list.status, 0);
+  EXPECT_NE(list.out.find("gold-drude"), std::string::npos);
+  EXPECT_NE(list.out.find("source: "), std::string::npos);
+  const Outcome bad = cli("materials eps unobtainium");
+  EXPECT_EQ(bad.status, 1);
+  EXPECT_NE(bad.err.find("NAME = \"unobtainium\": unknown material"), std::string::npos) << bad.err;
+}
+
+// Perfect mirrors at T = 0: E/A = -pi^2 hbar c / (720 L^3) (Casimir, Proc. KNAW 51, 793 (1948)),
+// through case file, CLI and HDF5 file (read back by h5py).
+TEST_F(Cli, PerfectMirrorsAtZeroKelvinMatchCasimir1948ThroughTheHdf5File) {
+  write("pec.toml", R"(geometry = "plate-plate"
+[plate]
+material = "perfect-conductor"
+[separations]
+values = ["100 nm", "1 um"]
+[conditions]
+temperature = "0 K"
+[compute]
+quantities = ["energy", "force", "gradient"]
+[numerics]
+rel_tol = 1e-7
+)");
+  const Outcome o = cli("run pec.toml --quiet -o pec.h5");
+  ASSERT_EQ(o.status, 0) << o.err;
+  ASSERT_TRUE(fs::exists(dir_ / "pec.h5"));
+  write("read.py", R"PY(import h5py, math
+f = h5py.File("pec.h5", "r")
+r = f["results"]
+hbar, c = 1.054571817e-34, 299792458.0
+for i, L in enumerate(r["gap"][:]):
+    e = -math.pi**2 * hbar * c / (720 * L**3)
+    print(L, r["energy"][i] / e, r["force"][i] / (3 * e / L), r["gradient"][i] / (-12 * e / L**2))
+assert f["input/case_file"].asstr()[()] == open("pec.toml").read()
+assert r["energy"].attrs["units"] == "J/m^2" and r["force"].attrs["units"] == "Pa"
+)PY");
+  const std::string cmd =
+      fmt::format("cd '{}' && /usr/bin/python3 read.py > py.txt 2>&1", dir_.string());
+  ASSERT_EQ(std::system(cmd.c_str()), 0) << slurp(dir_ / "py.txt");
+  std::istringstream py(slurp(dir_ / "py.txt"));
+  // rel_tol = 1e-7 asked; allow 10x for the error estimate being an estimate.
+  constexpr double kRatioTol = 1e-6;
+  int rows = 0;
+  for (double gap, re, rf, rg; py >> gap >> re >> rf >> rg; ++rows) {
+    EXPECT_NEAR(re, 1.0, kRatioTol) << "energy at L = " << gap;
+    EXPECT_NEAR(rf, 1.0, kRatioTol) << "force F = -dE/dL = 3E/L at L = " << gap;
+    EXPECT_NEAR(rg, 1.0, kRatioTol) << "gradient dF/dL = -12E/L^2 at L = " << gap;
+  }
+  EXPECT_EQ(rows, 2);
+  EXPECT_NE(o.out.find("gap [nm]"), std::string::npos) << o.out;
+}
+
+// The reduced demo: cases/gold_plates.toml with 3 gaps instead of 20.
+TEST_F(Cli, ReducedGoldPlatesDemoRunsAndWritesItsFile) {
+  const std::string demo = slurp(fs::path(ROUNDTRIP_SOURCE_DIR) / "cases" / "gold_plates.toml");
+  ASSERT_FALSE(demo.empty());
+  write("gold_plates.toml", replaced(demo, "count = 20", "count = 3"));
+  const Outcome o = cli("run gold_plates.toml");
+  ASSERT_EQ(o.status, 0) << o.err;
+  EXPECT_NE(o.out.find("gap [nm]"), std::string::npos) << o.out;
+  EXPECT_NE(o.out.find("F [Pa]"), std::string::npos) << o.out;
+  EXPECT_NE(o.err.find("gap 3 of 3 done"), std::string::npos) << o.err;
+  EXPECT_TRUE(fs::exists(dir_ / "gold_plates.h5"));
+  const std::string cmd =
+      fmt::format("cd '{}' && h5dump -A gold_plates.h5 > dump.txt 2>&1", dir_.string());
+  ASSERT_EQ(std::system(cmd.c_str()), 0);
+  const std::string dump = slurp(dir_ / "dump.txt");
+  for (const char* s : {"\"roundtrip-results\"", "DATASET \"gap\"", "DATASET \"energy\"",
+                        "DATASET \"force\"", "GROUP \"frequencies\"", "\"units\""})
+    EXPECT_NE(dump.find(s), std::string::npos) << s;
+}
+
+}  // namespace
