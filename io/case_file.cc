@@ -15,6 +15,7 @@
 #include "io/material_spec.h"
 #include "io/units.h"
 #include "solver/geometries/plate_plate.h"
+#include "solver/geometries/sphere_plate.h"
 #include "solver/materials/library.h"
 
 namespace roundtrip::io {
@@ -395,11 +396,19 @@ std::shared_ptr<Geometry> build_geometry(const CaseSpec& spec) {
   switch (spec.kind) {
     case ConfigurationKind::kPlatePlate:
       return make_plate_plate(spec.plate, spec.plate2, spec.medium);
-    case ConfigurationKind::kSpherePlate:
-      throw CaseError(
-          fmt::format("{}: geometry = \"sphere-plate\": sphere-plate geometry is not "
-                      "built yet in this version",
-                      spec.path.string()));
+    case ConfigurationKind::kSpherePlate: {
+      SpherePlateOptions o;
+      o.radius = spec.sphere_radius;
+      o.sphere = spec.sphere_material;
+      o.plate = spec.plate;
+      o.medium = spec.medium;
+      o.field = field_kind_from_string(spec.field);
+      o.rel_tol = spec.frequency.rel_tol;
+      o.l_max = spec.l_max;
+      if (const std::string p = o.validate(); !p.empty())
+        throw CaseError(fmt::format("{}: sphere-plate: {}", spec.path.string(), p));
+      return make_sphere_plate(o);
+    }
   }
   throw CaseError("unknown geometry kind");
 }
