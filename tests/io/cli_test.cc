@@ -12,6 +12,7 @@
 #include <fstream>
 #include <sstream>
 #include <string>
+#include <vector>
 
 namespace {
 
@@ -279,6 +280,24 @@ TEST_F(Cli, ReducedGoldPlatesDemoRunsAndWritesItsFile) {
   EXPECT_NE(o.out.find("gap [nm]"), std::string::npos) << o.out;
   EXPECT_NE(o.out.find("F [Pa]"), std::string::npos) << o.out;
   EXPECT_NE(o.err.find("gap 3 of 3 done"), std::string::npos) << o.err;
+  // The case's opening comment shows what it prints: the reduced run shares the header lines
+  // and the 100 nm row (same gap, same tolerance).
+  std::istringstream comment(demo);
+  std::vector<std::string> shown;
+  bool in_block = false;
+  for (std::string line; std::getline(comment, line);) {
+    if (line.rfind("# It prints", 0) == 0) {
+      in_block = true;
+    } else if (in_block) {
+      if (line.rfind("#   ...", 0) == 0 || line.rfind("#", 0) != 0) break;
+      shown.push_back(line.size() > 4 ? line.substr(4) : "");
+    }
+  }
+  constexpr std::size_t kHeaderAndFirstRow = 8;
+  ASSERT_GE(shown.size(), kHeaderAndFirstRow);
+  for (std::size_t i = 0; i < kHeaderAndFirstRow; ++i)
+    EXPECT_NE(o.out.find(shown[i] + "\n"), std::string::npos) << "line '" << shown[i] << "'\n"
+                                                              << o.out;
   EXPECT_TRUE(fs::exists(dir_ / "gold_plates.h5"));
   const std::string cmd =
       fmt::format("cd '{}' && h5dump -A gold_plates.h5 > dump.txt 2>&1", dir_.string());
