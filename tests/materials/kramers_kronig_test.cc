@@ -1,10 +1,9 @@
 // Kramers-Kronig transform of tabulated optical data (solver/materials/tabulated.h).
+#include <fmt/format.h>
 #include <gtest/gtest.h>
 
 #include <cmath>
 #include <complex>
-
-#include <fmt/format.h>
 
 #include "solver/constants.h"
 #include "solver/materials/models.h"

@@ -1,12 +1,11 @@
 // Reading optical tables (solver/materials/optical_csv.cc) and their Kramers-Kronig transform.
+#include <fmt/format.h>
 #include <gtest/gtest.h>
 
 #include <cmath>
 #include <filesystem>
 #include <fstream>
 #include <string>
-
-#include <fmt/format.h>
 
 #include "io/errors.h"
 #include "solver/constants.h"
@@ -82,14 +81,16 @@ TEST(OpticalCsv, WavelengthTableIsReorderedToAscendingFrequency) {
 
 TEST(OpticalCsv, NkAndEpsColumnsAndAllAbscissaUnitsAgree) {
   // n + ik = 2 + 0.5i <-> eps = 3.75 + 2i (eps1 = n^2 - k^2, eps2 = 2nk; standard).
-  const auto a = read_optical_csv(
-      write_temp("nk", "energy_eV,n,k\n1,2,0.5\n2,2,0.5\n3,2,0.5\n4,2,0.5\n"));
-  const auto b = read_optical_csv(write_temp(
-      "eps_nm", "# comment\nwavelength_nm, eps1, eps2\n1239.841984,3.75,2\n619.920992,3.75,2\n"
-                "413.2806613,3.75,2\n309.960496,3.75,2\n"));
-  const auto c = read_optical_csv(write_temp(
-      "eps_um", "wavelength_um,eps1,eps2\n1.239841984,3.75,2\n0.619920992,3.75,2\n"
-                "0.4132806613,3.75,2\n0.309960496,3.75,2\n"));
+  const auto a =
+      read_optical_csv(write_temp("nk", "energy_eV,n,k\n1,2,0.5\n2,2,0.5\n3,2,0.5\n4,2,0.5\n"));
+  const auto b = read_optical_csv(
+      write_temp("eps_nm",
+                 "# comment\nwavelength_nm, eps1, eps2\n1239.841984,3.75,2\n619.920992,3.75,2\n"
+                 "413.2806613,3.75,2\n309.960496,3.75,2\n"));
+  const auto c = read_optical_csv(
+      write_temp("eps_um",
+                 "wavelength_um,eps1,eps2\n1.239841984,3.75,2\n0.619920992,3.75,2\n"
+                 "0.4132806613,3.75,2\n0.309960496,3.75,2\n"));
   constexpr double kRel = 1e-9;  // 10-digit hc in the test text
   for (std::size_t i = 0; i < 4; ++i) {
     EXPECT_NEAR(a.omega[i] / b.omega[i], 1.0, kRel);
