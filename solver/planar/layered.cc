@@ -91,6 +91,8 @@ class LayeredAt final : public PlanarAtFrequency {
     const auto kappa = [&](const Slab& s) { return std::sqrt(k2 + (tm ? s.q2_tm : s.q2_te)); };
     const auto interface = [&](const Slab& a, double ka, const Slab& b, double kb) {
       if (b.pec) return tm ? 1.0 : -1.0;
+      // k = 0 at xi = 0: both kappa vanish; the static ratios are k-independent (layered.h).
+      if (ka + kb == 0.0) return tm ? (b.eps - a.eps) / (b.eps + a.eps) : 0.0;
       return tm ? (b.eps * ka - a.eps * kb) / (b.eps * ka + a.eps * kb) : (ka - kb) / (ka + kb);
     };
     const std::size_t n = slabs.size();
@@ -105,7 +107,8 @@ class LayeredAt final : public PlanarAtFrequency {
       const double kup = kappa(above);
       const double r = interface(above, kup, slabs[j], kj);
       const double e = std::exp(-2.0 * kj * slabs[j].thickness);
-      R = (r + R * e) / (1.0 + r * R * e);
+      // A perfect reflector (|r| = 1) hides R; this also avoids 0/0 when r R e = -1.
+      R = std::abs(r) == 1.0 ? r : (r + R * e) / (1.0 + r * R * e);
       ka = kup;
     }
     return R;
