@@ -47,11 +47,13 @@ namespace {
 
 double component(const Spectral& s, int c) { return c == 0 ? s.value : (c == 1 ? s.d1 : s.d2); }
 
-// |a - b| <= tol |a| for every component (a component that is exactly zero in both passes).
-bool agree(const Spectral& a, const Spectral& b, double tol) {
+Spectral abs(const Spectral& s) { return {std::abs(s.value), std::abs(s.d1), std::abs(s.d2)}; }
+
+// |a - b| <= tol |ref| for every component; ref is the sum of |terms| (equal to |a| when the
+// integrand keeps its sign), so that a sum that cancels to ~0 does not demand the impossible.
+bool agree(const Spectral& a, const Spectral& b, const Spectral& ref, double tol) {
   for (int c = 0; c < 3; ++c)
-    if (!(std::abs(component(a, c) - component(b, c)) <= tol * std::abs(component(a, c))))
-      return false;
+    if (!(std::abs(component(a, c) - component(b, c)) <= tol * component(ref, c))) return false;
   return true;
 }
 
@@ -109,6 +111,12 @@ Spectral level_sum(const std::vector<DeNode>& nodes, double h) {
   return sum;
 }
 
+Spectral level_abs_sum(const std::vector<DeNode>& nodes, double h) {
+  Spectral sum;
+  for (const auto& n : nodes) sum += abs(n.s) * (n.jac * h);
+  return sum;
+}
+
 FrequencySum zero_temperature(const SpectralFunction& f, double xi_scale,
                               const FrequencyRuleOptions& opts) {
   // Left end (a node of every level): u = 2.4e-19 at t = -4; the omitted [0, u] adds ~u s(0),
@@ -129,12 +137,12 @@ FrequencySum zero_temperature(const SpectralFunction& f, double xi_scale,
   std::vector<DeNode> nodes;
   for (int j = static_cast<int>(std::ceil(kTLeft / kH0)); j * kH0 <= 0.0; ++j)
     nodes.push_back(make_node(j * kH0, xi_scale, f));
-  Spectral running = level_sum(nodes, kH0);
+  Spectral running = level_abs_sum(nodes, kH0);
   int small_in_row = 0;
   for (int j = 1; j * kH0 <= kTRightMax; ++j) {
     DeNode n = make_node(j * kH0, xi_scale, f);
     const Spectral contrib = n.s * (n.jac * kH0);
-    running += contrib;
+    running += abs(contrib);
     nodes.push_back(n);
     small_in_row = negligible(contrib, running, tail_tol) ? small_in_row + 1 : 0;
     if (small_in_row >= 2) break;
@@ -154,7 +162,7 @@ FrequencySum zero_temperature(const SpectralFunction& f, double xi_scale,
     h *= 0.5;
     const Spectral current = level_sum(nodes, h);
     diff = {current.value - previous.value, current.d1 - previous.d1, current.d2 - previous.d2};
-    const bool ok = agree(current, previous, opts.rel_tol);
+    const bool ok = agree(current, previous, level_abs_sum(nodes, h), opts.rel_tol);
     previous = current;
     if (level >= kMinLevel && ok) {
       converged = true;
@@ -193,11 +201,13 @@ FrequencySum matsubara(const SpectralFunction& f, const FrequencyRuleOptions& op
   double tail = 0.0;
   bool converged = false;
   CompensatedSum total;
+  Spectral abs_total;  // sum of |terms|: the scale for "negligible"
   for (int n = 0; n < opts.max_matsubara_terms; ++n) {
     const double xi = matsubara_frequency(n, opts.temperature_K);
     FrequencyTerm term{xi, n == 0 ? 0.5 * kT : kT, f(xi)};
     const Spectral contrib = term.s * term.weight;
     total.add(contrib);
+    abs_total += abs(contrib);
     out.total = total.value();
     out.terms.push_back(term);
     if (!all_finite(contrib)) break;
@@ -214,12 +224,12 @@ FrequencySum matsubara(const SpectralFunction& f, const FrequencyRuleOptions& op
         break;
       }
       const double est = a * ratio / (1.0 - ratio);
-      if (!(est <= opts.rel_tol * std::abs(component(out.total, c)))) tail_ok = false;
+      if (!(est <= opts.rel_tol * component(abs_total, c))) tail_ok = false;
       if (c == 0) tail_value = est;
     }
     last = contrib;
     small_in_row =
-        (n >= 1 && negligible(contrib, out.total, opts.rel_tol) && tail_ok) ? small_in_row + 1 : 0;
+        (n >= 1 && negligible(contrib, abs_total, opts.rel_tol) && tail_ok) ? small_in_row + 1 : 0;
     tail = tail_value;
     if (small_in_row >= kSmallInRow) {
       converged = true;

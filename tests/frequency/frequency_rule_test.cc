@@ -97,6 +97,19 @@ TEST(ZeroTemperatureRule, SquareRootStructureNearZeroIsResolved) {
   EXPECT_NEAR(r.total.value / approx, 1.0, kTol);
 }
 
+TEST(ZeroTemperatureRule, IntegrandThatCancelsToZeroStillConverges) {
+  // \int_0^inf (1 - xi) e^{-xi} dxi = 0 (elementary): convergence is judged against
+  // \int |s| (= 2/e), not against the vanishing total.
+  FrequencyRuleOptions opts;
+  opts.rel_tol = 1e-10;
+  auto f = [](double xi) { return Spectral{(1.0 - xi) * std::exp(-xi), 0.0, 0.0}; };
+  const FrequencySum r = sum_over_frequencies(f, 1.0, opts);
+  ASSERT_TRUE(r.converged) << r.message;
+  // rel_tol times \int |s| (2/e), in units of hbar/2pi.
+  const double kTol = opts.rel_tol * 2.0 / std::exp(1.0);
+  EXPECT_NEAR(r.total.value / (kHbar / (2.0 * kPi)), 0.0, kTol);
+}
+
 TEST(FrequencyRuleOptions, ValidateNamesTheBadField) {
   FrequencyRuleOptions o;
   EXPECT_TRUE(o.validate().empty());
