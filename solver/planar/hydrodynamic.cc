@@ -21,12 +21,17 @@ class HydrodynamicAt final : public PlanarAtFrequency {
     const double b2 = beta * beta;
     if (xi > 0.0) {
       eps_m_ = medium.epsilon(xi);
-      eps_t_ = metal.epsilon(xi);
+      // eps_b from its own terms: eps_T - drude would cancel catastrophically at small xi.
       const double drude = wp2 / (xi * (xi + p.damping));
-      eps_b_ = eps_t_ - drude;
+      eps_b_ = p.eps_inf;
+      for (const auto& o : p.oscillators) {
+        const double w2 = o.frequency * o.frequency;
+        eps_b_ += o.strength * w2 / (w2 + xi * xi + o.damping * xi);
+      }
+      for (const auto& r : p.relaxations) eps_b_ += r.strength / (1.0 + xi / r.rate);
+      eps_t_ = eps_b_ + drude;
       km2_ = eps_m_ * xi * xi / c2;
       kt2_ = eps_t_ * xi * xi / c2;
-      // (eps_T - eps_b) = drude; keep it exact rather than as a difference.
       drude_ = drude;
       local_ = !(b2 > 0.0);
       if (!local_) kl2_ = (wp2 / eps_b_ + xi * (xi + p.damping)) / b2;
