@@ -13,23 +13,26 @@
 namespace roundtrip::io {
 namespace {
 
+// SI value of one unit = scale / divisor. Decimal submultiples divide by an exact power of ten,
+// so "100 nm" gives the double nearest to 1e-7, the same as the literal 100e-9.
 struct UnitEntry {
   std::string_view name;
-  double factor;  // SI value of one unit
+  double scale;
+  double divisor = 1.0;
 };
 
 // Length factors are exact definitions (SI brochure, 9th ed., 2019).
 constexpr std::array kLengthUnits{
-    UnitEntry{"m", 1.0},   UnitEntry{"cm", 1e-2},      UnitEntry{"mm", 1e-3},
-    UnitEntry{"um", 1e-6}, UnitEntry{"\u00b5m", 1e-6}, UnitEntry{"\u03bcm", 1e-6},
-    UnitEntry{"nm", 1e-9}, UnitEntry{"pm", 1e-12},     UnitEntry{"\u00c5", 1e-10},
+    UnitEntry{"m", 1.0},       UnitEntry{"cm", 1.0, 1e2},      UnitEntry{"mm", 1.0, 1e3},
+    UnitEntry{"um", 1.0, 1e6}, UnitEntry{"\u00b5m", 1.0, 1e6}, UnitEntry{"\u03bcm", 1.0, 1e6},
+    UnitEntry{"nm", 1.0, 1e9}, UnitEntry{"pm", 1.0, 1e12},     UnitEntry{"\u00c5", 1.0, 1e10},
 };
-constexpr std::array kTemperatureUnits{UnitEntry{"K", 1.0}, UnitEntry{"mK", 1e-3}};
+constexpr std::array kTemperatureUnits{UnitEntry{"K", 1.0}, UnitEntry{"mK", 1.0, 1e3}};
 // Hz are cycles per second: xi = 2 pi f. eV is a photon energy: xi = E / hbar.
 constexpr std::array kFrequencyUnits{
     UnitEntry{"rad/s", 1.0},
     UnitEntry{"eV", kRadPerSecondPerEv},
-    UnitEntry{"meV", 1e-3 * kRadPerSecondPerEv},
+    UnitEntry{"meV", kRadPerSecondPerEv, 1e3},
     UnitEntry{"Hz", 2.0 * kPi},
     UnitEntry{"kHz", 2.0 * kPi * 1e3},
     UnitEntry{"MHz", 2.0 * kPi * 1e6},
@@ -109,7 +112,7 @@ std::string parse_text(std::string_view raw, Dimension dim, double& out) {
   const UnitEntry* u = lookup(dim, unit);
   if (u == nullptr)
     return fmt::format("unknown {} unit '{}' (units: {})", to_string(dim), unit, unit_list(dim));
-  out = value * u->factor;
+  out = value * u->scale / u->divisor;
   if (!std::isfinite(out)) return "value overflows after conversion to SI";
   return {};
 }

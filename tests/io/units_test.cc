@@ -33,6 +33,15 @@ TEST(Units, LengthStringsConvertToMetres) {
               3e-3 * kConversionRelTol);
 }
 
+// Decimal prefixes divide by an exact power of ten: the result is the double nearest to the
+// decimal value, bit for bit the same as the C++ literal.
+TEST(Units, DecimalPrefixesGiveTheNearestDouble) {
+  EXPECT_EQ(parse_quantity_string("100 nm", Dimension::kLength, "x"), 100e-9);
+  EXPECT_EQ(parse_quantity_string("2 um", Dimension::kLength, "x"), 2e-6);
+  EXPECT_EQ(parse_quantity_string("3 mm", Dimension::kLength, "x"), 3e-3);
+  EXPECT_EQ(parse_quantity_string("50 mK", Dimension::kTemperature, "x"), 50e-3);
+}
+
 TEST(Units, TemperatureStringsConvertToKelvin) {
   EXPECT_EQ(parse_quantity_string("300 K", Dimension::kTemperature, "t"), 300.0);
   EXPECT_EQ(parse_quantity_string("0 K", Dimension::kTemperature, "t"), 0.0);
