@@ -155,14 +155,14 @@ class SpherePlate final : public Geometry {
 
   int lmax_for(double gap) const {
     if (o_.l_max > 0) return o_.l_max;
-    // Multipoles up to l ~ eta R/L matter near contact (the plate's image sits at depth ~L,
-    // seen by the sphere as harmonics of order R/L); far away the (R/2D)^{2l} decay decides.
-    const double tol = o_.rel_tol;
-    const double eta = std::max(2.0, 0.6 * std::log(1.0 / tol));
-    const double near = eta * o_.radius / gap;
-    const double D = o_.radius + gap;
-    const double far = 0.5 * std::log(tol) / std::log(o_.radius / (2.0 * D)) + 2.0;
-    return std::max(3, static_cast<int>(std::ceil(std::max(near, far))));
+    // Measured convergence (tests/sphere_plate, LmaxConvergesExponentially): near contact the
+    // error falls like exp(-1.8 l_max L/R), so l_max = eta R/L with eta = 0.6 ln(1/tol); far
+    // away (and for the xi = 0 term) like Z^l_max, Z = exp(-mu), cosh mu = 1 + L/R (the
+    // bispherical parameter of Bimonte & Emig 2012).
+    const double log_inv_tol = std::log(1.0 / o_.rel_tol);
+    const double near = 0.6 * log_inv_tol * o_.radius / gap;
+    const double far = log_inv_tol / std::acosh(1.0 + gap / o_.radius);
+    return std::max(3, static_cast<int>(std::ceil(std::max(near, far))) + 3);
   }
 
   /// Nodes of the k-integral at xi > 0: composite Gauss-Legendre in sqrt(t) resolving integrands

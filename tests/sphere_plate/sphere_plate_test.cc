@@ -1,0 +1,241 @@
+// Sphere-plate round trip against published closed forms and limits.
+// R sphere radius, L surface-to-surface gap, D = R + L; energies negative when attractive.
+#include <gtest/gtest.h>
+#include <omp.h>
+
+#include <cmath>
+#include <cstdio>
+
+#include "solver/constants.h"
+#include "solver/frequency/frequency_rule.h"
+#include "solver/geometries/sphere_plate.h"
+#include "solver/materials/models.h"
+#include "solver/scatterers/mie.h"
+
+namespace roundtrip {
+namespace {
+
+constexpr double kR = 1e-6;  // 1 um sphere; only L/R matters for PEC and scalar fields
+const double kGoldOmegaP = 9.0 * kRadPerSecondPerEv;   // common practice (REFERENCES.md)
+const double kGoldGamma = 0.035 * kRadPerSecondPerEv;
+
+SpherePlateOptions pec(double tol) {
+  SpherePlateOptions o;
+  o.radius = kR;
+  o.sphere = make_perfect_conductor();
+  o.plate = make_half_space(o.sphere);
+  o.rel_tol = tol;
+  return o;
+}
+SpherePlateOptions drude(double tol) {
+  SpherePlateOptions o;
+  o.radius = kR;
+  o.sphere = make_drude("gold-drude", kGoldOmegaP, kGoldGamma);
+  o.plate = make_half_space(o.sphere);
+  o.rel_tol = tol;
+  return o;
+}
+SpherePlateOptions scalar(FieldKind f, double tol) {
+  SpherePlateOptions o;
+  o.radius = kR;
+  o.field = f;
+  o.rel_tol = tol;
+  return o;
+}
+
+// Bimonte & Emig, PRL 109, 160403 (2012): n = 0 free energies in bispherical coordinates,
+// cosh mu = 1 + L/R, Z = e^{-mu}.
+//   F_Dir/k_BT = 1/2 sum_{n>=0} (2n+1) ln(1 - Z^{2n+1})
+//   F_Drude/k_BT = F_Dir/k_BT + 1/2 ln(C/R),  C/R = sinh mu sum_{n>=1} 1/sinh(n mu)
+double bimonte_emig_dirichlet(double L_over_R) {
+  const double mu = std::acosh(1 + L_over_R), Z = std::exp(-mu);
+  double s = 0;
+  for (int n = 0; n < 1000000; ++n) {
+    const double t = (2 * n + 1) * std::log1p(-std::pow(Z, 2 * n + 1));
+    s += t;
+    if (std::abs(t) < 1e-19 * std::abs(s)) break;
+  }
+  return 0.5 * s;
+}
+double bimonte_emig_drude(double L_over_R) {
+  const double mu = std::acosh(1 + L_over_R);
+  double c = 0;
+  for (int n = 1; n < 1000000; ++n) {
+    const double t = 1 / std::sinh(n * mu);
+    c += t;
+    if (t < 1e-19 * c) break;
+  }
+  return bimonte_emig_dirichlet(L_over_R) + 0.5 * std::log(std::sinh(mu) * c);
+}
+
+// n = 0 Matsubara free energy in units of k_B T: (1/2) sum_m log det(1 - M(0)).
+double static_free_energy(const SpherePlateOptions& o, double gap) {
+  return 0.5 * make_sphere_plate(o)->at_frequency(0.0, gap, DerivativeOrder::kEnergy).value;
+}
+
+TEST(SpherePlateStatic, DrudeSphereOverDrudePlateMatchesBimonteEmig2012) {
+  // Published closed form; 1e-8 relative is the target, reached with rel_tol 1e-10.
+  for (double x : {1.0, 0.2, 0.05}) {
+    const double f = static_free_energy(drude(1e-10), x * kR);
+    EXPECT_NEAR(f / bimonte_emig_drude(x), 1.0, 1e-8) << "L/R = " << x;
+  }
+}
+
+TEST(SpherePlateStatic, DirichletMatchesBimonteEmig2012) {
+  for (double x : {1.0, 0.2, 0.05}) {
+    const double f = static_free_energy(scalar(FieldKind::kDirichlet, 1e-10), x * kR);
+    EXPECT_NEAR(f / bimonte_emig_dirichlet(x), 1.0, 1e-8) << "L/R = " << x;
+  }
+}
+
+TEST(SpherePlateStatic, LargeDistanceLimitsAndPecOverDrudeRatio) {
+  // Large D (Canaguier-Durand et al., PRL 104, 040403 (2010)): F_Drude -> -(1/4) k_BT (R/D)^3,
+  // F_PEC -> -(3/8) k_BT (R/D)^3, ratio 3/2. Corrections are of relative order R/D (the next
+  // multipole and the distance dependence of the dipole images), so at D = 200 R we allow 2 R/D.
+  const double D = 200 * kR, gap = D - kR, rd3 = std::pow(kR / D, 3);
+  const double fd = static_free_energy(drude(1e-8), gap);
+  const double fp = static_free_energy(pec(1e-8), gap);
+  const double bound = 2 * kR / D;
+  EXPECT_NEAR(fd / (-0.25 * rd3), 1.0, bound);
+  EXPECT_NEAR(fp / (-0.375 * rd3), 1.0, bound);
+  EXPECT_NEAR(fp / fd, 1.5, 1.5 * bound);
+}
+
+TEST(SpherePlateStatic, DynamicTermsTendToTheExactStaticTerm) {
+  // The n = 0 term is evaluated in closed form; s(xi) must approach it continuously as xi -> 0
+  // (Drude: TE vanishes linearly in xi; plasma: TE stays, via omega_p R / c). Common practice.
+  const double gap = 0.5 * kR;
+  SpherePlateOptions plasma = drude(1e-8);
+  plasma.sphere = make_plasma("gold-plasma", kGoldOmegaP);
+  plasma.plate = make_half_space(plasma.sphere);
+  for (const auto& o : {drude(1e-8), plasma, pec(1e-8)}) {
+    const auto g = make_sphere_plate(o);
+    const double s0 = g->at_frequency(0.0, gap, DerivativeOrder::kEnergy).value;
+    const double xi_c = kSpeedOfLight / (2 * gap);
+    const double s1 = g->at_frequency(1e-7 * xi_c, gap, DerivativeOrder::kEnergy).value;
+    const double s2 = g->at_frequency(1e-8 * xi_c, gap, DerivativeOrder::kEnergy).value;
+    EXPECT_LT(std::abs(s2 - s0), std::abs(s1 - s0) + 1e-12 * std::abs(s0)) << o.sphere->name();
+    EXPECT_NEAR(s2 / s0, 1.0, 1e-5) << o.sphere->name();
+  }
+}
+
+TEST(Mie, SmallSpheresHaveTheStaticDipolePolarisabilities) {
+  // T_1 -> (2/3) kappa^3 alpha: PEC alpha_E = R^3, alpha_M = -R^3/2; dielectric
+  // alpha_E = R^3 (eps-1)/(eps+2) (Jackson, Classical Electrodynamics, 3rd ed., 4.4 and 10.1).
+  const double x = 1e-3, tol = 1e-5;  // next order is O(x^2) = 1e-6
+  const MieLog p = mie_imaginary(FieldKind::kElectromagnetic, true, x, 0, 2);
+  EXPECT_NEAR(p.sign_tm[1] * std::exp(p.log_abs_tm[1]) / std::pow(x, 3), 2.0 / 3.0, tol);
+  EXPECT_NEAR(p.sign_te[1] * std::exp(p.log_abs_te[1]) / std::pow(x, 3), -1.0 / 3.0, tol);
+  const double eps = 4.0;
+  const MieLog d = mie_imaginary(FieldKind::kElectromagnetic, false, x, std::sqrt(eps), 2);
+  EXPECT_NEAR(d.sign_tm[1] * std::exp(d.log_abs_tm[1]) / std::pow(x, 3),
+              2.0 / 3.0 * (eps - 1) / (eps + 2), tol);
+}
+
+TEST(SpherePlate, PecLargeDistanceEnergyApproachesCasimirPolder) {
+  // T = 0, D >> R: E -> -9 hbar c R^3 / (16 pi D^4) (Casimir & Polder, Phys. Rev. 73, 360 (1948)
+  // with alpha_E = R^3, alpha_M = -R^3/2). The deviation must fall like (R/D)^2 (next multipole
+  // order; measured coefficient ~1.5), checked between D = 21 R and 51 R.
+  FrequencyRuleOptions fo;
+  fo.rel_tol = 1e-8;
+  double scaled[2];
+  int i = 0;
+  for (double d_over_r : {21.0, 51.0}) {
+    const double D = d_over_r * kR, gap = D - kR;
+    const auto g = make_sphere_plate(pec(1e-8));
+    const auto sum = sum_over_frequencies(
+        [&](double xi) { return g->at_frequency(xi, gap, DerivativeOrder::kEnergy); },
+        g->frequency_scale(gap), fo);
+    const double cp = -9 * kHbarC * std::pow(kR, 3) / (16 * kPi * std::pow(D, 4));
+    scaled[i++] = (sum.total.value / cp - 1) * d_over_r * d_over_r;
+    EXPECT_NEAR(sum.total.value / cp, 1.0, 2.0 / (d_over_r * d_over_r));
+  }
+  EXPECT_NEAR(scaled[1] / scaled[0], 1.0, 0.1);
+}
+
+// Central differences in L of a single-frequency s(xi, L) with fixed truncation. Step h = 1e-4 L:
+// truncation error ~h^2 s''' ~ 1e-8 relative, rounding ~1e-16/1e-4 ~ 1e-12.
+void check_derivatives(SpherePlateOptions o, double xi, double gap) {
+  o.l_max = 40;
+  o.m_max = 40;
+  const auto g = make_sphere_plate(o);
+  const double h = 1e-4 * gap;
+  const Spectral c = g->at_frequency(xi, gap, DerivativeOrder::kGradient);
+  const Spectral p = g->at_frequency(xi, gap + h, DerivativeOrder::kForce);
+  const Spectral m = g->at_frequency(xi, gap - h, DerivativeOrder::kForce);
+  EXPECT_NEAR((p.value - m.value) / (2 * h) / c.d1, 1.0, 1e-7) << "xi = " << xi;
+  EXPECT_NEAR((p.d1 - m.d1) / (2 * h) / c.d2, 1.0, 1e-7) << "xi = " << xi;
+}
+
+TEST(SpherePlate, LDerivativesMatchFiniteDifferences) {
+  const double gap = 0.3 * kR, xi_c = kSpeedOfLight / (2 * gap);
+  for (double xi : {0.0, 0.3 * xi_c, 3.0 * xi_c}) {
+    check_derivatives(drude(1e-6), xi, gap);
+    check_derivatives(scalar(FieldKind::kNeumann, 1e-6), xi, gap);
+  }
+}
+
+TEST(SpherePlate, LmaxConvergesExponentially) {
+  // Common practice: multipole truncation errors fall exponentially, here like
+  // exp(-c l_max L/R) with c ~ 1.8 (measured). Successive differences (step 10 in l_max at
+  // L/R = 0.1) must shrink by a roughly constant factor between 3 and 20.
+  const double gap = 0.1 * kR, xi = 0.5 * kSpeedOfLight / (2 * gap);
+  double prev = 0, prev_diff = 0;
+  for (int lmax = 30; lmax <= 80; lmax += 10) {
+    SpherePlateOptions o = pec(1e-9);
+    o.l_max = lmax;
+    const double s = make_sphere_plate(o)->at_frequency(xi, gap, DerivativeOrder::kEnergy).value;
+    const double diff = std::abs(s - prev);
+    if (lmax >= 50) {
+      EXPECT_GT(prev_diff / diff, 3.0) << "l_max = " << lmax;
+      EXPECT_LT(prev_diff / diff, 20.0) << "l_max = " << lmax;
+    }
+    prev_diff = diff;
+    prev = s;
+  }
+}
+
+TEST(SpherePlate, ResultDoesNotDependOnThreadCount) {
+  const double gap = 0.2 * kR, xi = kSpeedOfLight / (2 * gap);
+  const auto g = make_sphere_plate(drude(1e-6));
+  omp_set_num_threads(1);
+  const Spectral one = g->at_frequency(xi, gap, DerivativeOrder::kGradient);
+  omp_set_num_threads(2);
+  const Spectral two = g->at_frequency(xi, gap, DerivativeOrder::kGradient);
+  EXPECT_EQ(one.value, two.value);
+  EXPECT_EQ(one.d1, two.d1);
+  EXPECT_EQ(one.d2, two.d2);
+}
+
+TEST(SpherePlate, DirichletPfaCoefficientIsOneThird) {
+  // T = 0 Dirichlet: E/E_PFA = 1 + theta x + O(x^2), x = L/R, theta_D = 1/3 (Bordag, J. Phys. A
+  // 39, 6173 (2006); Bimonte, Emig, Jaffe, Kardar, EPL 97, 50001 (2012)). Three gaps,
+  // fitted with theta x + theta2 x^2 + theta3 x^3 (exact through the 3 points); the omitted
+  // terms (x^3 ln x and beyond) at x <= 0.1 shift theta by a few 1e-3.
+  FrequencyRuleOptions fo;
+  fo.rel_tol = 1e-7;
+  const double xs[3] = {0.1, 0.05, 0.025};
+  double y[3];
+  for (int i = 0; i < 3; ++i) {
+    const double gap = xs[i] * kR;
+    const auto g = make_sphere_plate(scalar(FieldKind::kDirichlet, 1e-7));
+    const auto sum = sum_over_frequencies(
+        [&](double xi) { return g->at_frequency(xi, gap, DerivativeOrder::kEnergy); },
+        g->frequency_scale(gap), fo);
+    const double e_pfa = -std::pow(kPi, 3) * kHbarC * kR / (1440 * gap * gap);  // half of EM PEC
+    y[i] = (sum.total.value / e_pfa - 1) / xs[i];  // = theta + theta2 x + theta3 x^2
+  }
+  // Quadratic through (x_i, y_i), evaluated at x = 0 (Lagrange).
+  double theta = 0;
+  for (int i = 0; i < 3; ++i) {
+    double w = 1;
+    for (int j = 0; j < 3; ++j)
+      if (j != i) w *= (0 - xs[j]) / (xs[i] - xs[j]);
+    theta += w * y[i];
+  }
+  RecordProperty("theta_D", std::to_string(theta));  // measured 0.33154
+  EXPECT_NEAR(theta, 1.0 / 3.0, 0.01);
+}
+
+}  // namespace
+}  // namespace roundtrip
