@@ -16,6 +16,7 @@
 
 #include <algorithm>
 #include <cmath>
+#include <limits>
 #include <stdexcept>
 
 #include "solver/constants.h"
@@ -184,7 +185,7 @@ FrequencySum zero_temperature(const SpectralFunction& f, double xi_scale,
     out.message = fmt::format(
         "T = 0 frequency quadrature did not reach rel_tol = {} with {} nodes (last change {:.3g} "
         "of the energy)",
-        opts.rel_tol, nodes.size(), std::abs(diff.value / out.total.value) * prefactor);
+        opts.rel_tol, nodes.size(), std::abs(prefactor * diff.value / out.total.value));
   else if (!all_finite(out.total))
     out.message = "T = 0 frequency quadrature produced a non-finite value";
   return out;
@@ -211,19 +212,18 @@ FrequencySum matsubara(const SpectralFunction& f, const FrequencyRuleOptions& op
     out.total = total.value();
     out.terms.push_back(term);
     if (!all_finite(contrib)) break;
-    // Geometric tail from the ratio of the last two terms (all components).
+    // Geometric tail from the ratio of the last two terms (all components); infinite when the
+    // terms do not (yet) fall.
     bool tail_ok = n >= 2;
-    double tail_value = 0.0;
-    for (int c = 0; c < 3 && tail_ok; ++c) {
+    double tail_value = std::numeric_limits<double>::infinity();
+    for (int c = 0; c < 3; ++c) {
       const double a = std::abs(component(contrib, c));
       const double b = std::abs(component(last, c));
-      if (a == 0.0) continue;
-      const double ratio = a / b;
-      if (!(ratio < 1.0)) {
-        tail_ok = false;
-        break;
+      double est = 0.0;
+      if (a > 0.0) {
+        const double ratio = a / b;
+        est = ratio < 1.0 ? a * ratio / (1.0 - ratio) : std::numeric_limits<double>::infinity();
       }
-      const double est = a * ratio / (1.0 - ratio);
       if (!(est <= opts.rel_tol * component(abs_total, c))) tail_ok = false;
       if (c == 0) tail_value = est;
     }
