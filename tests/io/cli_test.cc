@@ -308,4 +308,44 @@ TEST_F(Cli, ReducedGoldPlatesDemoRunsAndWritesItsFile) {
     EXPECT_NE(dump.find(s), std::string::npos) << s;
 }
 
+// The reduced AFM demo: cases/sphere_plate_afm.toml at its two largest-gap settings and a
+// looser tolerance (the full case takes about a minute). Checks the PFA columns and datasets.
+TEST_F(Cli, ReducedSpherePlateDemoWritesPfaRatiosAndTruncations) {
+  const std::string demo =
+      slurp(fs::path(ROUNDTRIP_SOURCE_DIR) / "cases" / "sphere_plate_afm.toml");
+  ASSERT_FALSE(demo.empty());
+  std::string reduced = replaced(demo, "from = \"200 nm\"", "from = \"700 nm\"");
+  reduced = replaced(reduced, "count = 5", "count = 2");
+  reduced = replaced(reduced, "rel_tol = 1e-4", "rel_tol = 1e-3");
+  write("afm.toml", reduced);
+  const Outcome o = cli("run afm.toml --quiet");
+  ASSERT_EQ(o.status, 0) << o.err;
+  // Lines the case's opening comment shows that do not depend on the gaps or the tolerance.
+  for (const char* line : {"#   Quillfeather AFM session Q-17", "#   sphere of gold-drude",
+                           "#   gap [nm]          E [J]          F [N]      F′ [N/m]   E/E_PFA"}) {
+    const auto at = demo.find(line);
+    ASSERT_NE(at, std::string::npos) << line;
+    const std::string shown = demo.substr(at + 4, demo.find('\n', at) - at - 4);
+    EXPECT_NE(o.out.find(shown + "\n"), std::string::npos) << shown << "\n" << o.out;
+  }
+  write("read.py", R"PY(import h5py, math
+f = h5py.File("sphere_plate_afm.h5", "r")
+r = f["results"]
+assert f.attrs["geometry"] == "sphere-plate" and int(f.attrs["per_area"]) == 0
+for q in ["energy", "force", "gradient"]:
+    for i in range(2):
+        ratio = r[q][i] / r[q + "_pfa"][i]
+        assert abs(ratio - r[q + "_ratio"][i]) < 1e-12 * abs(ratio), q
+assert r["energy"].attrs["units"] == "J" and r["force"].attrs["units"] == "N"
+assert r["gradient"].attrs["units"] == "N/m"
+lmax = r["truncation/l_max"][:]
+assert len(lmax) == 2 and all(l >= 1 and l == int(l) for l in lmax), lmax
+print("OK")
+)PY");
+  const std::string cmd =
+      fmt::format("cd '{}' && /usr/bin/python3 read.py > py.txt 2>&1", dir_.string());
+  EXPECT_EQ(std::system(cmd.c_str()), 0) << slurp(dir_ / "py.txt");
+  EXPECT_EQ(slurp(dir_ / "py.txt"), "OK\n");
+}
+
 }  // namespace
