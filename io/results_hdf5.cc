@@ -4,6 +4,7 @@
 #include <fmt/format.h>
 #include <unistd.h>
 
+#include <algorithm>
 #include <chrono>
 #include <cmath>
 #include <ctime>
@@ -17,6 +18,10 @@
 
 namespace roundtrip::io {
 namespace {
+
+// The live writer's temporary path, for remove_pending_results_file() (a fixed buffer: signal
+// handlers may not allocate).
+char g_pending_path[4096] = {0};
 
 H5::StrType utf8_string_type() {
   H5::StrType t(H5::PredType::C_S1, H5T_VARIABLE);
@@ -220,6 +225,12 @@ ResultsWriter::ResultsWriter(std::filesystem::path final_path, std::string field
     throw fail(fmt::format("directory \"{}\" does not exist", dir.string()));
   temp_ = final_;
   temp_ += fmt::format(".tmp.{}", static_cast<long>(getpid()));
+  const std::string t = temp_.string();
+  if (t.size() < sizeof g_pending_path) {
+    g_pending_path[0] = '\0';
+    std::copy(t.begin(), t.end(), g_pending_path);
+    g_pending_path[t.size()] = '\0';
+  }
   H5::Exception::dontPrint();
   try {
     H5::H5File probe(temp_.string(), H5F_ACC_TRUNC);
@@ -231,7 +242,12 @@ ResultsWriter::ResultsWriter(std::filesystem::path final_path, std::string field
   }
 }
 
+void remove_pending_results_file() noexcept {
+  if (g_pending_path[0] != '\0') unlink(g_pending_path);
+}
+
 ResultsWriter::~ResultsWriter() {
+  g_pending_path[0] = '\0';
   if (!committed_) {
     std::error_code ec;
     std::filesystem::remove(temp_, ec);
@@ -253,6 +269,7 @@ void ResultsWriter::commit(const RunResult& result, const ResultsInfo& info) {
     throw CaseError(fmt::format("{} = \"{}\": could not move the finished file into place: {}",
                                 field_, final_.string(), ec.message()));
   committed_ = true;
+  g_pending_path[0] = '\0';
 }
 
 }  // namespace roundtrip::io

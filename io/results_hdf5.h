@@ -51,6 +51,10 @@ class ResultsWriter {
   bool committed_ = false;
 };
 
+/// Async-signal-safe: unlink the temporary file of the writer that is alive, if any. For SIGINT
+/// and SIGTERM handlers, so that an interrupted run leaves nothing behind.
+void remove_pending_results_file() noexcept;
+
 /// Current time as ISO 8601 UTC, e.g. "2026-12-01T18:40:00Z".
 std::string iso8601_utc_now();
 

@@ -2,6 +2,7 @@
 
 #include <fmt/format.h>
 #include <fmt/ostream.h>
+#include <omp.h>
 
 #include <algorithm>
 #include <chrono>
@@ -144,7 +145,10 @@ int run_command(const RunArgs& args, std::ostream& out, std::ostream& err) {
           std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
       err << fmt::format("roundtrip: gap {} of {} done ({:.1f} s)\n", done, total, s) << std::flush;
     };
-  const RunResult result = run_sweep(*geometry, spec.gaps, opts);
+  // Geometries that parallelise inside (sphere-plate) use the OpenMP default team size.
+  if (args.threads > 0) omp_set_num_threads(args.threads);
+  RunResult result = run_sweep(*geometry, spec.gaps, opts);
+  if (geometry->parallel_inside()) result.threads = omp_get_max_threads();
 
   print_results(spec, result, out);
   ResultsInfo info;

@@ -1,15 +1,28 @@
 // roundtrip command-line program: option parsing only; the commands live in io/cli/commands.cc.
 #include <CLI/CLI.hpp>
+#include <csignal>
 #include <exception>
 #include <iostream>
 #include <string>
 
 #include "io/cli/commands.h"
 #include "io/errors.h"
+#include "io/results_hdf5.h"
 
 namespace cli = roundtrip::io::cli;
 
+namespace {
+// An interrupted run removes its temporary results file, then dies of the same signal.
+extern "C" void on_terminate(int sig) {
+  roundtrip::io::remove_pending_results_file();
+  std::signal(sig, SIG_DFL);
+  std::raise(sig);
+}
+}  // namespace
+
 int main(int argc, char** argv) {
+  std::signal(SIGINT, on_terminate);
+  std::signal(SIGTERM, on_terminate);
   CLI::App app{
       "roundtrip computes Casimir (fluctuation-induced) energies, forces and force gradients\n"
       "between bodies made of real materials at any temperature, and compares them with the\n"

@@ -348,4 +348,19 @@ print("OK")
   EXPECT_EQ(slurp(dir_ / "py.txt"), "OK\n");
 }
 
+// Ctrl-C (SIGINT) during a long run: the process dies of the signal and removes its temporary
+// results file; nothing is left at the final path or beside it.
+TEST_F(Cli, InterruptedRunLeavesNoFile) {
+  const std::string demo =
+      slurp(fs::path(ROUNDTRIP_SOURCE_DIR) / "cases" / "sphere_plate_afm.toml");
+  write("long.toml", demo);  // about 40 s: certainly still running after the pause below
+  const std::string cmd = fmt::format(
+      "cd '{}' && ('{}' run long.toml --quiet -o long.h5 > out.txt 2> err.txt & pid=$!; "
+      "sleep 1; kill -INT $pid; wait $pid; echo $? > status.txt)",
+      dir_.string(), ROUNDTRIP_CLI);
+  ASSERT_EQ(std::system(cmd.c_str()), 0);
+  EXPECT_EQ(slurp(dir_ / "status.txt"), "130\n") << "128 + SIGINT expected";
+  EXPECT_FALSE(any_h5());
+}
+
 }  // namespace
