@@ -174,6 +174,8 @@ int run_command(const RunArgs& args, std::ostream& out, std::ostream& err) {
 
 int check_command(const std::string& case_path, std::ostream& out) {
   const CaseSpec spec = load_case(case_path);
+  const OutputChoice where = choose_output(RunArgs{}, spec);
+  { ResultsWriter probe(where.path, where.field); }  // same early check as `run`; leaves nothing
   std::string geometry_line;
   std::string not_built;
   try {
@@ -214,8 +216,8 @@ int check_command(const std::string& case_path, std::ostream& out) {
   row("temperature", rule_sentence(spec));
   row("rel_tol", fmt::format("{}", spec.frequency.rel_tol));
   row("quantities", quantities_text(spec.quantities));
-  row("output", spec.output_file.empty() ? fs::path(spec.path).stem().string() + ".h5 (default)"
-                                         : spec.output_file);
+  row("output",
+      where.path.string() + (spec.output_file.empty() ? " (default)" : "") + ", writable");
   if (!not_built.empty()) row("note", "`roundtrip run` will fail: " + not_built);
   out << "nothing was computed (check only)\n";
   return kExitOk;
