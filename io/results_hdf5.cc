@@ -220,6 +220,10 @@ ResultsWriter::ResultsWriter(std::filesystem::path final_path, std::string field
   if (final_.empty()) throw fail("empty path");
   std::error_code ec;
   if (std::filesystem::is_directory(final_, ec)) throw fail("it is a directory");
+  H5::Exception::dontPrint();
+  // Never clobber something else (a typo such as `-o case.toml`): only HDF5 files are replaced.
+  if (std::filesystem::exists(final_, ec) && !H5::H5File::isHdf5(final_.string()))
+    throw fail("a file that is not HDF5 exists there; not overwriting it");
   const auto dir = final_.has_parent_path() ? final_.parent_path() : std::filesystem::path(".");
   if (!std::filesystem::is_directory(dir, ec))
     throw fail(fmt::format("directory \"{}\" does not exist", dir.string()));

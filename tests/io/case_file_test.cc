@@ -103,3 +103,28 @@ temperature = "0 K"
 
 }  // namespace
 }  // namespace roundtrip::io
+
+namespace roundtrip::geometry {
+namespace {
+
+// The plain-C++ configuration check gives the same verdicts as the case-file parser.
+TEST(Configuration, ValidateNamesTheFirstBadGapOrRadius) {
+  Configuration c;
+  c.gaps = {1e-7, 0.0};
+  EXPECT_NE(c.validate().find("gaps[1]"), std::string::npos) << c.validate();
+  c.gaps = {1e-7, std::nan("")};
+  EXPECT_NE(c.validate().find("finite"), std::string::npos) << c.validate();
+  c.gaps = {1e-7};
+  EXPECT_EQ(c.validate(), "");
+  c.kind = ConfigurationKind::kSpherePlate;
+  EXPECT_NE(c.validate().find("sphere: missing"), std::string::npos) << c.validate();
+  c.sphere = SphereBody{-1e-6};
+  EXPECT_NE(c.validate().find("sphere.radius"), std::string::npos) << c.validate();
+  c.sphere = SphereBody{1e-6};
+  EXPECT_EQ(c.validate(), "");
+  EXPECT_EQ(configuration_kind_from_string("sphere-plate"), ConfigurationKind::kSpherePlate);
+  EXPECT_FALSE(configuration_kind_from_string("sphere-sphere").has_value());
+}
+
+}  // namespace
+}  // namespace roundtrip::geometry

@@ -133,6 +133,14 @@ TEST(ResultsHdf5, UnwritablePathFailsBeforeComputing) {
   const std::string missing = message(dir / "no_such_dir" / "run.h5");
   EXPECT_NE(missing.find("output.file"), std::string::npos) << missing;
   EXPECT_NE(missing.find("does not exist"), std::string::npos) << missing;
+  std::ofstream(dir / "case.toml") << "title = \"keep me\"\n";
+  const std::string not_hdf5 = message(dir / "case.toml");
+  EXPECT_NE(not_hdf5.find("not overwriting it"), std::string::npos) << not_hdf5;
+  std::ifstream kept(dir / "case.toml");
+  std::string first;
+  std::getline(kept, first);
+  EXPECT_EQ(first, "title = \"keep me\"");
+  fs::remove(dir / "case.toml");
   const std::string is_dir = message(dir);
   EXPECT_NE(is_dir.find("is a directory"), std::string::npos) << is_dir;
   EXPECT_TRUE(fs::is_empty(dir));
