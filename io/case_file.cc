@@ -48,6 +48,13 @@ CaseError table_error(const toml::table& t, const std::string& field, const std:
   return CaseError(fmt::format("{}{}{}: {}", where, where.empty() ? "" : ": ", field, what));
 }
 
+// A whole-file error (missing top-level table): "<file>: <field>: <what>", no line to point at.
+CaseError root_error(const toml::table& root, const std::string& field, const std::string& what) {
+  const auto& path = root.source().path;
+  const std::string file = path ? *path : std::string();
+  return CaseError(fmt::format("{}{}{}: {}", file, file.empty() ? "" : ": ", field, what));
+}
+
 void check_keys(const toml::table& t, const std::string& prefix,
                 const std::vector<std::string>& allowed) {
   for (const auto& [key, node] : t) {
@@ -70,7 +77,7 @@ const toml::table& required_table(const toml::table& root, const toml::table& pa
                                   std::string_view key, const std::string& field,
                                   const std::string& why) {
   if (const auto* t = optional_table(parent, key, field)) return *t;
-  throw table_error(root, field, fmt::format("missing table [{}] ({})", field, why));
+  throw root_error(root, field, fmt::format("missing table [{}] ({})", field, why));
 }
 
 std::optional<std::string> optional_string(const toml::table& t, std::string_view key,
@@ -293,7 +300,7 @@ CaseSpec parse_case(std::string text, const std::filesystem::path& path) {
   };
   const toml::table* plate = optional_table(root, "plate", "plate");
   if (plate == nullptr && electromagnetic)
-    throw table_error(root, "plate", "missing table [plate] (e.g. material = \"gold-drude\")");
+    throw root_error(root, "plate", "missing table [plate] (e.g. material = \"gold-drude\")");
   if (plate != nullptr) spec.plate = plate_from(*plate, "plate");
   if (const toml::table* p2 = optional_table(root, "plate2", "plate2")) {
     if (sphere_plate)
@@ -317,7 +324,7 @@ CaseSpec parse_case(std::string text, const std::filesystem::path& path) {
       throw table_error(*s, "sphere.material", "missing required key (e.g. \"gold-drude\")");
     }
   } else if (sphere_plate) {
-    throw table_error(root, "sphere", "missing table [sphere] (radius and material)");
+    throw root_error(root, "sphere", "missing table [sphere] (radius and material)");
   }
   if (const toml::table* m = optional_table(root, "medium", "medium")) {
     check_keys(*m, "medium", {"material"});
