@@ -5,7 +5,16 @@
 // of a user table [materials.NAME] in the case file. A plate is a TOML table:
 //   { material = "gold-drude" }                                     half-space
 //   { material = "silicon", layers = [ { material = "gold-drude", thickness = "100 nm" } ] }
-// (layers listed from the gap side down to the substrate `material`).
+// (layers listed from the gap side down to the substrate `material`), or a hydrodynamic nonlocal
+// metal (solver/planar/hydrodynamic.h), beta from v_F by beta^2 = (3/5) v_F^2 unless
+// regime = "low-frequency" (1/3):
+//   { material = "gold-drude", nonlocal = { model = "hydrodynamic", fermi_velocity = "1.40e6 m/s" } }
+//   { material = "gold-drude", nonlocal = { model = "hydrodynamic", beta = "1.08e6 m/s" } }
+// User materials [materials.NAME]: model = "drude" | "plasma" | "constant" | "oscillators" |
+// "drude-lorentz" | "generalized-plasma" | "perfect-conductor" | "table", parameters
+// plasma_frequency, damping (frequency unit strings, io/units.h), eps, eps_inf (numbers),
+// oscillators = [{strength, frequency, damping}], file / low_frequency for tables
+// (solver/materials/tabulated.h), optional source = "citation". Unknown keys are errors.
 #include <filesystem>
 #include <map>
 #include <string>
@@ -20,7 +29,8 @@ namespace roundtrip::io {
 /// Materials known to one case: built-ins plus the case's [materials.*] tables.
 class MaterialResolver {
  public:
-  /// `user` may be null (no [materials] table). `case_dir` anchors relative table paths.
+  /// `user` may be null (no [materials] table). `case_dir` anchors relative table paths. Every
+  /// user material is built here, so errors in unused definitions surface too (CaseError).
   MaterialResolver(const toml::table* user, std::filesystem::path case_dir);
   /// Throws CaseError (io/errors.h) naming `field` and the unknown or malformed value.
   MaterialPtr get(const std::string& name, const std::string& field) const;
