@@ -49,6 +49,40 @@ TEST(Layered, SingleFilmMatchesAiryFormula) {
     }
 }
 
+// Independent reference: surface admittance Y = F'/(w F) carried up from the substrate
+// (F = E_y, w = 1 for TE; F = H_y, w = eps for TM; continuity of F and F'/w; standard, e.g.
+// Born & Wolf, Principles of Optics, §1.6). In a layer F = a e^{-kappa u} + b e^{kappa u}, so
+// rho = (b/a) e^{2 kappa u} = (1 + wY/kappa)/(1 - wY/kappa) and rho(top) = rho(bottom) e^{-2 kappa
+// t}; in the medium r = rho(0).
+double admittance_reflection(const std::vector<Layer>& layers, const Material& substrate, double xi,
+                             double k, bool tm) {
+  const auto w = [&](const Material& m) { return tm ? m.epsilon(xi) : 1.0; };
+  double Y = -kappa(substrate, xi, k) / w(substrate);
+  for (std::size_t j = layers.size(); j-- > 0;) {
+    const Material& m = *layers[j].material;
+    const double kj = kappa(m, xi, k), x = w(m) * Y / kj;
+    const double rho = (1 + x) / (1 - x) * std::exp(-2 * kj * layers[j].thickness);
+    Y = kj / w(m) * (rho - 1) / (rho + 1);
+  }
+  const double x = w(*kVacuum) * Y / kappa(*kVacuum, xi, k);
+  return (1 + x) / (1 - x);
+}
+
+TEST(Layered, FourLayerStackMatchesAdmittanceMethod) {
+  const std::vector<Layer> layers = {{builtin_material("silica"), 7e-9},
+                                     {builtin_material("gold-drude"), 12e-9},
+                                     {builtin_material("water"), 30e-9},
+                                     {builtin_material("polystyrene"), 55e-9}};
+  const MaterialPtr si = builtin_material("silicon");
+  constexpr double kMethodsAgree = 1e-12;  // two exact forms, rounding only
+  for (double xi : kXis)
+    for (double k : {1e5, 1e6, 1e7, 1e8}) {
+      const Reflection r = stack(layers, si, xi, k);
+      EXPECT_NEAR(r.te, admittance_reflection(layers, *si, xi, k, false), kMethodsAgree);
+      EXPECT_NEAR(r.tm, admittance_reflection(layers, *si, xi, k, true), kMethodsAgree);
+    }
+}
+
 TEST(Layered, ThickFilmTendsToFilmHalfSpace) {
   // |R - r12| <= e/(1 - e), e = e^{-2 kappa_2 t}, since |r| <= 1 (derived from the Airy formula).
   const MaterialPtr silica = builtin_material("silica"), au = builtin_material("gold-drude");
