@@ -207,7 +207,12 @@ MaterialPtr build_user(const std::string& name, const toml::table& t, const std:
     }
     if (!std::filesystem::exists(file))
       throw error_at(fnode, fld("file"), fmt::format("no such file: {}", file.string()));
-    OpticalData data = read_optical_csv(file);  // CaseError with file:line
+    OpticalData data;
+    try {
+      data = read_optical_csv(file);  // CaseError with the table's file:line
+    } catch (const CaseError& e) {
+      throw error_at(fnode, fld("file"), e.what());
+    }
     try {
       return std::make_shared<TabulatedMaterial>(name, std::move(data), o, source);
     } catch (const std::invalid_argument& e) {

@@ -5,6 +5,7 @@
 #include <gtest/gtest.h>
 
 #include <cmath>
+#include <fstream>
 #include <string>
 
 #include "io/errors.h"
@@ -159,6 +160,12 @@ TEST(MaterialSpec, MalformedMaterialsNameFieldValueAndLine) {
   expect_case_error(
       "[materials.m]\nmodel = \"table\"\nfile = \"cases/data/example-glass-like-eps.csv\"\n",
       {"materials.m.file", "Drude"});  // a dielectric table cannot take the Drude fit
+  {
+    const auto bad = std::filesystem::temp_directory_path() / "roundtrip_spec_bad.csv";
+    std::ofstream(bad) << "energy_eV,n,k\n1,1,1\n2,1,1\n1.5,1,1\n3,1,1\n";
+    expect_case_error("[materials.m]\nmodel = \"table\"\nfile = \"" + bad.string() + "\"\n",
+                      {"materials.m.file", bad.string() + ":4:", "monotone"});
+  }
   expect_case_error("[materials.gold-drude]\nmodel = \"constant\"\neps = 2\n",
                     {"materials.gold-drude", "built-in"});
   expect_case_error("", {"plates.a.material", "unobtainium", "gold-drude"}, "unobtainium");
