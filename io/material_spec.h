@@ -8,8 +8,9 @@
 // (layers listed from the gap side down to the substrate `material`), or a hydrodynamic nonlocal
 // metal (solver/planar/hydrodynamic.h), beta from v_F by beta^2 = (3/5) v_F^2 unless
 // regime = "low-frequency" (1/3):
-//   { material = "gold-drude", nonlocal = { model = "hydrodynamic", fermi_velocity = "1.40e6 m/s" }
-//   } { material = "gold-drude", nonlocal = { model = "hydrodynamic", beta = "1.08e6 m/s" } }
+//   { material = "gold-drude",
+//     nonlocal = { model = "hydrodynamic", fermi_velocity = "1.40e6 m/s" } }
+//   { material = "gold-drude", nonlocal = { model = "hydrodynamic", beta = "1.08e6 m/s" } }
 // User materials [materials.NAME]: model = "drude" | "plasma" | "constant" | "oscillators" |
 // "drude-lorentz" | "generalized-plasma" | "perfect-conductor" | "table", parameters
 // plasma_frequency, damping (frequency unit strings, io/units.h), eps, eps_inf (numbers),
