@@ -68,9 +68,10 @@ std::string DrudeLorentz::description() const {
   if (p_.eps_inf != 1.0 &&
       (p_.plasma_frequency > 0.0 || !p_.oscillators.empty() || !p_.relaxations.empty()))
     s += fmt::format(", eps_inf = {:.6g}", p_.eps_inf);
-  for (const auto& o : p_.oscillators)
-    s += fmt::format(", C = {:.6g} at {:.6g} rad/s (damping {:.6g} rad/s)", o.strength, o.frequency,
-                     o.damping);
+  for (const auto& o : p_.oscillators) {
+    s += fmt::format(", C = {:.6g} at {:.6g} rad/s", o.strength, o.frequency);
+    if (o.damping > 0.0) s += fmt::format(" (damping {:.6g} rad/s)", o.damping);
+  }
   for (const auto& r : p_.relaxations)
     s += fmt::format(", Debye d = {:.6g} at rate {:.6g} rad/s", r.strength, r.rate);
   return s;
