@@ -4,9 +4,9 @@
 // exponential exp-sinh substitution u = exp((pi/2) sinh t) and the trapezoidal rule in t
 // (Takahasi & Mori, Publ. RIMS 9, 721 (1974)): nodes are nested (the step h halves at each level),
 // deterministic, and cope with the square-root-like structure that Drude TE terms give near
-// xi = 0. Convergence: the change between the last two levels is below rel_tol, or the rule is
-// visibly in its asymptotic regime, where the error roughly squares per halving, and the
-// predicted error is below rel_tol / 100 (details at the test below).
+// xi = 0. Convergence: the change between the last two levels, relative to \int |s|, is below
+// rel_tol for value and derivatives. That change is also the reported error; it is usually far
+// larger than the true error of the finer level (which roughly squares per halving).
 //
 // T > 0: E = k_B T \sum'_{n>=0} s(xi_n), xi_n = 2 pi n k_B T / hbar, n = 0 weighted 1/2 (Lifshitz;
 // e.g. Bordag, Mohideen, Mostepanenko, Phys. Rep. 353, 1 (2001)). The tail after the last term is
@@ -50,14 +50,6 @@ namespace {
 double component(const Spectral& s, int c) { return c == 0 ? s.value : (c == 1 ? s.d1 : s.d2); }
 
 Spectral abs(const Spectral& s) { return {std::abs(s.value), std::abs(s.d1), std::abs(s.d2)}; }
-
-// |a - b| <= tol |ref| for every component; ref is the sum of |terms| (equal to |a| when the
-// integrand keeps its sign), so that a sum that cancels to ~0 does not demand the impossible.
-bool agree(const Spectral& a, const Spectral& b, const Spectral& ref, double tol) {
-  for (int c = 0; c < 3; ++c)
-    if (!(std::abs(component(a, c) - component(b, c)) <= tol * component(ref, c))) return false;
-  return true;
-}
 
 // |x| <= tol |ref| for every component.
 bool negligible(const Spectral& x, const Spectral& ref, double tol) {
@@ -153,7 +145,7 @@ FrequencySum zero_temperature(const SpectralFunction& f, double xi_scale,
   Spectral previous = level_sum(nodes, h);
   bool converged = false;
   double error_estimate = 0.0;  // of the value, in units of the unscaled level sums
-  Spectral diff, last_rel{1.0, 1.0, 1.0};
+  Spectral diff;
   for (int level = 1; level <= kMaxLevel; ++level) {
     std::vector<DeNode> refined;
     refined.reserve(2 * nodes.size());
@@ -166,25 +158,17 @@ FrequencySum zero_temperature(const SpectralFunction& f, double xi_scale,
     const Spectral current = level_sum(nodes, h);
     const Spectral l1 = level_abs_sum(nodes, h);
     diff = {current.value - previous.value, current.d1 - previous.d1, current.d2 - previous.d2};
-    // Per component: r = |change| / \int |s|. Accept when r <= rel_tol, or when the predicted
-    // error of the finer level, r^p with p = ln r / ln r_prev clamped to [1, 2], is below
-    // rel_tol / 10 (the DE error falls like r_prev -> r -> r^p once asymptotic; Bailey,
-    // Jeyabalan & Li, Exp. Math. 14, 317 (2005)).
+    // Per component: r = |change| / \int |s|; accept when r <= rel_tol for all. (Accepting
+    // earlier on an error model, e.g. the error squaring per halving, was tried and rejected:
+    // lucky early drops made it accept errors 1e4 times the target.)
     bool ok = true;
     double est = 0.0;
-    Spectral rel;
     for (int c = 0; c < 3; ++c) {
       const double scale = component(l1, c);
       const double r = scale > 0.0 ? std::abs(component(diff, c)) / scale : 0.0;
-      (c == 0 ? rel.value : (c == 1 ? rel.d1 : rel.d2)) = r;
-      const double r_prev = component(last_rel, c);
-      double predicted = r;
-      if (r > 0.0 && r < r_prev && r_prev < 1.0)
-        predicted = std::pow(r, std::clamp(std::log(r) / std::log(r_prev), 1.0, 2.0));
-      if (!(r <= opts.rel_tol || predicted <= 0.1 * opts.rel_tol)) ok = false;
-      if (c == 0) est = std::min(r, 10.0 * predicted) * scale;
+      if (!(r <= opts.rel_tol)) ok = false;
+      if (c == 0) est = r * scale;
     }
-    last_rel = rel;
     previous = current;
     error_estimate = est;
     if (level >= kMinLevel && ok) {

@@ -3,6 +3,7 @@
 
 #include <gtest/gtest.h>
 
+#include <algorithm>
 #include <boost/math/quadrature/exp_sinh.hpp>
 #include <boost/math/quadrature/gauss_kronrod.hpp>
 #include <cmath>
@@ -11,6 +12,7 @@
 #include "solver/frequency/frequency_rule.h"
 #include "solver/materials/models.h"
 #include "solver/planar/planar.h"
+#include "solver/special/polylog.h"
 
 namespace roundtrip {
 namespace {
@@ -56,6 +58,28 @@ TEST(PlatePlate, PecEnergyAndPressureMatchCasimir1948) {
   }
   // The 5-digit values quoted in REFERENCES.md (their rounding: 5e-5 relative).
   EXPECT_NEAR(lifshitz(pp, 1e-6, 0.0, 1e-8).total.value / -4.3338e-10, 1.0, 5e-5);
+}
+
+TEST(PlatePlate, PecSpectrumMatchesPolylogClosedForm) {
+  // Ideal plates, q = xi/c, e = e^{-2qL} (derived by expanding ln(1 - e^{-2 kappa L})):
+  //   s = -(1/pi) [q/(2L) Li2(e) + Li3(e)/(4L^2)],
+  //   ds/dL = (2/pi) [q^2/(2L) Li1(e) + q/(2L^2) Li2(e) + Li3(e)/(4L^3)], Li1(e) = -ln(1-e).
+  // A dense grid in xi, from the static limit to where s has fallen by e^-200.
+  const PlatePlate pp = plates_of(make_perfect_conductor());
+  const double L = 100e-9;
+  constexpr double kTol = 1e-13;  // the k rule's default target; Li2, Li3 good to ~4e-15
+  double worst = 0.0;
+  for (double lu = -12.0; lu <= 2.0; lu += 0.0137) {
+    const double xi = std::pow(10.0, lu) * pp.frequency_scale(L);
+    const double q = xi / kSpeedOfLight, e = std::exp(-2.0 * q * L);
+    const double li1 = -std::log1p(-e), li2 = special::dilog(e), li3 = special::trilog(e);
+    const double s = -(q / (2.0 * L) * li2 + li3 / (4.0 * L * L)) / kPi;
+    const double ds =
+        2.0 / kPi * (q * q / (2.0 * L) * li1 + q / (2.0 * L * L) * li2 + li3 / (4.0 * L * L * L));
+    const Spectral r = pp.at_frequency(xi, L, DerivativeOrder::kForce);
+    worst = std::max({worst, std::abs(r.value / s - 1.0), std::abs(r.d1 / ds - 1.0)});
+  }
+  EXPECT_LT(worst, kTol);
 }
 
 // High-temperature checks at T = 300 K, L = 20 um: 2 xi_1 L / c = 32.9, so every n >= 1 term is
