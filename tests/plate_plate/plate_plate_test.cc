@@ -64,7 +64,7 @@ TEST(PlatePlate, PecSpectrumMatchesPolylogClosedForm) {
   // Ideal plates, q = xi/c, e = e^{-2qL} (derived by expanding ln(1 - e^{-2 kappa L})):
   //   s = -(1/pi) [q/(2L) Li2(e) + Li3(e)/(4L^2)],
   //   ds/dL = (2/pi) [q^2/(2L) Li1(e) + q/(2L^2) Li2(e) + Li3(e)/(4L^3)], Li1(e) = -ln(1-e).
-  // A dense grid in xi, from the static limit to where s has fallen by e^-200.
+  // A dense grid in xi, from the static limit to where s has fallen by e^-100.
   const PlatePlate pp = plates_of(make_perfect_conductor());
   const double L = 100e-9;
   constexpr double kTol = 1e-13;  // the k rule's default target; Li2, Li3 good to ~4e-15
