@@ -277,16 +277,13 @@ PlanarPtr planar_from_toml(const toml::table& plate, const std::string& field,
   MaterialPtr substrate = material_at(plate, field, materials);
   const auto* ln = plate.get("layers");
   const auto* nn = plate.get("nonlocal");
-  if (ln != nullptr && nn != nullptr)
-    throw error_at(*nn, field + ".nonlocal",
-                   "a nonlocal substrate under layers is not supported; use a local substrate");
+  std::vector<Layer> layers;
   if (ln != nullptr) {
     const auto* arr = ln->as_array();
     if (arr == nullptr)
       throw error_at(*ln, field + ".layers",
                      "expected an array of tables, e.g. [{material = \"gold-drude\", thickness = "
                      "\"100 nm\"}]");
-    std::vector<Layer> layers;
     for (std::size_t i = 0; i < arr->size(); ++i) {
       const std::string f = fmt::format("{}.layers[{}]", field, i);
       const auto* t = (*arr)[i].as_table();
@@ -299,7 +296,7 @@ PlanarPtr planar_from_toml(const toml::table& plate, const std::string& field,
       if (!(l.thickness > 0.0)) throw error_at(tn, f + ".thickness", "must be > 0");
       layers.push_back(std::move(l));
     }
-    return make_layered(std::move(layers), substrate);
+    if (nn == nullptr) return make_layered(std::move(layers), substrate);
   }
   if (nn != nullptr) {
     const std::string f = field + ".nonlocal";
@@ -334,7 +331,7 @@ PlanarPtr planar_from_toml(const toml::table& plate, const std::string& field,
       beta = hydrodynamic_beta(speed(*vn, f + ".fermi_velocity"), regime);
     }
     try {
-      return make_hydrodynamic(substrate, beta);
+      return make_layered_on_hydrodynamic(std::move(layers), substrate, beta);
     } catch (const std::invalid_argument& e) {
       throw error_at(required(plate, "material", field), field + ".material", e.what());
     }

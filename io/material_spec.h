@@ -11,6 +11,7 @@
 //   { material = "gold-drude",
 //     nonlocal = { model = "hydrodynamic", fermi_velocity = "1.40e6 m/s" } }
 //   { material = "gold-drude", nonlocal = { model = "hydrodynamic", beta = "1.08e6 m/s" } }
+// (`layers` and `nonlocal` together: local films on the nonlocal substrate).
 // User materials [materials.NAME]: model = "drude" | "plasma" | "constant" | "oscillators" |
 // "drude-lorentz" | "generalized-plasma" | "perfect-conductor" | "table", parameters
 // plasma_frequency, damping (frequency unit strings, io/units.h), eps, eps_inf (numbers),

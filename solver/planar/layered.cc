@@ -7,6 +7,7 @@
 #include <stdexcept>
 
 #include "solver/constants.h"
+#include "solver/planar/hydrodynamic.h"
 
 namespace roundtrip {
 namespace {
@@ -22,8 +23,10 @@ struct Slab {
 
 class LayeredAt final : public PlanarAtFrequency {
  public:
+  // `body`, if not null, replaces the local substrate's reflection wherever the substrate is seen
+  // (a nonlocal half-space of `substrate`); static TE stays local (nonlocality is TM-only).
   LayeredAt(double xi, const std::vector<Layer>& layers, const Material& substrate,
-            const Material& medium) {
+            const Material& medium, const PlanarSurface* body) {
     const double q2 = (xi / kSpeedOfLight) * (xi / kSpeedOfLight);
     std::vector<const Material*> mats;
     std::vector<double> thick;
@@ -50,6 +53,7 @@ class LayeredAt final : public PlanarAtFrequency {
         if (s.pec) break;
       }
       tm_ = te_;
+      bind_body(xi, body, mats);
       return;
     }
     // xi = 0: static limits (layered.h), kappa = k in the (dielectric) medium.
@@ -78,15 +82,27 @@ class LayeredAt final : public PlanarAtFrequency {
         tm_.push_back(t);
       }
     }
+    bind_body(xi, body, mats);
   }
 
   Reflection reflect(double k) const override {
-    return {recurse(te_, k, false), recurse(tm_, k, true)};
+    Reflection b;
+    if (bottom_) b = bottom_->reflect(k);
+    return {recurse(te_, k, false, body_te_ ? &b.te : nullptr),
+            recurse(tm_, k, true, body_tm_ ? &b.tm : nullptr)};
   }
 
  private:
+  // The substrate is seen when no layer above it truncated the list (layers are never the body).
+  void bind_body(double xi, const PlanarSurface* body, const std::vector<const Material*>& mats) {
+    if (body == nullptr || mats.size() < 2) return;
+    body_te_ = xi > 0.0 && te_.size() == mats.size();
+    body_tm_ = tm_.size() == mats.size();
+    if (body_te_ || body_tm_) bottom_ = body->at(xi, *mats[mats.size() - 2]);
+  }
+
   // Recursive Airy formula from the bottom interface up to the medium.
-  double recurse(const std::vector<Slab>& slabs, double k, bool tm) const {
+  double recurse(const std::vector<Slab>& slabs, double k, bool tm, const double* bottom) const {
     const double k2 = k * k;
     const auto kappa = [&](const Slab& s) { return std::sqrt(k2 + (tm ? s.q2_tm : s.q2_te)); };
     const auto interface = [&](const Slab& a, double ka, const Slab& b, double kb) {
@@ -100,7 +116,7 @@ class LayeredAt final : public PlanarAtFrequency {
     if (n == 1) return interface(medium_, kappa(medium_), slabs[0], kb);
     // Bottom interface: slab n-2 over slab n-1.
     double ka = kappa(slabs[n - 2]);
-    double R = interface(slabs[n - 2], ka, slabs[n - 1], kb);
+    double R = bottom ? *bottom : interface(slabs[n - 2], ka, slabs[n - 1], kb);
     for (std::size_t j = n - 1; j-- > 0;) {
       const Slab& above = j == 0 ? medium_ : slabs[j - 1];
       const double kj = ka;
@@ -116,20 +132,22 @@ class LayeredAt final : public PlanarAtFrequency {
 
   Slab medium_;
   std::vector<Slab> te_, tm_;  // slabs from the gap side, truncated at the first reflector
+  std::unique_ptr<PlanarAtFrequency> bottom_;  // nonlocal substrate seen from the last layer
+  bool body_te_ = false, body_tm_ = false;
 };
 
 class Layered final : public PlanarSurface {
  public:
-  Layered(std::vector<Layer> layers, MaterialPtr substrate)
-      : layers_(std::move(layers)), substrate_(std::move(substrate)) {}
+  Layered(std::vector<Layer> layers, MaterialPtr substrate, PlanarPtr body = nullptr)
+      : layers_(std::move(layers)), substrate_(std::move(substrate)), body_(std::move(body)) {}
   std::unique_ptr<PlanarAtFrequency> at(double xi, const Material& medium) const override {
-    return std::make_unique<LayeredAt>(xi, layers_, *substrate_, medium);
+    return std::make_unique<LayeredAt>(xi, layers_, *substrate_, medium, body_.get());
   }
   std::string describe() const override {
     std::string s;
     for (const auto& l : layers_)
       s += fmt::format("{} nm {} on ", l.thickness * 1e9, l.material->name());
-    return s + fmt::format("half-space of {}", substrate_->name());
+    return s + (body_ ? body_->describe() : fmt::format("half-space of {}", substrate_->name()));
   }
   bool is_perfect_conductor() const override {
     return layers_.empty() ? substrate_->is_perfect_conductor()
@@ -139,12 +157,10 @@ class Layered final : public PlanarSurface {
  private:
   std::vector<Layer> layers_;
   MaterialPtr substrate_;
+  PlanarPtr body_;
 };
 
-}  // namespace
-
-PlanarPtr make_layered(std::vector<Layer> layers, MaterialPtr substrate) {
-  if (!substrate) throw std::invalid_argument("make_layered: substrate material is null");
+void check_layers(const std::vector<Layer>& layers) {
   for (std::size_t j = 0; j < layers.size(); ++j) {
     if (!layers[j].material)
       throw std::invalid_argument(fmt::format("make_layered: layer {} material is null", j));
@@ -152,8 +168,22 @@ PlanarPtr make_layered(std::vector<Layer> layers, MaterialPtr substrate) {
       throw std::invalid_argument(fmt::format("make_layered: layer {} thickness = {} m must be > 0",
                                               j, layers[j].thickness));
   }
+}
+
+}  // namespace
+
+PlanarPtr make_layered(std::vector<Layer> layers, MaterialPtr substrate) {
+  if (!substrate) throw std::invalid_argument("make_layered: substrate material is null");
+  check_layers(layers);
   if (layers.empty()) return make_half_space(std::move(substrate));
   return std::make_shared<Layered>(std::move(layers), std::move(substrate));
+}
+
+PlanarPtr make_layered_on_hydrodynamic(std::vector<Layer> layers, MaterialPtr metal, double beta) {
+  PlanarPtr body = make_hydrodynamic(metal, beta);  // validates metal and beta
+  check_layers(layers);
+  if (layers.empty()) return body;
+  return std::make_shared<Layered>(std::move(layers), std::move(metal), std::move(body));
 }
 
 }  // namespace roundtrip

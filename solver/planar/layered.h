@@ -32,4 +32,10 @@ struct Layer {
 /// a null material or a thickness that is not finite and > 0. No layers gives the half-space.
 PlanarPtr make_layered(std::vector<Layer> layers, MaterialPtr substrate);
 
+/// Films `layers` on a hydrodynamic nonlocal half-space of `metal` (hydrodynamic.h, beta in m/s):
+/// the recursion starts from the nonlocal r seen from the last film. At xi = 0 the substrate's TE
+/// stays local (the longitudinal wave is TM-only) and a conductor film still hides it in TM.
+/// Throws std::invalid_argument as make_layered and make_hydrodynamic do.
+PlanarPtr make_layered_on_hydrodynamic(std::vector<Layer> layers, MaterialPtr metal, double beta);
+
 }  // namespace roundtrip

@@ -9,6 +9,7 @@
 #include "solver/geometries/plate_plate.h"
 #include "solver/materials/library.h"
 #include "solver/materials/models.h"
+#include "solver/planar/layered.h"
 #include "solver/run.h"
 
 namespace roundtrip {
@@ -97,6 +98,53 @@ TEST(Hydrodynamic, StaticLimitIsScreenedAndContinuous) {
   const Reflection p = nonlocal(0.0, 1e7, kBeta, builtin_material("gold-plasma"));
   const double kp = wp / kSpeedOfLight, q = std::sqrt(1e14 + kp * kp);
   EXPECT_NEAR(p.te, (1e7 - q) / (1e7 + q), kRoundoff);
+}
+
+TEST(Hydrodynamic, FilmOnNonlocalMetalFollowsAiryFormulaWithNonlocalSubstrate) {
+  // Airy formula (REFERENCES.md) with r23 the hydrodynamic r_TM seen from the film (eps_m = eps_2,
+  // eps_b = 1; form derived in hydrodynamic.h), computed here from the formula itself.
+  const MaterialPtr silica = builtin_material("silica");
+  const double wp = 9.0 * kEv, g = 0.035 * kEv, c = kSpeedOfLight, t = 3e-9;
+  const PlanarPtr body = make_layered_on_hydrodynamic({{silica, t}}, kGold, kBeta);
+  for (double xi : {1e13, 1e15, 1e17})
+    for (double k : {1e6, 1e8, 1e9}) {
+      const double e2 = silica->epsilon(xi), et = 1 + wp * wp / (xi * (xi + g));
+      const double k1 = std::sqrt(k * k + xi * xi / (c * c));
+      const double k2 = std::sqrt(k * k + e2 * xi * xi / (c * c));
+      const double kt = std::sqrt(k * k + et * xi * xi / (c * c));
+      const double kl = std::sqrt(k * k + (wp * wp + xi * (xi + g)) / (kBeta * kBeta));
+      const double nl = e2 * (et - 1) * k * k / kl;
+      const double r12 = (e2 * k1 - k2) / (e2 * k1 + k2);
+      const double r23 = (et * k2 - e2 * kt - nl) / (et * k2 + e2 * kt + nl);
+      const double ex = std::exp(-2 * k2 * t);
+      EXPECT_NEAR(body->at(xi, *kVacuum)->reflect(k).tm, (r12 + r23 * ex) / (1 + r12 * r23 * ex),
+                  1e-12)
+          << xi << " " << k;
+    }
+  // Static TM (xi = 0): dielectric film, r12 = (eps-1)/(eps+1), screened r23 from hydrodynamic.h
+  // with eps_m = eps_2(0); and it is the xi -> 0+ limit.
+  const double e0 = silica->static_limit().static_eps;
+  for (double k : {1e6, 1e8, 1e9}) {
+    const double s = e0 * k / std::sqrt(k * k + wp * wp / (kBeta * kBeta));
+    const double r23 = (1 - s) / (1 + s), r12 = (e0 - 1) / (e0 + 1), ex = std::exp(-2 * k * t);
+    const Reflection r0 = body->at(0.0, *kVacuum)->reflect(k);
+    EXPECT_NEAR(r0.tm, (r12 + r23 * ex) / (1 + r12 * r23 * ex), kRoundoff);
+    EXPECT_EQ(r0.te, 0.0);
+    EXPECT_NEAR(body->at(1e2, *kVacuum)->reflect(k).tm, r0.tm, 1e-6);  // silica IR term ~ xi^2
+  }
+  // beta = 0 gives the local stack; a Drude film on top hides the substrate in static TM.
+  const PlanarPtr local = make_layered({{silica, t}}, kGold);
+  const PlanarPtr zero = make_layered_on_hydrodynamic({{silica, t}}, kGold, 0.0);
+  for (double xi : {0.0, 1e15})
+    for (double k : {1e6, 1e9}) {
+      EXPECT_NEAR(zero->at(xi, *kVacuum)->reflect(k).tm, local->at(xi, *kVacuum)->reflect(k).tm,
+                  kRoundoff);
+      EXPECT_NEAR(zero->at(xi, *kVacuum)->reflect(k).te, local->at(xi, *kVacuum)->reflect(k).te,
+                  kRoundoff);
+    }
+  EXPECT_EQ(
+      make_layered_on_hydrodynamic({{kGold, t}}, kGold, kBeta)->at(0.0, *kVacuum)->reflect(1e8).tm,
+      1.0);
 }
 
 TEST(Hydrodynamic, RejectsNonMetals) {

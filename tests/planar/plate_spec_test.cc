@@ -70,6 +70,12 @@ TEST(PlateSpec, HalfSpaceLayersAndNonlocalFormsBuildTheRightBodies) {
                    "beta = \"1.08e6 m/s\"}\n")
                   .plate(),
               make_hydrodynamic(au, 1.08e6));
+  // Films on a nonlocal substrate.
+  expect_same(
+      Case("[plate]\nmaterial = \"gold-drude\"\nlayers = [{material = \"silica\", "
+           "thickness = \"2 nm\"}]\nnonlocal = {model = \"hydrodynamic\", beta = \"1e6 m/s\"}\n")
+          .plate(),
+      make_layered_on_hydrodynamic({{builtin_material("silica"), 2e-9}}, au, 1e6));
   // A user material in a layer.
   expect_same(Case("[materials.film]\nmodel = \"constant\"\neps = 4\n[plate]\nmaterial = "
                    "\"silicon\"\nlayers = [{material = \"film\", thickness = \"3 nm\"}]\n")
@@ -121,10 +127,6 @@ TEST(PlateSpec, MalformedPlatesNameFieldValueAndLine) {
       "[plate]\nmaterial = \"silica\"\nnonlocal = {model = \"hydrodynamic\", beta = "
       "\"1e6 m/s\"}\n",
       {"plates.a.material", "silica", "plasma_frequency"});
-  expect_case_error(
-      "[plate]\nmaterial = \"gold-drude\"\nlayers = [{material = \"silica\", thickness "
-      "= \"1 nm\"}]\nnonlocal = {model = \"hydrodynamic\", beta = \"1e6 m/s\"}\n",
-      {"plates.a.nonlocal", "not supported"});
 }
 
 }  // namespace
