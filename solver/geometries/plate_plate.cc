@@ -55,16 +55,16 @@ Triple de_integrate(F&& f, int n, double tol) {
   return prev;
 }
 
-// ln(1 - rho), rho/(1 - rho) and 1/(1 - rho) for rho = R e^{-x}, R <= 1, without cancellation
-// near rho = 1: 1 - rho = (1 - R) - R expm1(-x).
+// ln(1 - rho), rho/(1 - rho) and 1/(1 - rho) for rho = R e, e = e^{-x}, R <= 1, without
+// cancellation near rho = 1: 1 - rho = (1 - R) - R expm1(-x).
 struct LogTerm {
   double rho = 0.0, log = 0.0, inv = 1.0;  // inv = 1/(1 - rho)
 };
-LogTerm log_term(double R, double x, double e) {
+LogTerm log_term(double R, double e, double em1) {
   LogTerm t;
   t.rho = R * e;
   if (t.rho == 0.0) return t;
-  const double om = R > 0.0 ? (1.0 - R) - R * std::expm1(-x) : 1.0 - t.rho;
+  const double om = R > 0.0 ? (1.0 - R) - R * em1 : 1.0 - t.rho;
   t.log = t.rho < 0.5 ? std::log1p(-t.rho) : std::log(om);
   t.inv = 1.0 / om;
   return t;
@@ -112,7 +112,8 @@ Triple plate_integral(const PlanarSurface& a, const PlanarSurface& b, const Mate
     const double k = std::sqrt(y * (y + 2.0 * x0)) / (2.0 * gap);
     const Reflection pa = ra->reflect(k), pb = rb->reflect(k);
     const double e = e0 * std::exp(-y);
-    return g(x, log_term(pa.te * pb.te, x, e), log_term(pa.tm * pb.tm, x, e));
+    const double em1 = std::expm1(-x);  // e - 1, accurate for small x
+    return g(x, log_term(pa.te * pb.te, e, em1), log_term(pa.tm * pb.tm, e, em1));
   };
   return de_integrate(f, n, tol);
 }
