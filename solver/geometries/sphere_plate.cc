@@ -131,24 +131,27 @@ class SpherePlate final : public Geometry {
             is_static ? static_block(m, gap, lmax, nodes, st) : dynamic_block(m, lmax, nodes, mie);
         batch[m - m0] = logdet_one_minus(b, order);
       }
-      double largest = 0.0;
       for (int m = m0; m < m1; ++m) {
         const LogDetResult& r = batch[m - m0];
         if (!r.ok)
           throw std::runtime_error(fmt::format(
               "sphere-plate: xi = {:.6g} rad/s, L = {:.6g} m, m = {}: {} (l_max = {})", xi, gap, m,
               r.message, lmax));
-        const double mult = m == 0 ? 1.0 : 2.0;  // +m and -m give the same block
-        total += r.s * mult;
-        largest = std::max(largest, std::abs(mult * r.s.value));
-        if (order != DerivativeOrder::kEnergy)
-          largest = std::max(largest, std::abs(mult * r.s.d1) * gap);
+        total += r.s * (m == 0 ? 1.0 : 2.0);  // +m and -m give the same block
       }
-      // Stop once a whole batch no longer matters at the requested tolerance (terms fall
-      // off monotonically, roughly geometrically, in m).
-      const double scale = std::max(std::abs(total.value),
-                                    order != DerivativeOrder::kEnergy ? std::abs(total.d1) * gap : 0.0);
-      if (o_.m_max < 0 && largest <= 1e-3 * o_.rel_tol * scale) break;
+      if (o_.m_max >= 0 || m1 - m0 < 2) continue;
+      // The m terms fall off geometrically once m exceeds ~sqrt(R/L) (measured); estimate the
+      // ratio r from the batch and stop when the tail, last * r/(1-r), is below 0.1 rel_tol.
+      bool done = true;
+      for (int c = 0; c < 1 + static_cast<int>(order); ++c) {
+        auto comp = [&](const Spectral& v) { return c == 0 ? v.value : (c == 1 ? v.d1 : v.d2); };
+        const double first = std::abs(comp(batch[0].s)), last = std::abs(comp(batch[m1 - m0 - 1].s));
+        const double sum = std::abs(comp(total));
+        if (last == 0.0) continue;
+        const double r = std::pow(last / first, 1.0 / (m1 - m0 - 1));
+        if (!(r < 0.95) || !(2.0 * last * r / (1.0 - r) <= 0.1 * o_.rel_tol * sum)) done = false;
+      }
+      if (done) break;
     }
     return total;
   }
@@ -279,8 +282,8 @@ class SpherePlate final : public Geometry {
     const StaticLimit sm = o_.medium->static_limit();
     const StaticLimit ss = em ? o_.sphere->static_limit() : StaticLimit{};
     st = static_sphere(o_.field, ss, sm.static_eps, o_.radius, lmax);
-    // N > l_max makes the t-integral exact when rho is constant (degree 2 l_max polynomial).
-    const auto& gl = special::gauss_laguerre(lmax + 2);
+    // Integrands t^{l+l'} e^{-t} rho: the same sqrt(t)-panel rule as at xi > 0.
+    const auto& gl = momentum_rule_for(lmax);
     const int N = static_cast<int>(gl.nodes.size());
     const double D = o_.radius + gap;
     std::unique_ptr<PlanarAtFrequency> plate;

@@ -9,7 +9,7 @@ namespace {
 // Sylvester's identity det(1 - sigma W C W^T) = det(1 - K), K = (sigma C)^{1/2} W^T W
 // (sigma C)^{1/2} (q x q), for sigma c_i >= 0. With B = (1 - K)^{-1} and dC/dL = F1 C:
 //   d log det/dL   = -Tr[B F1 K] = -sum_i f1_i (B_ii - 1),
-//   d2 log det/dL2 = -sum_i f2_i (B_ii - 1) - Tr[(B F1 K)^2].
+//   d2 log det/dL2 = -sum_i f2_i (B_ii - 1) - sum_ij f1_i f1_j (B - 1)_ij^2.
 LogDetResult logdet_node_space(const LowRankBlock& b, double sigma, DerivativeOrder order) {
   LogDetResult out;
   out.dimension = static_cast<int>(b.W.cols());
@@ -35,10 +35,10 @@ LogDetResult logdet_node_space(const LowRankBlock& b, double sigma, DerivativeOr
   if (order == DerivativeOrder::kForce) return out;
   double d2 = 0.0;
   for (Eigen::Index i = 0; i < q; ++i) d2 -= b.f2[i] * (B(i, i) - 1.0);
-  // B F1 K = B F1 (1 - B^{-1}) -> P = B F1 - B F1 B^{-1}; use K = 1 - A directly.
-  Eigen::MatrixXd K = Eigen::MatrixXd::Identity(q, q) - A.selfadjointView<Eigen::Lower>().toDenseMatrix();
-  const Eigen::MatrixXd P = B * b.f1.asDiagonal() * K;
-  d2 -= (P.array() * P.transpose().array()).sum();
+  // K B = B - 1 and B is symmetric, so Tr[(B F1 K)^2] = Tr[F1 (B-1) F1 (B-1)]
+  //   = sum_ij f1_i f1_j (B-1)_ij^2   (no further matrix product).
+  Eigen::MatrixXd Bm1 = B - Eigen::MatrixXd::Identity(q, q);
+  d2 -= (b.f1.asDiagonal() * Bm1.cwiseAbs2() * b.f1.asDiagonal()).sum();
   out.s.d2 = d2;
   return out;
 }
