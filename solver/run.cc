@@ -19,14 +19,25 @@ double seconds_since(std::chrono::steady_clock::time_point t0) {
   return std::chrono::duration<double>(std::chrono::steady_clock::now() - t0).count();
 }
 
-PointResult run_point(const Geometry& geometry, double gap, const RunOptions& options) {
+struct Cancelled {};
+
+PointResult run_point(const Geometry& geometry, int index, double gap, const RunOptions& options) {
   const auto t0 = std::chrono::steady_clock::now();
   const DerivativeOrder order = options.quantities.order();
   PointResult p;
   p.gap = gap;
-  p.frequencies =
-      sum_over_frequencies([&](double xi) { return geometry.at_frequency(xi, gap, order); },
-                           geometry.frequency_scale(gap), options.frequency);
+  int evaluations = 0;
+  auto s = [&](double xi) {
+    if (options.cancel && options.cancel->load()) throw Cancelled{};
+    Spectral v;
+    if (!(options.store && options.store->lookup(index, xi, v))) {
+      v = geometry.at_frequency(xi, gap, order);
+      if (options.store) options.store->record(index, xi, v);
+    }
+    if (options.frequency_progress) options.frequency_progress(index, ++evaluations);
+    return v;
+  };
+  p.frequencies = sum_over_frequencies(s, geometry.frequency_scale(gap), options.frequency);
   // Signs as in geometry.h: F = -dE/dL, dF/dL = -d2E/dL2.
   p.energy = p.frequencies.total.value;
   p.force = order >= DerivativeOrder::kForce ? -p.frequencies.total.d1 : 0.0;
@@ -70,7 +81,11 @@ RunResult run_sweep(const Geometry& geometry, const std::vector<double>& gaps,
 #pragma omp parallel for schedule(dynamic, 1) num_threads(threads)
   for (int i = 0; i < n; ++i) {
     try {
-      result.points[i] = run_point(geometry, gaps[i], options);
+      result.points[i] = run_point(geometry, i, gaps[i], options);
+    } catch (const Cancelled&) {
+      result.points[i].gap = gaps[i];
+      result.points[i].complete = false;
+      continue;
     } catch (...) {
       std::lock_guard<std::mutex> lock(progress_mutex);
       if (!failure) failure = std::current_exception();
@@ -81,6 +96,7 @@ RunResult run_sweep(const Geometry& geometry, const std::vector<double>& gaps,
     if (options.progress) options.progress(done, n);
   }
   if (failure) std::rethrow_exception(failure);
+  result.cancelled = options.cancel && options.cancel->load();
   result.wall_seconds = seconds_since(t0);
   return result;
 }

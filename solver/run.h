@@ -1,6 +1,7 @@
 #pragma once
 // A separation sweep: one Geometry, a list of gaps, a frequency rule -> energies, forces,
 // gradients and PFA values at each gap. This is the library entry point the CLI uses.
+#include <atomic>
 #include <functional>
 #include <map>
 #include <optional>
@@ -22,12 +23,31 @@ struct Quantities {
   }
 };
 
+/// Finished per-frequency contributions, for checkpoint and resume (io/ keeps them on disk).
+/// The frequency rules' nodes are deterministic, so a rerun asks for bit-identical xi.
+class ContributionStore {
+ public:
+  virtual ~ContributionStore() = default;
+  /// True (and s filled) if s(xi) at gap number gap_index was recorded before.
+  virtual bool lookup(int gap_index, double xi, Spectral& s) = 0;
+  /// Called once per newly computed s(xi); may be called from several threads.
+  virtual void record(int gap_index, double xi, const Spectral& s) = 0;
+};
+
 struct RunOptions {
   FrequencyRuleOptions frequency;
   Quantities quantities;
   int threads = 0;  ///< 0: OpenMP default
   /// Called after each finished gap with (done, total); may be empty.
   std::function<void(int, int)> progress;
+  /// Called after every frequency evaluation with (gap index, evaluations so far at that gap,
+  /// from cache or not); may be empty. For ETAs on long gaps.
+  std::function<void(int, int)> frequency_progress;
+  /// Optional checkpoint store (not owned).
+  ContributionStore* store = nullptr;
+  /// Optional cancellation flag (e.g. set by a SIGINT handler): gaps not finished when it is
+  /// seen are returned with complete = false; finished ones are kept.
+  const std::atomic<bool>* cancel = nullptr;
 };
 
 /// Result at one gap. Units: J, N, N/m for compact bodies; J/m^2, Pa, Pa/m when per_area.
@@ -41,6 +61,7 @@ struct PointResult {
   FrequencySum frequencies;
   std::map<std::string, double> truncation;
   double wall_seconds = 0.0;
+  bool complete = true;  ///< false if the run was cancelled before this gap finished
 };
 
 struct RunResult {
@@ -50,6 +71,7 @@ struct RunResult {
   std::vector<PointResult> points;
   double wall_seconds = 0.0;
   int threads = 1;
+  bool cancelled = false;  ///< options.cancel was set; some points may be incomplete
 };
 
 /// Compute every gap in `gaps` (m, each > 0). Deterministic for any thread count.
