@@ -2,6 +2,8 @@
 // Drude gold (omega_p = 9 eV, gamma = 35 meV; common practice, shared/REFERENCES.md), gaps
 // 50 nm - 5 um log-spaced, rel_tol 1e-6, energy + force + gradient, at 300 K and at T = 0.
 // Run: build/benchmarks/roundtrip_bench_plate_sweep --benchmark_min_time=2
+// Measured 2026-12-01 (2 cores, Release, mean of 3): 300 K 106 ms (1 thread), 55 ms (2 threads),
+// 4351 Matsubara terms in all; T = 0 261 ms and 136 ms, 10332 quadrature nodes in all.
 #include <benchmark/benchmark.h>
 
 #include <cmath>
