@@ -11,7 +11,7 @@
 namespace roundtrip {
 
 PfaValues sphere_plate_pfa(const PlatePlate& pp, double radius, double gap,
-                           const FrequencyRuleOptions& opts) {
+                           const FrequencyRuleOptions& opts, FrequencySum* summary) {
   if (!std::isfinite(radius) || !(radius > 0.0))
     throw std::invalid_argument(fmt::format("PFA: radius = {} m must be finite and > 0", radius));
   if (!std::isfinite(gap) || !(gap > 0.0))
@@ -21,6 +21,7 @@ PfaValues sphere_plate_pfa(const PlatePlate& pp, double radius, double gap,
       [&](double xi) { return pp.integrated_at_frequency(xi, gap, DerivativeOrder::kGradient); },
       pp.frequency_scale(gap), opts);
   const double c = 2.0 * kPi * radius;
+  if (summary) *summary = sum;
   return {c * sum.total.value, -c * sum.total.d1, -c * sum.total.d2};
 }
 

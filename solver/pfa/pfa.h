@@ -16,9 +16,10 @@
 namespace roundtrip {
 
 /// PFA energy, force and force gradient of a sphere of radius `radius` (m) at `gap` (m).
-/// Throws std::invalid_argument for non-positive radius or gap, or invalid options.
+/// Throws std::invalid_argument for non-positive radius or gap, or invalid options. If `summary`
+/// is given it receives the frequency sum of {\int_L^inf E_pp, -E_pp, P_pp} (convergence, error).
 PfaValues sphere_plate_pfa(const PlatePlate& pp, double radius, double gap,
-                           const FrequencyRuleOptions& opts);
+                           const FrequencyRuleOptions& opts, FrequencySum* summary = nullptr);
 
 /// Effective radius R1 R2 / (R1 + R2) of two spheres for sphere_plate_pfa (Derjaguin 1934).
 double pfa_effective_radius(double r1, double r2);

@@ -33,7 +33,9 @@ TEST(Pfa, PecSphereEnergyMatchesDerjaguinWithCasimirEnergy) {
   const double R = 50e-6;
   constexpr double kTol = 1e-10;  // as for the plate-plate PEC check
   for (double L : {1e-7, 1e-6}) {
-    const PfaValues v = sphere_plate_pfa(pp, R, L, rule(0.0, 1e-12));
+    FrequencySum summary;
+    const PfaValues v = sphere_plate_pfa(pp, R, L, rule(0.0, 1e-12), &summary);
+    EXPECT_TRUE(summary.converged) << summary.message;
     const double c = kPi * kPi * kPi * kHbarC * R;
     EXPECT_NEAR(v.energy / (-c / (720.0 * L * L)), 1.0, kTol) << "L = " << L;
     EXPECT_NEAR(v.force / (-c / (360.0 * L * L * L)), 1.0, kTol) << "L = " << L;
