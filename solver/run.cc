@@ -97,6 +97,21 @@ RunResult run_sweep(const Geometry& geometry, const std::vector<double>& gaps,
   }
   if (failure) std::rethrow_exception(failure);
   result.cancelled = options.cancel && options.cancel->load();
+  if (const auto R = geometry.pfa_length()) {
+    std::vector<double> x, re, rf, rg;
+    for (const auto& p : result.points) {
+      if (!p.complete || !p.pfa) continue;
+      x.push_back(p.gap / *R);
+      re.push_back(p.energy / p.pfa->energy);
+      rf.push_back(p.force / p.pfa->force);
+      rg.push_back(p.gradient / p.pfa->gradient);
+    }
+    const double tol = options.frequency.rel_tol;
+    result.theta_energy = fit_theta(x, re, tol);
+    if (options.quantities.force || options.quantities.gradient)
+      result.theta_force = fit_theta(x, rf, tol);
+    if (options.quantities.gradient) result.theta_gradient = fit_theta(x, rg, tol);
+  }
   result.wall_seconds = seconds_since(t0);
   return result;
 }

@@ -10,6 +10,7 @@
 
 #include "solver/frequency/frequency_rule.h"
 #include "solver/geometries/geometry.h"
+#include "solver/pfa/theta_fit.h"
 
 namespace roundtrip {
 
@@ -72,6 +73,9 @@ struct RunResult {
   double wall_seconds = 0.0;
   int threads = 1;
   bool cancelled = false;  ///< options.cancel was set; some points may be incomplete
+  /// Fits of Q/Q_PFA = 1 + theta L/R + ... over the sweep (geometries with a PFA length scale,
+  /// at least 3 finished gaps); see solver/pfa/theta_fit.h.
+  ThetaFit theta_energy, theta_force, theta_gradient;
 };
 
 /// Compute every gap in `gaps` (m, each > 0). Deterministic for any thread count.

@@ -61,6 +61,8 @@ class Geometry {
   virtual std::optional<PfaValues> pfa(double /*gap*/, const FrequencyRuleOptions& /*opts*/) const {
     return std::nullopt;
   }
+  /// The length R in the PFA expansion Q/Q_PFA = 1 + theta L/R + ... (sphere radius), if any.
+  virtual std::optional<double> pfa_length() const { return std::nullopt; }
   /// Truncations used at gap L (e.g. "l_max", "m_max", "quadrature_nodes"), for reports and HDF5.
   virtual std::map<std::string, double> truncation(double /*gap*/) const { return {}; }
   /// True if at_frequency already runs in parallel (then callers do not add threads on top).

@@ -107,6 +107,7 @@ class SpherePlate final : public Geometry {
   }
 
   std::optional<PfaValues> pfa(double gap, const FrequencyRuleOptions& opts) const override;
+  std::optional<double> pfa_length() const override { return o_.radius; }
 
   Spectral at_frequency(double xi, double gap, DerivativeOrder order) const override {
     const int lmax = lmax_for(gap);
