@@ -239,3 +239,43 @@ TEST(SpherePlate, DirichletPfaCoefficientIsOneThird) {
 
 }  // namespace
 }  // namespace roundtrip
+
+namespace roundtrip {
+namespace {
+
+double free_energy(const SpherePlateOptions& o, double gap, double temperature_K, double tol) {
+  FrequencyRuleOptions fo;
+  fo.temperature_K = temperature_K;
+  fo.rel_tol = tol;
+  const auto g = make_sphere_plate(o);
+  return sum_over_frequencies(
+             [&](double xi) { return g->at_frequency(xi, gap, DerivativeOrder::kEnergy); },
+             g->frequency_scale(gap), fo)
+      .total.value;
+}
+
+TEST(SpherePlateTemperature, MatsubaraSumTendsToZeroTemperatureEnergy) {
+  // As T -> 0 the Matsubara sum becomes the frequency integral (Lifshitz; standard). PEC at
+  // L = R = 1 um: with t = 2 k_B T L/(hbar c) the thermal correction is O(t^3) (the plate-plate
+  // low-T law, 1.74 t^3, from memory, bounds it here): t = 0.017 at 20 K, 0.035 at 40 K.
+  const double gap = kR;
+  const double e0 = free_energy(pec(1e-7), gap, 0.0, 1e-7);
+  const double e20 = free_energy(pec(1e-7), gap, 20.0, 1e-7);
+  const double e40 = free_energy(pec(1e-7), gap, 40.0, 1e-7);
+  const double t20 = 2 * kBoltzmann * 20.0 * gap / kHbarC;
+  EXPECT_NEAR(e20 / e0, 1.0, 1.74 * std::pow(t20, 3) + 1e-6);
+  EXPECT_LE(std::abs(e20 / e0 - 1), std::abs(e40 / e0 - 1) + 1e-7);
+}
+
+TEST(SpherePlateTemperature, HighTemperatureIsTheStaticTerm) {
+  // L >> hbar c / (k_B T): only n = 0 survives; the n = 1 term is ~exp(-4 pi k_B T L/(hbar c))
+  // ~ 1e-7 at 300 K and L = 10 um (standard; e.g. Canaguier-Durand et al. PRL 104, 040403).
+  const double gap = 10 * kR, T = 300.0;
+  const auto o = drude(1e-8);
+  const double f = free_energy(o, gap, T, 1e-8);
+  const double f0 = kBoltzmann * T * static_free_energy(o, gap);
+  EXPECT_NEAR(f / f0, 1.0, 1e-5);
+}
+
+}  // namespace
+}  // namespace roundtrip
