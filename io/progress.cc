@@ -1,0 +1,93 @@
+#include "io/progress.h"
+
+#include <fmt/format.h>
+
+#include <algorithm>
+
+namespace roundtrip::io {
+namespace {
+constexpr double kTerminalInterval = 0.1;  // s between redraws: readable, cheap
+constexpr double kLineInterval = 5.0;      // s between lines on long gaps when not a terminal
+constexpr double kRunningCap = 0.95;       // a running gap never counts as finished
+}  // namespace
+
+Progress::Progress(std::ostream& err, bool terminal, int total_gaps, std::string prefix)
+    : err_(err),
+      terminal_(terminal),
+      total_(total_gaps),
+      prefix_(std::move(prefix)),
+      start_(std::chrono::steady_clock::now()) {}
+
+double Progress::elapsed() const {
+  return std::chrono::duration<double>(std::chrono::steady_clock::now() - start_).count();
+}
+
+std::string Progress::duration_text(double s) {
+  if (s < 100.0) return fmt::format("{:.1f} s", s);
+  if (s < 6000.0) return fmt::format("{:.1f} min", s / 60.0);
+  return fmt::format("{:.1f} h", s / 3600.0);
+}
+
+std::string Progress::status(double now) const {
+  double work = done_;
+  long running_evals = 0;
+  const double mean = done_ > 0 ? static_cast<double>(finished_evaluations_) / done_ : 0.0;
+  for (const auto& [gap, n] : running_) {
+    running_evals += n;
+    if (mean > 0.0) work += std::min(n / mean, kRunningCap);
+  }
+  std::string eta = "ETA unknown";
+  if (work > 0.0 && done_ < total_) eta = "ETA " + duration_text(now * (total_ - work) / work);
+  if (done_ == total_) eta = "done";
+  std::string freq;
+  if (running_.size() == 1)
+    freq = fmt::format(", {} frequencies at gap {}", running_evals, running_.begin()->first + 1);
+  else if (!running_.empty())
+    freq = fmt::format(", {} frequencies on {} gaps", running_evals, running_.size());
+  return fmt::format("roundtrip: {}gap {} of {} done{} ({}, {})", prefix_, done_, total_, freq,
+                     duration_text(now), eta);
+}
+
+void Progress::emit(const std::string& line, bool force) {
+  const double now = elapsed();
+  const double interval = terminal_ ? kTerminalInterval : kLineInterval;
+  if (!force && now - last_emit_ < interval) return;
+  last_emit_ = now;
+  if (terminal_) {
+    err_ << "\r\033[K" << line << std::flush;
+    dirty_ = true;
+  } else {
+    err_ << line << "\n" << std::flush;
+  }
+}
+
+void Progress::frequency(int gap, int evaluations) {
+  std::lock_guard<std::mutex> lock(mutex_);
+  running_[gap] = evaluations;
+  // Not a terminal: lines only for gaps that take long (no line per frequency).
+  if (!terminal_ && elapsed() - last_emit_ < kLineInterval) return;
+  emit(status(elapsed()), false);
+}
+
+void Progress::gap_done(int done, int total) {
+  std::lock_guard<std::mutex> lock(mutex_);
+  done_ = done;
+  total_ = total;
+  // RunOptions::progress does not say which gap finished; take the running gap with the most
+  // evaluations (exact when gaps run one at a time, as sphere-plate does; a guess otherwise).
+  if (!running_.empty()) {
+    auto it = std::max_element(running_.begin(), running_.end(),
+                               [](const auto& a, const auto& b) { return a.second < b.second; });
+    finished_evaluations_ += it->second;
+    running_.erase(it);
+  }
+  emit(status(elapsed()), true);
+}
+
+void Progress::finish() {
+  std::lock_guard<std::mutex> lock(mutex_);
+  if (terminal_ && dirty_) err_ << "\r\033[K" << std::flush;
+  dirty_ = false;
+}
+
+}  // namespace roundtrip::io
