@@ -399,6 +399,49 @@ CaseSpec load_case(const std::filesystem::path& path) {
   return parse_case(ss.str(), path);
 }
 
+namespace {
+void flatten(const toml::node& n, const std::string& key,
+             std::vector<std::pair<std::string, std::string>>& out) {
+  if (const auto* t = n.as_table()) {
+    for (const auto& [k, v] : *t) flatten(v, dotted(key, k.str()), out);
+  } else if (const auto* a = n.as_array()) {
+    for (std::size_t i = 0; i < a->size(); ++i)
+      flatten((*a)[i], fmt::format("{}[{}]", key, i), out);
+  } else {
+    out.emplace_back(key, value_text(n));
+  }
+}
+
+std::string file_digest(const std::filesystem::path& p) {
+  std::ifstream in(p, std::ios::binary);
+  if (!in) return "unreadable";
+  std::uint64_t h = 14695981039346656037ull;  // FNV-1a 64 (Fowler, Noll, Vo; common practice)
+  for (char c; in.get(c);) {
+    h ^= static_cast<unsigned char>(c);
+    h *= 1099511628211ull;
+  }
+  return fmt::format("fnv1a64:{:016x}", h);
+}
+}  // namespace
+
+std::vector<std::pair<std::string, std::string>> case_key_fields(const CaseSpec& spec) {
+  std::vector<std::pair<std::string, std::string>> out;
+  const toml::table root = toml::parse(std::string_view(spec.text));
+  for (const auto& [k, v] : root) {
+    if (k.str() == "title" || k.str() == "output") continue;
+    flatten(v, std::string(k.str()), out);
+  }
+  const std::filesystem::path dir =
+      spec.path.has_parent_path() ? spec.path.parent_path() : std::filesystem::path(".");
+  if (const auto* m = root["materials"].as_table())
+    for (const auto& [name, def] : *m)
+      if (const auto* t = def.as_table())
+        if (const auto* f = t->get_as<std::string>("file"))
+          out.emplace_back(fmt::format("materials.{}.file (contents)", name.str()),
+                           file_digest(dir / f->get()));
+  return out;
+}
+
 std::shared_ptr<Geometry> build_geometry(const CaseSpec& spec) {
   switch (spec.kind) {
     case ConfigurationKind::kPlatePlate:

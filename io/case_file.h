@@ -48,6 +48,11 @@ CaseSpec load_case(const std::filesystem::path& path);
 /// The solver Geometry of a case. Throws CaseError for geometries not built in this version.
 std::shared_ptr<Geometry> build_geometry(const CaseSpec& spec);
 
+/// The case content that fixes the numbers, as (dotted key, value as written) pairs in a
+/// canonical order (sorted keys, arrays as key[i]); `title` and [output] are left out, and each
+/// table file of a [materials.*] adds its contents' hash. For checkpoint journals.
+std::vector<std::pair<std::string, std::string>> case_key_fields(const CaseSpec& spec);
+
 /// Accepted values of the top-level `field` key.
 std::vector<std::string> field_names();
 

@@ -2,11 +2,14 @@
 
 #include <H5Cpp.h>
 #include <fmt/format.h>
+#include <signal.h>
 #include <unistd.h>
 
 #include <algorithm>
+#include <cerrno>
 #include <chrono>
 #include <cmath>
+#include <cstdlib>
 #include <ctime>
 #include <limits>
 #include <set>
@@ -83,6 +86,9 @@ void write_file(H5::H5File& file, const RunResult& r, const ResultsInfo& info) {
   attr(file, "temperature_K", info.temperature_K);
   attr(file, "rel_tol", info.rel_tol);
   attr(file, "frequency_rule", info.frequency_rule);
+  attr(file, "complete", info.complete ? 1 : 0);
+  attr(file, "gaps_planned",
+       info.gaps_planned > 0 ? info.gaps_planned : static_cast<int>(r.points.size()));
 
   H5::Group input = file.createGroup("input");
   text_dataset(input, "case_file", info.case_text);
@@ -195,6 +201,23 @@ void write_file(H5::H5File& file, const RunResult& r, const ResultsInfo& info) {
   }
 }
 
+// "<final>.tmp.<pid>" files of processes that no longer exist (killed with -9): remove them.
+void remove_stale_temporaries(const std::filesystem::path& final_path) {
+  std::error_code ec;
+  const auto dir =
+      final_path.has_parent_path() ? final_path.parent_path() : std::filesystem::path(".");
+  const std::string prefix = final_path.filename().string() + ".tmp.";
+  for (const auto& e : std::filesystem::directory_iterator(dir, ec)) {
+    const std::string name = e.path().filename().string();
+    if (name.rfind(prefix, 0) != 0) continue;
+    const std::string digits = name.substr(prefix.size());
+    if (digits.empty() || digits.find_first_not_of("0123456789") != std::string::npos) continue;
+    const long pid = std::strtol(digits.c_str(), nullptr, 10);
+    if (pid > 0 && ::kill(static_cast<pid_t>(pid), 0) != 0 && errno == ESRCH)
+      std::filesystem::remove(e.path(), ec);
+  }
+}
+
 }  // namespace
 
 QuantityUnits quantity_units(bool per_area) {
@@ -227,6 +250,7 @@ ResultsWriter::ResultsWriter(std::filesystem::path final_path, std::string field
   const auto dir = final_.has_parent_path() ? final_.parent_path() : std::filesystem::path(".");
   if (!std::filesystem::is_directory(dir, ec))
     throw fail(fmt::format("directory \"{}\" does not exist", dir.string()));
+  remove_stale_temporaries(final_);
   temp_ = final_;
   temp_ += fmt::format(".tmp.{}", static_cast<long>(getpid()));
   const std::string t = temp_.string();

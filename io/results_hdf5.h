@@ -24,6 +24,8 @@ struct ResultsInfo {
   double rel_tol = 0.0;
   std::string frequency_rule;  ///< e.g. "matsubara"
   Quantities quantities;       ///< which of energy / force / gradient were computed
+  bool complete = true;        ///< false: interrupted, only the finished gaps are in the file
+  int gaps_planned = 0;        ///< gaps the case asks for (>= the gaps in the file)
 };
 
 /// SI units of energy, force and gradient: J, N, N/m (compact bodies) or J/m^2, Pa, Pa/m.

@@ -3,6 +3,7 @@
 #include <fmt/format.h>
 #include <fmt/ostream.h>
 #include <omp.h>
+#include <unistd.h>
 
 #include <algorithm>
 #include <chrono>
@@ -11,6 +12,8 @@
 
 #include "io/case_file.h"
 #include "io/errors.h"
+#include "io/journal.h"
+#include "io/progress.h"
 #include "io/results_hdf5.h"
 #include "io/table.h"
 #include "io/units.h"
@@ -125,6 +128,25 @@ void print_results(const CaseSpec& spec, const RunResult& r, std::ostream& out) 
 
 std::string version_line() { return fmt::format("roundtrip {} (git {})", kVersion, kGitCommit); }
 
+std::atomic<bool>& cancel_requested() {
+  static std::atomic<bool> flag{false};
+  return flag;
+}
+
+namespace {
+fs::path journal_path(const fs::path& results) {
+  fs::path j = results;
+  j += ".journal";
+  return j;
+}
+
+JournalKey journal_key(const CaseSpec& spec) {
+  JournalKey key{{"roundtrip_version", kVersion}};
+  for (auto& kv : case_key_fields(spec)) key.push_back(std::move(kv));
+  return key;
+}
+}  // namespace
+
 int run_command(const RunArgs& args, std::ostream& out, std::ostream& err) {
   if (args.threads < 0)
     throw CaseError(
@@ -133,24 +155,34 @@ int run_command(const RunArgs& args, std::ostream& out, std::ostream& err) {
   const std::shared_ptr<Geometry> geometry = build_geometry(spec);
   const OutputChoice where = choose_output(args, spec);
   ResultsWriter writer(where.path, where.field);  // fails now if the path is unwritable
+  Journal journal(journal_path(where.path), journal_key(spec), args.restart);
+  if (journal.loaded() > 0)
+    err << fmt::format("roundtrip: resuming from {} ({} contributions saved)\n",
+                       journal.path().string(), journal.loaded())
+        << std::flush;
 
   RunOptions opts;
   opts.frequency = spec.frequency;
   opts.quantities = spec.quantities;
   opts.threads = args.threads;
-  const auto start = std::chrono::steady_clock::now();
-  if (!args.quiet && spec.gaps.size() > 1)
-    opts.progress = [&](int done, int total) {
-      const double s =
-          std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
-      err << fmt::format("roundtrip: gap {} of {} done ({:.1f} s)\n", done, total, s) << std::flush;
-    };
+  opts.store = journal.store(0);
+  opts.cancel = &cancel_requested();
+  const bool terminal = isatty(STDERR_FILENO) == 1;
+  const bool show = !args.quiet && (terminal || args.progress);
+  Progress progress(err, terminal, static_cast<int>(spec.gaps.size()));
+  if (show) {
+    opts.progress = [&](int done, int total) { progress.gap_done(done, total); };
+    opts.frequency_progress = [&](int gap, int n) { progress.frequency(gap, n); };
+  }
   // Geometries that parallelise inside (sphere-plate) use the OpenMP default team size.
   if (args.threads > 0) omp_set_num_threads(args.threads);
   RunResult result = run_sweep(*geometry, spec.gaps, opts);
+  progress.finish();
   if (geometry->parallel_inside()) result.threads = omp_get_max_threads();
+  if (journal.reused() > 0)
+    err << fmt::format("roundtrip: resumed: {} contributions reused from {}\n", journal.reused(),
+                       journal.path().string());
 
-  print_results(spec, result, out);
   ResultsInfo info;
   info.title = spec.title;
   info.case_path = spec.path.string();
@@ -159,7 +191,27 @@ int run_command(const RunArgs& args, std::ostream& out, std::ostream& err) {
   info.rel_tol = spec.frequency.rel_tol;
   info.frequency_rule = to_string(rule_of(spec));
   info.quantities = spec.quantities;
+  info.gaps_planned = static_cast<int>(spec.gaps.size());
+
+  const bool complete = std::all_of(result.points.begin(), result.points.end(),
+                                    [](const PointResult& p) { return p.complete; });
+  if (!complete) {
+    // Interrupted: the finished gaps go into a valid file; the journal keeps every finished
+    // frequency of the unfinished ones for the next run.
+    std::erase_if(result.points, [](const PointResult& p) { return !p.complete; });
+    info.complete = false;
+    if (!result.points.empty()) print_results(spec, result, out);
+    writer.commit(result, info);
+    err << fmt::format(
+        "roundtrip: interrupted: {} of {} gaps finished, written to {} (complete = 0); the "
+        "checkpoint {} keeps every finished frequency: run the same command again to resume\n",
+        result.points.size(), spec.gaps.size(), where.path.string(), journal.path().string());
+    return kExitInterrupted;
+  }
+
+  print_results(spec, result, out);
   writer.commit(result, info);
+  journal.remove();
   out << fmt::format("\nresults: {} ({} gap{}, {:.2f} s on {} thread{})\n", where.path.string(),
                      result.points.size(), result.points.size() == 1 ? "" : "s",
                      result.wall_seconds, result.threads, result.threads == 1 ? "" : "s");

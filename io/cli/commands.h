@@ -3,6 +3,7 @@
 // only parses options). Each returns the process exit status and writes the human-readable
 // output to `out` and progress and warnings to `err`. User-input errors are thrown as
 // io::CaseError; main prints them as "roundtrip: error: <message>".
+#include <atomic>
 #include <ostream>
 #include <string>
 
@@ -13,12 +14,19 @@ inline constexpr int kExitOk = 0;
 inline constexpr int kExitInputError = 1;     // bad case file, option or path: nothing written
 inline constexpr int kExitNotConverged = 3;   // results written, but some gap missed rel_tol
 inline constexpr int kExitInternalError = 4;  // a solver failure (a bug or an unhandled regime)
+inline constexpr int kExitInterrupted = 130;  // Ctrl-C: finished gaps written, journal kept
+
+/// Set by main's SIGINT/SIGTERM handler: the run stops at the next frequency, writes what has
+/// finished and keeps its checkpoint journal.
+std::atomic<bool>& cancel_requested();
 
 struct RunArgs {
   std::string case_path;
-  std::string output;  ///< -o; empty: [output] file of the case, else <case stem>.h5
-  int threads = 0;     ///< 0: OpenMP default
-  bool quiet = false;  ///< no progress on stderr
+  std::string output;     ///< -o; empty: [output] file of the case, else <case stem>.h5
+  int threads = 0;        ///< 0: OpenMP default
+  bool quiet = false;     ///< no progress on stderr
+  bool progress = false;  ///< progress even when stderr is not a terminal
+  bool restart = false;   ///< discard a checkpoint journal instead of resuming from it
 };
 int run_command(const RunArgs& args, std::ostream& out, std::ostream& err);
 

@@ -12,8 +12,10 @@
 namespace cli = roundtrip::io::cli;
 
 namespace {
-// An interrupted run removes its temporary results file, then dies of the same signal.
+// The first Ctrl-C (or SIGTERM) asks the run to stop: it writes the finished gaps and keeps its
+// checkpoint journal. A second one removes the temporary results file and dies of the signal.
 extern "C" void on_terminate(int sig) {
+  if (!cli::cancel_requested().exchange(true)) return;  // lock-free atomic: signal-safe
   roundtrip::io::remove_pending_results_file();
   std::signal(sig, SIG_DFL);
   std::raise(sig);
@@ -42,6 +44,10 @@ int main(int argc, char** argv) {
   run->add_option("--threads", run_args.threads, "Worker threads (default: all cores)")
       ->check(CLI::Range(1, 4096));
   run->add_flag("--quiet", run_args.quiet, "No progress messages on stderr");
+  run->add_flag("--progress", run_args.progress,
+                "Progress and ETA on stderr even when it is not a terminal");
+  run->add_flag("--restart", run_args.restart,
+                "Discard the checkpoint journal of an earlier run instead of resuming it");
 
   std::string check_path;
   CLI::App* check =

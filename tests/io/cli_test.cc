@@ -274,11 +274,13 @@ TEST_F(Cli, ReducedGoldPlatesDemoRunsAndWritesItsFile) {
   const std::string demo = slurp(fs::path(ROUNDTRIP_SOURCE_DIR) / "cases" / "gold_plates.toml");
   ASSERT_FALSE(demo.empty());
   write("gold_plates.toml", replaced(demo, "count = 20", "count = 3"));
-  const Outcome o = cli("run gold_plates.toml");
+  const Outcome o = cli("run gold_plates.toml --progress");
   ASSERT_EQ(o.status, 0) << o.err;
   EXPECT_NE(o.out.find("gap [nm]"), std::string::npos) << o.out;
   EXPECT_NE(o.out.find("F [Pa]"), std::string::npos) << o.out;
   EXPECT_NE(o.err.find("gap 3 of 3 done"), std::string::npos) << o.err;
+  EXPECT_NE(o.err.find("ETA"), std::string::npos) << o.err;
+  EXPECT_FALSE(fs::exists(dir_ / "gold_plates.h5.journal")) << "removed after success";
   // The case's opening comment shows what it prints: the reduced run shares the header lines
   // and the 100 nm row (same gap, same tolerance).
   std::istringstream comment(demo);
@@ -347,19 +349,32 @@ print("OK")
   EXPECT_EQ(slurp(dir_ / "py.txt"), "OK\n");
 }
 
-// Ctrl-C (SIGINT) during a long run: the process dies of the signal and removes its temporary
-// results file; nothing is left at the final path or beside it.
-TEST_F(Cli, InterruptedRunLeavesNoFile) {
+// Progress goes to stderr only on a terminal or with --progress, never with --quiet.
+TEST_F(Cli, ProgressOnlyWhenAskedForOrOnATerminal) {
+  write("good.toml", kGoodCase);
+  Outcome o = cli("run good.toml");
+  ASSERT_EQ(o.status, 0) << o.err;
+  EXPECT_EQ(o.err, "") << "stderr is a file here: no progress unless --progress";
+  o = cli("run good.toml --progress --quiet");
+  EXPECT_EQ(o.err, "");
+  o = cli("run good.toml --progress");
+  EXPECT_NE(o.err.find("roundtrip: gap 2 of 2 done"), std::string::npos) << o.err;
+}
+
+// A second Ctrl-C does not wait for the current frequency: the process dies of the signal and
+// removes its temporary results file (the first one stops the run cleanly: resume_test.cc).
+TEST_F(Cli, SecondInterruptLeavesNoTemporaryFile) {
   const std::string demo =
       slurp(fs::path(ROUNDTRIP_SOURCE_DIR) / "cases" / "sphere_plate_afm.toml");
   write("long.toml", demo);  // about 40 s: certainly still running after the pause below
   const std::string cmd = fmt::format(
       "cd '{}' && ('{}' run long.toml --quiet -o long.h5 > out.txt 2> err.txt & pid=$!; "
-      "sleep 1; kill -INT $pid; wait $pid; echo $? > status.txt)",
+      "sleep 1; kill -INT $pid; sleep 0.05; kill -INT $pid; wait $pid; echo $? > status.txt)",
       dir_.string(), ROUNDTRIP_CLI);
   ASSERT_EQ(std::system(cmd.c_str()), 0);
   EXPECT_EQ(slurp(dir_ / "status.txt"), "130\n") << "128 + SIGINT expected";
-  EXPECT_FALSE(any_h5());
+  for (const auto& e : fs::directory_iterator(dir_))
+    EXPECT_EQ(e.path().string().find(".tmp."), std::string::npos) << e.path();
 }
 
 }  // namespace

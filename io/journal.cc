@@ -1,0 +1,276 @@
+#include "io/journal.h"
+
+#include <fcntl.h>
+#include <fmt/format.h>
+#include <unistd.h>
+
+#include <bit>
+#include <cerrno>
+#include <chrono>
+#include <cstdio>
+#include <cstdlib>
+#include <cstring>
+#include <fstream>
+#include <sstream>
+
+#include "io/errors.h"
+
+namespace roundtrip::io {
+namespace {
+
+constexpr const char* kMagic = "roundtrip-journal 1";
+constexpr std::chrono::milliseconds kSyncInterval{200};  // power loss loses at most this much
+
+std::string escape(const std::string& s) {
+  std::string out;
+  for (char c : s) {
+    if (c == '\n')
+      out += "\\n";
+    else if (c == '\r')
+      out += "\\r";
+    else
+      out += c;
+  }
+  return out;
+}
+
+std::string hex(double v) {
+  char buf[64];
+  std::snprintf(buf, sizeof buf, "%a", v);
+  return buf;
+}
+
+std::uint64_t bits(double xi) { return std::bit_cast<std::uint64_t>(xi); }
+
+std::string header_text(const JournalKey& key) {
+  std::string h = std::string(kMagic) + "\n";
+  h += fmt::format("hash {:016x}\n", journal_hash(key));
+  for (const auto& [k, v] : key) h += "key " + escape(k) + " = " + escape(v) + "\n";
+  h += "begin\n";
+  return h;
+}
+
+// First difference between the key a journal was written for and the case now, as a sentence.
+std::string first_difference(const JournalKey& old_key, const JournalKey& new_key) {
+  std::map<std::string, std::string> old_map(old_key.begin(), old_key.end());
+  for (const auto& [k, v] : new_key) {
+    const auto it = old_map.find(escape(k));
+    if (it == old_map.end()) return fmt::format("{} = {} was not set before", k, v);
+    if (it->second != escape(v)) return fmt::format("{} was {}, now {}", k, it->second, v);
+    old_map.erase(it);
+  }
+  if (!old_map.empty())
+    return fmt::format("{} = {} was set before, now it is not", old_map.begin()->first,
+                       old_map.begin()->second);
+  return "the header hash differs";
+}
+
+bool parse_record(const std::string& line, int& point, int& gap, double v[4]) {
+  if (line.size() < 2 || line[0] != 'c' || line[1] != ' ') return false;
+  const char* p = line.c_str() + 2;
+  char* end = nullptr;
+  errno = 0;
+  const long a = std::strtol(p, &end, 10);
+  if (end == p || errno) return false;
+  p = end;
+  const long b = std::strtol(p, &end, 10);
+  if (end == p || errno) return false;
+  p = end;
+  for (int i = 0; i < 4; ++i) {
+    v[i] = std::strtod(p, &end);
+    if (end == p) return false;
+    p = end;
+  }
+  while (*p == ' ') ++p;
+  if (*p != '\0' || a < 0 || b < 0) return false;
+  point = static_cast<int>(a);
+  gap = static_cast<int>(b);
+  return true;
+}
+
+void write_all(int fd, const std::string& s, const std::filesystem::path& path, bool sync) {
+  std::size_t done = 0;
+  while (done < s.size()) {
+    const ssize_t n = ::write(fd, s.data() + done, s.size() - done);
+    if (n < 0) {
+      if (errno == EINTR) continue;
+      throw CaseError(fmt::format("checkpoint journal \"{}\": write failed: {}", path.string(),
+                                  std::strerror(errno)));
+    }
+    done += static_cast<std::size_t>(n);
+  }
+  if (sync && ::fdatasync(fd) != 0 && errno != EINVAL)
+    throw CaseError(fmt::format("checkpoint journal \"{}\": flush to disk failed: {}",
+                                path.string(), std::strerror(errno)));
+}
+
+}  // namespace
+
+std::uint64_t journal_hash(const JournalKey& key) {
+  std::uint64_t h = 14695981039346656037ull;  // FNV-1a 64 offset basis
+  const auto feed = [&](const std::string& s) {
+    for (unsigned char c : s) {
+      h ^= c;
+      h *= 1099511628211ull;  // FNV-1a 64 prime
+    }
+    h ^= 0xff;  // separator that no UTF-8 text contains
+    h *= 1099511628211ull;
+  };
+  for (const auto& [k, v] : key) {
+    feed(k);
+    feed(v);
+  }
+  return h;
+}
+
+class Journal::PointStore final : public ContributionStore {
+ public:
+  PointStore(Journal& j, int point) : j_(j), point_(point) {}
+  bool lookup(int gap_index, double xi, Spectral& s) override {
+    return j_.lookup(point_, gap_index, xi, s);
+  }
+  void record(int gap_index, double xi, const Spectral& s) override {
+    j_.record(point_, gap_index, xi, s);
+  }
+
+ private:
+  Journal& j_;
+  int point_;
+};
+
+Journal::Journal(std::filesystem::path path, const JournalKey& key, bool restart)
+    : path_(std::move(path)) {
+  const std::string where = fmt::format("checkpoint journal \"{}\"", path_.string());
+  std::error_code ec;
+  const std::string header = header_text(key);
+  bool fresh = true;
+  if (std::filesystem::exists(path_, ec) && !restart) {
+    std::ifstream in(path_, std::ios::binary);
+    std::ostringstream ss;
+    ss << in.rdbuf();
+    const std::string text = ss.str();
+    const std::size_t good_end = text.rfind('\n') == std::string::npos ? 0 : text.rfind('\n') + 1;
+    // Header.
+    std::istringstream lines(text.substr(0, good_end));
+    std::string line;
+    std::getline(lines, line);
+    if (line != kMagic)
+      throw CaseError(fmt::format(
+          "{}: not a roundtrip checkpoint journal (first line \"{}\"); move it away or rerun "
+          "with --restart",
+          where, line.substr(0, 60)));
+    JournalKey old_key;
+    std::string old_hash;
+    bool begun = false;
+    while (std::getline(lines, line)) {
+      if (line == "begin") {
+        begun = true;
+        break;
+      }
+      if (line.rfind("hash ", 0) == 0) {
+        old_hash = line.substr(5);
+      } else if (line.rfind("key ", 0) == 0) {
+        const auto eq = line.find(" = ");
+        if (eq == std::string::npos) break;
+        old_key.emplace_back(line.substr(4, eq - 4), line.substr(eq + 3));
+      } else {
+        break;
+      }
+    }
+    if (!begun) {
+      // A run killed while writing the header saved nothing yet: start over.
+      fresh = true;
+    } else {
+      if (old_hash != fmt::format("{:016x}", journal_hash(key)) || header != header_text(key)) {
+        throw CaseError(fmt::format(
+            "{}: the case changed since this checkpoint was written ({}); it will not be "
+            "resumed. Rerun with --restart to discard it and start over",
+            where, first_difference(old_key, key)));
+      }
+      fresh = false;
+      std::size_t offset = static_cast<std::size_t>(lines.tellg());
+      int lineno = 1 + static_cast<int>(key.size()) + 2;
+      while (offset < good_end) {
+        const std::size_t nl = text.find('\n', offset);
+        const std::string rec = text.substr(offset, nl - offset);
+        ++lineno;
+        int point = 0, gap = 0;
+        double v[4];
+        if (!parse_record(rec, point, gap, v)) {
+          if (nl + 1 == good_end) {  // a damaged last record: drop it
+            break;
+          }
+          throw CaseError(fmt::format(
+              "{}:{}: damaged record \"{}\"; rerun with --restart to discard the journal", where,
+              lineno, rec.substr(0, 60)));
+        }
+        records_[{point, gap, bits(v[0])}] = Spectral{v[1], v[2], v[3]};
+        offset = nl + 1;
+      }
+      loaded_ = records_.size();
+      // Cut a torn or damaged tail so that appended records start on a fresh line.
+      if (offset != text.size()) {
+        if (::truncate(path_.c_str(), static_cast<off_t>(offset)) != 0)
+          throw CaseError(
+              fmt::format("{}: cannot repair its torn last line: {}", where, std::strerror(errno)));
+      }
+    }
+  }
+  if (fresh) {
+    fd_ = ::open(path_.c_str(), O_WRONLY | O_CREAT | O_TRUNC | O_CLOEXEC, 0644);
+    if (fd_ < 0)
+      throw CaseError(fmt::format("{}: cannot create it: {}", where, std::strerror(errno)));
+    write_all(fd_, header, path_, true);
+  } else {
+    fd_ = ::open(path_.c_str(), O_WRONLY | O_APPEND | O_CLOEXEC);
+    if (fd_ < 0)
+      throw CaseError(
+          fmt::format("{}: cannot open it for appending: {}", where, std::strerror(errno)));
+  }
+}
+
+Journal::~Journal() {
+  if (fd_ >= 0) {
+    ::fdatasync(fd_);
+    ::close(fd_);
+  }
+}
+
+ContributionStore* Journal::store(int point) {
+  std::lock_guard<std::mutex> lock(mutex_);
+  auto& s = stores_[point];
+  if (!s) s = std::make_unique<PointStore>(*this, point);
+  return s.get();
+}
+
+bool Journal::lookup(int point, int gap, double xi, Spectral& s) {
+  std::lock_guard<std::mutex> lock(mutex_);
+  const auto it = records_.find({point, gap, bits(xi)});
+  if (it == records_.end()) return false;
+  s = it->second;
+  ++reused_;
+  return true;
+}
+
+void Journal::record(int point, int gap, double xi, const Spectral& s) {
+  const std::string line =
+      fmt::format("c {} {} {} {} {} {}\n", point, gap, hex(xi), hex(s.value), hex(s.d1), hex(s.d2));
+  std::lock_guard<std::mutex> lock(mutex_);
+  // write() alone survives kill -9 (the kernel holds the data); fdatasync, for power loss and
+  // OS crashes, costs about a millisecond here, more than a plate-plate frequency, so it runs
+  // at most every kSyncInterval.
+  const auto now = std::chrono::steady_clock::now();
+  const bool sync = now - last_sync_ >= kSyncInterval;
+  write_all(fd_, line, path_, sync);
+  if (sync) last_sync_ = now;
+  records_[{point, gap, bits(xi)}] = s;
+}
+
+void Journal::remove() {
+  if (fd_ >= 0) ::close(fd_);
+  fd_ = -1;
+  std::error_code ec;
+  std::filesystem::remove(path_, ec);
+}
+
+}  // namespace roundtrip::io

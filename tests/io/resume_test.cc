@@ -1,0 +1,261 @@
+// Checkpoint and resume: the journal keeps every finished frequency exactly (hexfloat), a rerun
+// reuses them and gives bit-identical results, a changed case is refused naming the field, and
+// a run killed with SIGKILL or interrupted with SIGINT resumes to the uninterrupted numbers.
+// Bit-identity is the criterion because the frequency rules ask for the same xi in the same
+// order on every run (solver/run.h), so nothing but the journal can change the sums.
+#include <fmt/format.h>
+#include <gtest/gtest.h>
+#include <sys/wait.h>
+#include <unistd.h>
+
+#include <cmath>
+#include <cstdlib>
+#include <cstring>
+#include <filesystem>
+#include <fstream>
+#include <limits>
+#include <sstream>
+#include <string>
+
+#include "io/errors.h"
+#include "io/journal.h"
+
+namespace roundtrip::io {
+namespace {
+
+namespace fs = std::filesystem;
+
+std::string slurp(const fs::path& p) {
+  std::ifstream in(p, std::ios::binary);
+  std::ostringstream s;
+  s << in.rdbuf();
+  return s.str();
+}
+
+fs::path fresh_dir(const std::string& name) {
+  const fs::path d =
+      fs::temp_directory_path() / fmt::format("roundtrip_resume_{}_{}", name, getpid());
+  fs::remove_all(d);
+  fs::create_directories(d);
+  return d;
+}
+
+const JournalKey kKey = {{"roundtrip_version", "0.1.0"},
+                         {"conditions.temperature", "\"300 K\""},
+                         {"separations.values[0]", "\"1 um\""}};
+
+TEST(Journal, RecordsComeBackBitIdenticalAfterReopening) {
+  const fs::path dir = fresh_dir("bits");
+  const double awkward[] = {0.1,  -1.0 / 3.0,    std::numeric_limits<double>::denorm_min(),
+                            -0.0, 6.02214076e23, std::nextafter(1.0, 2.0)};
+  {
+    Journal j(dir / "r.h5.journal", kKey, false);
+    EXPECT_EQ(j.loaded(), 0u);
+    for (int i = 0; i < 6; ++i)
+      j.store(i % 2)->record(i, awkward[i] * 1e14,
+                             Spectral{awkward[i], awkward[5 - i], -awkward[i]});
+  }
+  Journal j(dir / "r.h5.journal", kKey, false);
+  EXPECT_EQ(j.loaded(), 6u);
+  for (int i = 0; i < 6; ++i) {
+    Spectral s;
+    ASSERT_TRUE(j.store(i % 2)->lookup(i, awkward[i] * 1e14, s)) << i;
+    EXPECT_EQ(std::memcmp(&s.value, &awkward[i], sizeof(double)), 0) << i;
+    EXPECT_EQ(std::memcmp(&s.d1, &awkward[5 - i], sizeof(double)), 0) << i;
+    Spectral other;
+    EXPECT_FALSE(j.store((i + 1) % 2)->lookup(i, awkward[i] * 1e14, other))
+        << "point is part of the key";
+  }
+  EXPECT_EQ(j.reused(), 6u);
+  fs::remove_all(dir);
+}
+
+TEST(Journal, ATornLastLineIsDroppedAndTheRestKept) {
+  const fs::path dir = fresh_dir("torn");
+  const fs::path p = dir / "r.h5.journal";
+  {
+    Journal j(p, kKey, false);
+    j.store(0)->record(0, 1e14, Spectral{-0.5, 1.0, 2.0});
+    j.store(0)->record(0, 2e14, Spectral{-0.25, 1.0, 2.0});
+  }
+  std::ofstream(p, std::ios::app) << "c 0 0 0x1.6bcc41e9p+47 -0x1";  // killed mid-write
+  {
+    Journal j(p, kKey, false);
+    EXPECT_EQ(j.loaded(), 2u);
+    j.store(0)->record(0, 3e14, Spectral{-0.125, 1.0, 2.0});
+  }
+  Journal j(p, kKey, false);
+  EXPECT_EQ(j.loaded(), 3u);
+  fs::remove_all(dir);
+}
+
+TEST(Journal, AChangedKeyIsRefusedNamingTheFieldUnlessRestarted) {
+  const fs::path dir = fresh_dir("changed");
+  const fs::path p = dir / "r.h5.journal";
+  { Journal(p, kKey, false).store(0)->record(0, 1e14, Spectral{-0.5, 1.0, 2.0}); }
+  JournalKey changed = kKey;
+  changed[1].second = "\"0 K\"";
+  try {
+    Journal j(p, changed, false);
+    ADD_FAILURE() << "a changed case was resumed";
+  } catch (const CaseError& e) {
+    const std::string m = e.what();
+    EXPECT_NE(m.find("conditions.temperature was \"300 K\", now \"0 K\""), std::string::npos) << m;
+    EXPECT_NE(m.find("--restart"), std::string::npos) << m;
+  }
+  Journal j(p, changed, true);
+  EXPECT_EQ(j.loaded(), 0u);
+  fs::remove_all(dir);
+}
+
+// --- The program end to end -------------------------------------------------------------------
+
+// A sphere-plate case of about two seconds on 2 cores (l_max fixed so that the work per gap
+// does not depend on the tolerance rule): invented numbers.
+const std::string kCase = R"(geometry = "sphere-plate"
+[sphere]
+radius = "5 um"
+material = "gold-drude"
+[plate]
+material = "gold-drude"
+[separations]
+values = ["1 um", "1.5 um", "2 um"]
+[conditions]
+temperature = "300 K"
+[numerics]
+rel_tol = 1e-4
+l_max = 100
+)";
+
+class Resume : public ::testing::Test {
+ protected:
+  void SetUp() override {
+    dir_ = fresh_dir(::testing::UnitTest::GetInstance()->current_test_info()->name());
+    std::ofstream(dir_ / "sp.toml") << kCase;
+  }
+  void TearDown() override {
+    if (!HasFailure()) fs::remove_all(dir_);
+  }
+  int sh(const std::string& script) {
+    const std::string cmd = fmt::format("cd '{}' && {}", dir_.string(), script);
+    const int raw = std::system(cmd.c_str());
+    return WIFEXITED(raw) ? WEXITSTATUS(raw) : -1;
+  }
+  // Start a run in the background, wait until its journal holds `records` records, send
+  // `signal`; returns the exit status of the run.
+  int interrupt(const std::string& out, int records, const char* signal) {
+    const int header = 14;  // magic, hash, 11 key lines, begin (for kCase)
+    return sh(fmt::format(
+        "('{}' run sp.toml --quiet -o {} > run.out 2> run.err & pid=$!; "
+        "for i in $(seq 400); do n=$(wc -l 2>/dev/null < {}.journal || echo 0); "
+        "[ \"$n\" -ge {} ] && break; sleep 0.025; done; kill -{} $pid; wait $pid; exit $?)",
+        ROUNDTRIP_CLI, out, out, header + records, signal));
+  }
+  // "SAME" if every dataset under results/ and frequencies/ is bit-identical.
+  std::string compare(const std::string& a, const std::string& b) {
+    std::ofstream(dir_ / "cmp.py") << R"PY(import sys, h5py, numpy as np
+a, b = h5py.File(sys.argv[1], "r"), h5py.File(sys.argv[2], "r")
+bad = []
+def visit(name, obj):
+    if isinstance(obj, h5py.Dataset) and not name.endswith("wall_time_s"):
+        x, y = obj[()], b[name][()]
+        if not (np.shape(x) == np.shape(y) and np.array_equal(np.asarray(x).view(np.uint8), np.asarray(y).view(np.uint8))):
+            bad.append(name)
+for g in ["results", "frequencies"]:
+    a[g].visititems(lambda n, o: visit(g + "/" + n, o))
+print("SAME" if not bad else "DIFFER " + " ".join(bad))
+)PY";
+    sh(fmt::format("/usr/bin/python3 cmp.py {} {} > cmp.txt 2>&1", a, b));
+    return slurp(dir_ / "cmp.txt");
+  }
+  fs::path dir_;
+};
+
+TEST_F(Resume, KillNineMidRunThenRerunReusesContributionsAndMatchesAnUninterruptedRun) {
+  ASSERT_EQ(
+      sh(fmt::format("'{}' run sp.toml --quiet -o full.h5 > full.out 2> full.err", ROUNDTRIP_CLI)),
+      0)
+      << slurp(dir_ / "full.err");
+  const int killed = interrupt("sp.h5", 3, "9");
+  ASSERT_EQ(killed, 128 + 9) << "the run should still have been running: "
+                             << slurp(dir_ / "run.err");
+  EXPECT_FALSE(fs::exists(dir_ / "sp.h5"));
+  ASSERT_TRUE(fs::exists(dir_ / "sp.h5.journal"));
+  ASSERT_EQ(sh(fmt::format("'{}' run sp.toml --quiet -o sp.h5 > re.out 2> re.err", ROUNDTRIP_CLI)),
+            0);
+  const std::string err = slurp(dir_ / "re.err");
+  const auto at = err.find("resumed: ");
+  ASSERT_NE(at, std::string::npos) << err;
+  EXPECT_GT(std::stoi(err.substr(at + 9)), 0) << err;
+  EXPECT_EQ(compare("sp.h5", "full.h5"), "SAME\n");
+  const auto table = [&](const char* f) {
+    const std::string t = slurp(dir_ / f);
+    return t.substr(0, t.find("\nresults: "));
+  };
+  EXPECT_EQ(table("re.out"), table("full.out"));
+  EXPECT_FALSE(fs::exists(dir_ / "sp.h5.journal")) << "the journal is removed on success";
+  // The killed process's temporary file is cleaned up by the next run.
+  for (const auto& e : fs::directory_iterator(dir_))
+    EXPECT_EQ(e.path().string().find(".tmp."), std::string::npos) << e.path();
+}
+
+TEST_F(Resume, CtrlCWritesAValidFileOfFinishedGapsKeepsTheJournalAndTheRerunIsBitIdentical) {
+  ASSERT_EQ(
+      sh(fmt::format("'{}' run sp.toml --quiet -o full.h5 > full.out 2> full.err", ROUNDTRIP_CLI)),
+      0);
+  // The first gap has about 12 frequencies; wait until the second gap has started.
+  const int status = interrupt("sp.h5", 14, "INT");
+  ASSERT_EQ(status, 130) << slurp(dir_ / "run.err");
+  EXPECT_NE(slurp(dir_ / "run.err").find("interrupted: "), std::string::npos);
+  ASSERT_TRUE(fs::exists(dir_ / "sp.h5"));
+  ASSERT_TRUE(fs::exists(dir_ / "sp.h5.journal"));
+  std::ofstream(dir_ / "partial.py") << R"PY(import h5py
+f = h5py.File("sp.h5", "r")
+g = f["results/gap"][:]
+full = h5py.File("full.h5", "r")
+assert int(f.attrs["complete"]) == 0 and int(f.attrs["gaps_planned"]) == 3
+assert 1 <= len(g) < 3, g
+n = len(g)
+assert (f["results/energy"][:] == full["results/energy"][:n]).all()
+assert len(f["frequencies"]) == n
+print("OK", n)
+)PY";
+  ASSERT_EQ(sh("/usr/bin/python3 partial.py > partial.txt 2>&1"), 0) << slurp(dir_ / "partial.txt");
+  ASSERT_EQ(sh(fmt::format("'{}' run sp.toml --quiet -o sp.h5 > re.out 2> re.err", ROUNDTRIP_CLI)),
+            0);
+  EXPECT_NE(slurp(dir_ / "re.err").find("resumed: "), std::string::npos);
+  EXPECT_EQ(compare("sp.h5", "full.h5"), "SAME\n");
+}
+
+TEST_F(Resume, AChangedCaseRefusesToResumeNamingTheFieldAndRestartDiscardsTheJournal) {
+  // Title and [output] do not change the numbers: changing them does not block a resume.
+  ASSERT_EQ(interrupt("sp.h5", 2, "9"), 128 + 9);
+  std::ofstream(dir_ / "sp.toml") << "title = \"renamed\"\n" + kCase;
+  EXPECT_EQ(sh(fmt::format("'{}' run sp.toml --quiet -o sp.h5 > t.out 2> t.err", ROUNDTRIP_CLI)),
+            0);
+  EXPECT_NE(slurp(dir_ / "t.err").find("resumed: "), std::string::npos) << slurp(dir_ / "t.err");
+  fs::remove(dir_ / "sp.h5");
+
+  std::ofstream(dir_ / "sp.toml") << kCase;
+  ASSERT_EQ(interrupt("sp.h5", 2, "9"), 128 + 9);
+  std::string changed = kCase;
+  changed.replace(changed.find("\"300 K\""), 7, "\"290 K\"");
+  std::ofstream(dir_ / "sp.toml") << changed;
+  EXPECT_EQ(sh(fmt::format("'{}' run sp.toml --quiet -o sp.h5 > c.out 2> c.err", ROUNDTRIP_CLI)),
+            1);
+  const std::string err = slurp(dir_ / "c.err");
+  EXPECT_NE(err.find("conditions.temperature was \"300 K\", now \"290 K\""), std::string::npos)
+      << err;
+  EXPECT_NE(err.find("--restart"), std::string::npos) << err;
+  EXPECT_FALSE(fs::exists(dir_ / "sp.h5"));
+  EXPECT_TRUE(fs::exists(dir_ / "sp.h5.journal")) << "a refused journal is kept";
+  EXPECT_EQ(sh(fmt::format("'{}' run sp.toml --quiet --restart -o sp.h5 > r.out 2> r.err",
+                           ROUNDTRIP_CLI)),
+            0)
+      << slurp(dir_ / "r.err");
+  EXPECT_EQ(slurp(dir_ / "r.err").find("resumed"), std::string::npos);
+  EXPECT_TRUE(fs::exists(dir_ / "sp.h5"));
+}
+
+}  // namespace
+}  // namespace roundtrip::io
