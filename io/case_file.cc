@@ -23,10 +23,11 @@ namespace {
 
 using geometry::ConfigurationKind;
 
-constexpr int kMaxGaps = 100000;      // a typo guard: more gaps than any sweep needs
-constexpr double kMaxRelTol = 0.1;    // beyond 10 % the numbers are not worth printing
-constexpr double kMinRelTol = 1e-14;  // below this, round-off of the sums dominates
-constexpr int kMaxLMax = 100000;      // a typo guard for the multipole cut-off
+constexpr int kMaxGaps = 100000;               // a typo guard: more gaps than any sweep needs
+constexpr double kMaxRelTol = 0.1;             // beyond 10 % the numbers are not worth printing
+constexpr double kMinRelTol = 1e-14;           // below this, round-off of the sums dominates
+constexpr int kMaxLMax = 100000;               // a typo guard for the multipole cut-off
+constexpr std::size_t kMaxScanPoints = 10000;  // a typo guard: more runs than any scan needs
 
 std::string join(const std::vector<std::string>& v) {
   return fmt::format("{}", fmt::join(v, ", "));
@@ -232,21 +233,177 @@ geometry::Configuration CaseSpec::configuration() const {
   return c;
 }
 
-CaseSpec parse_case(std::string text, const std::filesystem::path& path) {
-  CaseSpec spec;
-  spec.path = path;
-  spec.text = std::move(text);
-  const std::string name = path.string();
-  toml::table root;
+namespace {
+
+toml::table parse_toml(const std::string& text, const std::string& name) {
   try {
-    root = toml::parse(std::string_view(spec.text), std::string_view(name));
+    return toml::parse(std::string_view(text), std::string_view(name));
   } catch (const toml::parse_error& e) {
     throw CaseError(fmt::format("{}:{}:{}: malformed TOML: {}", name, e.source().begin.line,
                                 e.source().begin.column, e.description()));
   }
+}
+
+// Where a [scan] key lands in the case: (table, key) pairs.
+std::vector<std::pair<std::string, std::string>> scan_targets(const std::string& key,
+                                                              const toml::table& root) {
+  if (key == "radius") return {{"sphere", "radius"}};
+  if (key == "temperature") return {{"conditions", "temperature"}};
+  if (key == "material") {
+    std::vector<std::pair<std::string, std::string>> t{{"plate", "material"}};
+    if (root.contains("plate2")) t.emplace_back("plate2", "material");
+    if (root.contains("sphere")) t.emplace_back("sphere", "material");
+    return t;
+  }
+  const auto dot = key.find('.');
+  return {{key.substr(0, dot), key.substr(dot + 1)}};
+}
+
+// The [scan] table: axes with their values checked one by one (field scan.KEY[i]).
+std::vector<ScanAxis> parse_scan_axes(const toml::table& root, const toml::table& scan,
+                                      ConfigurationKind kind) {
+  check_keys(scan, "scan", {"radius", "temperature", "material", "sphere", "plate", "plate2"});
+  for (const char* body : {"sphere", "plate", "plate2"})
+    if (const toml::node* n = scan.get(body)) {
+      const auto* t = n->as_table();
+      if (t == nullptr)
+        throw error_at(*n, fmt::format("scan.{}", body),
+                       fmt::format("expected {}.material = [...] inside [scan]", body));
+      check_keys(*t, fmt::format("scan.{}", body), {"material"});
+    }
+  std::vector<ScanAxis> axes;
+  std::size_t points = 1;
+  for (const std::string& key : scan_keys()) {
+    const toml::node* n = scan.at_path(key).node();
+    if (n == nullptr) continue;
+    const std::string field = "scan." + key;
+    const bool sphere_key = key == "radius" || key == "sphere.material";
+    if (sphere_key && kind != ConfigurationKind::kSpherePlate)
+      throw error_at(*n, field, "only sphere-plate cases have a sphere to scan");
+    if (key == "plate2.material" && kind != ConfigurationKind::kPlatePlate)
+      throw error_at(*n, field, "only plate-plate cases have a [plate2]");
+    const auto* arr = n->as_array();
+    if (arr == nullptr || arr->empty())
+      throw error_at(*n, field, "expected a non-empty array of strings, e.g. [\"a\", \"b\"]");
+    ScanAxis axis{key, {}};
+    for (std::size_t i = 0; i < arr->size(); ++i) {
+      const toml::node& e = (*arr)[i];
+      const std::string fi = fmt::format("{}[{}]", field, i);
+      const auto* str = e.as_string();
+      if (str == nullptr) throw error_at(e, fi, "expected a string in double quotes");
+      if (key == "radius") {
+        positive_length(e, fi, geometry::radius_problem);
+      } else if (key == "temperature") {
+        if (parse_quantity(e, Dimension::kTemperature, fi) < 0.0)
+          throw error_at(e, fi, "a temperature must be >= 0 K");
+      }
+      if (std::find(axis.values.begin(), axis.values.end(), str->get()) != axis.values.end())
+        throw error_at(e, fi, "listed twice");
+      axis.values.push_back(str->get());
+    }
+    points *= axis.values.size();
+    if (points > kMaxScanPoints)
+      throw error_at(*n, field, fmt::format("the scan has more than {} points", kMaxScanPoints));
+    axes.push_back(std::move(axis));
+  }
+  if (axes.empty())
+    throw table_error(scan, "scan",
+                      "an empty [scan] (give e.g. temperature = [\"0 K\", \"300 K\"])");
+  (void)root;
+  return axes;
+}
+
+CaseSpec parse_root(toml::table& root, CaseSpec spec);
+
+// Parse `text`; if it has a [scan], put value choice[a] of each axis a in place first.
+CaseSpec parse_with_choice(const std::string& text, const std::filesystem::path& path,
+                           const std::vector<std::size_t>* choice) {
+  const std::string name = path.string();
+  toml::table root = parse_toml(text, name);
+  CaseSpec spec;
+  spec.path = path;
+  spec.text = text;
+  if (const toml::node* sn = root.get("scan")) {
+    const auto* scan = sn->as_table();
+    if (scan == nullptr) throw error_at(*sn, "scan", "expected a table, e.g. [scan]");
+    const toml::node* g = root.get("geometry");
+    const auto kind = g && g->is_string()
+                          ? geometry::configuration_kind_from_string(g->as_string()->get())
+                          : std::nullopt;
+    spec.scan = parse_scan_axes(root, *scan, kind.value_or(ConfigurationKind::kPlatePlate));
+    // Move the chosen values into the case (moved nodes keep their line for messages).
+    toml::table scan_copy = std::move(*root.get("scan")->as_table());
+    root.erase("scan");
+    for (std::size_t a = 0; a < spec.scan.size(); ++a) {
+      const std::size_t i = choice ? (*choice)[a] : 0;
+      const auto targets = scan_targets(spec.scan[a].key, root);
+      toml::value<std::string>* v =
+          scan_copy.at_path(spec.scan[a].key).as_array()->get(i)->as_string();
+      for (std::size_t j = 0; j < targets.size(); ++j) {
+        const auto& [table, key] = targets[j];
+        toml::node* t = root.get(table);
+        if (t == nullptr) {
+          root.insert(table, toml::table{});
+          t = root.get(table);
+        }
+        auto* tt = t->as_table();
+        if (tt == nullptr) continue;  // parse_root names the bad table
+        if (j + 1 < targets.size())
+          tt->insert_or_assign(key, toml::value<std::string>(*v));
+        else
+          tt->insert_or_assign(key, std::move(*v));  // keeps the scan line for messages
+      }
+    }
+  }
+  return parse_root(root, std::move(spec));
+}
+
+}  // namespace
+
+std::vector<std::string> scan_keys() {
+  return {"radius",          "temperature",    "material",
+          "sphere.material", "plate.material", "plate2.material"};
+}
+
+CaseSpec parse_case(std::string text, const std::filesystem::path& path) {
+  CaseSpec spec = parse_with_choice(text, path, nullptr);
+  // Every point must be a valid case (materials of the scan, combinations).
+  if (!spec.scan.empty()) (void)scan_points(spec);
+  return spec;
+}
+
+std::vector<ScanPoint> scan_points(const CaseSpec& spec) {
+  if (spec.scan.empty()) return {ScanPoint{{}, spec}};
+  std::vector<ScanPoint> out;
+  std::vector<std::size_t> choice(spec.scan.size(), 0);
+  while (true) {
+    ScanPoint p;
+    for (std::size_t a = 0; a < spec.scan.size(); ++a)
+      p.parameters.emplace_back(spec.scan[a].key, spec.scan[a].values[choice[a]]);
+    try {
+      p.spec = parse_with_choice(spec.text, spec.path, &choice);
+    } catch (const CaseError& e) {
+      std::string params;
+      for (const auto& [k, v] : p.parameters)
+        params += (params.empty() ? "" : ", ") + k + " = \"" + v + "\"";
+      throw CaseError(fmt::format("{} (at the scan point {})", e.what(), params));
+    }
+    out.push_back(std::move(p));
+    std::size_t a = spec.scan.size();
+    while (a > 0 && ++choice[a - 1] == spec.scan[a - 1].values.size()) choice[--a] = 0;
+    if (a == 0) break;
+  }
+  return out;
+}
+
+namespace {
+
+CaseSpec parse_root(toml::table& root, CaseSpec spec) {
+  const std::filesystem::path path = spec.path;
+  const std::string name = path.string();
   check_keys(root, "",
              {"title", "geometry", "field", "plate", "plate2", "sphere", "medium", "separations",
-              "conditions", "compute", "numerics", "output", "materials"});
+              "conditions", "compute", "numerics", "output", "materials", "scan"});
 
   spec.title = optional_string(root, "title", "title").value_or("");
   const std::string kind =
@@ -390,6 +547,8 @@ CaseSpec parse_case(std::string text, const std::filesystem::path& path) {
     throw CaseError(name + ": " + p);
   return spec;
 }
+
+}  // namespace
 
 CaseSpec load_case(const std::filesystem::path& path) {
   std::ifstream in(path, std::ios::binary);

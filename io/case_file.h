@@ -17,6 +17,12 @@
 
 namespace roundtrip::io {
 
+/// One axis of a [scan]: a case key and the values it takes, as written in the case file.
+struct ScanAxis {
+  std::string key;                  ///< "radius", "temperature", "material", "sphere.material", ...
+  std::vector<std::string> values;  ///< e.g. "10 um", "gold-plasma"
+};
+
 struct CaseSpec {
   std::filesystem::path path;  ///< the case file as given
   std::string text;            ///< its contents, verbatim
@@ -36,9 +42,24 @@ struct CaseSpec {
   std::string output_where;  ///< "file:line" of output.file, for messages
   /// Every material the case uses (plates, layers, sphere, medium), in order of first mention.
   std::vector<MaterialPtr> materials;
+  /// [scan] axes (empty without [scan]). The fields above are those of the first scan point.
+  std::vector<ScanAxis> scan;
 
   geometry::Configuration configuration() const;
 };
+
+/// One point of a scan: its parameters (scan key, value as written) and the complete case.
+struct ScanPoint {
+  std::vector<std::pair<std::string, std::string>> parameters;
+  CaseSpec spec;
+};
+
+/// Every point of the case's scan, the Cartesian product of the axes in the order of
+/// scan_keys() with the last axis varying fastest; without [scan], the case itself (no
+/// parameters).
+std::vector<ScanPoint> scan_points(const CaseSpec& spec);
+/// The keys [scan] accepts, in the order scan points vary (slowest first).
+std::vector<std::string> scan_keys();
 
 /// Parse and validate case text; `path` is used in messages and anchors relative table paths.
 CaseSpec parse_case(std::string text, const std::filesystem::path& path);

@@ -16,7 +16,8 @@ Progress::Progress(std::ostream& err, bool terminal, int total_gaps, std::string
       terminal_(terminal),
       total_(total_gaps),
       prefix_(std::move(prefix)),
-      start_(std::chrono::steady_clock::now()) {}
+      start_(std::chrono::steady_clock::now()),
+      last_emit_(terminal ? -1e9 : 0.0) {}
 
 double Progress::elapsed() const {
   return std::chrono::duration<double>(std::chrono::steady_clock::now() - start_).count();

@@ -41,7 +41,7 @@ class Progress {
   int done_ = 0;
   long finished_evaluations_ = 0;
   std::map<int, int> running_;  // gap -> evaluations so far
-  double last_emit_ = -1e9;
+  double last_emit_;            // s since start_; lines wait kLineInterval from the start
   bool dirty_ = false;
 };
 

@@ -68,34 +68,62 @@ std::vector<double> column(const RunResult& r, F f) {
   return out;
 }
 
-void write_file(H5::H5File& file, const RunResult& r, const ResultsInfo& info) {
-  const QuantityUnits u = quantity_units(r.per_area);
-  const Quantities& q = info.quantities;
-
+// File-level attributes and /input (the same with and without a scan).
+void write_common(H5::H5File& file, const ResultsInfo& info) {
   attr(file, "format", std::string(kResultsFormatName));
   attr(file, "format_version", kResultsFormatVersion);
   attr(file, "roundtrip_version", std::string(kVersion));
   attr(file, "git_commit", std::string(kGitCommit));
   attr(file, "created_utc", iso8601_utc_now());
-  attr(file, "threads", r.threads);
-  attr(file, "wall_time_s", r.wall_seconds);
-  attr(file, "geometry", r.kind);
-  attr(file, "description", r.description);
   attr(file, "title", info.title);
-  attr(file, "per_area", r.per_area ? 1 : 0);
-  attr(file, "temperature_K", info.temperature_K);
-  attr(file, "rel_tol", info.rel_tol);
-  attr(file, "frequency_rule", info.frequency_rule);
-  attr(file, "complete", info.complete ? 1 : 0);
-  attr(file, "gaps_planned",
-       info.gaps_planned > 0 ? info.gaps_planned : static_cast<int>(r.points.size()));
-
   H5::Group input = file.createGroup("input");
   text_dataset(input, "case_file", info.case_text);
   {
     H5::DataSet ds = input.openDataSet("case_file");
     attr(ds, "path", info.case_path);
   }
+}
+
+void write_theta(H5::Group& res, const RunResult& r) {
+  const std::pair<const char*, const ThetaFit*> fits[] = {
+      {"energy", &r.theta_energy}, {"force", &r.theta_force}, {"gradient", &r.theta_gradient}};
+  bool any = false;
+  for (const auto& [name, fit] : fits) any = any || fit->valid;
+  if (!any) return;
+  H5::Group g = res.createGroup("pfa_theta");
+  attr(
+      g, "description",
+      std::string("fits of Q/Q_PFA = 1 + theta L/R + ... over the sweep (solver/pfa/theta_fit.h)"));
+  for (const auto& [name, fit] : fits) {
+    if (!fit->valid) continue;
+    H5::Group f = g.createGroup(name);
+    attr(f, "theta", fit->theta);
+    attr(f, "theta2", fit->theta2);
+    attr(f, "uncertainty", fit->uncertainty);
+    attr(f, "points", fit->points);
+    attr(f, "x_min", fit->x_min);
+    attr(f, "x_max", fit->x_max);
+    attr(f, "model", fit->model);
+  }
+}
+
+// One run (all gaps) into `file` (no scan) or into /scan/<k>.
+void write_run(H5::Group& file, const RunResult& r, const ResultsInfo& info) {
+  const QuantityUnits u = quantity_units(r.per_area);
+  const Quantities& q = info.quantities;
+
+  attr(file, "threads", r.threads);
+  attr(file, "wall_time_s", r.wall_seconds);
+  attr(file, "geometry", r.kind);
+  attr(file, "description", r.description);
+  attr(file, "per_area", r.per_area ? 1 : 0);
+  if (info.sphere_radius_m > 0.0) attr(file, "sphere_radius_m", info.sphere_radius_m);
+  attr(file, "temperature_K", info.temperature_K);
+  attr(file, "rel_tol", info.rel_tol);
+  attr(file, "frequency_rule", info.frequency_rule);
+  attr(file, "complete", info.complete ? 1 : 0);
+  attr(file, "gaps_planned",
+       info.gaps_planned > 0 ? info.gaps_planned : static_cast<int>(r.points.size()));
 
   H5::Group res = file.createGroup("results");
   vector_dataset(res, "gap", column(r, [](auto& p) { return p.gap; }), "m",
@@ -156,6 +184,8 @@ void write_file(H5::H5File& file, const RunResult& r, const ResultsInfo& info) {
       vector_dataset(res, "gradient_ratio", ratio(g, gp), "1", "gradient / gradient_pfa");
     }
   }
+
+  write_theta(res, r);
 
   std::set<std::string> trunc_names;
   for (const auto& p : r.points)
@@ -283,9 +313,48 @@ ResultsWriter::~ResultsWriter() {
 }
 
 void ResultsWriter::commit(const RunResult& result, const ResultsInfo& info) {
+  write([&](H5::H5File& file) {
+    write_common(file, info);
+    write_run(file, result, info);
+  });
+}
+
+void ResultsWriter::commit_scan(const std::vector<ScanRunResult>& runs, const ResultsInfo& common,
+                                int points_planned) {
+  write([&](H5::H5File& file) {
+    write_common(file, common);
+    bool complete = static_cast<int>(runs.size()) == points_planned;
+    double wall = 0.0;
+    for (const auto& run : runs) {
+      complete = complete && run.info.complete;
+      wall += run.result.wall_seconds;
+    }
+    attr(file, "scan_points", points_planned);
+    attr(file, "scan_points_written", static_cast<int>(runs.size()));
+    std::string keys;
+    if (!runs.empty())
+      for (const auto& [k, v] : runs.front().parameters) keys += (keys.empty() ? "" : ", ") + k;
+    attr(file, "scan_keys", keys);
+    attr(file, "complete", complete ? 1 : 0);
+    attr(file, "wall_time_s", wall);
+    H5::Group scan = file.createGroup("scan");
+    for (std::size_t i = 0; i < runs.size(); ++i) {
+      H5::Group g = scan.createGroup(std::to_string(i));
+      std::string label;
+      for (const auto& [k, v] : runs[i].parameters) {
+        attr(g, "scan." + k, v);
+        label += (label.empty() ? "" : ", ") + k + " = " + v;
+      }
+      attr(g, "scan_label", label);
+      write_run(g, runs[i].result, runs[i].info);
+    }
+  });
+}
+
+void ResultsWriter::write(const std::function<void(H5::H5File&)>& fill) {
   try {
     H5::H5File file(temp_.string(), H5F_ACC_TRUNC);
-    write_file(file, result, info);
+    fill(file);
     file.close();
   } catch (const H5::Exception& e) {
     throw CaseError(fmt::format("{} = \"{}\": writing the results file failed: {}", field_,

@@ -5,8 +5,13 @@
 // file at the final path is always complete. The temporary file is created when the writer is
 // constructed, before anything is computed: an unwritable path fails at once. All values are SI,
 // each dataset carries a `units` attribute.
+#include <H5Cpp.h>
+
 #include <filesystem>
+#include <functional>
 #include <string>
+#include <utility>
+#include <vector>
 
 #include "solver/run.h"
 
@@ -22,10 +27,18 @@ struct ResultsInfo {
   std::string case_text;       ///< the case file verbatim
   double temperature_K = 0.0;  ///< K
   double rel_tol = 0.0;
-  std::string frequency_rule;  ///< e.g. "matsubara"
-  Quantities quantities;       ///< which of energy / force / gradient were computed
-  bool complete = true;        ///< false: interrupted, only the finished gaps are in the file
-  int gaps_planned = 0;        ///< gaps the case asks for (>= the gaps in the file)
+  std::string frequency_rule;    ///< e.g. "matsubara"
+  Quantities quantities;         ///< which of energy / force / gradient were computed
+  bool complete = true;          ///< false: interrupted, only the finished gaps are in the file
+  int gaps_planned = 0;          ///< gaps the case asks for (>= the gaps in the file)
+  double sphere_radius_m = 0.0;  ///< sphere-plate: R (for L/R), else 0
+};
+
+/// One point of a [scan] with its parameters (scan key, value as written).
+struct ScanRunResult {
+  RunResult result;
+  ResultsInfo info;
+  std::vector<std::pair<std::string, std::string>> parameters;
 };
 
 /// SI units of energy, force and gradient: J, N, N/m (compact bodies) or J/m^2, Pa, Pa/m.
@@ -45,9 +58,14 @@ class ResultsWriter {
 
   /// Write everything into the temporary file, close it and rename it to the final path.
   void commit(const RunResult& result, const ResultsInfo& info);
+  /// Same for a scan: one group /scan/<k> per point (layout in README.md); `points_planned`
+  /// is the number of scan points of the case (more than runs.size() if interrupted).
+  void commit_scan(const std::vector<ScanRunResult>& runs, const ResultsInfo& common,
+                   int points_planned);
   const std::filesystem::path& path() const { return final_; }
 
  private:
+  void write(const std::function<void(H5::H5File&)>& fill);
   std::filesystem::path final_, temp_;
   std::string field_;
   bool committed_ = false;

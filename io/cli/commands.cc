@@ -147,42 +147,8 @@ JournalKey journal_key(const CaseSpec& spec) {
 }
 }  // namespace
 
-int run_command(const RunArgs& args, std::ostream& out, std::ostream& err) {
-  if (args.threads < 0)
-    throw CaseError(
-        fmt::format("--threads = {}: must be >= 1 (or 0 for the default)", args.threads));
-  const CaseSpec spec = load_case(args.case_path);
-  const std::shared_ptr<Geometry> geometry = build_geometry(spec);
-  const OutputChoice where = choose_output(args, spec);
-  ResultsWriter writer(where.path, where.field);  // fails now if the path is unwritable
-  Journal journal(journal_path(where.path), journal_key(spec), args.restart);
-  if (journal.loaded() > 0)
-    err << fmt::format("roundtrip: resuming from {} ({} contributions saved)\n",
-                       journal.path().string(), journal.loaded())
-        << std::flush;
-
-  RunOptions opts;
-  opts.frequency = spec.frequency;
-  opts.quantities = spec.quantities;
-  opts.threads = args.threads;
-  opts.store = journal.store(0);
-  opts.cancel = &cancel_requested();
-  const bool terminal = isatty(STDERR_FILENO) == 1;
-  const bool show = !args.quiet && (terminal || args.progress);
-  Progress progress(err, terminal, static_cast<int>(spec.gaps.size()));
-  if (show) {
-    opts.progress = [&](int done, int total) { progress.gap_done(done, total); };
-    opts.frequency_progress = [&](int gap, int n) { progress.frequency(gap, n); };
-  }
-  // Geometries that parallelise inside (sphere-plate) use the OpenMP default team size.
-  if (args.threads > 0) omp_set_num_threads(args.threads);
-  RunResult result = run_sweep(*geometry, spec.gaps, opts);
-  progress.finish();
-  if (geometry->parallel_inside()) result.threads = omp_get_max_threads();
-  if (journal.reused() > 0)
-    err << fmt::format("roundtrip: resumed: {} contributions reused from {}\n", journal.reused(),
-                       journal.path().string());
-
+namespace {
+ResultsInfo results_info(const CaseSpec& spec) {
   ResultsInfo info;
   info.title = spec.title;
   info.case_path = spec.path.string();
@@ -192,31 +158,127 @@ int run_command(const RunArgs& args, std::ostream& out, std::ostream& err) {
   info.frequency_rule = to_string(rule_of(spec));
   info.quantities = spec.quantities;
   info.gaps_planned = static_cast<int>(spec.gaps.size());
+  if (spec.kind == geometry::ConfigurationKind::kSpherePlate)
+    info.sphere_radius_m = spec.sphere_radius;
+  return info;
+}
 
-  const bool complete = std::all_of(result.points.begin(), result.points.end(),
-                                    [](const PointResult& p) { return p.complete; });
-  if (!complete) {
-    // Interrupted: the finished gaps go into a valid file; the journal keeps every finished
-    // frequency of the unfinished ones for the next run.
-    std::erase_if(result.points, [](const PointResult& p) { return !p.complete; });
-    info.complete = false;
-    if (!result.points.empty()) print_results(spec, result, out);
-    writer.commit(result, info);
+// One line per valid theta fit, below the table.
+void print_theta(const RunResult& r, std::ostream& out) {
+  const std::pair<const char*, const ThetaFit*> fits[] = {
+      {"E", &r.theta_energy}, {"F", &r.theta_force}, {"F\u2032", &r.theta_gradient}};
+  for (const auto& [q, fit] : fits) {
+    if (!fit->valid) continue;
+    out << fmt::format(
+        "\u03b8 fit: {0}/{0}_PFA = {1}: \u03b8 = {2:.4f} \u00b1 {3:.4f} ({4} gaps, "
+        "L/R from {5:.3g} to {6:.3g})\n",
+        q, fit->model, fit->theta, fit->uncertainty, fit->points, fit->x_min, fit->x_max);
+  }
+}
+
+std::string parameters_text(const std::vector<std::pair<std::string, std::string>>& params) {
+  std::string t;
+  for (const auto& [k, v] : params) t += (t.empty() ? "" : ", ") + k + " = " + v;
+  return t;
+}
+}  // namespace
+
+int run_command(const RunArgs& args, std::ostream& out, std::ostream& err) {
+  if (args.threads < 0)
+    throw CaseError(
+        fmt::format("--threads = {}: must be >= 1 (or 0 for the default)", args.threads));
+  const CaseSpec spec = load_case(args.case_path);
+  const std::vector<ScanPoint> points = scan_points(spec);
+  const bool scan = !spec.scan.empty();
+  std::vector<std::shared_ptr<Geometry>> geometries;
+  for (const auto& p : points) geometries.push_back(build_geometry(p.spec));  // all before any run
+  const OutputChoice where = choose_output(args, spec);
+  ResultsWriter writer(where.path, where.field);  // fails now if the path is unwritable
+  Journal journal(journal_path(where.path), journal_key(spec), args.restart);
+  if (journal.loaded() > 0)
+    err << fmt::format("roundtrip: resuming from {} ({} contributions saved)\n",
+                       journal.path().string(), journal.loaded())
+        << std::flush;
+  // Geometries that parallelise inside (sphere-plate) use the OpenMP default team size.
+  if (args.threads > 0) omp_set_num_threads(args.threads);
+  const bool terminal = isatty(STDERR_FILENO) == 1;
+  const bool show = !args.quiet && (terminal || args.progress);
+
+  std::vector<ScanRunResult> runs;
+  bool interrupted = false;
+  for (std::size_t k = 0; k < points.size(); ++k) {
+    const CaseSpec& ps = points[k].spec;
+    RunOptions opts;
+    opts.frequency = ps.frequency;
+    opts.quantities = ps.quantities;
+    opts.threads = args.threads;
+    opts.store = journal.store(static_cast<int>(k));
+    opts.cancel = &cancel_requested();
+    Progress progress(err, terminal, static_cast<int>(ps.gaps.size()),
+                      scan ? fmt::format("scan point {} of {}, ", k + 1, points.size()) : "");
+    if (show) {
+      opts.progress = [&](int done, int total) { progress.gap_done(done, total); };
+      opts.frequency_progress = [&](int gap, int n) { progress.frequency(gap, n); };
+    }
+    ScanRunResult run;
+    run.result = run_sweep(*geometries[k], ps.gaps, opts);
+    progress.finish();
+    if (geometries[k]->parallel_inside()) run.result.threads = omp_get_max_threads();
+    run.info = results_info(ps);
+    run.parameters = points[k].parameters;
+    auto& pts = run.result.points;
+    if (!std::all_of(pts.begin(), pts.end(), [](const PointResult& p) { return p.complete; })) {
+      // Interrupted: the finished gaps go into a valid file; the journal keeps every finished
+      // frequency of the unfinished ones for the next run.
+      std::erase_if(pts, [](const PointResult& p) { return !p.complete; });
+      run.info.complete = false;
+      interrupted = true;
+    }
+    if (!pts.empty()) {
+      if (scan)
+        out << fmt::format("{}scan point {} of {}: {}\n", k == 0 ? "" : "\n", k + 1, points.size(),
+                           parameters_text(run.parameters));
+      print_results(ps, run.result, out);
+      print_theta(run.result, out);
+      out << std::flush;
+    }
+    runs.push_back(std::move(run));
+    if (interrupted) break;
+  }
+  if (journal.reused() > 0)
+    err << fmt::format("roundtrip: resumed: {} contributions reused from {}\n", journal.reused(),
+                       journal.path().string());
+
+  if (scan)
+    writer.commit_scan(runs, results_info(spec), static_cast<int>(points.size()));
+  else
+    writer.commit(runs.front().result, runs.front().info);
+  std::size_t gaps_written = 0, gaps_planned = 0;
+  double wall = 0.0;
+  bool converged = true;
+  for (const auto& run : runs) {
+    gaps_written += run.result.points.size();
+    wall += run.result.wall_seconds;
+    for (const auto& p : run.result.points) converged = converged && p.frequencies.converged;
+  }
+  for (const auto& p : points) gaps_planned += p.spec.gaps.size();
+  if (interrupted) {
     err << fmt::format(
         "roundtrip: interrupted: {} of {} gaps finished, written to {} (complete = 0); the "
         "checkpoint {} keeps every finished frequency: run the same command again to resume\n",
-        result.points.size(), spec.gaps.size(), where.path.string(), journal.path().string());
+        gaps_written, gaps_planned, where.path.string(), journal.path().string());
     return kExitInterrupted;
   }
-
-  print_results(spec, result, out);
-  writer.commit(result, info);
   journal.remove();
-  out << fmt::format("\nresults: {} ({} gap{}, {:.2f} s on {} thread{})\n", where.path.string(),
-                     result.points.size(), result.points.size() == 1 ? "" : "s",
-                     result.wall_seconds, result.threads, result.threads == 1 ? "" : "s");
-  const bool converged = std::all_of(result.points.begin(), result.points.end(),
-                                     [](const PointResult& p) { return p.frequencies.converged; });
+  const int threads = runs.front().result.threads;
+  if (scan)
+    out << fmt::format("\nresults: {} ({} scan points, {} gaps, {:.2f} s on {} thread{})\n",
+                       where.path.string(), points.size(), gaps_written, wall, threads,
+                       threads == 1 ? "" : "s");
+  else
+    out << fmt::format("\nresults: {} ({} gap{}, {:.2f} s on {} thread{})\n", where.path.string(),
+                       gaps_written, gaps_written == 1 ? "" : "s", wall, threads,
+                       threads == 1 ? "" : "s");
   if (!converged) {
     err << "roundtrip: warning: some gaps missed rel_tol (marked '!'; results/converged = 0)\n";
     return kExitNotConverged;
