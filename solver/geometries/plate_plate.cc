@@ -109,6 +109,9 @@ Triple plate_integral(const PlanarSurface& a, const PlanarSurface& b, const Mate
   if (e0 == 0.0) return Triple{};  // e^{-2 kappa L} underflows for every k
   auto f = [&](double y) {
     const double x = x0 + y;
+    // The measure x dx vanishes at x = 0, where ln(1 - rho) may be -inf for rho -> 1 (conductor
+    // TM at xi -> 0): take the limit, not 0 * inf.
+    if (x == 0.0) return Triple{};
     const double k = std::sqrt(y * (y + 2.0 * x0)) / (2.0 * gap);
     const Reflection pa = ra->reflect(k), pb = rb->reflect(k);
     const double e = e0 * std::exp(-y);

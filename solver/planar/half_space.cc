@@ -22,7 +22,9 @@ class HalfSpaceAt final : public PlanarAtFrequency {
       eps_b_ = body.epsilon(xi);
       km2_ = eps_m_ * q * q;
       kb2_ = eps_b_ * q * q;
-      return;
+      // eps of a metal overflows at xi ~ 1e-140 rad/s (quadrature nodes get there): that is the
+      // static limit to every digit, so take it exactly.
+      if (std::isfinite(eps_b_) && std::isfinite(kb2_) && km2_ > 0.0) return;
     }
     // xi = 0: exact static limits, kappa = k in the medium.
     static_ = true;
@@ -60,7 +62,20 @@ class HalfSpaceAt final : public PlanarAtFrequency {
     const double k2 = k * k;
     const double km = std::sqrt(k2 + km2_);
     const double kb = std::sqrt(k2 + kb2_);
-    return {(km - kb) / (km + kb), (eps_b_ * km - eps_m_ * kb) / (eps_b_ * km + eps_m_ * kb)};
+    // Two forms of each coefficient, chosen so that neither cancels nor leaves |r| <= 1:
+    //   r_TE = (km - kb)/(km + kb) = -1 + 2 km/(km + kb) = (km^2 - kb^2)/(km + kb)^2,
+    //   r_TM = 1 - 2 e kb = (a - e) [(a + e) k^2 + a eps_m q^2],
+    // a = eps_b / S, e = eps_m / S, S = eps_b km + eps_m kb, q = xi/c (the product forms follow
+    // from multiplying by the conjugate sum). The product forms give an exact zero for a body
+    // matching the medium and full accuracy as eps -> 1 at high xi; no form overflows for the
+    // huge eps of metals at tiny xi.
+    const double ste = km + kb;
+    const double a = 1.0 / (km + (eps_m_ / eps_b_) * kb), e = 1.0 / ((eps_b_ / eps_m_) * km + kb);
+    const double two_km = 2.0 * km / ste, two_ekb = 2.0 * e * kb;
+    const double te = two_km < 0.5 ? -1.0 + two_km : (km2_ - kb2_) / (ste * ste);
+    const double tm = two_ekb < 0.5 ? 1.0 - two_ekb
+                                    : (a - e) * ((a + e) * k2 + a * eps_m_ * (km2_ / eps_m_));
+    return {te, tm};
   }
 
  private:
