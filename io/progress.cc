@@ -24,6 +24,7 @@ double Progress::elapsed() const {
 }
 
 std::string Progress::duration_text(double s) {
+  if (s < 0.1) return fmt::format("{:.2g} ms", 1e3 * s);
   if (s < 100.0) return fmt::format("{:.1f} s", s);
   if (s < 6000.0) return fmt::format("{:.1f} min", s / 60.0);
   return fmt::format("{:.1f} h", s / 3600.0);

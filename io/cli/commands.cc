@@ -20,6 +20,7 @@
 #include "roundtrip/version.h"
 #include "solver/constants.h"
 #include "solver/materials/library.h"
+#include "solver/plan.h"
 #include "solver/run.h"
 
 namespace roundtrip::io::cli {
@@ -174,6 +175,46 @@ void print_theta(const RunResult& r, std::ostream& out) {
         "L/R from {5:.3g} to {6:.3g})\n",
         q, fit->model, fit->theta, fit->uncertainty, fit->points, fit->x_min, fit->x_max);
   }
+}
+
+std::string bytes_text(double b) {
+  if (b <= 0.0) return "negligible";
+  if (b < 1024.0 * 1024.0) return fmt::format("{:.0f} KiB", std::max(1.0, b / 1024.0));
+  if (b < 1024.0 * 1024.0 * 1024.0) return fmt::format("{:.1f} MiB", b / (1024.0 * 1024.0));
+  return fmt::format("{:.2f} GiB", b / (1024.0 * 1024.0 * 1024.0));
+}
+
+// The per-gap table of a plan: truncations, estimated frequencies, blocks, memory and time.
+void print_plan(const Plan& plan, std::ostream& out) {
+  std::vector<double> gaps;
+  std::vector<std::string> names;
+  for (const auto& g : plan.gaps) {
+    gaps.push_back(g.gap);
+    for (const auto& [k, v] : g.truncation)
+      if (std::find(names.begin(), names.end(), k) == names.end()) names.push_back(k);
+  }
+  const DisplayUnit gu = length_display_unit(gaps);
+  const bool dense = plan.memory_bytes > 0.0;
+  std::vector<std::string> head{fmt::format("gap [{}]", gu.name)};
+  for (const auto& n : names) head.push_back(n);
+  if (dense) head.push_back("m blocks");
+  head.push_back("frequencies");
+  if (dense) head.push_back("memory/thread");
+  head.push_back("time");
+  TextTable t(head);
+  for (const auto& g : plan.gaps) {
+    std::vector<std::string> row{gap_text(g.gap, gu)};
+    for (const auto& n : names) {
+      const auto it = g.truncation.find(n);
+      row.push_back(it == g.truncation.end() ? "-" : fmt::format("{:g}", it->second));
+    }
+    if (dense) row.push_back(std::to_string(g.blocks));
+    row.push_back(std::to_string(g.frequencies));
+    if (dense) row.push_back(bytes_text(g.memory_bytes));
+    row.push_back(Progress::duration_text(g.seconds));
+    t.add_row(std::move(row));
+  }
+  out << t.render();
 }
 
 std::string parameters_text(const std::vector<std::pair<std::string, std::string>>& params) {
@@ -332,8 +373,45 @@ int check_command(const std::string& case_path, std::ostream& out) {
   row("quantities", quantities_text(spec.quantities));
   row("output",
       where.path.string() + (spec.output_file.empty() ? " (default)" : "") + ", writable");
-  if (!not_built.empty()) row("note", "`roundtrip run` will fail: " + not_built);
-  out << "nothing was computed (check only)\n";
+  if (!not_built.empty()) {
+    row("note", "`roundtrip run` will fail: " + not_built);
+  } else {
+    const auto points = scan_points(spec);
+    if (!spec.scan.empty()) {
+      std::string axes;
+      for (const auto& a : spec.scan)
+        axes += fmt::format("{}{} ({} values)", axes.empty() ? "" : " x ", a.key, a.values.size());
+      row("scan", fmt::format("{} points: {}", points.size(), axes));
+    }
+    double total = 0.0, memory = 0.0;
+    std::string how;
+    for (std::size_t k = 0; k < points.size(); ++k) {
+      const CaseSpec& ps = points[k].spec;
+      const auto g = build_geometry(ps);
+      RunOptions opts;
+      opts.frequency = ps.frequency;
+      opts.quantities = ps.quantities;
+      const PlanCalibration cal = calibrate_plan(*g, ps.gaps, ps.frequency, ps.quantities.order());
+      const Plan plan = make_plan(*g, ps.gaps, opts, cal);
+      total += plan.seconds;
+      memory = std::max(memory, plan.memory_bytes);
+      how = cal.how;
+      out << "\n";
+      if (!spec.scan.empty())
+        out << fmt::format("plan of scan point {} of {}: {}\n", k + 1, points.size(),
+                           parameters_text(points[k].parameters));
+      else
+        out << "plan (estimates)\n";
+      print_plan(plan, out);
+    }
+    out << "\n";
+    row("estimate", fmt::format("about {} on {} thread{}, peak working memory {} (rough: a "
+                                "factor of 2 either way)",
+                                Progress::duration_text(total), omp_get_max_threads(),
+                                omp_get_max_threads() == 1 ? "" : "s", bytes_text(memory)));
+    row("time from", how);
+  }
+  out << "check only: no results were computed or written\n";
   return kExitOk;
 }
 

@@ -1,0 +1,174 @@
+// Planned work and resources (plan.h).
+#include "solver/plan.h"
+
+#include <fmt/format.h>
+#include <omp.h>
+
+#include <Eigen/Dense>
+#include <algorithm>
+#include <chrono>
+#include <cmath>
+
+namespace roundtrip {
+namespace {
+
+constexpr int kMBatch = 8;  // m blocks are computed in batches of 8 (sphere_plate.cc)
+
+double seconds_since(std::chrono::steady_clock::time_point t0) {
+  return std::chrono::duration<double>(std::chrono::steady_clock::now() - t0).count();
+}
+
+bool dense_blocks(const std::map<std::string, double>& t) {
+  return t.count("l_max") && t.count("quadrature_nodes");
+}
+
+int estimated_blocks(const Geometry& g, double gap, int lmax, double rel_tol) {
+  const auto R = g.pfa_length();
+  if (!R) return lmax + 1;
+  const double m = std::sqrt(*R / gap) * std::log(10.0 / rel_tol) / 2.0;
+  const int batches = std::max(1, static_cast<int>(std::ceil(m / kMBatch)));
+  return std::min(lmax + 1, batches * kMBatch);
+}
+
+// Frequency evaluations of the rule on s(xi) = -exp(-xi / xi_c) and its L-derivatives.
+int estimated_frequencies(const Geometry& g, double gap, const FrequencyRuleOptions& f) {
+  const double xc = g.frequency_scale(gap);
+  int n = 0;
+  const SpectralFunction model = [&](double xi) {
+    ++n;
+    const double u = xi / xc, e = -std::exp(-u);
+    return Spectral{e, e * (1.0 + u) / gap, e * (1.0 + u) * (1.0 + u) / (gap * gap)};
+  };
+  (void)sum_over_frequencies(model, xc, f);
+  return n;
+}
+
+double gemm_seconds_per_flop() {
+  constexpr int kN = 384;  // large enough for the blocked kernel, small enough for ~10 ms
+  const Eigen::MatrixXd a = Eigen::MatrixXd::Random(kN, kN), b = Eigen::MatrixXd::Random(kN, kN);
+  Eigen::MatrixXd c(kN, kN);
+  double best = 1e300;
+  for (int rep = 0; rep < 3; ++rep) {
+    const auto t0 = std::chrono::steady_clock::now();
+    c.noalias() = a * b;
+    best = std::min(best, seconds_since(t0));
+  }
+  volatile double sink = c(0, 0);
+  (void)sink;
+  return best / (2.0 * kN * kN * kN);
+}
+
+}  // namespace
+
+double plan_flops_per_frequency(const Geometry& g, double gap, DerivativeOrder order,
+                                double rel_tol) {
+  const auto t = g.truncation(gap);
+  if (!dense_blocks(t)) return 1.0;
+  const int lmax = static_cast<int>(t.at("l_max"));
+  const double q = 2.0 * t.at("quadrature_nodes");
+  const int blocks = estimated_blocks(g, gap, lmax, rel_tol);
+  double flops = 0.0;
+  for (int m = 0; m < blocks; ++m) {
+    const double n = 2.0 * (lmax - std::max(1, m) + 1);
+    flops += 4.0 * n * n * q + n * n * n / 3.0;
+    if (order == DerivativeOrder::kGradient) flops += 2.0 * n * q * q;
+  }
+  return flops;
+}
+
+PlanCalibration calibrate_plan(const Geometry& g, const std::vector<double>& gaps,
+                               const FrequencyRuleOptions& frequency, DerivativeOrder order,
+                               double max_seconds) {
+  PlanCalibration c;
+  const double gemm = gemm_seconds_per_flop();
+  const double rel_tol = frequency.rel_tol;
+  const std::string gemm_text =
+      fmt::format("a timed 384 x 384 matrix product on this machine ({:.1f} GFLOP/s)", 1e-9 / gemm);
+  c.seconds_ref = gemm;
+  c.how = gemm_text;
+  if (gaps.empty()) return c;
+  const double large = *std::max_element(gaps.begin(), gaps.end());
+  const double small = *std::min_element(gaps.begin(), gaps.end());
+  // One timed frequency at `gap` (after one untimed call that fills caches), or a negative
+  // number if the model says it is too expensive to time.
+  const auto timed = [&](double gap) {
+    const double flops = plan_flops_per_frequency(g, gap, order, rel_tol);
+    if (dense_blocks(g.truncation(gap)) && flops * gemm > max_seconds) return -1.0;
+    const double xi = g.frequency_scale(gap);
+    (void)g.at_frequency(xi, gap, order);
+    const auto t0 = std::chrono::steady_clock::now();
+    (void)g.at_frequency(xi, gap, order);
+    return seconds_since(t0);
+  };
+  const double t_large = timed(large);
+  if (t_large < 0.0) {
+    c.flops_ref = 1.0;
+    c.how = gemm_text + "; one frequency of this case would take too long to time";
+    return c;
+  }
+  const double f_large = plan_flops_per_frequency(g, large, order, rel_tol);
+  c.seconds_ref = t_large;
+  c.flops_ref = f_large;
+  const auto pfa0 = std::chrono::steady_clock::now();
+  (void)g.pfa(large, frequency);
+  c.per_gap_seconds = seconds_since(pfa0);
+  const std::string team =
+      g.parallel_inside() ? fmt::format(" on {} threads", omp_get_max_threads()) : std::string();
+  const double f_small = plan_flops_per_frequency(g, small, order, rel_tol);
+  const double t_small = small < large && f_small > f_large ? timed(small) : -1.0;
+  if (t_small > 0.0) {
+    c.alpha = std::log(t_small / t_large) / std::log(f_small / f_large);
+    c.how = fmt::format(
+        "one frequency of this case timed at L = {:.4g} m ({:.3g} ms) and at L = {:.4g} m "
+        "({:.3g} ms){}, scaled between gaps as flops^{:.2f}; PFA {:.3g} ms per gap",
+        large, 1e3 * t_large, small, 1e3 * t_small, team, c.alpha, 1e3 * c.per_gap_seconds);
+  } else {
+    c.how = fmt::format(
+        "one frequency of this case timed at L = {:.4g} m ({:.3g} ms){}, scaled to the other "
+        "gaps by the flop model; PFA {:.3g} ms per gap",
+        large, 1e3 * t_large, team, 1e3 * c.per_gap_seconds);
+  }
+  return c;
+}
+
+Plan make_plan(const Geometry& g, const std::vector<double>& gaps, const RunOptions& options,
+               const PlanCalibration& calibration) {
+  Plan plan;
+  plan.calibration = calibration;
+  const int cores = options.threads > 0 ? options.threads : omp_get_max_threads();
+  const DerivativeOrder order = options.quantities.order();
+  const double tol = options.frequency.rel_tol;
+  double serial = 0.0, per_thread_peak = 0.0;
+  for (double gap : gaps) {
+    GapPlan p;
+    p.gap = gap;
+    p.truncation = g.truncation(gap);
+    p.frequencies = estimated_frequencies(g, gap, options.frequency);
+    p.flops_per_frequency = plan_flops_per_frequency(g, gap, order, tol);
+    if (dense_blocks(p.truncation)) {
+      const int lmax = static_cast<int>(p.truncation.at("l_max"));
+      p.blocks = estimated_blocks(g, gap, lmax, tol);
+      const double n = 2.0 * lmax, q = 2.0 * p.truncation.at("quadrature_nodes");
+      p.memory_bytes = 8.0 * (n * q + 3.0 * q * q);
+    }
+    p.seconds = p.frequencies * calibration.seconds_per_frequency(p.flops_per_frequency) +
+                calibration.per_gap_seconds;
+    serial += p.seconds;
+    per_thread_peak = std::max(per_thread_peak, p.memory_bytes);
+    plan.gaps.push_back(std::move(p));
+  }
+  // Geometries that parallelise inside run the gaps one after the other (run.cc); a timed
+  // calibration already includes that parallel speed-up. Others spread gaps over threads.
+  if (g.parallel_inside()) {
+    plan.threads = cores;
+    plan.seconds = serial;
+    plan.memory_bytes = per_thread_peak * std::min(cores, kMBatch);
+  } else {
+    plan.threads = std::max(1, std::min<int>(cores, static_cast<int>(gaps.size())));
+    plan.seconds = serial / plan.threads;
+    plan.memory_bytes = per_thread_peak * plan.threads;
+  }
+  return plan;
+}
+
+}  // namespace roundtrip

@@ -1,0 +1,77 @@
+#pragma once
+// Planned work of a separation sweep before it runs: truncations per gap (Geometry::truncation),
+// the number of frequency evaluations, the dense-matrix sizes, peak memory and a time estimate.
+//
+// Model (sphere-plate; plates have no dense blocks and cost a constant per frequency):
+//   per frequency, blocks m = 0 .. m_est, each a round trip in factored form M = S W C W^T
+//   (solver/logdet/low_rank.h) with W of n x q, n = 2 (l_max - max(1, m) + 1) multipoles
+//   (TE and TM), q = 2 N plane-wave columns (N = quadrature_nodes, both polarisations);
+//   flops(m) = 4 n^2 q (forming M, the solves for G) + n^3 / 3 (Cholesky) + 2 n q^2 (G, only for
+//   the force gradient).
+//   memory per thread = 8 bytes (n q + 3 q^2): W and three q x q work matrices.
+//   m_est = min(l_max, 8 ceil(sqrt(R/L) ln(10/rel_tol) / 16)) : the m sum is cut when its
+//   geometric tail is below rel_tol, and the terms fall off beyond m ~ sqrt(R/L) (measured,
+//   solver/geometries/sphere_plate.cc).
+// Frequencies: the frequency rule itself is run on the model integrand s(xi) = -exp(-xi/xi_c)
+// (xi_c = Geometry::frequency_scale), whose decay is that of every round trip at large xi.
+// Time per frequency = t_ref (flops / flops_ref)^alpha: the case's own frequencies are timed at
+// its largest and smallest gap when affordable (alpha from the two; else alpha = 1 from one, or
+// a timed dense matrix product with t_ref = flops_ref x seconds per flop), plus the PFA partner
+// timed once per gap: see PlanCalibration.
+// The estimate is rough: about a factor of 2 either way.
+#include <cmath>
+#include <map>
+#include <string>
+#include <vector>
+
+#include "solver/frequency/frequency_rule.h"
+#include "solver/geometries/geometry.h"
+#include "solver/run.h"
+
+namespace roundtrip {
+
+struct GapPlan {
+  double gap = 0.0;                          ///< m
+  std::map<std::string, double> truncation;  ///< Geometry::truncation(gap)
+  int frequencies = 0;                       ///< estimated evaluations of s(xi)
+  int blocks = 1;                            ///< estimated symmetry blocks per frequency
+  double flops_per_frequency = 0.0;          ///< model flops (plates: 1 = one unit)
+  double memory_bytes = 0.0;                 ///< peak working memory per thread, bytes
+  double seconds = 0.0;                      ///< estimated wall time of this gap on one thread
+};
+
+struct PlanCalibration {
+  double seconds_ref = 0.0;      ///< measured (or derived) seconds of one frequency ...
+  double flops_ref = 1.0;        ///< ... of this many model flops
+  double alpha = 1.0;            ///< time ~ flops^alpha between the reference points
+  double per_gap_seconds = 0.0;  ///< PFA partner and other per-gap work
+  std::string how;               ///< a sentence for the user: what was measured
+  double seconds_per_frequency(double flops) const {
+    return seconds_ref * std::pow(flops / flops_ref, alpha);
+  }
+};
+
+struct Plan {
+  std::vector<GapPlan> gaps;
+  int threads = 1;
+  double seconds = 0.0;       ///< estimated wall time of the sweep
+  double memory_bytes = 0.0;  ///< estimated peak working memory, all threads
+  PlanCalibration calibration;
+};
+
+/// Model flops of one frequency at `gap` (plates: 1).
+double plan_flops_per_frequency(const Geometry& geometry, double gap, DerivativeOrder order,
+                                double rel_tol);
+
+/// Time one frequency of `geometry` at the largest and at the smallest gap, each only if the
+/// model says it takes less than `max_seconds` at the rate of a timed 384 x 384 matrix product
+/// (Eigen); with neither affordable, that rate itself is used. `how` says which.
+PlanCalibration calibrate_plan(const Geometry& geometry, const std::vector<double>& gaps,
+                               const FrequencyRuleOptions& frequency, DerivativeOrder order,
+                               double max_seconds = 0.5);
+
+/// The plan of run_sweep(geometry, gaps, options) on `threads` threads (0: OpenMP default).
+Plan make_plan(const Geometry& geometry, const std::vector<double>& gaps, const RunOptions& options,
+               const PlanCalibration& calibration);
+
+}  // namespace roundtrip
