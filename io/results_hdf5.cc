@@ -219,8 +219,11 @@ void write_run(H5::Group& file, const RunResult& r, const ResultsInfo& info) {
       return v;
     };
     vector_dataset(g, "xi", col([](auto& x) { return x.xi; }), "rad/s", "imaginary frequency");
-    vector_dataset(g, "weight", col([](auto& x) { return x.weight; }), zero_t ? "J s/rad" : "J",
-                   "weight of the term in the frequency rule");
+    // E = sum_j weight_j s_j with s in 1 (or 1/m^2) and E in J (or J/m^2): the weight is an
+    // energy for both rules (at T = 0, hbar/2pi times the quadrature weight in rad/s).
+    vector_dataset(g, "weight", col([](auto& x) { return x.weight; }), "J",
+                   zero_t ? "hbar/(2 pi) times the quadrature weight of the node"
+                          : "weight of the Matsubara term (k_B T; k_B T/2 for n = 0)");
     vector_dataset(g, "s", col([](auto& x) { return x.s.value; }), s_units,
                    "sum over blocks of log det(1 - M)");
     vector_dataset(g, "ds_dL", col([](auto& x) { return x.s.d1; }), r.per_area ? "1/m^3" : "1/m",
