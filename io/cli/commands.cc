@@ -3,12 +3,17 @@
 #include <fmt/format.h>
 #include <fmt/ostream.h>
 #include <omp.h>
+#include <sys/wait.h>
 #include <unistd.h>
 
 #include <algorithm>
+#include <cerrno>
 #include <chrono>
 #include <cmath>
+#include <cstdio>
+#include <cstdlib>
 #include <filesystem>
+#include <iostream>
 
 #include "io/case_file.h"
 #include "io/errors.h"
@@ -413,6 +418,54 @@ int check_command(const std::string& case_path, std::ostream& out) {
   }
   out << "check only: no results were computed or written\n";
   return kExitOk;
+}
+
+std::string plot_script_path() {
+  std::vector<fs::path> candidates;
+  if (const char* env = std::getenv("ROUNDTRIP_PLOT_SCRIPT")) candidates.emplace_back(env);
+  // __FILE__ is io/cli/commands.cc in the tree this program was built from.
+  candidates.push_back(fs::path(__FILE__).parent_path().parent_path() / "plot" /
+                       "roundtrip_plot.py");
+  std::error_code ec;
+  const fs::path exe = fs::read_symlink("/proc/self/exe", ec);
+  if (!ec)
+    candidates.push_back(exe.parent_path().parent_path() / "io" / "plot" / "roundtrip_plot.py");
+  for (const auto& c : candidates)
+    if (fs::is_regular_file(c, ec)) return c.string();
+  return {};
+}
+
+int plot_command(const std::string& result_path, const std::string& out_dir) {
+  std::error_code ec;
+  if (!fs::is_regular_file(result_path, ec))
+    throw CaseError(fmt::format("RESULT = \"{}\": no such file", result_path));
+  if (!out_dir.empty() && !fs::is_directory(out_dir, ec))
+    throw CaseError(fmt::format("-o = \"{}\": not a directory (create it first)", out_dir));
+  const std::string script = plot_script_path();
+  if (script.empty())
+    throw CaseError(
+        "the plotting script io/plot/roundtrip_plot.py was not found (set ROUNDTRIP_PLOT_SCRIPT)");
+  constexpr const char* kPython = "/usr/bin/python3";  // Debian's, with matplotlib and h5py
+  std::vector<std::string> args{kPython, script, result_path};
+  if (!out_dir.empty()) {
+    args.push_back("-o");
+    args.push_back(out_dir);
+  }
+  std::vector<char*> argv;
+  for (auto& a : args) argv.push_back(a.data());
+  argv.push_back(nullptr);
+  std::cout.flush();
+  const pid_t pid = fork();
+  if (pid < 0) throw std::runtime_error("fork failed");
+  if (pid == 0) {
+    execv(kPython, argv.data());
+    std::perror("roundtrip: error: cannot run /usr/bin/python3");
+    _exit(127);
+  }
+  int status = 0;
+  while (waitpid(pid, &status, 0) < 0 && errno == EINTR) {
+  }
+  return WIFEXITED(status) && WEXITSTATUS(status) == 0 ? kExitOk : kExitInputError;
 }
 
 int materials_list_command(std::ostream& out) {

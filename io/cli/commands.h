@@ -43,6 +43,13 @@ struct EpsArgs {
 };
 int materials_eps_command(const EpsArgs& args, std::ostream& out);
 
+/// Draw the plots of a results file with io/plot/roundtrip_plot.py under /usr/bin/python3 into
+/// `out_dir` (empty: beside the file); the script lists the files it wrote on stdout.
+int plot_command(const std::string& result_path, const std::string& out_dir);
+/// Where the plotting script is: $ROUNDTRIP_PLOT_SCRIPT, else the source tree this program was
+/// built from, else <program dir>/../io/plot/. Empty if none exists.
+std::string plot_script_path();
+
 /// "roundtrip 0.1.0 (git 0123456789ab)".
 std::string version_line();
 

@@ -54,6 +54,14 @@ int main(int argc, char** argv) {
       app.add_subcommand("check", "Parse and validate a case, print the plan, compute nothing");
   check->add_option("CASE", check_path, "Case file (TOML)")->required();
 
+  std::string plot_path, plot_dir;
+  CLI::App* plot = app.add_subcommand(
+      "plot", "Plots of a results file (PNG and SVG), by io/plot/roundtrip_plot.py");
+  plot->add_option("RESULT", plot_path, "Results file (HDF5) written by `roundtrip run`")
+      ->required();
+  plot->add_option("-o,--output-dir", plot_dir,
+                   "Directory for the plots (default: beside the results file)");
+
   CLI::App* materials = app.add_subcommand("materials", "Built-in materials");
   materials->require_subcommand(1);
   CLI::App* list =
@@ -81,6 +89,7 @@ int main(int argc, char** argv) {
   try {
     if (*run) return cli::run_command(run_args, std::cout, std::cerr);
     if (*check) return cli::check_command(check_path, std::cout);
+    if (*plot) return cli::plot_command(plot_path, plot_dir);
     if (*list) return cli::materials_list_command(std::cout);
     if (*eps) return cli::materials_eps_command(eps_args, std::cout);
   } catch (const roundtrip::io::CaseError& e) {
