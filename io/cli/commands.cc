@@ -15,6 +15,7 @@
 #include <filesystem>
 #include <iostream>
 
+#include "geometry/gmsh_export.h"
 #include "io/case_file.h"
 #include "io/errors.h"
 #include "io/journal.h"
@@ -417,6 +418,41 @@ int check_command(const std::string& case_path, std::ostream& out) {
     row("time from", how);
   }
   out << "check only: no results were computed or written\n";
+  return kExitOk;
+}
+
+int preview_command(const PreviewArgs& args, std::ostream& out) {
+  const CaseSpec spec = load_case(args.case_path);
+  double gap = *std::min_element(spec.gaps.begin(), spec.gaps.end());
+  if (!args.gap.empty()) {
+    gap = parse_quantity_string(args.gap, Dimension::kLength, "--gap");
+    if (const std::string p = geometry::gap_problem(gap); !p.empty())
+      throw CaseError(fmt::format("--gap = \"{}\": {}", args.gap, p));
+  }
+  const fs::path target(args.output);
+  std::error_code ec;
+  const fs::path dir = target.has_parent_path() ? target.parent_path() : fs::path(".");
+  if (target.extension() != ".msh")
+    throw CaseError(
+        fmt::format("-o = \"{}\": the preview is a Gmsh mesh, name it *.msh", args.output));
+  if (!fs::is_directory(dir, ec))
+    throw CaseError(
+        fmt::format("-o = \"{}\": directory \"{}\" does not exist", args.output, dir.string()));
+  if (access(dir.c_str(), W_OK) != 0)
+    throw CaseError(
+        fmt::format("-o = \"{}\": no permission to write in its directory", args.output));
+  geometry::PreviewSummary s;
+  try {
+    s = geometry::export_gmsh(spec.configuration(), gap, target);
+  } catch (const std::invalid_argument& e) {
+    throw CaseError(fmt::format("-o = \"{}\": {}", args.output, e.what()));
+  }
+  out << fmt::format("{}: {}\n", target.string(), s.description);
+  out << fmt::format(
+      "{} mesh nodes, {} triangles; lengths in micrometres (um); open it with "
+      "`gmsh {}`\n",
+      s.nodes, s.triangles, target.string());
+  if (!spec.scan.empty()) out << "(the first scan point's bodies)\n";
   return kExitOk;
 }
 

@@ -43,6 +43,14 @@ struct EpsArgs {
 };
 int materials_eps_command(const EpsArgs& args, std::ostream& out);
 
+struct PreviewArgs {
+  std::string case_path;
+  std::string output;  ///< -o, a .msh file
+  std::string gap;     ///< --gap with unit; empty: the smallest gap of the case
+};
+/// Write the case's bodies at one gap as a Gmsh mesh (geometry/gmsh_export.h).
+int preview_command(const PreviewArgs& args, std::ostream& out);
+
 /// Draw the plots of a results file with io/plot/roundtrip_plot.py under /usr/bin/python3 into
 /// `out_dir` (empty: beside the file); the script lists the files it wrote on stdout.
 int plot_command(const std::string& result_path, const std::string& out_dir);

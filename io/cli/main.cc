@@ -62,6 +62,14 @@ int main(int argc, char** argv) {
   plot->add_option("-o,--output-dir", plot_dir,
                    "Directory for the plots (default: beside the results file)");
 
+  cli::PreviewArgs preview_args;
+  CLI::App* preview = app.add_subcommand(
+      "preview", "Write the bodies of a case at one gap as a Gmsh mesh (.msh) to look at");
+  preview->add_option("CASE", preview_args.case_path, "Case file (TOML)")->required();
+  preview->add_option("-o,--output", preview_args.output, "Mesh file to write (*.msh)")->required();
+  preview->add_option("--gap", preview_args.gap,
+                      "Gap with unit, e.g. \"200 nm\" (default: the smallest gap of the case)");
+
   CLI::App* materials = app.add_subcommand("materials", "Built-in materials");
   materials->require_subcommand(1);
   CLI::App* list =
@@ -90,6 +98,7 @@ int main(int argc, char** argv) {
     if (*run) return cli::run_command(run_args, std::cout, std::cerr);
     if (*check) return cli::check_command(check_path, std::cout);
     if (*plot) return cli::plot_command(plot_path, plot_dir);
+    if (*preview) return cli::preview_command(preview_args, std::cout);
     if (*list) return cli::materials_list_command(std::cout);
     if (*eps) return cli::materials_eps_command(eps_args, std::cout);
   } catch (const roundtrip::io::CaseError& e) {

@@ -1,0 +1,33 @@
+#pragma once
+// Geometry preview: the bodies of a configuration at one gap as a Gmsh model with a surface mesh
+// (.msh, Gmsh's own format), to look at in Gmsh before a long run. Built with the Gmsh SDK's
+// OpenCASCADE kernel (gmsh.h).
+//
+// Layout (lengths in micrometres in the file: OpenCASCADE's fixed tolerance of 1e-7 model units
+// would swallow a 100 nm gap written in metres): the plate's surface facing the gap is z = 0 and
+// the plate fills z < 0 (a slab of finite thickness standing for a half-space or a stack);
+//   sphere-plate: sphere of radius R centred at (0, 0, L + R); plate W x W x R/2 with W = 4 R;
+//   plate-plate:  second plate from z = L up; both W x W x W/4 with W = 20 L.
+// Physical groups (volumes): "sphere" and "plate", or "plate" and "plate2".
+#include <filesystem>
+#include <string>
+
+#include "geometry/configuration.h"
+
+namespace roundtrip::geometry {
+
+/// Metres to the preview file's length unit (micrometres).
+inline constexpr double kPreviewUnitsPerMetre = 1e6;
+
+struct PreviewSummary {
+  std::string description;  ///< one line: bodies, sizes, gap (with units)
+  std::size_t nodes = 0;    ///< mesh nodes written
+  std::size_t triangles = 0;
+};
+
+/// Write the configuration `c` at gap `gap` (m, > 0) to `path` (must end in .msh). The file is
+/// written beside the target and renamed, so it is never partial. Throws std::invalid_argument
+/// for an invalid configuration or gap, std::runtime_error if Gmsh fails.
+PreviewSummary export_gmsh(const Configuration& c, double gap, const std::filesystem::path& path);
+
+}  // namespace roundtrip::geometry

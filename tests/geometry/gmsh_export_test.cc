@@ -1,0 +1,152 @@
+// Geometry preview files read back with the Gmsh SDK (gmsh::open): the bodies are where the
+// case puts them (sphere of radius R at gap L above the plate's surface z = 0), in micrometres.
+#include "geometry/gmsh_export.h"
+
+#include <fmt/format.h>
+#include <gmsh.h>
+#include <gtest/gtest.h>
+#include <unistd.h>
+
+#include <algorithm>
+#include <cmath>
+#include <cstdlib>
+#include <filesystem>
+#include <limits>
+#include <map>
+#include <string>
+
+namespace roundtrip::geometry {
+namespace {
+
+namespace fs = std::filesystem;
+
+struct Box {
+  double lo[3] = {1e300, 1e300, 1e300}, hi[3] = {-1e300, -1e300, -1e300};
+  std::vector<double> xyz;  // every node, x y z
+};
+
+// Bounding boxes of the mesh nodes of each named 2D physical group, from the file.
+std::map<std::string, Box> read_back(const fs::path& file, int& volumes) {
+  std::map<std::string, Box> out;
+  gmsh::initialize(0, nullptr, false);
+  gmsh::option::setNumber("General.Terminal", 0);
+  gmsh::open(file.string());
+  gmsh::vectorpair vols;
+  gmsh::model::getEntities(vols, 3);
+  volumes = static_cast<int>(vols.size());
+  gmsh::vectorpair groups;
+  gmsh::model::getPhysicalGroups(groups, 2);
+  for (const auto& [dim, tag] : groups) {
+    std::string name;
+    gmsh::model::getPhysicalName(dim, tag, name);
+    std::vector<int> entities;
+    gmsh::model::getEntitiesForPhysicalGroup(dim, tag, entities);
+    Box& b = out[name];
+    for (int e : entities) {
+      std::vector<std::size_t> nodes;
+      std::vector<double> xyz, uv;
+      gmsh::model::mesh::getNodes(nodes, xyz, uv, dim, e, true, false);
+      b.xyz.insert(b.xyz.end(), xyz.begin(), xyz.end());
+      for (std::size_t i = 0; i < nodes.size(); ++i)
+        for (int k = 0; k < 3; ++k) {
+          b.lo[k] = std::min(b.lo[k], xyz[3 * i + k]);
+          b.hi[k] = std::max(b.hi[k], xyz[3 * i + k]);
+        }
+    }
+  }
+  gmsh::finalize();
+  return out;
+}
+
+// Poles and the plate's faces are mesh vertices, so z extents are exact up to round-off, and
+// every sphere node lies on the sphere. Lateral extents are only sampled by nodes: with element
+// size h <= 2 pi R / 10 (curvature rule, gmsh_export.cc) the nearest node to (0, -R) can sit
+// h^2 / (2 R) = 0.2 R inside.
+constexpr double kRoundOff = 1e-9;  // relative: Gmsh writes 16 significant digits
+constexpr double kSampling = 0.2;   // relative to R
+
+fs::path temp_file(const std::string& name) {
+  const fs::path d = fs::temp_directory_path() / fmt::format("roundtrip_gmsh_{}", getpid());
+  fs::create_directories(d);
+  return d / name;
+}
+
+TEST(GmshExport, SpherePlateReadsBackWithRadiusAndGapOfTheCase) {
+  Configuration c;
+  c.kind = ConfigurationKind::kSpherePlate;
+  c.sphere = SphereBody{5e-6};
+  c.gaps = {200e-9};
+  const fs::path f = temp_file("sp.msh");
+  const PreviewSummary s = export_gmsh(c, 200e-9, f);
+  EXPECT_GT(s.triangles, 100u);
+  int volumes = 0;
+  const auto boxes = read_back(f, volumes);
+  EXPECT_EQ(volumes, 2);
+  ASSERT_TRUE(boxes.count("sphere surface") && boxes.count("plate surface"));
+  const Box& sp = boxes.at("sphere surface");
+  const Box& pl = boxes.at("plate surface");
+  const double R = 5.0, L = 0.2;  // um
+  EXPECT_NEAR(sp.lo[2], L, R * kRoundOff) << "sphere bottom at the gap";
+  EXPECT_NEAR(sp.hi[2], L + 2 * R, R * kRoundOff);
+  EXPECT_NEAR(sp.hi[0], R, R * kSampling);
+  EXPECT_NEAR(sp.lo[1], -R, R * kSampling);
+  double worst = 0.0;
+  for (std::size_t i = 0; i + 2 < sp.xyz.size(); i += 3)
+    worst = std::max(worst,
+                     std::abs(std::hypot(sp.xyz[i], sp.xyz[i + 1], sp.xyz[i + 2] - (L + R)) - R));
+  EXPECT_LT(worst, R * 1e-6) << "sphere nodes lie on |x - (0, 0, L + R)| = R";
+  EXPECT_GT(sp.xyz.size(), 300u);
+  EXPECT_NEAR(pl.hi[2], 0.0, R * kRoundOff) << "plate surface at z = 0";
+  EXPECT_NEAR(sp.lo[2] - pl.hi[2], L, L * 1e-6) << "surface-to-surface gap";
+  EXPECT_NEAR(pl.hi[0] - pl.lo[0], 4 * R, R * kRoundOff);
+  fs::remove_all(f.parent_path());
+}
+
+TEST(GmshExport, TwoPlatesReadBackWithTheGapBetweenThem) {
+  Configuration c;
+  c.gaps = {100e-9};
+  const fs::path f = temp_file("pp.msh");
+  export_gmsh(c, 100e-9, f);
+  int volumes = 0;
+  const auto boxes = read_back(f, volumes);
+  EXPECT_EQ(volumes, 2);
+  ASSERT_TRUE(boxes.count("plate surface") && boxes.count("plate2 surface"));
+  EXPECT_NEAR(boxes.at("plate2 surface").lo[2] - boxes.at("plate surface").hi[2], 0.1,
+              0.1 * kRoundOff);
+  fs::remove_all(f.parent_path());
+}
+
+TEST(GmshExport, BadGapsRadiiAndNamesAreRefusedBeforeAnythingIsWritten) {
+  Configuration c;
+  c.kind = ConfigurationKind::kSpherePlate;
+  c.sphere = SphereBody{-1e-6};
+  c.gaps = {1e-7};
+  const fs::path f = temp_file("bad.msh");
+  EXPECT_THROW(export_gmsh(c, 1e-7, f), std::invalid_argument);
+  c.sphere = SphereBody{1e-6};
+  EXPECT_THROW(export_gmsh(c, 0.0, f), std::invalid_argument);
+  EXPECT_THROW(export_gmsh(c, -1e-9, f), std::invalid_argument);
+  EXPECT_THROW(export_gmsh(c, std::numeric_limits<double>::quiet_NaN(), f), std::invalid_argument);
+  EXPECT_THROW(export_gmsh(c, 1e-7, temp_file("bad.stl")), std::invalid_argument);
+  EXPECT_FALSE(fs::exists(f));
+  fs::remove_all(f.parent_path());
+}
+
+// `roundtrip preview` on the shipped AFM case: the smallest gap of the case by default.
+TEST(GmshExport, PreviewCommandWritesTheCaseAtItsSmallestGap) {
+  const fs::path f = temp_file("afm.msh");
+  const std::string cmd =
+      fmt::format("'{}' preview '{}/cases/sphere_plate_afm.toml' -o '{}' > '{}.out' 2>&1",
+                  ROUNDTRIP_CLI, ROUNDTRIP_SOURCE_DIR, f.string(), f.string());
+  ASSERT_EQ(std::system(cmd.c_str()), 0);
+  int volumes = 0;
+  const auto boxes = read_back(f, volumes);
+  ASSERT_TRUE(boxes.count("sphere surface"));
+  const Box& sp = boxes.at("sphere surface");
+  EXPECT_NEAR(sp.lo[2], 0.2, 0.2 * kRoundOff) << "case: from = \"200 nm\"";
+  EXPECT_NEAR(sp.hi[2] - sp.lo[2], 10.0, 10.0 * kRoundOff) << "case: radius = \"5 um\"";
+  fs::remove_all(f.parent_path());
+}
+
+}  // namespace
+}  // namespace roundtrip::geometry
