@@ -279,3 +279,23 @@ TEST(SpherePlateTemperature, HighTemperatureIsTheStaticTerm) {
 
 }  // namespace
 }  // namespace roundtrip
+
+namespace roundtrip {
+namespace {
+
+TEST(SpherePlateMedium, PerfectConductorsInADielectricScaleAsOneOverIndex) {
+  // T = 0, perfect conductors in a non-dispersive medium of index n: kappa = n xi/c, so the
+  // substitution xi' = n xi gives E_medium = E_vacuum / n exactly (standard; e.g. Lifshitz theory
+  // with eps_m constant).
+  const double gap = kR, n = 1.33;
+  SpherePlateOptions in_medium = pec(1e-6);
+  in_medium.medium = make_constant("index-1.33", n * n);
+  // Same l_max, m blocks and momentum nodes in both (they depend on R/L and rel_tol only), so
+  // only the frequency quadratures differ: both at 1e-8.
+  const double ev = free_energy(pec(1e-6), gap, 0.0, 1e-8);
+  const double em = free_energy(in_medium, gap, 0.0, 1e-8);
+  EXPECT_NEAR(em * n / ev, 1.0, 1e-7);
+}
+
+}  // namespace
+}  // namespace roundtrip
