@@ -160,6 +160,94 @@ TEST_F(Cli, EveryKindOfBadCaseFailsNamingTheFieldAndWritesNothing) {
   }
 }
 
+// A small sphere-plate case (invented numbers) for the bad-input cases that need a sphere or a
+// user material.
+const std::string kSphereCase = R"(geometry = "sphere-plate"
+[sphere]
+radius = "5 um"
+material = "gold-drude"
+[plate]
+material = "gold-drude"
+[separations]
+values = ["1 um"]
+[conditions]
+temperature = "300 K"
+)";
+
+std::string with_user_material(const std::string& definition) {
+  return replaced(kSphereCase, "[plate]\nmaterial = \"gold-drude\"",
+                  "[plate]\nmaterial = \"mine\"") +
+         "[materials.mine]\n" + definition;
+}
+
+TEST_F(Cli, OverlapRadiusInfinityAndTableMistakesFailNamingTheFieldAndWriteNothing) {
+  write("garbage.csv", "wavelength,n\nfoo,bar\n");
+  fs::create_directories(dir_ / "folder.csv");  // exists but cannot be read as a file
+  const std::vector<BadCase> cases = {
+      {"overlapping bodies",
+       replaced(kSphereCase, "\"1 um\"", "\"-1 um\""),
+       {"bad.toml:8: separations.values[0] = \"-1 um\"", "overlapping bodies"}},
+      {"negative radius",
+       replaced(kSphereCase, "\"5 um\"", "\"-5 um\""),
+       {"bad.toml:3: sphere.radius = \"-5 um\": a radius must be > 0"}},
+      {"zero radius",
+       replaced(kSphereCase, "\"5 um\"", "\"0 um\""),
+       {"bad.toml:3: sphere.radius = \"0 um\": a radius must be > 0"}},
+      {"infinite radius",
+       replaced(kSphereCase, "\"5 um\"", "\"inf um\""),
+       {"bad.toml:3: sphere.radius = \"inf um\": not a finite number"}},
+      {"infinite gap",
+       replaced(kSphereCase, "\"1 um\"", "\"inf nm\""),
+       {"bad.toml:8: separations.values[0] = \"inf nm\": not a finite number"}},
+      {"infinite temperature",
+       replaced(kSphereCase, "\"300 K\"", "\"inf K\""),
+       {"bad.toml:10: conditions.temperature = \"inf K\": not a finite number"}},
+      {"NaN temperature",
+       replaced(kSphereCase, "\"300 K\"", "\"nan K\""),
+       {"bad.toml:10: conditions.temperature = \"nan K\": not a finite number"}},
+      {"infinite tolerance",
+       kSphereCase + "[numerics]\nrel_tol = inf\n",
+       {"bad.toml:12: numerics.rel_tol = inf: not a finite number"}},
+      {"zero tolerance",
+       kSphereCase + "[numerics]\nrel_tol = 0\n",
+       {"bad.toml:12: numerics.rel_tol = 0", "0 < rel_tol < 0.1"}},
+      {"infinite material parameter",
+       with_user_material(
+           "model = \"drude\"\nplasma_frequency = \"inf eV\"\ndamping = \"35 meV\"\n"),
+       {"materials.mine.plasma_frequency = \"inf eV\": not a finite number"}},
+      {"NaN material parameter",
+       with_user_material("model = \"constant\"\neps = nan\n"),
+       {"materials.mine.eps = nan: not a finite number"}},
+      {"unknown material model",
+       with_user_material("model = \"jellium\"\n"),
+       {"materials.mine.model = \"jellium\""}},
+      {"missing table file",
+       with_user_material("model = \"table\"\nfile = \"missing.csv\"\n"),
+       {"materials.mine.file = \"missing.csv\": no such file"}},
+      {"unreadable table file",
+       with_user_material("model = \"table\"\nfile = \"folder.csv\"\n"),
+       {"materials.mine.file = \"folder.csv\""}},
+      {"malformed table",
+       with_user_material("model = \"table\"\nfile = \"garbage.csv\"\n"),
+       {"materials.mine.file = \"garbage.csv\"", "garbage.csv:1: header"}},
+      {"bad scan value",
+       kSphereCase + "[scan]\nradius = [\"1 um\", \"-1 um\"]\n",
+       {"bad.toml:12: scan.radius[1] = \"-1 um\": a radius must be > 0"}},
+  };
+  for (const auto& c : cases) {
+    SCOPED_TRACE(c.what);
+    write("bad.toml", c.text);
+    const Outcome o = cli("run bad.toml --quiet");
+    EXPECT_EQ(o.status, 1) << o.err;
+    EXPECT_EQ(o.err.rfind("roundtrip: error: ", 0), 0u) << o.err;
+    for (const auto& e : c.expected) EXPECT_NE(o.err.find(e), std::string::npos) << o.err;
+    EXPECT_EQ(o.out, "");
+    EXPECT_FALSE(any_h5()) << "an output file was written";
+    const Outcome chk = cli("check bad.toml");
+    EXPECT_EQ(chk.status, 1) << chk.err;
+  }
+}
+
 TEST_F(Cli, MissingCaseFileAndBadOptionsAreErrors) {
   Outcome o = cli("run nowhere.toml");
   EXPECT_EQ(o.status, 1);
