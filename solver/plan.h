@@ -18,7 +18,7 @@
 // its largest and smallest gap when affordable (alpha from the two; else alpha = 1 from one, or
 // a timed dense matrix product with t_ref = flops_ref x seconds per flop), plus the PFA partner
 // timed once per gap: see PlanCalibration.
-// The estimate is rough: about a factor of 2 either way.
+// The estimate is rough: about a factor of 3 either way (measured on the shipped cases).
 #include <cmath>
 #include <map>
 #include <string>

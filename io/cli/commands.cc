@@ -412,7 +412,7 @@ int check_command(const std::string& case_path, std::ostream& out) {
     }
     out << "\n";
     row("estimate", fmt::format("about {} on {} thread{}, peak working memory {} (rough: a "
-                                "factor of 2 either way)",
+                                "factor of 3 either way)",
                                 Progress::duration_text(total), omp_get_max_threads(),
                                 omp_get_max_threads() == 1 ? "" : "s", bytes_text(memory)));
     row("time from", how);
