@@ -47,8 +47,7 @@ int main(int argc, char** argv) {
     const auto sum = sum_over_frequencies(
         [&](double xi) { return g->at_frequency(xi, L, DerivativeOrder::kEnergy); },
         g->frequency_scale(L), fo);
-    const double dt =
-        std::chrono::duration<double>(std::chrono::steady_clock::now() - t0).count();
+    const double dt = std::chrono::duration<double>(std::chrono::steady_clock::now() - t0).count();
     const double e_pfa =
         -std::pow(kPi, 3) * kHbarC * R / (720 * L * L) * (field == "dirichlet" ? 0.5 : 1.0);
     const double r = sum.total.value / e_pfa;

@@ -53,10 +53,10 @@ struct RunOptions {
 
 /// Result at one gap. Units: J, N, N/m for compact bodies; J/m^2, Pa, Pa/m when per_area.
 struct PointResult {
-  double gap = 0.0;       ///< m
-  double energy = 0.0;    ///< free energy (T > 0) or energy (T = 0)
-  double force = 0.0;     ///< -dE/dL
-  double gradient = 0.0;  ///< dF/dL = -d2E/dL2
+  double gap = 0.0;           ///< m
+  double energy = 0.0;        ///< free energy (T > 0) or energy (T = 0)
+  double force = 0.0;         ///< -dE/dL
+  double gradient = 0.0;      ///< dF/dL = -d2E/dL2
   double energy_error = 0.0;  ///< estimated absolute error of energy
   std::optional<PfaValues> pfa;
   FrequencySum frequencies;
@@ -66,7 +66,7 @@ struct PointResult {
 };
 
 struct RunResult {
-  std::string kind;       ///< Geometry::kind()
+  std::string kind;  ///< Geometry::kind()
   std::string description;
   bool per_area = false;
   std::vector<PointResult> points;

@@ -60,10 +60,10 @@ double log_add_exp(double a, double b) {
 
 /// Quadrature nodes and everything about them that does not depend on m.
 struct NodeSet {
-  std::vector<double> x;             // dynamic: x_j >= 1; static: t_j
-  std::vector<double> half_log_w;    // 1/2 log Omega_j
-  std::vector<double> c_te, c_tm;    // reflection factors per node (see block builders)
-  std::vector<double> f1, f2;        // dOmega/dL / Omega, d2Omega/dL2 / Omega
+  std::vector<double> x;           // dynamic: x_j >= 1; static: t_j
+  std::vector<double> half_log_w;  // 1/2 log Omega_j
+  std::vector<double> c_te, c_tm;  // reflection factors per node (see block builders)
+  std::vector<double> f1, f2;      // dOmega/dL / Omega, d2Omega/dL2 / Omega
 };
 
 class SpherePlate final : public Geometry {
@@ -95,8 +95,8 @@ class SpherePlate final : public Geometry {
 
   std::string describe() const override {
     if (o_.field != FieldKind::kElectromagnetic)
-      return fmt::format("{} sphere (R = {:.6g} m) over a {} plate, scalar field", to_string(o_.field),
-                         o_.radius, to_string(o_.field));
+      return fmt::format("{} sphere (R = {:.6g} m) over a {} plate, scalar field",
+                         to_string(o_.field), o_.radius, to_string(o_.field));
     return fmt::format("sphere of {} (R = {:.6g} m) over {} in {}", o_.sphere->name(), o_.radius,
                        o_.plate->describe(), o_.medium->name());
   }
@@ -135,9 +135,9 @@ class SpherePlate final : public Geometry {
       for (int m = m0; m < m1; ++m) {
         const LogDetResult& r = batch[m - m0];
         if (!r.ok)
-          throw std::runtime_error(fmt::format(
-              "sphere-plate: xi = {:.6g} rad/s, L = {:.6g} m, m = {}: {} (l_max = {})", xi, gap, m,
-              r.message, lmax));
+          throw std::runtime_error(
+              fmt::format("sphere-plate: xi = {:.6g} rad/s, L = {:.6g} m, m = {}: {} (l_max = {})",
+                          xi, gap, m, r.message, lmax));
         total += r.s * (m == 0 ? 1.0 : 2.0);  // +m and -m give the same block
       }
       if (o_.m_max >= 0 || m1 - m0 < 2) continue;
@@ -146,7 +146,8 @@ class SpherePlate final : public Geometry {
       bool done = true;
       for (int c = 0; c < 1 + static_cast<int>(order); ++c) {
         auto comp = [&](const Spectral& v) { return c == 0 ? v.value : (c == 1 ? v.d1 : v.d2); };
-        const double first = std::abs(comp(batch[0].s)), last = std::abs(comp(batch[m1 - m0 - 1].s));
+        const double first = std::abs(comp(batch[0].s)),
+                     last = std::abs(comp(batch[m1 - m0 - 1].s));
         const double sum = std::abs(comp(total));
         if (last == 0.0) continue;
         const double r = std::pow(last / first, 1.0 / (m1 - m0 - 1));
@@ -261,10 +262,10 @@ class SpherePlate final : public Geometry {
         const double log_p = log_m + pm[l] - log_s;
         const double hte = base + 0.5 * mie.log_abs_te[l];
         const double htm = base + 0.5 * mie.log_abs_tm[l];
-        b.W(i, j) = std::exp(hte + log_t);            // u_j, TE rows
-        b.W(nl + i, j) = std::exp(htm + log_p);       // u_j, TM rows
-        b.W(i, N + j) = std::exp(hte + log_p);        // v_j, TE rows
-        b.W(nl + i, N + j) = std::exp(htm + log_t);   // v_j, TM rows
+        b.W(i, j) = std::exp(hte + log_t);           // u_j, TE rows
+        b.W(nl + i, j) = std::exp(htm + log_p);      // u_j, TM rows
+        b.W(i, N + j) = std::exp(hte + log_p);       // v_j, TE rows
+        b.W(nl + i, N + j) = std::exp(htm + log_t);  // v_j, TM rows
       }
       b.c[j] = nodes.c_te[j];
       b.f1[j] = nodes.f1[j];
@@ -328,8 +329,8 @@ class SpherePlate final : public Geometry {
     std::vector<double> row_log(dim, kNegInf);
     for (int l = lmin; l <= lmax; ++l) {
       const int i = l - lmin;
-      const double common = (l + 0.5) * log_ratio -
-                            0.5 * (std::lgamma(l - m + 1.0) + std::lgamma(l + m + 1.0));
+      const double common =
+          (l + 0.5) * log_ratio - 0.5 * (std::lgamma(l - m + 1.0) + std::lgamma(l + m + 1.0));
       const double g2te = st.g2_te[l], g2tm = st.g2_tm[l];
       b.s[i] = g2te > 0 ? 1.0 : (g2te < 0 ? -1.0 : 0.0);
       if (g2te != 0.0) row_log[i] = common + 0.5 * std::log(std::abs(g2te));

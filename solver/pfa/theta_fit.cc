@@ -1,8 +1,7 @@
 #include "solver/pfa/theta_fit.h"
 
-#include <algorithm>
-
 #include <Eigen/Dense>
+#include <algorithm>
 #include <cmath>
 
 namespace roundtrip {

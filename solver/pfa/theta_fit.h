@@ -16,12 +16,12 @@ namespace roundtrip {
 struct ThetaFit {
   bool valid = false;
   double theta = 0.0;
-  double theta2 = 0.0;      ///< next coefficient of the chosen model
-  double uncertainty = 0.0; ///< one-sigma-like combined estimate (see header)
+  double theta2 = 0.0;       ///< next coefficient of the chosen model
+  double uncertainty = 0.0;  ///< one-sigma-like combined estimate (see header)
   int points = 0;
   double x_min = 0.0, x_max = 0.0;
-  std::string model;        ///< e.g. "1 + theta x + theta2 x^2"
-  std::string message;      ///< why not valid
+  std::string model;    ///< e.g. "1 + theta x + theta2 x^2"
+  std::string message;  ///< why not valid
 };
 
 /// x = L/R (> 0), ratio = Q/Q_PFA; rel_tol is the relative accuracy of each ratio.

@@ -73,8 +73,8 @@ class HalfSpaceAt final : public PlanarAtFrequency {
     const double a = 1.0 / (km + (eps_m_ / eps_b_) * kb), e = 1.0 / ((eps_b_ / eps_m_) * km + kb);
     const double two_km = 2.0 * km / ste, two_ekb = 2.0 * e * kb;
     const double te = two_km < 0.5 ? -1.0 + two_km : (km2_ - kb2_) / (ste * ste);
-    const double tm = two_ekb < 0.5 ? 1.0 - two_ekb
-                                    : (a - e) * ((a + e) * k2 + a * eps_m_ * (km2_ / eps_m_));
+    const double tm =
+        two_ekb < 0.5 ? 1.0 - two_ekb : (a - e) * ((a + e) * k2 + a * eps_m_ * (km2_ / eps_m_));
     return {te, tm};
   }
 

@@ -24,8 +24,8 @@ FieldKind field_kind_from_string(const std::string& s) {
   if (s == "electromagnetic") return FieldKind::kElectromagnetic;
   if (s == "dirichlet") return FieldKind::kDirichlet;
   if (s == "neumann") return FieldKind::kNeumann;
-  throw std::invalid_argument("field must be \"electromagnetic\", \"dirichlet\" or \"neumann\", not \"" +
-                              s + "\"");
+  throw std::invalid_argument(
+      "field must be \"electromagnetic\", \"dirichlet\" or \"neumann\", not \"" + s + "\"");
 }
 
 namespace {
@@ -136,8 +136,7 @@ StaticSphere static_sphere(FieldKind field, const StaticLimit& sphere, double me
     const double y0 = radius * std::sqrt(sphere.plasma_wavenumber_sq);
     const auto b = special::spherical_bessel_log(y0, lmax + 1);
     // i_{l+1}/i_{l-1} = r_l r_{l-1}
-    for (int l = 1; l <= lmax; ++l)
-      s.g2_te[l] = (l / (l + 1.0)) * b.ratio_i[l] * b.ratio_i[l - 1];
+    for (int l = 1; l <= lmax; ++l) s.g2_te[l] = (l / (l + 1.0)) * b.ratio_i[l] * b.ratio_i[l - 1];
   }
   return s;
 }

@@ -12,10 +12,10 @@ namespace roundtrip::special {
 
 struct SphericalBesselLog {
   double x = 0.0;
-  std::vector<double> log_i;     ///< log i_l(x), l = 0..lmax
-  std::vector<double> log_k;     ///< log k_l(x), l = 0..lmax
-  std::vector<double> ratio_i;   ///< i_{l+1}(x)/i_l(x), l = 0..lmax
-  std::vector<double> ratio_k;   ///< k_{l+1}(x)/k_l(x), l = 0..lmax
+  std::vector<double> log_i;    ///< log i_l(x), l = 0..lmax
+  std::vector<double> log_k;    ///< log k_l(x), l = 0..lmax
+  std::vector<double> ratio_i;  ///< i_{l+1}(x)/i_l(x), l = 0..lmax
+  std::vector<double> ratio_k;  ///< k_{l+1}(x)/k_l(x), l = 0..lmax
   /// d log i_l / dx = i_l'/i_l = l/x + i_{l+1}/i_l
   double dlog_i(int l) const { return l / x + ratio_i[l]; }
   /// d log k_l / dx = k_l'/k_l = l/x - k_{l+1}/k_l

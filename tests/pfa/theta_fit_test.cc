@@ -1,9 +1,9 @@
 // The PFA-correction fit recovers known coefficients (an invariant of the fitting, not physics).
+#include "solver/pfa/theta_fit.h"
+
 #include <gtest/gtest.h>
 
 #include <cmath>
-
-#include "solver/pfa/theta_fit.h"
 
 namespace roundtrip {
 namespace {

@@ -1,6 +1,7 @@
 // The sphere-plate Drude/plasma demo case, reduced (smaller sphere, two gaps), through the CLI:
 // it runs, prints one table per model with PFA ratios, and writes both scan points to HDF5.
 #include <gtest/gtest.h>
+#include <unistd.h>
 
 #include <cstdlib>
 #include <filesystem>
@@ -8,7 +9,6 @@
 #include <regex>
 #include <sstream>
 #include <string>
-#include <unistd.h>
 
 namespace {
 

@@ -1,5 +1,7 @@
 // Sphere-plate round trip against published closed forms and limits.
 // R sphere radius, L surface-to-surface gap, D = R + L; energies negative when attractive.
+#include "solver/geometries/sphere_plate.h"
+
 #include <gtest/gtest.h>
 #include <omp.h>
 
@@ -8,7 +10,6 @@
 
 #include "solver/constants.h"
 #include "solver/frequency/frequency_rule.h"
-#include "solver/geometries/sphere_plate.h"
 #include "solver/materials/models.h"
 #include "solver/scatterers/mie.h"
 
@@ -16,7 +17,7 @@ namespace roundtrip {
 namespace {
 
 constexpr double kR = 1e-6;  // 1 um sphere; only L/R matters for PEC and scalar fields
-const double kGoldOmegaP = 9.0 * kRadPerSecondPerEv;   // common practice (REFERENCES.md)
+const double kGoldOmegaP = 9.0 * kRadPerSecondPerEv;  // common practice (REFERENCES.md)
 const double kGoldGamma = 0.035 * kRadPerSecondPerEv;
 
 SpherePlateOptions pec(double tol) {
