@@ -1,7 +1,9 @@
 #include "geometry/gmsh_export.h"
 
+#include <dlfcn.h>
 #include <fmt/format.h>
-#include <gmsh.h>
+#include <gmsh.h>  // GMSH_API_VERSION_* only
+#include <gmshc.h>
 #include <unistd.h>
 
 #include <cmath>
@@ -11,6 +13,78 @@
 
 namespace roundtrip::geometry {
 namespace {
+
+// The Gmsh SDK is loaded with dlopen when a preview is asked for: linked normally, its static
+// initialisation (OpenCASCADE) costs every `roundtrip` start about 0.13 s. Its C API (gmshc.h)
+// gives the signatures; every call reports errors through `ierr`.
+#define RT_STR2(x) #x
+#define RT_STR(x) RT_STR2(x)
+constexpr const char* kGmshLibraries[] = {
+    "libgmsh.so." RT_STR(GMSH_API_VERSION_MAJOR) "." RT_STR(GMSH_API_VERSION_MINOR), "libgmsh.so"};
+
+struct GmshApi {
+#define RT_GMSH_FN(name) decltype(&::name) name = nullptr
+  RT_GMSH_FN(gmshInitialize);
+  RT_GMSH_FN(gmshFinalize);
+  RT_GMSH_FN(gmshOptionSetNumber);
+  RT_GMSH_FN(gmshModelAdd);
+  RT_GMSH_FN(gmshModelOccAddSphere);
+  RT_GMSH_FN(gmshModelOccAddBox);
+  RT_GMSH_FN(gmshModelOccSynchronize);
+  RT_GMSH_FN(gmshModelAddPhysicalGroup);
+  RT_GMSH_FN(gmshModelSetPhysicalName);
+  RT_GMSH_FN(gmshModelGetBoundary);
+  RT_GMSH_FN(gmshModelMeshGenerate);
+  RT_GMSH_FN(gmshModelMeshGetNodes);
+  RT_GMSH_FN(gmshModelMeshGetElementsByType);
+  RT_GMSH_FN(gmshWrite);
+  RT_GMSH_FN(gmshFree);
+#undef RT_GMSH_FN
+};
+
+const GmshApi& gmsh_api() {
+  static const GmshApi api = [] {
+    void* h = nullptr;
+    std::string tried;
+    for (const char* lib : kGmshLibraries) {
+      h = dlopen(lib, RTLD_NOW | RTLD_LOCAL);
+      if (h) break;
+      tried += (tried.empty() ? "" : ", ") + std::string(lib);
+    }
+    if (!h)
+      throw std::runtime_error(
+          fmt::format("the Gmsh SDK could not be loaded (tried {}); install libgmsh-dev", tried));
+    GmshApi a;
+    const auto load = [&](auto& fn, const char* name) {
+      fn = reinterpret_cast<std::remove_reference_t<decltype(fn)>>(dlsym(h, name));
+      if (!fn) throw std::runtime_error(fmt::format("the Gmsh SDK lacks {}", name));
+    };
+#define RT_LOAD(name) load(a.name, #name)
+    RT_LOAD(gmshInitialize);
+    RT_LOAD(gmshFinalize);
+    RT_LOAD(gmshOptionSetNumber);
+    RT_LOAD(gmshModelAdd);
+    RT_LOAD(gmshModelOccAddSphere);
+    RT_LOAD(gmshModelOccAddBox);
+    RT_LOAD(gmshModelOccSynchronize);
+    RT_LOAD(gmshModelAddPhysicalGroup);
+    RT_LOAD(gmshModelSetPhysicalName);
+    RT_LOAD(gmshModelGetBoundary);
+    RT_LOAD(gmshModelMeshGenerate);
+    RT_LOAD(gmshModelMeshGetNodes);
+    RT_LOAD(gmshModelMeshGetElementsByType);
+    RT_LOAD(gmshWrite);
+    RT_LOAD(gmshFree);
+#undef RT_LOAD
+    return a;
+  }();
+  return api;
+}
+
+// Throws if a Gmsh call reported an error.
+void check(int ierr, const char* what) {
+  if (ierr != 0) throw std::runtime_error(fmt::format("Gmsh failed in {} (error {})", what, ierr));
+}
 
 // Gmsh keeps global state: one export at a time.
 std::mutex g_gmsh_mutex;
@@ -25,12 +99,23 @@ std::string length_text(double metres) {
 }
 
 struct GmshSession {
-  GmshSession() {
-    gmsh::initialize(0, nullptr, false);
-    gmsh::option::setNumber("General.Terminal", 0);
-    gmsh::option::setNumber("General.Verbosity", 1);
+  explicit GmshSession(const GmshApi& g) : g_(g) {
+    int e = 0;
+    g_.gmshInitialize(0, nullptr, 0, &e);
+    check(e, "initialize");
+    set("General.Terminal", 0);
+    set("General.Verbosity", 1);
   }
-  ~GmshSession() { gmsh::finalize(); }
+  ~GmshSession() {
+    int e = 0;
+    g_.gmshFinalize(&e);
+  }
+  void set(const char* option, double v) const {
+    int e = 0;
+    g_.gmshOptionSetNumber(option, v, &e);
+    check(e, option);
+  }
+  const GmshApi& g_;
 };
 
 }  // namespace
@@ -47,15 +132,26 @@ PreviewSummary export_gmsh(const Configuration& c, double gap, const std::filesy
   const double L = gap * u;
   PreviewSummary summary;
   std::lock_guard<std::mutex> lock(g_gmsh_mutex);
-  GmshSession session;
-  gmsh::model::add("roundtrip-preview");
+  const GmshApi& g = gmsh_api();
+  GmshSession session(g);
+  int e = 0;
+  g.gmshModelAdd("roundtrip-preview", &e);
+  check(e, "model::add");
   std::vector<std::pair<int, std::string>> volumes;
   double fine = 0.0, coarse = 0.0;
+  const auto box = [&](double x, double y, double z, double dx, double dy, double dz) {
+    const int t = g.gmshModelOccAddBox(x, y, z, dx, dy, dz, -1, &e);
+    check(e, "occ::addBox");
+    return t;
+  };
   if (c.kind == ConfigurationKind::kSpherePlate) {
     const double R = c.sphere->radius * u;
     const double W = 4.0 * R, T = R / 2.0;
-    volumes.emplace_back(gmsh::model::occ::addSphere(0.0, 0.0, L + R, R), "sphere");
-    volumes.emplace_back(gmsh::model::occ::addBox(-W / 2, -W / 2, -T, W, W, T), "plate");
+    const int sphere =
+        g.gmshModelOccAddSphere(0.0, 0.0, L + R, R, -1, -M_PI / 2, M_PI / 2, 2 * M_PI, &e);
+    check(e, "occ::addSphere");
+    volumes.emplace_back(sphere, "sphere");
+    volumes.emplace_back(box(-W / 2, -W / 2, -T, W, W, T), "plate");
     fine = 2.0 * M_PI * R / (4.0 * kElementsPerSize);
     coarse = W / kElementsPerSize;
     summary.description =
@@ -64,47 +160,66 @@ PreviewSummary export_gmsh(const Configuration& c, double gap, const std::filesy
                     length_text(W / u), length_text(W / u), length_text(T / u), length_text(gap));
   } else {
     const double W = 20.0 * L, T = W / 4.0;
-    volumes.emplace_back(gmsh::model::occ::addBox(-W / 2, -W / 2, -T, W, W, T), "plate");
-    volumes.emplace_back(gmsh::model::occ::addBox(-W / 2, -W / 2, L, W, W, T), "plate2");
+    volumes.emplace_back(box(-W / 2, -W / 2, -T, W, W, T), "plate");
+    volumes.emplace_back(box(-W / 2, -W / 2, L, W, W, T), "plate2");
     fine = coarse = W / kElementsPerSize;
     summary.description =
         fmt::format("two plates of {} x {} x {} facing each other across a gap of {}",
                     length_text(W / u), length_text(W / u), length_text(T / u), length_text(gap));
   }
-  gmsh::model::occ::synchronize();
+  g.gmshModelOccSynchronize(&e);
+  check(e, "occ::synchronize");
   // Volume and surface groups per body: only elements in physical groups are saved, and a
   // surface mesh has only triangles.
-  for (const auto& [tag, name] : volumes) {
-    const int group = gmsh::model::addPhysicalGroup(3, {tag});
-    gmsh::model::setPhysicalName(3, group, name);
-    gmsh::vectorpair boundary;
-    gmsh::model::getBoundary({{3, tag}}, boundary, false, false, false);
+  for (auto& [tag, name] : volumes) {
+    int vol = tag;
+    const int group = g.gmshModelAddPhysicalGroup(3, &vol, 1, -1, &e);
+    check(e, "addPhysicalGroup");
+    g.gmshModelSetPhysicalName(3, group, name.c_str(), &e);
+    check(e, "setPhysicalName");
+    int dimtag[2] = {3, tag};
+    int* out = nullptr;
+    std::size_t n = 0;
+    g.gmshModelGetBoundary(dimtag, 2, &out, &n, 0, 0, 0, &e);
+    check(e, "getBoundary");
     std::vector<int> faces;
-    for (const auto& [d, t] : boundary) faces.push_back(std::abs(t));
-    const int sgroup = gmsh::model::addPhysicalGroup(2, faces);
-    gmsh::model::setPhysicalName(2, sgroup, name + " surface");
+    for (std::size_t i = 1; i < n; i += 2) faces.push_back(std::abs(out[i]));
+    g.gmshFree(out);
+    const int sgroup = g.gmshModelAddPhysicalGroup(2, faces.data(), faces.size(), -1, &e);
+    check(e, "addPhysicalGroup");
+    g.gmshModelSetPhysicalName(2, sgroup, (name + " surface").c_str(), &e);
+    check(e, "setPhysicalName");
   }
-  gmsh::option::setNumber("Mesh.MeshSizeMin", fine / 4.0);
-  gmsh::option::setNumber("Mesh.MeshSizeMax", coarse);
-  gmsh::option::setNumber("Mesh.MeshSizeFromCurvature", kElementsPerSize);
+  session.set("Mesh.MeshSizeMin", fine / 4.0);
+  session.set("Mesh.MeshSizeMax", coarse);
+  session.set("Mesh.MeshSizeFromCurvature", kElementsPerSize);
   // Delaunay (5): the default frontal-Delaunay of Gmsh 4.8 crashed on the sphere's surface.
-  gmsh::option::setNumber("Mesh.Algorithm", 5);
-  gmsh::model::mesh::generate(2);
+  session.set("Mesh.Algorithm", 5);
+  g.gmshModelMeshGenerate(2, &e);
+  check(e, "mesh::generate");
 
-  std::vector<std::size_t> nodes;
-  std::vector<double> coords, params;
-  gmsh::model::mesh::getNodes(nodes, coords, params, -1, -1, true, false);
-  summary.nodes = nodes.size();
-  std::vector<int> types;
-  std::vector<std::vector<std::size_t>> tags, conn;
-  gmsh::model::mesh::getElements(types, tags, conn, 2);
-  for (std::size_t i = 0; i < types.size(); ++i)
-    if (types[i] == 2) summary.triangles += tags[i].size();  // 2: 3-node triangle
+  {
+    std::size_t *tags = nullptr, ntags = 0, ncoord = 0, nparam = 0;
+    double *coord = nullptr, *param = nullptr;
+    g.gmshModelMeshGetNodes(&tags, &ntags, &coord, &ncoord, &param, &nparam, -1, -1, 1, 0, &e);
+    check(e, "mesh::getNodes");
+    summary.nodes = ntags;
+    g.gmshFree(tags);
+    g.gmshFree(coord);
+    g.gmshFree(param);
+    std::size_t *etags = nullptr, ne = 0, *enodes = nullptr, nn = 0;
+    g.gmshModelMeshGetElementsByType(2, &etags, &ne, &enodes, &nn, -1, 0, 1, &e);  // 2: triangle
+    check(e, "mesh::getElementsByType");
+    summary.triangles = ne;
+    g.gmshFree(etags);
+    g.gmshFree(enodes);
+  }
 
   std::filesystem::path temp = path;
   temp.replace_filename(
       fmt::format("{}.tmp.{}.msh", path.stem().string(), static_cast<long>(getpid())));
-  gmsh::write(temp.string());
+  g.gmshWrite(temp.string().c_str(), &e);
+  check(e, "write");
   std::error_code ec;
   if (!std::filesystem::exists(temp, ec))
     throw std::runtime_error(fmt::format("Gmsh did not write \"{}\"", temp.string()));

@@ -1,7 +1,7 @@
 #pragma once
 // Geometry preview: the bodies of a configuration at one gap as a Gmsh model with a surface mesh
 // (.msh, Gmsh's own format), to look at in Gmsh before a long run. Built with the Gmsh SDK's
-// OpenCASCADE kernel (gmsh.h).
+// OpenCASCADE kernel (its C API, gmshc.h, loaded with dlopen on first use).
 //
 // Layout (lengths in micrometres in the file: OpenCASCADE's fixed tolerance of 1e-7 model units
 // would swallow a 100 nm gap written in metres): the plate's surface facing the gap is z = 0 and
