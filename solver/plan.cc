@@ -110,8 +110,10 @@ PlanCalibration calibrate_plan(const Geometry& g, const std::vector<double>& gap
   c.seconds_ref = t_large;
   c.flops_ref = f_large;
   const auto pfa0 = std::chrono::steady_clock::now();
-  (void)g.pfa(large, frequency);
+  const bool has_pfa = g.pfa(large, frequency).has_value();
   c.per_gap_seconds = seconds_since(pfa0);
+  const std::string pfa_text =
+      has_pfa ? fmt::format("; PFA {:.3g} ms per gap", 1e3 * c.per_gap_seconds) : std::string();
   const std::string team =
       g.parallel_inside() ? fmt::format(" on {} threads", omp_get_max_threads()) : std::string();
   const double f_small = plan_flops_per_frequency(g, small, order, rel_tol);
@@ -120,13 +122,13 @@ PlanCalibration calibrate_plan(const Geometry& g, const std::vector<double>& gap
     c.alpha = std::log(t_small / t_large) / std::log(f_small / f_large);
     c.how = fmt::format(
         "one frequency of this case timed at L = {:.4g} m ({:.3g} ms) and at L = {:.4g} m "
-        "({:.3g} ms){}, scaled between gaps as flops^{:.2f}; PFA {:.3g} ms per gap",
-        large, 1e3 * t_large, small, 1e3 * t_small, team, c.alpha, 1e3 * c.per_gap_seconds);
+        "({:.3g} ms){}, scaled between gaps as flops^{:.2f}{}",
+        large, 1e3 * t_large, small, 1e3 * t_small, team, c.alpha, pfa_text);
   } else {
     c.how = fmt::format(
         "one frequency of this case timed at L = {:.4g} m ({:.3g} ms){}, scaled to the other "
-        "gaps by the flop model; PFA {:.3g} ms per gap",
-        large, 1e3 * t_large, team, 1e3 * c.per_gap_seconds);
+        "gaps by the flop model{}",
+        large, 1e3 * t_large, team, pfa_text);
   }
   return c;
 }
