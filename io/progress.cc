@@ -30,16 +30,34 @@ std::string Progress::duration_text(double s) {
   return fmt::format("{:.1f} h", s / 3600.0);
 }
 
+void Progress::set_plan(std::vector<int> frequencies, std::vector<double> cost) {
+  std::lock_guard<std::mutex> lock(mutex_);
+  if (frequencies.size() != cost.size() || static_cast<int>(cost.size()) != total_) return;
+  planned_frequencies_ = std::move(frequencies);
+  planned_cost_ = std::move(cost);
+}
+
 std::string Progress::status(double now) const {
-  double work = done_;
   long running_evals = 0;
-  const double mean = done_ > 0 ? static_cast<double>(finished_evaluations_) / done_ : 0.0;
-  for (const auto& [gap, n] : running_) {
-    running_evals += n;
-    if (mean > 0.0) work += std::min(n / mean, kRunningCap);
+  for (const auto& [gap, n] : running_) running_evals += n;
+  double work = 0.0, total_work = 0.0;
+  if (!planned_cost_.empty()) {
+    for (double c : planned_cost_) total_work += c;
+    work = finished_cost_;
+    for (const auto& [gap, n] : running_)
+      if (gap >= 0 && gap < static_cast<int>(planned_cost_.size()) && planned_frequencies_[gap] > 0)
+        work += planned_cost_[gap] *
+                std::min(static_cast<double>(n) / planned_frequencies_[gap], kRunningCap);
+  } else {
+    total_work = total_;
+    work = done_;
+    const double mean = done_ > 0 ? static_cast<double>(finished_evaluations_) / done_ : 0.0;
+    for (const auto& [gap, n] : running_)
+      if (mean > 0.0) work += std::min(n / mean, kRunningCap);
   }
   std::string eta = "ETA unknown";
-  if (work > 0.0 && done_ < total_) eta = "ETA " + duration_text(now * (total_ - work) / work);
+  if (work > 0.0 && done_ < total_)
+    eta = "ETA " + duration_text(now * std::max(total_work - work, 0.0) / work);
   if (done_ == total_) eta = "done";
   std::string freq;
   if (running_.size() == 1)
@@ -81,6 +99,8 @@ void Progress::gap_done(int done, int total) {
     auto it = std::max_element(running_.begin(), running_.end(),
                                [](const auto& a, const auto& b) { return a.second < b.second; });
     finished_evaluations_ += it->second;
+    if (it->first >= 0 && it->first < static_cast<int>(planned_cost_.size()))
+      finished_cost_ += planned_cost_[it->first];
     running_.erase(it);
   }
   emit(status(elapsed()), true);

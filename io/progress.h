@@ -2,14 +2,17 @@
 // Progress and ETA on stderr for `roundtrip run`. On a terminal one status line is redrawn
 // (carriage return) at most ten times a second; elsewhere (--progress with stderr redirected)
 // plain lines: one per finished gap and, on long gaps, one every few seconds.
-//   ETA = elapsed * (remaining work / work done), work counted in gaps; a running gap counts
-//   as (frequencies so far) / (mean frequencies of the finished gaps), capped below 1.
-// Gaps cost unequal amounts (small gaps more), so the ETA is a guide, not a promise.
+//   ETA = elapsed * (remaining work / work done). Without a plan, work is counted in gaps and a
+//   running gap counts as (frequencies so far) / (mean frequencies of the finished gaps); with
+//   a plan (set_plan: expected frequencies and relative cost per gap, solver/plan.h) each gap
+//   weighs its planned cost and counts as (frequencies so far) / (expected), capped below 1.
+// The plan is itself an estimate, so the ETA is a guide, not a promise.
 #include <chrono>
 #include <map>
 #include <mutex>
 #include <ostream>
 #include <string>
+#include <vector>
 
 namespace roundtrip::io {
 
@@ -17,6 +20,8 @@ class Progress {
  public:
   /// `terminal`: redraw one line; otherwise print lines. `prefix` e.g. "scan point 2/4, ".
   Progress(std::ostream& err, bool terminal, int total_gaps, std::string prefix = "");
+  /// Expected frequencies and relative cost (any unit) of each gap, from the run's plan.
+  void set_plan(std::vector<int> frequencies, std::vector<double> cost);
   /// One frequency evaluated at gap `gap` (0-based), `evaluations` so far there.
   void frequency(int gap, int evaluations);
   /// A gap finished; `done` of `total` so far.
@@ -41,7 +46,10 @@ class Progress {
   int done_ = 0;
   long finished_evaluations_ = 0;
   std::map<int, int> running_;  // gap -> evaluations so far
-  double last_emit_;            // s since start_; lines wait kLineInterval from the start
+  std::vector<int> planned_frequencies_;
+  std::vector<double> planned_cost_;
+  double finished_cost_ = 0.0;
+  double last_emit_;  // s since start_; lines wait kLineInterval from the start
   bool dirty_ = false;
 };
 

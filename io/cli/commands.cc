@@ -264,6 +264,15 @@ int run_command(const RunArgs& args, std::ostream& out, std::ostream& err) {
     Progress progress(err, terminal, static_cast<int>(ps.gaps.size()),
                       scan ? fmt::format("scan point {} of {}, ", k + 1, points.size()) : "");
     if (show) {
+      // Relative cost per gap from the plan's model (no timing needed): small gaps cost more.
+      const Plan plan = make_plan(*geometries[k], ps.gaps, opts, PlanCalibration{});
+      std::vector<int> freqs;
+      std::vector<double> cost;
+      for (const auto& gp : plan.gaps) {
+        freqs.push_back(gp.frequencies);
+        cost.push_back(gp.frequencies * gp.flops_per_frequency);
+      }
+      progress.set_plan(std::move(freqs), std::move(cost));
       opts.progress = [&](int done, int total) { progress.gap_done(done, total); };
       opts.frequency_progress = [&](int gap, int n) { progress.frequency(gap, n); };
     }
