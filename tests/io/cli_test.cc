@@ -454,8 +454,8 @@ TEST_F(Cli, ProgressOnlyWhenAskedForOrOnATerminal) {
 // removes its temporary results file (the first one stops the run cleanly: resume_test.cc).
 TEST_F(Cli, SecondInterruptLeavesNoTemporaryFile) {
   const std::string demo =
-      slurp(fs::path(ROUNDTRIP_SOURCE_DIR) / "cases" / "sphere_plate_afm.toml");
-  write("long.toml", demo);  // about 40 s: certainly still running after the pause below
+      slurp(fs::path(ROUNDTRIP_SOURCE_DIR) / "cases" / "sphere_plate_drude_plasma.toml");
+  write("long.toml", demo);  // tens of seconds: certainly still running after the pause below
   const std::string cmd = fmt::format(
       "cd '{}' && ('{}' run long.toml --quiet -o long.h5 > out.txt 2> err.txt & pid=$!; "
       "sleep 1; kill -INT $pid; sleep 0.05; kill -INT $pid; wait $pid; echo $? > status.txt)",

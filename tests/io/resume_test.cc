@@ -110,7 +110,7 @@ TEST(Journal, AChangedKeyIsRefusedNamingTheFieldUnlessRestarted) {
 
 // --- The program end to end -------------------------------------------------------------------
 
-// A sphere-plate case of about two seconds on 2 cores (l_max fixed so that the work per gap
+// A sphere-plate case of one to two seconds on 2 cores (l_max fixed so that the work per gap
 // does not depend on the tolerance rule): invented numbers.
 const std::string kCase = R"(geometry = "sphere-plate"
 [sphere]
@@ -124,7 +124,7 @@ values = ["1 um", "1.5 um", "2 um"]
 temperature = "300 K"
 [numerics]
 rel_tol = 1e-4
-l_max = 100
+l_max = 300
 )";
 
 class Resume : public ::testing::Test {
