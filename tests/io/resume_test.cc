@@ -203,7 +203,7 @@ TEST_F(Resume, CtrlCWritesAValidFileOfFinishedGapsKeepsTheJournalAndTheRerunIsBi
   ASSERT_EQ(
       sh(fmt::format("'{}' run sp.toml --quiet -o full.h5 > full.out 2> full.err", ROUNDTRIP_CLI)),
       0);
-  // The first gap has about 12 frequencies; wait until the second gap has started.
+  // The first gap has 10 frequencies; wait until the second gap has started.
   const int status = interrupt("sp.h5", 14, "INT");
   ASSERT_EQ(status, 130) << slurp(dir_ / "run.err");
   EXPECT_NE(slurp(dir_ / "run.err").find("interrupted: "), std::string::npos);
@@ -225,6 +225,35 @@ print("OK", n)
             0);
   EXPECT_NE(slurp(dir_ / "re.err").find("resumed: "), std::string::npos);
   EXPECT_EQ(compare("sp.h5", "full.h5"), "SAME\n");
+}
+
+TEST_F(Resume, AnInterruptedScanWritesTheFinishedPointsAndResumesToTheFullScan) {
+  std::ofstream(dir_ / "sp.toml") << kCase + "[scan]\nradius = [\"5 um\", \"6 um\"]\n";
+  ASSERT_EQ(
+      sh(fmt::format("'{}' run sp.toml --quiet -o full.h5 > full.out 2> full.err", ROUNDTRIP_CLI)),
+      0);
+  // Wait for the second scan point: the first has 25 frequencies over its three gaps.
+  ASSERT_EQ(interrupt("sp.h5", 40, "INT"), 130) << slurp(dir_ / "run.err");
+  std::ofstream(dir_ / "partial.py") << R"PY(import h5py
+f = h5py.File("sp.h5", "r")
+assert int(f.attrs["complete"]) == 0 and int(f.attrs["scan_points"]) == 2
+assert int(f["scan/0"].attrs["complete"]) == 1 and len(f["scan/0/results/gap"]) == 3
+assert f["scan/0"].attrs["scan.radius"] == "5 um"
+print("OK")
+)PY";
+  ASSERT_EQ(sh("/usr/bin/python3 partial.py > partial.txt 2>&1"), 0) << slurp(dir_ / "partial.txt");
+  ASSERT_EQ(sh(fmt::format("'{}' run sp.toml --quiet -o sp.h5 > re.out 2> re.err", ROUNDTRIP_CLI)),
+            0);
+  EXPECT_NE(slurp(dir_ / "re.err").find("resumed: "), std::string::npos);
+  std::ofstream(dir_ / "same.py") << R"PY(import h5py, numpy as np
+a, b = h5py.File("sp.h5", "r"), h5py.File("full.h5", "r")
+assert int(a.attrs["complete"]) == 1
+for k in ["0", "1"]:
+    for q in ["gap", "energy", "force"]:
+        assert np.array_equal(a["scan"][k]["results"][q][:], b["scan"][k]["results"][q][:]), (k, q)
+print("SAME")
+)PY";
+  ASSERT_EQ(sh("/usr/bin/python3 same.py > same.txt 2>&1"), 0) << slurp(dir_ / "same.txt");
 }
 
 TEST_F(Resume, AChangedCaseRefusesToResumeNamingTheFieldAndRestartDiscardsTheJournal) {
