@@ -66,6 +66,20 @@ struct NodeSet {
   std::vector<double> f1, f2;      // dOmega/dL / Omega, d2Omega/dL2 / Omega
 };
 
+/// Reflection factor and L-derivative factors of node j: column j (TE channel, or the scalar
+/// field) and, for EM, column N + j (TM channel).
+void set_node_coefficients(const NodeSet& nodes, int j, bool em, LowRankBlock& b) {
+  const int N = static_cast<int>(nodes.x.size());
+  b.c[j] = nodes.c_te[j];
+  b.f1[j] = nodes.f1[j];
+  b.f2[j] = nodes.f2[j];
+  if (em) {
+    b.c[N + j] = nodes.c_tm[j];
+    b.f1[N + j] = nodes.f1[j];
+    b.f2[N + j] = nodes.f2[j];
+  }
+}
+
 class SpherePlate final : public Geometry {
  public:
   explicit SpherePlate(SpherePlateOptions o) : o_(std::move(o)) {
@@ -267,14 +281,7 @@ class SpherePlate final : public Geometry {
         b.W(i, N + j) = std::exp(hte + log_p);       // v_j, TE rows
         b.W(nl + i, N + j) = std::exp(htm + log_t);  // v_j, TM rows
       }
-      b.c[j] = nodes.c_te[j];
-      b.f1[j] = nodes.f1[j];
-      b.f2[j] = nodes.f2[j];
-      if (em) {
-        b.c[N + j] = nodes.c_tm[j];
-        b.f1[N + j] = nodes.f1[j];
-        b.f2[N + j] = nodes.f2[j];
-      }
+      set_node_coefficients(nodes, j, em, b);
     }
     return b;
   }
@@ -347,14 +354,7 @@ class SpherePlate final : public Geometry {
         if (row_log[i] != kNegInf) b.W(i, j) = std::exp(row_log[i] + e);
         if (em && row_log[nl + i] != kNegInf) b.W(nl + i, N + j) = std::exp(row_log[nl + i] + e);
       }
-      b.c[j] = nodes.c_te[j];
-      b.f1[j] = nodes.f1[j];
-      b.f2[j] = nodes.f2[j];
-      if (em) {
-        b.c[N + j] = nodes.c_tm[j];
-        b.f1[N + j] = nodes.f1[j];
-        b.f2[N + j] = nodes.f2[j];
-      }
+      set_node_coefficients(nodes, j, em, b);
     }
     return b;
   }
