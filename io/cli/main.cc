@@ -34,7 +34,8 @@ int main(int argc, char** argv) {
   app.require_subcommand(1);
   app.footer(
       "Case-file reference: README.md. Exit status: 0 ok, 1 bad input (nothing written),\n"
-      "2 bad command line, 3 results written but not converged, 4 solver failure.");
+      "2 bad command line, 3 results written but not converged, 4 solver failure,\n"
+      "130 interrupted (finished gaps written; the same command resumes).");
 
   cli::RunArgs run_args;
   CLI::App* run = app.add_subcommand("run", "Compute a case, print a table, write an HDF5 file");
@@ -51,7 +52,7 @@ int main(int argc, char** argv) {
 
   std::string check_path;
   CLI::App* check =
-      app.add_subcommand("check", "Parse and validate a case, print the plan, compute nothing");
+      app.add_subcommand("check", "Validate a case; print the plan, truncations and a memory and time estimate");
   check->add_option("CASE", check_path, "Case file (TOML)")->required();
 
   std::string plot_path, plot_dir;

@@ -281,10 +281,12 @@ TEST_F(Cli, HelpAndVersionExitZero) {
   EXPECT_EQ(o.out.rfind("roundtrip 0.", 0), 0u) << o.out;
   o = cli("--help");
   EXPECT_EQ(o.status, 0);
-  for (const char* s : {"run", "check", "materials"}) EXPECT_NE(o.out.find(s), std::string::npos);
+  for (const char* s : {"run", "check", "materials", "plot", "preview"})
+    EXPECT_NE(o.out.find(s), std::string::npos) << s;
   o = cli("run --help");
   EXPECT_EQ(o.status, 0);
-  EXPECT_NE(o.out.find("--threads"), std::string::npos) << o.out;
+  for (const char* s : {"--threads", "--progress", "--restart", "--quiet"})
+    EXPECT_NE(o.out.find(s), std::string::npos) << s << "\n" << o.out;
 }
 
 // Drude model eps(i xi) = 1 + wp^2 / (xi (xi + gamma)) with wp = 9.0 eV, gamma = 35 meV
