@@ -51,8 +51,8 @@ int main(int argc, char** argv) {
                 "Discard the checkpoint journal of an earlier run instead of resuming it");
 
   std::string check_path;
-  CLI::App* check =
-      app.add_subcommand("check", "Validate a case; print the plan, truncations and a memory and time estimate");
+  CLI::App* check = app.add_subcommand(
+      "check", "Validate a case; print the plan, truncations and a memory and time estimate");
   check->add_option("CASE", check_path, "Case file (TOML)")->required();
 
   std::string plot_path, plot_dir;
