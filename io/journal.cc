@@ -2,6 +2,7 @@
 
 #include <fcntl.h>
 #include <fmt/format.h>
+#include <sys/file.h>
 #include <unistd.h>
 
 #include <bit>
@@ -141,10 +142,33 @@ class Journal::PointStore final : public ContributionStore {
 Journal::Journal(std::filesystem::path path, const JournalKey& key, bool restart)
     : path_(std::move(path)) {
   const std::string where = fmt::format("checkpoint journal \"{}\"", path_.string());
+  // One run per journal (and so per results file): take an exclusive lock before reading, so
+  // that a second run is refused instead of interleaving records or cutting the first's lines.
+  fd_ = ::open(path_.c_str(), O_WRONLY | O_APPEND | O_CREAT | O_CLOEXEC, 0644);
+  if (fd_ < 0)
+    throw CaseError(fmt::format("{}: cannot create or open it: {}", where, std::strerror(errno)));
+  if (::flock(fd_, LOCK_EX | LOCK_NB) != 0) {
+    ::close(fd_);
+    fd_ = -1;
+    throw CaseError(fmt::format(
+        "{}: another roundtrip run is writing this results file and its journal; wait for it "
+        "or choose another output file (-o)",
+        where));
+  }
+  try {
+    load_or_start(key, restart, where);
+  } catch (...) {
+    ::close(fd_);  // releases the lock: a refused journal stays as it was
+    fd_ = -1;
+    throw;
+  }
+}
+
+void Journal::load_or_start(const JournalKey& key, bool restart, const std::string& where) {
   std::error_code ec;
   const std::string header = header_text(key);
   bool fresh = true;
-  if (std::filesystem::exists(path_, ec) && !restart) {
+  if (std::filesystem::file_size(path_, ec) > 0 && !restart) {
     std::ifstream in(path_, std::ios::binary);
     std::ostringstream ss;
     ss << in.rdbuf();
@@ -210,22 +234,16 @@ Journal::Journal(std::filesystem::path path, const JournalKey& key, bool restart
       loaded_ = records_.size();
       // Cut a torn or damaged tail so that appended records start on a fresh line.
       if (offset != text.size()) {
-        if (::truncate(path_.c_str(), static_cast<off_t>(offset)) != 0)
+        if (::ftruncate(fd_, static_cast<off_t>(offset)) != 0)
           throw CaseError(
               fmt::format("{}: cannot repair its torn last line: {}", where, std::strerror(errno)));
       }
     }
   }
   if (fresh) {
-    fd_ = ::open(path_.c_str(), O_WRONLY | O_CREAT | O_TRUNC | O_CLOEXEC, 0644);
-    if (fd_ < 0)
-      throw CaseError(fmt::format("{}: cannot create it: {}", where, std::strerror(errno)));
+    if (::ftruncate(fd_, 0) != 0)
+      throw CaseError(fmt::format("{}: cannot truncate it: {}", where, std::strerror(errno)));
     write_all(fd_, header, path_, true);
-  } else {
-    fd_ = ::open(path_.c_str(), O_WRONLY | O_APPEND | O_CLOEXEC);
-    if (fd_ < 0)
-      throw CaseError(
-          fmt::format("{}: cannot open it for appending: {}", where, std::strerror(errno)));
   }
 }
 

@@ -57,6 +57,7 @@ class Journal {
 
  private:
   class PointStore;
+  void load_or_start(const JournalKey& key, bool restart, const std::string& where);
   bool lookup(int point, int gap, double xi, Spectral& s);
   void record(int point, int gap, double xi, const Spectral& s);
 

@@ -108,6 +108,24 @@ TEST(Journal, AChangedKeyIsRefusedNamingTheFieldUnlessRestarted) {
   fs::remove_all(dir);
 }
 
+TEST(Journal, ASecondRunOnTheSameJournalIsRefusedWhileTheFirstHoldsIt) {
+  const fs::path dir = fresh_dir("locked");
+  const fs::path p = dir / "r.h5.journal";
+  {
+    Journal first(p, kKey, false);
+    try {
+      Journal second(p, kKey, false);
+      ADD_FAILURE() << "two runs on one journal";
+    } catch (const CaseError& e) {
+      EXPECT_NE(std::string(e.what()).find("another roundtrip run"), std::string::npos) << e.what();
+    }
+    first.store(0)->record(0, 1e14, Spectral{-0.5, 1.0, 2.0});
+  }
+  Journal again(p, kKey, false);  // the lock goes with the first run
+  EXPECT_EQ(again.loaded(), 1u);
+  fs::remove_all(dir);
+}
+
 // --- The program end to end -------------------------------------------------------------------
 
 // A sphere-plate case of one to two seconds on 2 cores (l_max fixed so that the work per gap
