@@ -80,6 +80,52 @@ void set_node_coefficients(const NodeSet& nodes, int j, bool em, LowRankBlock& b
   }
 }
 
+/// Writes W entries from their logs into a zeroed block. Entries below e^{-41} (~1.6e-18;
+/// |M| <= 1) are dropped, and each column's non-zero row range per row group (TE rows, TM rows)
+/// is recorded: W is banded in (l, node), and the node-space Gram skips the zeros
+/// (solver/logdet/low_rank.h). Measured: ~20 % of the entries are non-zero at R/L = 200.
+class BandedWriter {
+ public:
+  BandedWriter(LowRankBlock& b, std::vector<int> group_start) : b_(b) {
+    groups_ = static_cast<int>(group_start.size()) - 1;
+    b_.group_start = std::move(group_start);
+    b_.col_lo.assign(b_.W.cols() * groups_, std::numeric_limits<int>::max());
+    b_.col_hi.assign(b_.W.cols() * groups_, 0);
+  }
+  /// Rows row0 .. row0 + logs.size() - 1 of column col from their logs (all written; the
+  /// negligible ones only fall outside the recorded band).
+  void put_column(int col, int row0, int group, const Eigen::ArrayXd& logs) {
+    const Eigen::Index n = logs.size();
+    // exp into an aligned temporary first: Eigen peels unaligned destinations element by
+    // element (scalar std::exp), which would make the last bits depend on the buffer address.
+    values_ = logs.exp();
+    b_.W.col(col).segment(row0, n) = values_.matrix();
+    Eigen::Index first = 0, last = n;
+    while (first < n && !(logs[first] > kLogNegligible)) ++first;
+    while (last > first && !(logs[last - 1] > kLogNegligible)) --last;
+    if (last > first) {
+      int& lo = b_.col_lo[col * groups_ + group];
+      int& hi = b_.col_hi[col * groups_ + group];
+      lo = std::min<int>(lo, row0 + static_cast<int>(first));
+      hi = std::max<int>(hi, row0 + static_cast<int>(last));
+    }
+  }
+  void put(int row, int col, int group, double log_value) {
+    if (!(log_value > kLogNegligible)) return;
+    b_.W(row, col) = std::exp(log_value);
+    int& lo = b_.col_lo[col * groups_ + group];
+    int& hi = b_.col_hi[col * groups_ + group];
+    lo = std::min(lo, row);
+    hi = std::max(hi, row + 1);
+  }
+
+ private:
+  static constexpr double kLogNegligible = -41.0;
+  LowRankBlock& b_;
+  Eigen::ArrayXd values_;
+  int groups_ = 1;
+};
+
 class SpherePlate final : public Geometry {
  public:
   explicit SpherePlate(SpherePlateOptions o) : o_(std::move(o)) {
@@ -257,30 +303,48 @@ class SpherePlate final : public Geometry {
         b.s[l - lmin] = mie.sign_te[l];
       }
     }
+    BandedWriter w(b, em ? std::vector<int>{0, nl, 2 * nl} : std::vector<int>{0, nl});
+    // Per node, the whole column in log form with Eigen's vectorised exp/log (one pass per
+    // column), then the band of entries above the negligible level.
+    Eigen::ArrayXd hte0(nl), htm0(nl);
+    for (int i = 0; i < nl; ++i) {
+      hte0[i] = log_a[i] + 0.5 * mie.log_abs_te[lmin + i];
+      htm0[i] = log_a[i] + 0.5 * mie.log_abs_tm[lmin + i];
+    }
     std::vector<double> pm, pm1;
+    Eigen::ArrayXd lt(nl), lp(nl), col(nl);
     for (int j = 0; j < N; ++j) {
       const double x = nodes.x[j];
+      const double hw = nodes.half_log_w[j];
       special::legendre_log(x, m, lmax, pm);
-      if (em) special::legendre_log(x, m + 1, lmax, pm1);
-      const double log_s = 0.5 * std::log((x - 1.0) * (x + 1.0));
-      const double log_mx = m > 0 ? std::log(m * x) : kNegInf;
-      const double log_m = m > 0 ? std::log(double(m)) : kNegInf;
-      for (int l = lmin; l <= lmax; ++l) {
-        const int i = l - lmin;
-        const double base = log_a[i] + nodes.half_log_w[j];
-        if (!em) {
-          b.W(i, j) = std::exp(base + 0.5 * mie.log_abs_te[l] + pm[l]);
-          continue;
-        }
-        const double log_t = log_add_exp(log_mx + pm[l] - log_s, pm1[l]);
-        const double log_p = log_m + pm[l] - log_s;
-        const double hte = base + 0.5 * mie.log_abs_te[l];
-        const double htm = base + 0.5 * mie.log_abs_tm[l];
-        b.W(i, j) = std::exp(hte + log_t);           // u_j, TE rows
-        b.W(nl + i, j) = std::exp(htm + log_p);      // u_j, TM rows
-        b.W(i, N + j) = std::exp(hte + log_p);       // v_j, TE rows
-        b.W(nl + i, N + j) = std::exp(htm + log_t);  // v_j, TM rows
+      const Eigen::Map<const Eigen::ArrayXd> P(pm.data() + lmin, nl);
+      if (!em) {
+        col = hte0 + hw + P;
+        w.put_column(j, 0, 0, col);
+        set_node_coefficients(nodes, j, em, b);
+        continue;
       }
+      special::legendre_log(x, m + 1, lmax, pm1);
+      const Eigen::Map<const Eigen::ArrayXd> P1(pm1.data() + lmin, nl);
+      const double log_s = 0.5 * std::log((x - 1.0) * (x + 1.0));
+      if (m == 0) {
+        lt = P1;  // t = Pt^1, p = 0
+        lp.setConstant(kNegInf);
+      } else {
+        // t = m x Pt^m / s + Pt^{m+1}, p = m Pt^m / s (both terms positive: log-sum-exp)
+        lp = std::log(double(m)) - log_s + P;
+        const Eigen::ArrayXd a = lp + std::log(x);
+        const Eigen::ArrayXd hi = a.max(P1), lo = a.min(P1);
+        lt = hi + (1.0 + (lo - hi).exp()).log();
+      }
+      col = hte0 + hw + lt;
+      w.put_column(j, 0, 0, col);  // u_j, TE rows
+      col = htm0 + hw + lp;
+      w.put_column(j, nl, 1, col);  // u_j, TM rows
+      col = hte0 + hw + lp;
+      w.put_column(N + j, 0, 0, col);  // v_j, TE rows
+      col = htm0 + hw + lt;
+      w.put_column(N + j, nl, 1, col);  // v_j, TM rows
       set_node_coefficients(nodes, j, em, b);
     }
     return b;
@@ -346,13 +410,14 @@ class SpherePlate final : public Geometry {
         if (g2tm != 0.0) row_log[nl + i] = common + 0.5 * std::log(std::abs(g2tm));
       }
     }
+    BandedWriter w(b, em ? std::vector<int>{0, nl, 2 * nl} : std::vector<int>{0, nl});
     for (int j = 0; j < N; ++j) {
       const double log_t = std::log(nodes.x[j]);
       for (int l = lmin; l <= lmax; ++l) {
         const int i = l - lmin;
         const double e = nodes.half_log_w[j] + l * log_t;
-        if (row_log[i] != kNegInf) b.W(i, j) = std::exp(row_log[i] + e);
-        if (em && row_log[nl + i] != kNegInf) b.W(nl + i, N + j) = std::exp(row_log[nl + i] + e);
+        w.put(i, j, 0, row_log[i] + e);
+        if (em) w.put(nl + i, N + j, 1, row_log[nl + i] + e);
       }
       set_node_coefficients(nodes, j, em, b);
     }

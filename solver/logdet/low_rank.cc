@@ -1,10 +1,45 @@
 #include "solver/logdet/low_rank.h"
 
+#include <algorithm>
 #include <cmath>
+#include <limits>
 
 namespace roundtrip {
 
 namespace {
+
+// A -= Ws^T Ws on and below the diagonal, skipping the rows where a column is zero: columns are
+// taken in blocks of kColumnBlock, each block pair multiplies only the rows where both blocks
+// have non-zeros (per row group). Exact up to the dropped zeros; same result as rankUpdate.
+void subtract_banded_gram(const LowRankBlock& b, const Eigen::MatrixXd& Ws, Eigen::MatrixXd& A) {
+  constexpr int kColumnBlock = 24;
+  const int q = static_cast<int>(Ws.cols());
+  const int groups = static_cast<int>(b.group_start.size()) - 1;
+  const int nb = (q + kColumnBlock - 1) / kColumnBlock;
+  std::vector<int> lo(nb * groups, std::numeric_limits<int>::max()), hi(nb * groups, -1);
+  for (int c = 0; c < q; ++c)
+    for (int g = 0; g < groups; ++g) {
+      const int l0 = b.col_lo[c * groups + g], h0 = b.col_hi[c * groups + g];
+      if (h0 <= l0) continue;
+      int& L = lo[(c / kColumnBlock) * groups + g];
+      int& H = hi[(c / kColumnBlock) * groups + g];
+      L = std::min(L, l0);
+      H = std::max(H, h0);
+    }
+  for (int I = 0; I < nb; ++I) {
+    const int i0 = I * kColumnBlock, ni = std::min(kColumnBlock, q - i0);
+    for (int J = 0; J <= I; ++J) {
+      const int j0 = J * kColumnBlock, nj = std::min(kColumnBlock, q - j0);
+      for (int g = 0; g < groups; ++g) {
+        const int r0 = std::max(lo[I * groups + g], lo[J * groups + g]);
+        const int r1 = std::min(hi[I * groups + g], hi[J * groups + g]);
+        if (r1 <= r0) continue;
+        A.block(i0, j0, ni, nj).noalias() -=
+            Ws.block(r0, i0, r1 - r0, ni).transpose() * Ws.block(r0, j0, r1 - r0, nj);
+      }
+    }
+  }
+}
 
 // Sylvester's identity det(1 - sigma W C W^T) = det(1 - K), K = (sigma C)^{1/2} W^T W
 // (sigma C)^{1/2} (q x q), for sigma c_i >= 0. With B = (1 - K)^{-1} and dC/dL = F1 C:
@@ -17,7 +52,10 @@ LogDetResult logdet_node_space(const LowRankBlock& b, double sigma, DerivativeOr
   const Eigen::MatrixXd Ws = b.W * sq.asDiagonal();
   const Eigen::Index q = b.W.cols();
   Eigen::MatrixXd A = Eigen::MatrixXd::Identity(q, q);
-  A.selfadjointView<Eigen::Lower>().rankUpdate(Ws.transpose(), -1.0);
+  if (b.group_start.size() >= 2)
+    subtract_banded_gram(b, Ws, A);
+  else
+    A.selfadjointView<Eigen::Lower>().rankUpdate(Ws.transpose(), -1.0);
   Eigen::LLT<Eigen::MatrixXd, Eigen::Lower> llt(A);
   if (llt.info() != Eigen::Success) {
     out.ok = false;

@@ -14,6 +14,7 @@
 // Mixed signs fall back to a pivoted LU.
 #include <Eigen/Dense>
 #include <string>
+#include <vector>
 
 #include "solver/geometries/geometry.h"
 
@@ -25,6 +26,11 @@ struct LowRankBlock {
   Eigen::VectorXd f1;  ///< q, only read for order >= 1
   Eigen::VectorXd f2;  ///< q, only read for order 2
   Eigen::VectorXd s;   ///< n, entries +-1 (0 allowed for zero rows)
+  /// Optional sparsity of W (banded multipole-node structure): row groups [group_start[g],
+  /// group_start[g+1]) and, per column c and group g, the rows [lo, hi) outside which column c
+  /// is zero in that group: lo = col_lo[c * groups + g], hi = col_hi[...]. Empty: W is dense.
+  std::vector<int> group_start;
+  std::vector<int> col_lo, col_hi;
 };
 
 struct LogDetResult {

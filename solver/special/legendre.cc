@@ -1,5 +1,6 @@
 #include "solver/special/legendre.h"
 
+#include <Eigen/Core>
 #include <cassert>
 #include <cmath>
 #include <limits>
@@ -17,17 +18,23 @@ void legendre_log(double x, int m, int lmax, std::vector<double>& out) {
   if (lmax < m) return;
   const double s2 = (x - 1.0) * (x + 1.0);
   if (m > 0 && s2 <= 0.0) return;
-  double logp = log_double_factorial_odd(m) + (m > 0 ? 0.5 * m * std::log(s2) : 0.0);
+  const double logp = log_double_factorial_odd(m) + (m > 0 ? 0.5 * m * std::log(s2) : 0.0);
   out[m] = logp;
   if (lmax == m) return;
+  // Ratios q_{l+1} = Pt_{l+1}/Pt_l by the recurrence, then their logs in one vectorised pass
+  // (Eigen's SIMD log) and a prefix sum.
   double q = (2.0 * m + 1.0) * x;  // Pt_{m+1}/Pt_m
-  logp += std::log(q);
-  out[m + 1] = logp;
+  out[m + 1] = q;
   for (int l = m + 1; l < lmax; ++l) {
     q = ((2.0 * l + 1.0) * x - (l + m) / q) / (l - m + 1.0);
-    logp += std::log(q);
-    out[l + 1] = logp;
+    out[l + 1] = q;
   }
+  // Into an aligned array first: Eigen would peel an unaligned destination with scalar logs,
+  // making the last bits depend on the buffer's address (and so on the thread).
+  Eigen::ArrayXd logq = Eigen::Map<const Eigen::ArrayXd>(out.data() + m + 1, lmax - m).log();
+  Eigen::Map<Eigen::ArrayXd>(out.data() + m + 1, lmax - m) = logq;
+  out[m + 1] += logp;
+  for (int l = m + 2; l <= lmax; ++l) out[l] += out[l - 1];
 }
 
 }  // namespace roundtrip::special
