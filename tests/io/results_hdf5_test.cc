@@ -113,6 +113,62 @@ TEST(ResultsHdf5, LayoutReadsBackWithH5py) {
   fs::remove_all(dir);
 }
 
+// Scans: /scan/<k> groups with the single-run layout inside, parameters as attributes; theta
+// fits in results/pfa_theta; an interrupted run marked complete = 0.
+TEST(ResultsHdf5, ScanGroupsThetaFitsAndCompletenessReadBackWithH5py) {
+  const fs::path dir = fresh_dir("scan");
+  const fs::path out = dir / "scan.h5";
+  {
+    ResultsWriter w(out, "output.file");
+    ResultsInfo common;
+    common.title = "scan";
+    common.case_text = "[scan]\n";
+    std::vector<ScanRunResult> runs;
+    for (int k = 0; k < 2; ++k) {
+      ScanRunResult run;
+      run.result = sample_result();
+      run.result.theta_energy.valid = true;
+      run.result.theta_energy.theta = -1.25 - k;
+      run.result.theta_energy.uncertainty = 0.05;
+      run.result.theta_energy.points = 3;
+      run.result.theta_energy.model = "1 + theta x + theta2 x^2";
+      run.info.temperature_K = k == 0 ? 0.0 : 300.0;
+      run.info.frequency_rule = k == 0 ? "zero-temperature-quadrature" : "matsubara";
+      run.info.quantities = {true, true, true};
+      run.info.sphere_radius_m = 5e-6;
+      run.info.complete = k == 0;
+      run.parameters = {{"temperature", k == 0 ? "0 K" : "300 K"}};
+      runs.push_back(run);
+    }
+    w.commit_scan(runs, common, 3);
+  }
+  std::ofstream(dir / "check.py") << R"PY(import sys, h5py
+f = h5py.File(sys.argv[1], "r")
+assert "results" not in f and f.attrs["title"] == "scan"
+assert int(f.attrs["scan_points"]) == 3 and int(f.attrs["scan_points_written"]) == 2
+assert int(f.attrs["complete"]) == 0 and f.attrs["scan_keys"] == "temperature"
+g0, g1 = f["scan/0"], f["scan/1"]
+assert g0.attrs["scan.temperature"] == "0 K" and g1.attrs["scan.temperature"] == "300 K"
+assert int(g0.attrs["complete"]) == 1 and int(g1.attrs["complete"]) == 0
+assert float(g1.attrs["sphere_radius_m"]) == 5e-6
+assert g0["frequencies/0/weight"].attrs["units"] == "J"
+t = g1["results/pfa_theta/energy"].attrs
+assert float(t["theta"]) == -2.25 and int(t["points"]) == 3 and "theta2" in t["model"]
+assert "force" not in g1["results/pfa_theta"], "invalid fits are left out"
+assert g0["results/energy"].shape == (3,)
+print("OK")
+)PY";
+  const std::string cmd =
+      fmt::format("/usr/bin/python3 {} {} > {} 2>&1", (dir / "check.py").string(), out.string(),
+                  (dir / "log").string());
+  const int rc = std::system(cmd.c_str());
+  std::ifstream log(dir / "log");
+  const std::string text((std::istreambuf_iterator<char>(log)), std::istreambuf_iterator<char>());
+  EXPECT_EQ(rc, 0) << text;
+  EXPECT_EQ(text, "OK\n");
+  fs::remove_all(dir);
+}
+
 TEST(ResultsHdf5, AbandonedRunLeavesNoFile) {
   const fs::path dir = fresh_dir("abandon");
   { ResultsWriter w(dir / "run.h5", "output.file"); }  // no commit: the computation failed
