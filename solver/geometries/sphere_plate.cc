@@ -92,31 +92,26 @@ class BandedWriter {
     b_.col_lo.assign(b_.W.cols() * groups_, std::numeric_limits<int>::max());
     b_.col_hi.assign(b_.W.cols() * groups_, 0);
   }
-  /// Rows row0 .. row0 + logs.size() - 1 of column col from their logs (all written; the
-  /// negligible ones only fall outside the recorded band).
+  /// Rows row0 .. row0 + logs.size() - 1 of column col from their logs; the negligible ones
+  /// at either end are set to zero and fall outside the recorded band.
   void put_column(int col, int row0, int group, const Eigen::ArrayXd& logs) {
     const Eigen::Index n = logs.size();
-    // exp into an aligned temporary first: Eigen peels unaligned destinations element by
-    // element (scalar std::exp), which would make the last bits depend on the buffer address.
-    values_ = logs.exp();
-    b_.W.col(col).segment(row0, n) = values_.matrix();
     Eigen::Index first = 0, last = n;
     while (first < n && !(logs[first] > kLogNegligible)) ++first;
     while (last > first && !(logs[last - 1] > kLogNegligible)) --last;
+    auto dst = b_.W.col(col).segment(row0, n);
+    dst.head(first).setZero();
+    dst.tail(n - last).setZero();
     if (last > first) {
+      // exp into an aligned temporary first: Eigen peels unaligned destinations element by
+      // element (scalar std::exp), which would make the last bits depend on the buffer address.
+      values_ = logs.segment(first, last - first).exp();
+      dst.segment(first, last - first) = values_.matrix();
       int& lo = b_.col_lo[col * groups_ + group];
       int& hi = b_.col_hi[col * groups_ + group];
       lo = std::min<int>(lo, row0 + static_cast<int>(first));
       hi = std::max<int>(hi, row0 + static_cast<int>(last));
     }
-  }
-  void put(int row, int col, int group, double log_value) {
-    if (!(log_value > kLogNegligible)) return;
-    b_.W(row, col) = std::exp(log_value);
-    int& lo = b_.col_lo[col * groups_ + group];
-    int& hi = b_.col_hi[col * groups_ + group];
-    lo = std::min(lo, row);
-    hi = std::max(hi, row + 1);
   }
 
  private:
@@ -311,21 +306,22 @@ class SpherePlate final : public Geometry {
       hte0[i] = log_a[i] + 0.5 * mie.log_abs_te[lmin + i];
       htm0[i] = log_a[i] + 0.5 * mie.log_abs_tm[lmin + i];
     }
-    std::vector<double> pm, pm1;
+    const Eigen::Map<const Eigen::ArrayXd> xs(nodes.x.data(), N);
+    Eigen::ArrayXXd pm, pm1;
+    special::legendre_log_many(xs, m, lmax, pm);
+    if (em) special::legendre_log_many(xs, m + 1, lmax, pm1);
     Eigen::ArrayXd lt(nl), lp(nl), col(nl);
     for (int j = 0; j < N; ++j) {
       const double x = nodes.x[j];
       const double hw = nodes.half_log_w[j];
-      special::legendre_log(x, m, lmax, pm);
-      const Eigen::Map<const Eigen::ArrayXd> P(pm.data() + lmin, nl);
+      const Eigen::Map<const Eigen::ArrayXd> P(&pm(lmin, j), nl);
       if (!em) {
         col = hte0 + hw + P;
         w.put_column(j, 0, 0, col);
         set_node_coefficients(nodes, j, em, b);
         continue;
       }
-      special::legendre_log(x, m + 1, lmax, pm1);
-      const Eigen::Map<const Eigen::ArrayXd> P1(pm1.data() + lmin, nl);
+      const Eigen::Map<const Eigen::ArrayXd> P1(&pm1(lmin, j), nl);
       const double log_s = 0.5 * std::log((x - 1.0) * (x + 1.0));
       if (m == 0) {
         lt = P1;  // t = Pt^1, p = 0
@@ -411,13 +407,16 @@ class SpherePlate final : public Geometry {
       }
     }
     BandedWriter w(b, em ? std::vector<int>{0, nl, 2 * nl} : std::vector<int>{0, nl});
+    const Eigen::Map<const Eigen::ArrayXd> log_te(row_log.data(), nl);
+    const Eigen::ArrayXd ls = Eigen::ArrayXd::LinSpaced(nl, lmin, lmax);
+    Eigen::ArrayXd col(nl);
     for (int j = 0; j < N; ++j) {
-      const double log_t = std::log(nodes.x[j]);
-      for (int l = lmin; l <= lmax; ++l) {
-        const int i = l - lmin;
-        const double e = nodes.half_log_w[j] + l * log_t;
-        w.put(i, j, 0, row_log[i] + e);
-        if (em) w.put(nl + i, N + j, 1, row_log[nl + i] + e);
+      const double log_t = std::log(nodes.x[j]), hw = nodes.half_log_w[j];
+      col = log_te + hw + ls * log_t;
+      w.put_column(j, 0, 0, col);
+      if (em) {
+        col = Eigen::Map<const Eigen::ArrayXd>(row_log.data() + nl, nl) + hw + ls * log_t;
+        w.put_column(N + j, nl, 1, col);
       }
       set_node_coefficients(nodes, j, em, b);
     }

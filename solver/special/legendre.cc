@@ -37,4 +37,27 @@ void legendre_log(double x, int m, int lmax, std::vector<double>& out) {
   for (int l = m + 2; l <= lmax; ++l) out[l] += out[l - 1];
 }
 
+void legendre_log_many(const Eigen::ArrayXd& x, int m, int lmax, Eigen::ArrayXXd& out) {
+  const Eigen::Index n = x.size();
+  out.resize(lmax + 1, n);
+  out.setConstant(-std::numeric_limits<double>::infinity());
+  if (lmax < m) return;
+  const Eigen::ArrayXd s2 = (x - 1.0) * (x + 1.0);
+  Eigen::ArrayXd logp = Eigen::ArrayXd::Constant(n, log_double_factorial_odd(m));
+  if (m > 0) logp += 0.5 * m * s2.log();
+  out.row(m) = logp.transpose();
+  if (lmax == m) return;
+  Eigen::ArrayXd q = (2.0 * m + 1.0) * x;  // ratios Pt_{l+1}/Pt_l, one per node
+  out.row(m + 1) = q.transpose();
+  for (int l = m + 1; l < lmax; ++l) {
+    q = ((2.0 * l + 1.0) * x - (l + m) / q) / (l - m + 1.0);
+    out.row(l + 1) = q.transpose();
+  }
+  // logs of the ratio rows (aligned, Eigen-owned block: vectorised and address-independent)
+  Eigen::ArrayXXd logq = out.bottomRows(lmax - m).log();
+  out.bottomRows(lmax - m) = logq;
+  out.row(m + 1) += logp.transpose();
+  for (int l = m + 2; l <= lmax; ++l) out.row(l) += out.row(l - 1);
+}
+
 }  // namespace roundtrip::special
