@@ -16,8 +16,9 @@
 // (xi_c = Geometry::frequency_scale), whose decay is that of every round trip at large xi.
 // Time per frequency = t_ref (flops / flops_ref)^alpha: the case's own frequencies are timed at
 // its largest and smallest gap when affordable (alpha from the two; else alpha = 1 from one, or
-// a timed dense matrix product with t_ref = flops_ref x seconds per flop), plus the PFA partner
-// timed once per gap: see PlanCalibration.
+// a timed dense matrix product with t_ref = flops_ref x seconds per flop), plus per-gap work
+// timed once: the xi = 0 term (T > 0), the first frequency's set-up at a new gap, the PFA
+// partner. See PlanCalibration.
 // The estimate is rough: about a factor of 3 either way (measured on the shipped cases).
 #include <cmath>
 #include <map>
@@ -44,7 +45,7 @@ struct PlanCalibration {
   double seconds_ref = 0.0;      ///< measured (or derived) seconds of one frequency ...
   double flops_ref = 1.0;        ///< ... of this many model flops
   double alpha = 1.0;            ///< time ~ flops^alpha between the reference points
-  double per_gap_seconds = 0.0;  ///< PFA partner and other per-gap work
+  double per_gap_seconds = 0.0;  ///< xi = 0 term, set-up at a new gap, PFA partner
   std::string how;               ///< a sentence for the user: what was measured
   double seconds_per_frequency(double flops) const {
     return seconds_ref * std::pow(flops / flops_ref, alpha);

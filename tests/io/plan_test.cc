@@ -13,9 +13,12 @@
 namespace roundtrip::io {
 namespace {
 
-// The plan promises "a factor of 2 either way" for the time; frequencies are predicted from
-// the decay of the round trip alone, so allow the same factor.
-constexpr double kPromisedFactor = 2.0;
+// `check` promises "a factor of 3 either way" for the time; the frequency count is predicted
+// from the decay of the round trip alone and is held to a factor of 2. Timing noise on a
+// loaded machine (ctest -j2) is why the time is also allowed another factor of 2 here.
+constexpr double kPromisedTimeFactor = 3.0;
+constexpr double kFrequencyFactor = 2.0;
+constexpr double kLoadNoise = 2.0;
 
 const std::string kCase = R"(geometry = "sphere-plate"
 [sphere]
@@ -51,16 +54,17 @@ TEST(Plan, TruncationsFrequenciesAndTimeAgreeWithTheRunWithinTheStatedFactor) {
     const auto& r = run.points[i];
     EXPECT_EQ(p.truncation, r.truncation) << "the plan shows the run's own truncations";
     const double n = static_cast<double>(r.frequencies.terms.size());
-    EXPECT_GT(p.frequencies, n / kPromisedFactor) << "gap " << r.gap;
-    EXPECT_LT(p.frequencies, n * kPromisedFactor) << "gap " << r.gap;
+    EXPECT_GT(p.frequencies, n / kFrequencyFactor) << "gap " << r.gap;
+    EXPECT_LT(p.frequencies, n * kFrequencyFactor) << "gap " << r.gap;
     // memory per thread = 8 bytes (n q + 3 q^2), n = 2 l_max, q = 2 N (plan.h)
     const double nn = 2.0 * r.truncation.at("l_max"), q = 2.0 * r.truncation.at("quadrature_nodes");
     EXPECT_EQ(p.memory_bytes, 8.0 * (nn * q + 3.0 * q * q));
     wall += r.wall_seconds;
   }
-  // Timing noise on a loaded machine (ctest -j2) is part of why the factor is generous.
-  EXPECT_GT(plan.seconds, wall / (2.0 * kPromisedFactor)) << "plan " << plan.seconds << " s";
-  EXPECT_LT(plan.seconds, wall * 2.0 * kPromisedFactor) << "plan " << plan.seconds << " s";
+  EXPECT_GT(plan.seconds, wall / (kLoadNoise * kPromisedTimeFactor))
+      << "plan " << plan.seconds << " s, run " << wall << " s";
+  EXPECT_LT(plan.seconds, wall * kLoadNoise * kPromisedTimeFactor)
+      << "plan " << plan.seconds << " s, run " << wall << " s";
 }
 
 TEST(Plan, PlatesNeedNoDenseMemoryAndCostOneUnitPerFrequency) {
