@@ -21,7 +21,7 @@ struct FrequencyRuleOptions {
   std::string validate() const;  ///< empty if valid, else a sentence naming the bad field
 };
 
-/// One evaluated frequency: xi (rad/s), its weight in the rule (J s/rad for T = 0, J for T > 0),
+/// One evaluated frequency: xi (rad/s), its weight in the rule (J: hbar dxi/2pi at T = 0, k_B T at T > 0),
 /// and s(xi). total = sum weight * s.
 struct FrequencyTerm {
   double xi = 0.0;
