@@ -14,6 +14,8 @@
 #include <string>
 #include <vector>
 
+#include "common/scratch.h"
+
 namespace {
 
 namespace fs = std::filesystem;
@@ -23,34 +25,17 @@ struct Outcome {
   std::string out, err;
 };
 
-std::string slurp(const fs::path& p) {
-  std::ifstream in(p, std::ios::binary);
-  std::ostringstream s;
-  s << in.rdbuf();
-  return s.str();
-}
+using roundtrip::testing::slurp;
 
 // A scratch directory per test; the CLI runs with it as the current directory.
-class Cli : public ::testing::Test {
+class Cli : public roundtrip::testing::ScratchDirTest {
  protected:
-  void SetUp() override {
-    const auto* info = ::testing::UnitTest::GetInstance()->current_test_info();
-    dir_ = fs::temp_directory_path() / fmt::format("roundtrip_cli_{}_{}", info->name(), getpid());
-    fs::remove_all(dir_);
-    fs::create_directories(dir_);
-  }
-  void TearDown() override {
-    if (!HasFailure()) fs::remove_all(dir_);
-  }
   void write(const std::string& name, const std::string& text) {
     std::ofstream(dir_ / name) << text;
   }
   Outcome cli(const std::string& args) {
-    const std::string cmd =
-        fmt::format("cd '{}' && '{}' {} > out.txt 2> err.txt", dir_.string(), ROUNDTRIP_CLI, args);
-    const int raw = std::system(cmd.c_str());
     Outcome o;
-    o.status = WIFEXITED(raw) ? WEXITSTATUS(raw) : -1;
+    o.status = sh(fmt::format("'{}' {} > out.txt 2> err.txt", ROUNDTRIP_CLI, args));
     o.out = slurp(dir_ / "out.txt");
     o.err = slurp(dir_ / "err.txt");
     return o;
@@ -60,7 +45,6 @@ class Cli : public ::testing::Test {
       if (e.path().string().find(".h5") != std::string::npos) return true;
     return false;
   }
-  fs::path dir_;
 };
 
 // A small valid plate-plate case (invented numbers); tests break it one line at a time.

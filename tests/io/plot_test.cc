@@ -11,31 +11,19 @@
 #include <sstream>
 #include <string>
 
+#include "common/scratch.h"
+
 namespace {
 
 namespace fs = std::filesystem;
 
-std::string slurp(const fs::path& p) {
-  std::ifstream in(p, std::ios::binary);
-  std::ostringstream s;
-  s << in.rdbuf();
-  return s.str();
-}
+using roundtrip::testing::slurp;
 
-class Plot : public ::testing::Test {
+class Plot : public roundtrip::testing::ScratchDirTest {
  protected:
   void SetUp() override {
-    dir_ = fs::temp_directory_path() /
-           fmt::format("roundtrip_plot_{}_{}",
-                       ::testing::UnitTest::GetInstance()->current_test_info()->name(), getpid());
-    fs::remove_all(dir_);
+    ScratchDirTest::SetUp();
     fs::create_directories(dir_ / "plots");
-  }
-  void TearDown() override {
-    if (!HasFailure()) fs::remove_all(dir_);
-  }
-  int sh(const std::string& s) {
-    return std::system(fmt::format("cd '{}' && {}", dir_.string(), s).c_str());
   }
   void expect_valid(const std::string& name) {
     const fs::path p = dir_ / "plots" / name;
@@ -52,7 +40,6 @@ class Plot : public ::testing::Test {
       EXPECT_EQ(sh(fmt::format("/usr/bin/python3 svg.py 'plots/{}'", name)), 0) << name;
     }
   }
-  fs::path dir_;
 };
 
 TEST_F(Plot, SpherePlateResultGivesPfaForceAndSpectrumPlotsAsPngAndSvg) {

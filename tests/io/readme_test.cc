@@ -11,16 +11,13 @@
 #include <sstream>
 #include <string>
 
+#include "common/scratch.h"
+
 namespace {
 
 namespace fs = std::filesystem;
 
-std::string slurp(const fs::path& p) {
-  std::ifstream in(p, std::ios::binary);
-  std::ostringstream s;
-  s << in.rdbuf();
-  return s.str();
-}
+using roundtrip::testing::slurp;
 
 // The n-th fenced block of `lang` after `heading` in `text` (empty if none).
 std::string block(const std::string& text, const std::string& heading, const std::string& lang,

@@ -19,6 +19,7 @@
 #include <sstream>
 #include <string>
 
+#include "common/scratch.h"
 #include "io/errors.h"
 #include "io/journal.h"
 
@@ -27,19 +28,10 @@ namespace {
 
 namespace fs = std::filesystem;
 
-std::string slurp(const fs::path& p) {
-  std::ifstream in(p, std::ios::binary);
-  std::ostringstream s;
-  s << in.rdbuf();
-  return s.str();
-}
+using roundtrip::testing::slurp;
 
 fs::path fresh_dir(const std::string& name) {
-  const fs::path d =
-      fs::temp_directory_path() / fmt::format("roundtrip_resume_{}_{}", name, getpid());
-  fs::remove_all(d);
-  fs::create_directories(d);
-  return d;
+  return roundtrip::testing::fresh_dir("resume_" + name);
 }
 
 const JournalKey kKey = {{"roundtrip_version", "0.1.0"},
@@ -147,19 +139,11 @@ rel_tol = 1e-4
 l_max = 300
 )";
 
-class Resume : public ::testing::Test {
+class Resume : public roundtrip::testing::ScratchDirTest {
  protected:
   void SetUp() override {
-    dir_ = fresh_dir(::testing::UnitTest::GetInstance()->current_test_info()->name());
+    ScratchDirTest::SetUp();
     std::ofstream(dir_ / "sp.toml") << kCase;
-  }
-  void TearDown() override {
-    if (!HasFailure()) fs::remove_all(dir_);
-  }
-  int sh(const std::string& script) {
-    const std::string cmd = fmt::format("cd '{}' && {}", dir_.string(), script);
-    const int raw = std::system(cmd.c_str());
-    return WIFEXITED(raw) ? WEXITSTATUS(raw) : -1;
   }
   // Start a run in the background, wait until its journal holds `records` records, send
   // `signal`; returns the exit status of the run.
@@ -188,7 +172,6 @@ print("SAME" if not bad else "DIFFER " + " ".join(bad))
     sh(fmt::format("/usr/bin/python3 cmp.py {} {} > cmp.txt 2>&1", a, b));
     return slurp(dir_ / "cmp.txt");
   }
-  fs::path dir_;
 };
 
 TEST_F(Resume, KillNineMidRunThenRerunReusesContributionsAndMatchesAnUninterruptedRun) {

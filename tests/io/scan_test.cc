@@ -11,6 +11,7 @@
 #include <sstream>
 #include <string>
 
+#include "common/scratch.h"
 #include "io/case_file.h"
 #include "io/errors.h"
 
@@ -110,12 +111,7 @@ radius = ["1 um"]
       << error_of(plates);
 }
 
-std::string slurp(const fs::path& p) {
-  std::ifstream in(p, std::ios::binary);
-  std::ostringstream s;
-  s << in.rdbuf();
-  return s.str();
-}
+using roundtrip::testing::slurp;
 
 // The shipped scan case end to end: one table per point, one file with /scan/<k>, and each point
 // bit-identical to the same case run alone. Physics check: at 300 K the Drude force is weaker

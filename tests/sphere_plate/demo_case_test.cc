@@ -10,19 +10,15 @@
 #include <sstream>
 #include <string>
 
+#include "common/scratch.h"
+
 namespace {
 
-std::string slurp(const std::filesystem::path& p) {
-  std::ifstream in(p);
-  std::stringstream s;
-  s << in.rdbuf();
-  return s.str();
-}
+using roundtrip::testing::slurp;
 
 TEST(SpherePlateDemoCase, ReducedDrudePlasmaScanRunsAndStaysBelowPfa) {
   namespace fs = std::filesystem;
-  const fs::path dir = fs::temp_directory_path() / ("roundtrip_demo_" + std::to_string(::getpid()));
-  fs::create_directories(dir);
+  const fs::path dir = roundtrip::testing::fresh_dir("demo_drude_plasma");
   std::string text = slurp(fs::path(ROUNDTRIP_SOURCE_DIR) / "cases/sphere_plate_drude_plasma.toml");
   ASSERT_FALSE(text.empty());
   text = std::regex_replace(text, std::regex("radius = \"20 um\""), "radius = \"5 um\"");
