@@ -281,11 +281,7 @@ class SpherePlate final : public Geometry {
     LowRankBlock b;
     const int dim = em ? 2 * nl : nl;
     const int q = em ? 2 * N : N;
-    b.W.resize(dim, q);
-    b.c.resize(q);
-    b.f1.resize(q);
-    b.f2.resize(q);
-    b.s.resize(dim);
+    b.resize(dim, q);
     std::vector<double> log_a(nl);
     for (int l = lmin; l <= lmax; ++l) {
       double la = std::log(2.0 * l + 1.0) + std::lgamma(l - m + 1.0) - std::lgamma(l + m + 1.0);
@@ -387,11 +383,8 @@ class SpherePlate final : public Geometry {
     const int dim = em ? 2 * nl : nl;
     const int q = em ? 2 * N : N;
     LowRankBlock b;
-    b.W = Eigen::MatrixXd::Zero(dim, q);
-    b.c.resize(q);
-    b.f1.resize(q);
-    b.f2.resize(q);
-    b.s.resize(dim);
+    b.resize(dim, q);
+    b.W.setZero();  // TE rows x TM columns and TM rows x TE columns stay zero
     const double log_ratio = std::log(o_.radius / (2.0 * (o_.radius + gap)));
     std::vector<double> row_log(dim, kNegInf);
     for (int l = lmin; l <= lmax; ++l) {

@@ -31,6 +31,14 @@ struct LowRankBlock {
   /// is zero in that group: lo = col_lo[c * groups + g], hi = col_hi[...]. Empty: W is dense.
   std::vector<int> group_start;
   std::vector<int> col_lo, col_hi;
+  /// Size W (n x q), c, f1, f2 (q) and s (n); contents are left unset.
+  void resize(Eigen::Index n, Eigen::Index q) {
+    W.resize(n, q);
+    c.resize(q);
+    f1.resize(q);
+    f2.resize(q);
+    s.resize(n);
+  }
 };
 
 struct LogDetResult {
