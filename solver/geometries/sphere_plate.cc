@@ -26,10 +26,14 @@
 
 #include <fmt/format.h>
 #include <omp.h>
+#if defined(__GLIBC__)
+#include <malloc.h>
+#endif
 
 #include <algorithm>
 #include <cmath>
 #include <limits>
+#include <mutex>
 #include <stdexcept>
 #include <vector>
 
@@ -121,9 +125,24 @@ class BandedWriter {
   int groups_ = 1;
 };
 
+/// Each m block allocates matrices of several MiB; glibc serves those with mmap and returns them
+/// at once, so every block paid its page faults again (40 % of the wall time was system time at
+/// R/L = 1000). Keeping such blocks in the heap makes one frequency ~1.5x faster (measured at
+/// R/L = 500). Process-wide and harmless for other code; done once.
+void keep_large_blocks_in_heap() {
+#if defined(__GLIBC__)
+  static std::once_flag once;
+  std::call_once(once, [] {
+    mallopt(M_MMAP_THRESHOLD, 1 << 30);
+    mallopt(M_TRIM_THRESHOLD, 1 << 30);
+  });
+#endif
+}
+
 class SpherePlate final : public Geometry {
  public:
   explicit SpherePlate(SpherePlateOptions o) : o_(std::move(o)) {
+    keep_large_blocks_in_heap();
     if (!o_.medium) o_.medium = make_vacuum();
     // PFA partner: the plate facing a half-space of the sphere's material. Scalar fields: each
     // of Dirichlet and Neumann is half of the electromagnetic perfect-conductor plate-plate
