@@ -68,6 +68,9 @@ struct NodeSet {
   std::vector<double> half_log_w;  // 1/2 log Omega_j
   std::vector<double> c_te, c_tm;  // reflection factors per node (see block builders)
   std::vector<double> f1, f2;      // dOmega/dL / Omega, d2Omega/dL2 / Omega
+  void resize(std::size_t n) {
+    for (auto* v : {&x, &half_log_w, &c_te, &c_tm, &f1, &f2}) v->resize(n);
+  }
 };
 
 /// Reflection factor and L-derivative factors of node j: column j (TE channel, or the scalar
@@ -267,12 +270,7 @@ class SpherePlate final : public Geometry {
     const double tau = 2.0 * kappa * D;
     std::unique_ptr<PlanarAtFrequency> plate;
     if (em) plate = o_.plate->at(xi, *o_.medium);
-    nodes.x.resize(N);
-    nodes.half_log_w.resize(N);
-    nodes.c_te.resize(N);
-    nodes.c_tm.resize(N);
-    nodes.f1.resize(N);
-    nodes.f2.resize(N);
+    nodes.resize(N);
     for (int j = 0; j < N; ++j) {
       const double t = gl.nodes[j];
       const double x = 1.0 + t / tau;
@@ -372,12 +370,8 @@ class SpherePlate final : public Geometry {
     const double D = o_.radius + gap;
     std::unique_ptr<PlanarAtFrequency> plate;
     if (em) plate = o_.plate->at(0.0, *o_.medium);
+    nodes.resize(N);
     nodes.x = gl.nodes;
-    nodes.half_log_w.resize(N);
-    nodes.c_te.resize(N);
-    nodes.c_tm.resize(N);
-    nodes.f1.resize(N);
-    nodes.f2.resize(N);
     for (int j = 0; j < N; ++j) {
       const double t = gl.nodes[j];
       nodes.half_log_w[j] = 0.5 * gl.log_weights[j];
