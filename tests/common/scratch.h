@@ -21,6 +21,19 @@ inline std::string slurp(const std::filesystem::path& p) {
   return s.str();
 }
 
+/// A small valid sphere-plate case (invented numbers) that tests modify one key at a time.
+inline const std::string kSmallSphereCase = R"(geometry = "sphere-plate"
+[sphere]
+radius = "5 um"
+material = "gold-drude"
+[plate]
+material = "gold-drude"
+[separations]
+values = ["1 um"]
+[conditions]
+temperature = "300 K"
+)";
+
 /// An empty directory <tmp>/roundtrip_<tag>_<pid> (emptied if it existed).
 inline std::filesystem::path fresh_dir(const std::string& tag) {
   const auto d =

@@ -146,17 +146,7 @@ TEST_F(Cli, EveryKindOfBadCaseFailsNamingTheFieldAndWritesNothing) {
 
 // A small sphere-plate case (invented numbers) for the bad-input cases that need a sphere or a
 // user material.
-const std::string kSphereCase = R"(geometry = "sphere-plate"
-[sphere]
-radius = "5 um"
-material = "gold-drude"
-[plate]
-material = "gold-drude"
-[separations]
-values = ["1 um"]
-[conditions]
-temperature = "300 K"
-)";
+const std::string kSphereCase = roundtrip::testing::kSmallSphereCase;
 
 std::string with_user_material(const std::string& definition) {
   return replaced(kSphereCase, "[plate]\nmaterial = \"gold-drude\"",

@@ -20,17 +20,7 @@ namespace {
 
 namespace fs = std::filesystem;
 
-const std::string kSphere = R"(geometry = "sphere-plate"
-[sphere]
-radius = "5 um"
-material = "gold-drude"
-[plate]
-material = "gold-drude"
-[separations]
-values = ["1 um"]
-[conditions]
-temperature = "300 K"
-)";
+const std::string kSphere = roundtrip::testing::kSmallSphereCase;
 
 std::string error_of(const std::string& text) {
   try {
