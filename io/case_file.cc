@@ -517,8 +517,8 @@ CaseSpec parse_root(toml::table& root, CaseSpec spec) {
     spec.quantities = parse_quantities(*c);
   if (const toml::table* n = optional_table(root, "numerics", "numerics")) {
     check_keys(*n, "numerics",
-               sphere_plate ? std::vector<std::string>{"rel_tol", "l_max"}
-                            : std::vector<std::string>{"rel_tol"});
+               sphere_plate ? std::vector<std::string>{"rel_tol", "l_max", "frequency_rule"}
+                            : std::vector<std::string>{"rel_tol", "frequency_rule"});
     if (const toml::node* r = n->get("rel_tol")) {
       const double tol = parse_quantity(*r, Dimension::kDimensionless, "numerics.rel_tol");
       if (!(tol > 0.0 && tol < kMaxRelTol))
@@ -527,6 +527,20 @@ CaseSpec parse_root(toml::table& root, CaseSpec spec) {
         throw error_at(*r, "numerics.rel_tol",
                        "below 1e-14 the round-off of the frequency sums dominates");
       spec.frequency.rel_tol = tol;
+    }
+    if (const auto f = optional_string(*n, "frequency_rule", "numerics.frequency_rule")) {
+      const auto rule = thermal_rule_from_string(*f);
+      if (!rule)
+        throw error_at(
+            *n->get("frequency_rule"), "numerics.frequency_rule",
+            fmt::format("unknown rule \"{}\" (use \"auto\", \"matsubara\" or \"pade\")", *f));
+      if (*rule != ThermalRule::kAuto && spec.frequency.temperature_K == 0.0 &&
+          !root.contains("scan"))
+        throw error_at(
+            *n->get("frequency_rule"), "numerics.frequency_rule",
+            fmt::format("\"{}\" needs T > 0 (at 0 K the frequency integral is used)", *f));
+      // At the 0 K points of a temperature scan the rule does not apply (the integral is used).
+      spec.frequency.thermal_rule = spec.frequency.temperature_K > 0.0 ? *rule : ThermalRule::kAuto;
     }
     if (const auto l = optional_integer(*n, "l_max", "numerics.l_max")) {
       if (*l < 0 || *l > kMaxLMax)

@@ -210,6 +210,9 @@ void write_run(H5::Group& file, const RunResult& r, const ResultsInfo& info) {
     attr(g, "gap_units", std::string("m"));
     attr(g, "converged", p.frequencies.converged ? 1 : 0);
     attr(g, "abs_error", p.frequencies.abs_error);
+    attr(g, "rule", to_string(p.frequencies.rule));
+    if (p.frequencies.rule == FrequencyRuleKind::kPadeSpectrum)
+      attr(g, "pade_poles", p.frequencies.pade_poles);
     attr(g, "message", p.frequencies.message);
     const auto& t = p.frequencies.terms;
     const auto col = [&](auto get) {
@@ -223,7 +226,8 @@ void write_run(H5::Group& file, const RunResult& r, const ResultsInfo& info) {
     // energy for both rules (at T = 0, hbar/2pi times the quadrature weight in rad/s).
     vector_dataset(g, "weight", col([](auto& x) { return x.weight; }), "J",
                    zero_t ? "hbar/(2 pi) times the quadrature weight of the node"
-                          : "weight of the Matsubara term (k_B T; k_B T/2 for n = 0)");
+                          : "k_B T for a Matsubara term, k_B T eta_j for a Pade pole; k_B T/2 at "
+                            "xi = 0");
     vector_dataset(g, "s", col([](auto& x) { return x.s.value; }), s_units,
                    "sum over blocks of log det(1 - M)");
     vector_dataset(g, "ds_dL", col([](auto& x) { return x.s.d1; }), r.per_area ? "1/m^3" : "1/m",

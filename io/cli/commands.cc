@@ -34,15 +34,69 @@ namespace {
 
 namespace fs = std::filesystem;
 
-FrequencyRuleKind rule_of(const CaseSpec& spec) {
-  return spec.frequency.temperature_K > 0.0 ? FrequencyRuleKind::kMatsubara
-                                            : FrequencyRuleKind::kZeroTemperatureQuadrature;
+// The rules the gaps of a run used, e.g. "pade-spectrum" or "matsubara+pade-spectrum" (the
+// HDF5 attribute frequency_rule); from the case alone when no gap finished.
+std::string rules_used(const CaseSpec& spec, const RunResult* r) {
+  std::vector<std::string> names;
+  if (r)
+    for (const auto& p : r->points) {
+      const std::string n = to_string(p.frequencies.rule);
+      if (std::find(names.begin(), names.end(), n) == names.end()) names.push_back(n);
+    }
+  if (names.empty()) {
+    if (spec.frequency.temperature_K == 0.0)
+      return to_string(FrequencyRuleKind::kZeroTemperatureQuadrature);
+    switch (spec.frequency.thermal_rule) {
+      case ThermalRule::kMatsubara:
+        return to_string(FrequencyRuleKind::kMatsubara);
+      case ThermalRule::kPade:
+        return to_string(FrequencyRuleKind::kPadeSpectrum);
+      case ThermalRule::kAuto:
+        return "auto";
+    }
+  }
+  std::sort(names.begin(), names.end());
+  std::string out;
+  for (const auto& n : names) out += (out.empty() ? "" : "+") + n;
+  return out;
 }
 
-std::string rule_sentence(const CaseSpec& spec) {
-  return spec.frequency.temperature_K > 0.0
-             ? fmt::format("T = {} K, Matsubara sum", spec.frequency.temperature_K)
-             : std::string("T = 0 K, integral over imaginary frequency");
+// "T = 300 K, Matsubara sum" and the like; with a run, says which rule each gap used.
+std::string rule_sentence(const CaseSpec& spec, const RunResult* r = nullptr) {
+  const double T = spec.frequency.temperature_K;
+  if (T == 0.0) return "T = 0 K, integral over imaginary frequency";
+  int matsubara = 0, pade = 0, lo = 0, hi = 0;
+  if (r)
+    for (const auto& p : r->points) {
+      if (p.frequencies.rule == FrequencyRuleKind::kPadeSpectrum) {
+        const int n = p.frequencies.pade_poles;
+        lo = pade == 0 ? n : std::min(lo, n);
+        hi = pade == 0 ? n : std::max(hi, n);
+        ++pade;
+      } else {
+        ++matsubara;
+      }
+    }
+  const std::string poles =
+      lo == hi ? fmt::format("{} poles", lo) : fmt::format("{}\u2013{} poles", lo, hi);
+  if (pade > 0 && matsubara == 0)
+    return fmt::format("T = {} K, Pade spectrum decomposition ({})", T, poles);
+  if (pade > 0)
+    return fmt::format(
+        "T = {} K, Matsubara sum at {} gap{}, Pade spectrum decomposition ({}) at {}", T, matsubara,
+        matsubara == 1 ? "" : "s", poles, pade);
+  if (matsubara > 0) return fmt::format("T = {} K, Matsubara sum", T);
+  switch (spec.frequency.thermal_rule) {
+    case ThermalRule::kMatsubara:
+      return fmt::format("T = {} K, Matsubara sum", T);
+    case ThermalRule::kPade:
+      return fmt::format("T = {} K, Pade spectrum decomposition", T);
+    case ThermalRule::kAuto:
+      break;
+  }
+  return fmt::format(
+      "T = {} K, Pade spectrum decomposition or Matsubara sum, whichever needs fewer frequencies",
+      T);
 }
 
 std::string gap_text(double gap_m, const DisplayUnit& u) {
@@ -124,7 +178,7 @@ void print_results(const CaseSpec& spec, const RunResult& r, std::ostream& out) 
   }
   if (!spec.title.empty()) out << spec.title << "\n";
   out << r.description << "\n";
-  out << rule_sentence(spec) << ", rel_tol = " << spec.frequency.rel_tol
+  out << rule_sentence(spec, &r) << ", rel_tol = " << spec.frequency.rel_tol
       << (r.per_area ? "; values per unit area" : "") << "\n";
   out << "sign: E < 0 and F < 0 mean attraction; F = -dE/dL, F\u2032 = dF/dL\n\n";
   out << t.render();
@@ -162,7 +216,7 @@ ResultsInfo results_info(const CaseSpec& spec) {
   info.case_text = spec.text;
   info.temperature_K = spec.frequency.temperature_K;
   info.rel_tol = spec.frequency.rel_tol;
-  info.frequency_rule = to_string(rule_of(spec));
+  info.frequency_rule = rules_used(spec, nullptr);
   info.quantities = spec.quantities;
   info.gaps_planned = static_cast<int>(spec.gaps.size());
   if (spec.kind == geometry::ConfigurationKind::kSpherePlate)
@@ -281,6 +335,7 @@ int run_command(const RunArgs& args, std::ostream& out, std::ostream& err) {
     progress.finish();
     if (geometries[k]->parallel_inside()) run.result.threads = omp_get_max_threads();
     run.info = results_info(ps);
+    run.info.frequency_rule = rules_used(ps, &run.result);
     run.parameters = points[k].parameters;
     auto& pts = run.result.points;
     if (!std::all_of(pts.begin(), pts.end(), [](const PointResult& p) { return p.complete; })) {

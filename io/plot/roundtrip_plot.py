@@ -165,7 +165,8 @@ def plot_spectrum(f, out_dir, stem, written):
     ax.set_xlabel("imaginary frequency \u03be (rad/s)")
     ax.set_ylabel(f"contribution w_j s(\u03be_j) to E ({e_units})")
     ax.set_title("Contributions per frequency" + (f" ({lab})" if lab else "") +
-                 (": Matsubara terms" if rule == "matsubara" else ": quadrature nodes"))
+                 ({"matsubara": ": Matsubara terms", "pade-spectrum": ": Pade poles"}.get(
+                     rule, ": frequency nodes")))
     ax.legend(fontsize=7)
     save(fig, out_dir, stem, "spectrum", written)
 

@@ -11,6 +11,10 @@
 // T > 0: E = k_B T \sum'_{n>=0} s(xi_n), xi_n = 2 pi n k_B T / hbar, n = 0 weighted 1/2 (Lifshitz;
 // e.g. Bordag, Mohideen, Mostepanenko, Phys. Rep. 353, 1 (2001)). The tail after the last term is
 // estimated as geometric from the ratio of the last two terms.
+//
+// T > 0, Pade spectrum decomposition (pade_spectrum.h; Hu, Xu, Yan, J. Chem. Phys. 133, 101106
+// (2010)): E ~ k_B T [s(0)/2 + sum_j eta_j s(xi_j)]; the number of poles comes from a model
+// spectrum (choose_thermal_rule), the reported error is the model's relative error times |E|.
 #include "solver/frequency/frequency_rule.h"
 
 #include <fmt/format.h>
@@ -21,6 +25,8 @@
 #include <stdexcept>
 
 #include "solver/constants.h"
+#include "solver/frequency/pade_spectrum.h"
+#include "solver/special/polylog.h"
 
 namespace roundtrip {
 
@@ -30,8 +36,29 @@ std::string to_string(FrequencyRuleKind k) {
       return "zero-temperature-quadrature";
     case FrequencyRuleKind::kMatsubara:
       return "matsubara";
+    case FrequencyRuleKind::kPadeSpectrum:
+      return "pade-spectrum";
   }
   return "unknown";
+}
+
+std::string to_string(ThermalRule r) {
+  switch (r) {
+    case ThermalRule::kAuto:
+      return "auto";
+    case ThermalRule::kMatsubara:
+      return "matsubara";
+    case ThermalRule::kPade:
+      return "pade";
+  }
+  return "unknown";
+}
+
+std::optional<ThermalRule> thermal_rule_from_string(const std::string& s) {
+  if (s == "auto") return ThermalRule::kAuto;
+  if (s == "matsubara") return ThermalRule::kMatsubara;
+  if (s == "pade") return ThermalRule::kPade;
+  return std::nullopt;
 }
 
 std::string FrequencyRuleOptions::validate() const {
@@ -42,6 +69,9 @@ std::string FrequencyRuleOptions::validate() const {
     return fmt::format("rel_tol = {} must lie in [1e-14, 0.1]", rel_tol);
   if (max_matsubara_terms < 1)
     return fmt::format("max_matsubara_terms = {} must be >= 1", max_matsubara_terms);
+  if (temperature_K == 0.0 && thermal_rule != ThermalRule::kAuto)
+    return fmt::format("frequency_rule = {} needs T > 0 (at T = 0 the frequency integral is used)",
+                       to_string(thermal_rule));
   return {};
 }
 
@@ -254,13 +284,136 @@ FrequencySum matsubara(const SpectralFunction& f, const FrequencyRuleOptions& op
   return out;
 }
 
+// Perfect-mirror plate-plate spectrum at unit gap with its gap derivatives (see frequency_rule.h):
+// s = -G/(4 pi), ds/dL = -(a G' - 2 G)/(4 pi), d2s/dL2 = -(6 G - 4 a G' + a^2 G'')/(4 pi),
+// G' = a ln(1 - e^-a), G'' = ln(1 - e^-a) + a/(e^a - 1); a G' and a^2 G'' vanish at a = 0.
+Spectral mirror_model(double a) {
+  constexpr double kZeta3 = 1.2020569031595942854;
+  constexpr double k = -1.0 / (4.0 * kPi);
+  if (a == 0.0) return {k * kZeta3, -2.0 * k * kZeta3, 6.0 * k * kZeta3};
+  const double x = std::exp(-a);
+  const double g = a * special::dilog(x) + special::trilog(x);
+  const double l = std::log1p(-x);
+  const double g1 = a * l;
+  const double g2 = l + a / std::expm1(a);
+  return {k * g, k * (a * g1 - 2.0 * g), k * (6.0 * g - 4.0 * a * g1 + a * a * g2)};
+}
+
+// PSD of the model with n poles; tau = 2 k_B T / (hbar xi_scale), so a_j = tau y_j.
+Spectral pade_model_sum(int n, double tau) {
+  const PadePoles p = pade_spectrum_poles(n);
+  CompensatedSum sum;
+  sum.add(mirror_model(0.0) * 0.5);
+  for (int j = 0; j < n; ++j) sum.add(mirror_model(tau * p.y[j]) * p.eta[j]);
+  return sum.value();
+}
+
+double relative_gap(const Spectral& x, const Spectral& ref) {
+  double worst = 0.0;
+  for (int c = 0; c < 3; ++c) {
+    const double r = std::abs(component(x, c) - component(ref, c)) / std::abs(component(ref, c));
+    worst = std::max(worst, std::isfinite(r) ? r : std::numeric_limits<double>::infinity());
+  }
+  return worst;
+}
+
+// Model error of n poles, estimated against 2n poles (the PSD error falls much faster than
+// 1/2 per doubling once the poles cover the spectrum's decay scale).
+double pade_model_error(int n, double tau) {
+  return relative_gap(pade_model_sum(n, tau), pade_model_sum(2 * n, tau));
+}
+
+FrequencySum pade_spectrum(const SpectralFunction& f, const ThermalRuleChoice& choice,
+                           const FrequencyRuleOptions& opts) {
+  const double kT = kBoltzmann * opts.temperature_K;
+  const PadePoles p = pade_spectrum_poles(choice.pade_poles);
+  FrequencySum out;
+  out.rule = FrequencyRuleKind::kPadeSpectrum;
+  out.pade_poles = choice.pade_poles;
+  CompensatedSum total;
+  for (int j = -1; j < choice.pade_poles; ++j) {
+    FrequencyTerm term;
+    term.xi = j < 0 ? 0.0 : 2.0 * p.y[j] * kT / kHbar;
+    term.weight = j < 0 ? 0.5 * kT : kT * p.eta[j];
+    term.s = f(term.xi);
+    total.add(term.s * term.weight);
+    out.terms.push_back(term);
+    if (!all_finite(term.s)) break;
+  }
+  out.total = total.value();
+  out.abs_error = choice.pade_model_error * std::abs(out.total.value);
+  const bool model_ok = choice.pade_model_error <= kPadeModelFraction * opts.rel_tol;
+  out.converged = all_finite(out.total) && model_ok;
+  if (!all_finite(out.total))
+    out.message = fmt::format("Pade spectrum sum produced a non-finite value at xi = {} rad/s",
+                              out.terms.back().xi);
+  else if (!model_ok)
+    out.message = fmt::format(
+        "Pade spectrum decomposition with {} poles (the most supported) misses rel_tol = {} on "
+        "the model spectrum (error {:.3g}); use frequency_rule = \"matsubara\"",
+        choice.pade_poles, opts.rel_tol, choice.pade_model_error);
+  return out;
+}
+
 }  // namespace
+
+ThermalRuleChoice choose_thermal_rule(double xi_scale, const FrequencyRuleOptions& opts) {
+  if (const std::string err = opts.validate(); !err.empty())
+    throw std::invalid_argument("frequency rule: " + err);
+  ThermalRuleChoice c;
+  if (opts.temperature_K == 0.0) {
+    c.rule = FrequencyRuleKind::kZeroTemperatureQuadrature;
+    return c;
+  }
+  if (!std::isfinite(xi_scale) || !(xi_scale > 0.0))
+    throw std::invalid_argument(
+        fmt::format("frequency rule: xi_scale = {} rad/s must be finite and > 0", xi_scale));
+  const double tau = 2.0 * kBoltzmann * opts.temperature_K / (kHbar * xi_scale);
+  // Matsubara terms the model needs, by the Matsubara rule itself.
+  const FrequencySum m = matsubara([&](double xi) { return mirror_model(xi / xi_scale); }, opts);
+  c.matsubara_terms =
+      m.converged ? static_cast<int>(m.terms.size()) : std::numeric_limits<int>::max();
+  c.rule = FrequencyRuleKind::kMatsubara;
+  if (opts.thermal_rule == ThermalRule::kMatsubara) return c;
+  // Fewest poles: doubling to a bracket, then bisection (the error falls monotonically in n on
+  // the model, checked in tests/frequency).
+  const double target = kPadeModelFraction * opts.rel_tol;
+  int hi = 1;
+  double hi_err = pade_model_error(hi, tau);
+  while (!(hi_err <= target) && 4 * hi <= kMaxPadePoles) {
+    hi *= 2;
+    hi_err = pade_model_error(hi, tau);
+  }
+  if (hi_err <= target) {
+    int lo = hi / 2;  // fails (or 0)
+    while (hi - lo > 1) {
+      const int mid = (lo + hi) / 2;
+      const double e = pade_model_error(mid, tau);
+      if (e <= target)
+        hi = mid, hi_err = e;
+      else
+        lo = mid;
+    }
+  }
+  const bool pade_ok = hi_err <= target;
+  const bool fewer = hi + 1 < c.matsubara_terms;
+  if (opts.thermal_rule == ThermalRule::kPade || (pade_ok && fewer)) {
+    c.rule = FrequencyRuleKind::kPadeSpectrum;
+    c.pade_poles = hi;
+    c.pade_model_error = hi_err;
+  }
+  return c;
+}
 
 FrequencySum sum_over_frequencies(const SpectralFunction& s, double xi_scale,
                                   const FrequencyRuleOptions& opts) {
   if (const std::string err = opts.validate(); !err.empty())
     throw std::invalid_argument("frequency rule: " + err);
-  if (opts.temperature_K > 0.0) return matsubara(s, opts);
+  if (opts.temperature_K > 0.0) {
+    const ThermalRuleChoice c = choose_thermal_rule(xi_scale, opts);
+    if (c.rule == FrequencyRuleKind::kPadeSpectrum) return pade_spectrum(s, c, opts);
+    return matsubara(s, opts);
+  }
   if (!std::isfinite(xi_scale) || !(xi_scale > 0.0))
     throw std::invalid_argument(
         fmt::format("frequency rule: xi_scale = {} rad/s must be finite and > 0", xi_scale));

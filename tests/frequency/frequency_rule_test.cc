@@ -23,6 +23,7 @@ TEST(MatsubaraSum, ExponentialEqualsGeometricSeriesWithHalfWeightAtZero) {
   FrequencyRuleOptions opts;
   opts.temperature_K = 300.0;
   opts.rel_tol = 1e-13;
+  opts.thermal_rule = ThermalRule::kMatsubara;
   const double xi1 = matsubara_frequency(1, opts.temperature_K);
   const double a = 0.05 / xi1;  // slow decay: ~700 terms
   const FrequencySum r = sum_over_frequencies(exponential(a), 1.0 / a, opts);
@@ -50,6 +51,7 @@ TEST(MatsubaraSum, ReportsNonConvergenceAtTermLimit) {
   FrequencyRuleOptions opts;
   opts.temperature_K = 1.0;
   opts.max_matsubara_terms = 10;
+  opts.thermal_rule = ThermalRule::kMatsubara;  // auto would take the Pade decomposition here
   const double xi1 = matsubara_frequency(1, opts.temperature_K);
   const FrequencySum r = sum_over_frequencies(exponential(1e-3 / xi1), xi1, opts);
   EXPECT_FALSE(r.converged);
