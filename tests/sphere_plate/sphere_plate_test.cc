@@ -11,6 +11,7 @@
 #include "solver/constants.h"
 #include "solver/frequency/frequency_rule.h"
 #include "solver/materials/models.h"
+#include "solver/run.h"
 #include "solver/scatterers/mie.h"
 
 namespace roundtrip {
@@ -196,6 +197,30 @@ TEST(SpherePlate, LmaxConvergesExponentially) {
   }
 }
 
+TEST(SpherePlate, LmaxMeetsTheToleranceForDerivativesAndHighFrequencies) {
+  // The automatic l_max must give s, ds/dL and d2s/dL2 to rel_tol at low and high frequency
+  // (u = xi / (c/2L) = 0, 1, 3) and near contact (R/L = 50), against l_max = 16 R/L (its own
+  // truncation error is ~1e-11, exponential convergence above; common practice). The force
+  // gradient converges most slowly; an l_max rule fitted to the energy alone missed it 8-fold.
+  SpherePlateOptions o = drude(1e-4);
+  o.radius = 50e-6;
+  const double gap = 1e-6;
+  SpherePlateOptions ref = o;
+  ref.l_max = 16 * 50;
+  ref.rel_tol = 1e-9;  // also the finest momentum rule (6 nodes per unit, ~1e-11)
+  for (double u : {0.0, 1.0, 3.0}) {
+    const double xi = u * kSpeedOfLight / (2 * gap);
+    const Spectral r = make_sphere_plate(ref)->at_frequency(xi, gap, DerivativeOrder::kGradient);
+    for (double tol : {1e-4, 1e-6}) {
+      o.rel_tol = tol;
+      const Spectral s = make_sphere_plate(o)->at_frequency(xi, gap, DerivativeOrder::kGradient);
+      EXPECT_NEAR(s.value / r.value, 1.0, tol) << "u = " << u << ", tol = " << tol;
+      EXPECT_NEAR(s.d1 / r.d1, 1.0, tol) << "u = " << u << ", tol = " << tol;
+      EXPECT_NEAR(s.d2 / r.d2, 1.0, tol) << "u = " << u << ", tol = " << tol;
+    }
+  }
+}
+
 TEST(SpherePlate, ResultDoesNotDependOnThreadCount) {
   const double gap = 0.2 * kR, xi = kSpeedOfLight / (2 * gap);
   const auto g = make_sphere_plate(drude(1e-6));
@@ -296,6 +321,45 @@ TEST(SpherePlateMedium, PerfectConductorsInADielectricScaleAsOneOverIndex) {
   const double ev = free_energy(pec(1e-6), gap, 0.0, 1e-8);
   const double em = free_energy(in_medium, gap, 0.0, 1e-8);
   EXPECT_NEAR(em * n / ev, 1.0, 1e-7);
+}
+
+}  // namespace
+}  // namespace roundtrip
+
+namespace roundtrip {
+namespace {
+
+TEST(SpherePlateTemperature, PadeRuleWithPerTermAccuracyMatchesTheMatsubaraSum) {
+  // The same free energy, force and gradient two ways: the Matsubara sum (Lifshitz; every term
+  // at rel_tol 1e-6) and the Pade spectrum decomposition (Hu, Xu, Yan, JCP 133, 101106 (2010))
+  // with per-term accuracies at rel_tol 1e-4, through run_sweep as `roundtrip run` calls it.
+  // Drude gold, R = 1 um, L = 50 nm (R/L = 20), 300 K.
+  const double gap = 50e-9, T = 300.0, tol = 1e-4, ref_tol = 1e-6;
+  RunOptions pade;
+  pade.frequency.temperature_K = T;
+  pade.frequency.rel_tol = tol;
+  pade.quantities.gradient = true;
+  RunOptions mats = pade;
+  mats.frequency.rel_tol = ref_tol;
+  mats.frequency.thermal_rule = ThermalRule::kMatsubara;
+  const RunResult rp = run_sweep(*make_sphere_plate(drude(tol)), {gap}, pade);
+  const RunResult rm = run_sweep(*make_sphere_plate(drude(ref_tol)), {gap}, mats);
+  const PointResult &p = rp.points[0], &m = rm.points[0];
+  ASSERT_TRUE(p.frequencies.converged) << p.frequencies.message;
+  ASSERT_EQ(p.frequencies.rule, FrequencyRuleKind::kPadeSpectrum);
+  EXPECT_LT(2 * p.frequencies.terms.size(), m.frequencies.terms.size());
+  // tol for the decomposition plus ref_tol for the reference.
+  EXPECT_NEAR(p.energy / m.energy, 1.0, tol + ref_tol);
+  EXPECT_NEAR(p.force / m.force, 1.0, tol + ref_tol);
+  EXPECT_NEAR(p.gradient / m.gradient, 1.0, tol + ref_tol);
+  // Small high-frequency terms were computed more loosely; none tighter than rel_tol / 2.
+  double loosest = 0.0;
+  for (const auto& t : p.frequencies.terms) {
+    EXPECT_GE(t.rel_tol, 0.5 * tol);
+    EXPECT_LE(t.rel_tol, kMaxTermRelTol);
+    loosest = std::max(loosest, t.rel_tol);
+  }
+  EXPECT_GT(loosest, 10.0 * tol);
 }
 
 }  // namespace
