@@ -228,6 +228,8 @@ void write_run(H5::Group& file, const RunResult& r, const ResultsInfo& info) {
                    zero_t ? "hbar/(2 pi) times the quadrature weight of the node"
                           : "k_B T for a Matsubara term, k_B T eta_j for a Pade pole; k_B T/2 at "
                             "xi = 0");
+    vector_dataset(g, "rel_tol", col([](auto& x) { return x.rel_tol; }), "1",
+                   "relative accuracy s was computed to (looser for terms with a small share)");
     vector_dataset(g, "s", col([](auto& x) { return x.s.value; }), s_units,
                    "sum over blocks of log det(1 - M)");
     vector_dataset(g, "ds_dL", col([](auto& x) { return x.s.d1; }), r.per_area ? "1/m^3" : "1/m",

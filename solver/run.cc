@@ -27,17 +27,23 @@ PointResult run_point(const Geometry& geometry, int index, double gap, const Run
   PointResult p;
   p.gap = gap;
   int evaluations = 0;
-  auto s = [&](double xi) {
+  // A frequency asked for again (the rule wants it more accurate) is computed anew; the store
+  // keeps the last value per frequency, so a resumed run sees the more accurate one.
+  std::vector<double> asked;
+  auto s = [&](double xi, double rel_tol) {
     if (options.cancel && options.cancel->load()) throw Cancelled{};
     Spectral v;
-    if (!(options.store && options.store->lookup(index, xi, v))) {
-      v = geometry.at_frequency(xi, gap, order);
+    const bool again = std::find(asked.begin(), asked.end(), xi) != asked.end();
+    asked.push_back(xi);
+    if (again || !(options.store && options.store->lookup(index, xi, v))) {
+      v = geometry.at_frequency_within(xi, gap, order, rel_tol);
       if (options.store) options.store->record(index, xi, v);
     }
     if (options.frequency_progress) options.frequency_progress(index, ++evaluations);
     return v;
   };
-  p.frequencies = sum_over_frequencies(s, geometry.frequency_scale(gap), options.frequency);
+  p.frequencies = sum_over_frequencies(TolerantSpectralFunction(s), geometry.frequency_scale(gap),
+                                       options.frequency);
   // Signs as in geometry.h: F = -dE/dL, dF/dL = -d2E/dL2.
   p.energy = p.frequencies.total.value;
   p.force = order >= DerivativeOrder::kForce ? -p.frequencies.total.d1 : 0.0;

@@ -323,19 +323,60 @@ double pade_model_error(int n, double tau) {
   return relative_gap(pade_model_sum(n, tau), pade_model_sum(2 * n, tau));
 }
 
-FrequencySum pade_spectrum(const SpectralFunction& f, const ThermalRuleChoice& choice,
-                           const FrequencyRuleOptions& opts) {
+// Share of a contribution in a total: the worst of value and derivatives (infinite if the total
+// vanishes in a component where the contribution does not).
+double share(const Spectral& part, const Spectral& total) {
+  double worst = 0.0;
+  for (int c = 0; c < 3; ++c) {
+    const double p = std::abs(component(part, c)), t = std::abs(component(total, c));
+    if (p == 0.0) continue;
+    worst = std::max(worst, t > 0.0 ? p / t : std::numeric_limits<double>::infinity());
+  }
+  return worst;
+}
+
+// Accuracy for a term with this share of the total among k terms (frequency_rule.h).
+double term_tolerance(double share_j, int k, double rel_tol) {
+  const double relaxed = share_j > 0.0 ? 0.5 * rel_tol / (k * share_j) : kMaxTermRelTol;
+  return std::clamp(relaxed, 0.5 * rel_tol, std::max(0.5 * rel_tol, kMaxTermRelTol));
+}
+
+FrequencySum pade_spectrum(const TolerantSpectralFunction& f, double xi_scale,
+                           const ThermalRuleChoice& choice, const FrequencyRuleOptions& opts) {
   const double kT = kBoltzmann * opts.temperature_K;
   const PadePoles p = pade_spectrum_poles(choice.pade_poles);
+  const int k = choice.pade_poles + 1;
   FrequencySum out;
   out.rule = FrequencyRuleKind::kPadeSpectrum;
   out.pade_poles = choice.pade_poles;
+  std::vector<FrequencyTerm> terms(k);
+  for (int j = 0; j < k; ++j) {
+    terms[j].xi = j == 0 ? 0.0 : 2.0 * p.y[j - 1] * kT / kHbar;
+    terms[j].weight = j == 0 ? 0.5 * kT : kT * p.eta[j - 1];
+  }
+  // Model shares: the mirror spectrum at the same frequencies and weights.
+  std::vector<Spectral> model(k);
+  Spectral model_total;
+  for (int j = 0; j < k; ++j) {
+    model[j] = mirror_model(terms[j].xi / xi_scale) * terms[j].weight;
+    model_total += model[j];
+  }
   CompensatedSum total;
-  for (int j = -1; j < choice.pade_poles; ++j) {
-    FrequencyTerm term;
-    term.xi = j < 0 ? 0.0 : 2.0 * p.y[j] * kT / kHbar;
-    term.weight = j < 0 ? 0.5 * kT : kT * p.eta[j];
-    term.s = f(term.xi);
+  for (int j = 0; j < k; ++j) {
+    FrequencyTerm& term = terms[j];
+    term.rel_tol = term_tolerance(share(model[j], model_total), k, opts.rel_tol);
+    term.s = f(term.xi, term.rel_tol);
+    if (all_finite(term.s) && term.rel_tol > 0.5 * opts.rel_tol) {
+      // The computed share, against the sum so far (terms ascend in xi and fall off, so this
+      // overstates the share): recompute if the term needed more accuracy than it got.
+      Spectral so_far = total.value();
+      so_far += term.s * term.weight;
+      const double needed = term_tolerance(share(term.s * term.weight, so_far), k, opts.rel_tol);
+      if (needed < term.rel_tol) {
+        term.rel_tol = needed;
+        term.s = f(term.xi, term.rel_tol);
+      }
+    }
     total.add(term.s * term.weight);
     out.terms.push_back(term);
     if (!all_finite(term.s)) break;
@@ -405,19 +446,30 @@ ThermalRuleChoice choose_thermal_rule(double xi_scale, const FrequencyRuleOption
   return c;
 }
 
-FrequencySum sum_over_frequencies(const SpectralFunction& s, double xi_scale,
+FrequencySum sum_over_frequencies(const TolerantSpectralFunction& s, double xi_scale,
                                   const FrequencyRuleOptions& opts) {
   if (const std::string err = opts.validate(); !err.empty())
     throw std::invalid_argument("frequency rule: " + err);
+  const auto at_tol = [&](double xi) { return s(xi, opts.rel_tol); };
+  FrequencySum out;
   if (opts.temperature_K > 0.0) {
     const ThermalRuleChoice c = choose_thermal_rule(xi_scale, opts);
-    if (c.rule == FrequencyRuleKind::kPadeSpectrum) return pade_spectrum(s, c, opts);
-    return matsubara(s, opts);
+    if (c.rule == FrequencyRuleKind::kPadeSpectrum) return pade_spectrum(s, xi_scale, c, opts);
+    out = matsubara(at_tol, opts);
+  } else {
+    if (!std::isfinite(xi_scale) || !(xi_scale > 0.0))
+      throw std::invalid_argument(
+          fmt::format("frequency rule: xi_scale = {} rad/s must be finite and > 0", xi_scale));
+    out = zero_temperature(at_tol, xi_scale, opts);
   }
-  if (!std::isfinite(xi_scale) || !(xi_scale > 0.0))
-    throw std::invalid_argument(
-        fmt::format("frequency rule: xi_scale = {} rad/s must be finite and > 0", xi_scale));
-  return zero_temperature(s, xi_scale, opts);
+  for (auto& t : out.terms) t.rel_tol = opts.rel_tol;
+  return out;
+}
+
+FrequencySum sum_over_frequencies(const SpectralFunction& s, double xi_scale,
+                                  const FrequencyRuleOptions& opts) {
+  return sum_over_frequencies(TolerantSpectralFunction([&](double xi, double) { return s(xi); }),
+                              xi_scale, opts);
 }
 
 }  // namespace roundtrip

@@ -38,6 +38,7 @@ struct FrequencyTerm {
   double xi = 0.0;
   double weight = 0.0;
   Spectral s;
+  double rel_tol = 0.0;  ///< accuracy s was asked for (>= the case's rel_tol / 2; see below)
 };
 
 struct FrequencySum {
@@ -51,6 +52,14 @@ struct FrequencySum {
 };
 
 using SpectralFunction = std::function<Spectral(double xi)>;
+/// s(xi) to relative accuracy rel_tol. The Pade rule asks each term for
+///   eps_j = max(rel_tol/2, rel_tol / (2 K share_j)),  at most kMaxTermRelTol,
+/// with K terms and share_j = |w_j s_j| / |E| (worst of value and derivatives), so that
+/// sum_j eps_j |w_j s_j| <= rel_tol |E|: the many small high-frequency terms are computed with
+/// smaller truncations. share_j comes from the model spectrum (choose_thermal_rule) and is
+/// checked against the computed term: if the term turns out larger, it is computed again.
+using TolerantSpectralFunction = std::function<Spectral(double xi, double rel_tol)>;
+inline constexpr double kMaxTermRelTol = 1e-2;
 
 /// The rule sum_over_frequencies uses at this decay scale, and for the Pade spectrum
 /// decomposition its number of poles. Decided on a model: the perfect-conductor plate-plate
@@ -71,6 +80,9 @@ ThermalRuleChoice choose_thermal_rule(double xi_scale, const FrequencyRuleOption
 /// Apply the rule selected by opts.temperature_K to s(xi). xi_scale (rad/s) is the frequency at
 /// which s has decayed by about e^-1 (Geometry::frequency_scale). s is called sequentially.
 FrequencySum sum_over_frequencies(const SpectralFunction& s, double xi_scale,
+                                  const FrequencyRuleOptions& opts);
+/// The same with per-term accuracies (used only by the Pade rule; the others ask for rel_tol).
+FrequencySum sum_over_frequencies(const TolerantSpectralFunction& s, double xi_scale,
                                   const FrequencyRuleOptions& opts);
 
 }  // namespace roundtrip

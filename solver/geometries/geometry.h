@@ -48,6 +48,13 @@ class Geometry {
   /// s(xi) = sum_b log det(1 - M_b) at gap L (m) and imaginary frequency xi >= 0 (rad/s).
   /// xi == 0 must give the exact static limit. Thread-safe (const).
   virtual Spectral at_frequency(double xi, double gap, DerivativeOrder order) const = 0;
+  /// The same to relative accuracy rel_tol, which may be looser than the geometry's own (the
+  /// frequency rule asks so for terms with a small share of the sum, frequency_rule.h); a
+  /// geometry may then truncate less. Default: ignores rel_tol.
+  virtual Spectral at_frequency_within(double xi, double gap, DerivativeOrder order,
+                                       double /*rel_tol*/) const {
+    return at_frequency(xi, gap, order);
+  }
   /// True if s is per unit area (plates): energies then are J/m^2, forces Pa, gradients Pa/m.
   virtual bool per_area() const = 0;
   /// A characteristic imaginary frequency (rad/s) at gap L, e.g. c/(2L): sets quadrature scales.
