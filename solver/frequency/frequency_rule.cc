@@ -361,12 +361,23 @@ FrequencySum pade_spectrum(const TolerantSpectralFunction& f, double xi_scale,
     model[j] = mirror_model(terms[j].xi / xi_scale) * terms[j].weight;
     model_total += model[j];
   }
+  // Split budget (frequency_rule.h) or every term at rel_tol, whichever is cheaper by the cost
+  // model of multipole geometries: work ~ l_max^2 ~ ln(20/eps)^2 per term (sphere_plate.cc's
+  // l_max ~ ln(B/eps), B ~ 20). When the sum is spread over many comparable terms, halving
+  // their accuracy costs more than the few small ones save.
+  std::vector<double> eps(k);
+  double split_cost = 0.0;
+  for (int j = 0; j < k; ++j) {
+    eps[j] = term_tolerance(share(model[j], model_total), k, opts.rel_tol);
+    split_cost += std::pow(std::log(20.0 / eps[j]), 2);
+  }
+  const bool split = split_cost < k * std::pow(std::log(20.0 / opts.rel_tol), 2);
   CompensatedSum total;
   for (int j = 0; j < k; ++j) {
     FrequencyTerm& term = terms[j];
-    term.rel_tol = term_tolerance(share(model[j], model_total), k, opts.rel_tol);
+    term.rel_tol = split ? eps[j] : opts.rel_tol;
     term.s = f(term.xi, term.rel_tol);
-    if (all_finite(term.s) && term.rel_tol > 0.5 * opts.rel_tol) {
+    if (split && all_finite(term.s) && term.rel_tol > 0.5 * opts.rel_tol) {
       // The computed share, against the sum so far (terms ascend in xi and fall off, so this
       // overstates the share): recompute if the term needed more accuracy than it got.
       Spectral so_far = total.value();

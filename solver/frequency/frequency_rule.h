@@ -58,6 +58,8 @@ using SpectralFunction = std::function<Spectral(double xi)>;
 /// sum_j eps_j |w_j s_j| <= rel_tol |E|: the many small high-frequency terms are computed with
 /// smaller truncations. share_j comes from the model spectrum (choose_thermal_rule) and is
 /// checked against the computed term: if the term turns out larger, it is computed again.
+/// When that split would cost more than asking every term for rel_tol (work ~ ln(20/eps)^2 per
+/// term), every term is asked for rel_tol instead.
 using TolerantSpectralFunction = std::function<Spectral(double xi, double rel_tol)>;
 inline constexpr double kMaxTermRelTol = 1e-2;
 
