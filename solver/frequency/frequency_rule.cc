@@ -288,7 +288,6 @@ FrequencySum matsubara(const SpectralFunction& f, const FrequencyRuleOptions& op
 // s = -G/(4 pi), ds/dL = -(a G' - 2 G)/(4 pi), d2s/dL2 = -(6 G - 4 a G' + a^2 G'')/(4 pi),
 // G' = a ln(1 - e^-a), G'' = ln(1 - e^-a) + a/(e^a - 1); a G' and a^2 G'' vanish at a = 0.
 Spectral mirror_model(double a) {
-  constexpr double kZeta3 = 1.2020569031595942854;
   constexpr double k = -1.0 / (4.0 * kPi);
   if (a == 0.0) return {k * kZeta3, -2.0 * k * kZeta3, 6.0 * k * kZeta3};
   const double x = std::exp(-a);
