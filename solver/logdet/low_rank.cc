@@ -3,6 +3,7 @@
 #include <algorithm>
 #include <cmath>
 #include <limits>
+#include <numeric>
 
 namespace roundtrip {
 
@@ -11,15 +12,18 @@ namespace {
 // A -= Ws^T Ws on and below the diagonal, skipping the rows where a column is zero: columns are
 // taken in blocks of kColumnBlock, each block pair multiplies only the rows where both blocks
 // have non-zeros (per row group). Exact up to the dropped zeros; same result as rankUpdate.
-void subtract_banded_gram(const LowRankBlock& b, const Eigen::MatrixXd& Ws, Eigen::MatrixXd& A) {
+// Row ranges: column c is zero outside [lo[c * groups + g], hi[...]) in row group g.
+void subtract_banded_gram(const std::vector<int>& group_start, const std::vector<int>& col_lo,
+                          const std::vector<int>& col_hi, const Eigen::MatrixXd& Ws,
+                          Eigen::MatrixXd& A) {
   constexpr int kColumnBlock = 24;
   const int q = static_cast<int>(Ws.cols());
-  const int groups = static_cast<int>(b.group_start.size()) - 1;
+  const int groups = static_cast<int>(group_start.size()) - 1;
   const int nb = (q + kColumnBlock - 1) / kColumnBlock;
   std::vector<int> lo(nb * groups, std::numeric_limits<int>::max()), hi(nb * groups, -1);
   for (int c = 0; c < q; ++c)
     for (int g = 0; g < groups; ++g) {
-      const int l0 = b.col_lo[c * groups + g], h0 = b.col_hi[c * groups + g];
+      const int l0 = col_lo[c * groups + g], h0 = col_hi[c * groups + g];
       if (h0 <= l0) continue;
       int& L = lo[(c / kColumnBlock) * groups + g];
       int& H = hi[(c / kColumnBlock) * groups + g];
@@ -41,49 +45,283 @@ void subtract_banded_gram(const LowRankBlock& b, const Eigen::MatrixXd& Ws, Eige
   }
 }
 
-// Sylvester's identity det(1 - sigma W C W^T) = det(1 - K), K = (sigma C)^{1/2} W^T W
-// (sigma C)^{1/2} (q x q), for sigma c_i >= 0. With B = (1 - K)^{-1} and dC/dL = F1 C:
-//   d log det/dL   = -Tr[B F1 K] = -sum_i f1_i (B_ii - 1),
+constexpr const char* kNotPositive =
+    "1 - M is not positive definite (Cholesky failed); truncation too small?";
+
+/// Largest |i - j| with A_ij != 0 (lower triangle).
+int lower_bandwidth(const Eigen::MatrixXd& A) {
+  const Eigen::Index q = A.rows();
+  int w = 0;
+  for (Eigen::Index j = 0; j < q; ++j)
+    for (Eigen::Index i = q - 1; i > j + w; --i)
+      if (A(i, j) != 0.0) {
+        w = static_cast<int>(i - j);
+        break;
+      }
+  return w;
+}
+
+// Dense path. With B = (1 - K)^{-1} and dK/dL = (F1 K + K F1)/2 (K_ij ~ sqrt(c_i c_j)):
+//   d log det/dL   = -Tr[B dK] = -sum_i f1_i (B_ii - 1),
 //   d2 log det/dL2 = -sum_i f2_i (B_ii - 1) - sum_ij f1_i f1_j (B - 1)_ij^2.
-LogDetResult logdet_node_space(const LowRankBlock& b, double sigma, DerivativeOrder order) {
+LogDetResult logdet_dense(const Eigen::MatrixXd& A, const Eigen::VectorXd& f1,
+                          const Eigen::VectorXd& f2, DerivativeOrder order) {
   LogDetResult out;
-  out.dimension = static_cast<int>(b.W.cols());
-  const Eigen::VectorXd sq = (sigma * b.c).cwiseSqrt();
-  const Eigen::MatrixXd Ws = b.W * sq.asDiagonal();
-  const Eigen::Index q = b.W.cols();
-  Eigen::MatrixXd A = Eigen::MatrixXd::Identity(q, q);
-  if (b.group_start.size() >= 2)
-    subtract_banded_gram(b, Ws, A);
-  else
-    A.selfadjointView<Eigen::Lower>().rankUpdate(Ws.transpose(), -1.0);
+  const Eigen::Index q = A.rows();
+  out.dimension = static_cast<int>(q);
   Eigen::LLT<Eigen::MatrixXd, Eigen::Lower> llt(A);
   if (llt.info() != Eigen::Success) {
     out.ok = false;
-    out.message = "1 - M is not positive definite (Cholesky failed); truncation too small?";
+    out.message = kNotPositive;
     return out;
   }
   double ld = 0.0;
   for (Eigen::Index i = 0; i < q; ++i) ld += std::log(llt.matrixLLT()(i, i));
   out.s.value = 2.0 * ld;
   if (order == DerivativeOrder::kEnergy) return out;
-  const Eigen::MatrixXd B = llt.solve(Eigen::MatrixXd::Identity(q, q));
+  // B - 1 = B K: its diagonal from sum_j B_ij K_ij, since B_ii - 1 would lose the digits of
+  // the small (B K)_ii of weakly coupled nodes (whose f1, f2 are the largest); off the
+  // diagonal (B - 1)_ij = B_ij.
+  Eigen::MatrixXd Bm1 = llt.solve(Eigen::MatrixXd::Identity(q, q));
+  const Eigen::VectorXd bk =
+      (Bm1.array() * (Eigen::MatrixXd::Identity(q, q) - A).array()).rowwise().sum().matrix();
+  Bm1.diagonal() = bk;
   double d1 = 0.0;
-  for (Eigen::Index i = 0; i < q; ++i) d1 -= b.f1[i] * (B(i, i) - 1.0);
+  for (Eigen::Index i = 0; i < q; ++i) d1 -= f1[i] * bk[i];
   out.s.d1 = d1;
   if (order == DerivativeOrder::kForce) return out;
   double d2 = 0.0;
-  for (Eigen::Index i = 0; i < q; ++i) d2 -= b.f2[i] * (B(i, i) - 1.0);
+  for (Eigen::Index i = 0; i < q; ++i) d2 -= f2[i] * bk[i];
   // K B = B - 1 and B is symmetric, so Tr[(B F1 K)^2] = Tr[F1 (B-1) F1 (B-1)]
   //   = sum_ij f1_i f1_j (B-1)_ij^2   (no further matrix product).
-  Eigen::MatrixXd Bm1 = B - Eigen::MatrixXd::Identity(q, q);
-  d2 -= (b.f1.asDiagonal() * Bm1.cwiseAbs2() * b.f1.asDiagonal()).sum();
+  d2 -= (f1.asDiagonal() * Bm1.cwiseAbs2() * f1.asDiagonal()).sum();
   out.s.d2 = d2;
+  return out;
+}
+
+// Banded path: A_ij = 0 for |i - j| > w. In blocks of size nb >= w, A is block tridiagonal and
+// its Cholesky factor block bidiagonal: diagonal blocks L_I, sub-diagonal blocks S_I = A_{I+1,I}
+// L_I^{-T}, with A_{I+1,I+1} <- A_{I+1,I+1} - S_I S_I^T (Golub & Van Loan, Matrix Computations,
+// 4th ed. (2013), sec. 4.3). Cost O(q nb^2) instead of O(q^3).
+//   d1: diag of B = A^{-1} from the blocks of B on the band only (selected inversion; Takahashi,
+//       Fagan, Chin (1973)): from L^T B = L^{-1},
+//       B_{I+1,I} = -B_{I+1,I+1} S_I L_I^{-1},  B_{I,I} = L_I^{-T} (L_I^{-1} - S_I^T B_{I+1,I}).
+//   d2 = -Tr[B d2K] - Tr[(B dK)^2], with d2K_ij = [(f1_i + f1_j)^2/4 + (g_i + g_j)/2] K_ij,
+//       g = f2 - f1^2 (band only, so the band of B suffices), and Tr[(B dK)^2] = ||Z||_F^2,
+//       Z = L^{-1} dK L^{-T} (two block-bidiagonal solves, O(q^2 nb)).
+class BandedCholesky {
+ public:
+  BandedCholesky(const Eigen::MatrixXd& A, int w) {
+    const int q = static_cast<int>(A.rows());
+    const int nb = std::max(w, 16);
+    for (int s = 0; s < q; s += nb) {
+      start_.push_back(s);
+      size_.push_back(std::min(nb, q - s));
+    }
+    const int n = static_cast<int>(start_.size());
+    L_.resize(n);
+    S_.resize(n > 0 ? n - 1 : 0);
+    Eigen::MatrixXd D = A.block(0, 0, size_[0], size_[0]);
+    for (int I = 0; I < n; ++I) {
+      Eigen::LLT<Eigen::MatrixXd, Eigen::Lower> llt(D);
+      if (llt.info() != Eigen::Success) return;
+      L_[I] = llt.matrixL();
+      for (int i = 0; i < size_[I]; ++i) log_det_ += 2.0 * std::log(L_[I](i, i));
+      if (I + 1 == n) break;
+      Eigen::MatrixXd S = A.block(start_[I + 1], start_[I], size_[I + 1], size_[I]);
+      L_[I].triangularView<Eigen::Lower>().transpose().solveInPlace<Eigen::OnTheRight>(S);
+      D = A.block(start_[I + 1], start_[I + 1], size_[I + 1], size_[I + 1]);
+      D.selfadjointView<Eigen::Lower>().rankUpdate(S, -1.0);
+      D.triangularView<Eigen::StrictlyUpper>() = D.transpose();
+      S_[I] = std::move(S);
+    }
+    ok_ = true;
+  }
+  bool ok() const { return ok_; }
+  double log_det() const { return log_det_; }
+  int blocks() const { return static_cast<int>(start_.size()); }
+  int start(int I) const { return start_[I]; }
+  int size(int I) const { return size_[I]; }
+
+  /// X <- L^{-1} X (X has q rows).
+  void solve_lower(Eigen::MatrixXd& X) const {
+    for (int I = 0; I < blocks(); ++I) {
+      auto XI = X.middleRows(start_[I], size_[I]);
+      if (I > 0) XI.noalias() -= S_[I - 1] * X.middleRows(start_[I - 1], size_[I - 1]);
+      L_[I].triangularView<Eigen::Lower>().solveInPlace(XI);
+    }
+  }
+
+  /// Blocks of B = A^{-1} on the band: Bd[I] = B_{I,I}, Bs[I] = B_{I+1,I}.
+  void band_of_inverse(std::vector<Eigen::MatrixXd>& Bd, std::vector<Eigen::MatrixXd>& Bs) const {
+    const int n = blocks();
+    Bd.assign(n, {});
+    Bs.assign(std::max(n - 1, 0), {});
+    for (int I = n - 1; I >= 0; --I) {
+      Eigen::MatrixXd T = Eigen::MatrixXd::Identity(size_[I], size_[I]);
+      L_[I].triangularView<Eigen::Lower>().solveInPlace(T);  // T = L_I^{-1}
+      Eigen::MatrixXd R = T;
+      if (I + 1 < n) {
+        Bs[I].noalias() = -(Bd[I + 1] * S_[I]) * T;
+        R.noalias() -= S_[I].transpose() * Bs[I];
+      }
+      Bd[I].noalias() = T.transpose() * R;
+    }
+  }
+
+ private:
+  std::vector<int> start_, size_;
+  std::vector<Eigen::MatrixXd> L_, S_;
+  double log_det_ = 0.0;
+  bool ok_ = false;
+};
+
+LogDetResult logdet_banded(const Eigen::MatrixXd& A, int w, const Eigen::VectorXd& f1,
+                           const Eigen::VectorXd& f2, DerivativeOrder order) {
+  LogDetResult out;
+  const Eigen::Index q = A.rows();
+  out.dimension = static_cast<int>(q);
+  const BandedCholesky ch(A, w);
+  if (!ch.ok()) {
+    out.ok = false;
+    out.message = kNotPositive;
+    return out;
+  }
+  out.s.value = ch.log_det();
+  if (order == DerivativeOrder::kEnergy) return out;
+  std::vector<Eigen::MatrixXd> Bd, Bs;
+  ch.band_of_inverse(Bd, Bs);
+  // K = 1 - A on the band; dK_ij = (f1_i + f1_j)/2 K_ij.
+  auto K = [&](Eigen::Index i, Eigen::Index j) { return (i == j ? 1.0 : 0.0) - A(i, j); };
+  // d1 = -Tr[B dK] = -sum_i f1_i (B K)_ii, (B K)_ii = sum_j B_ij K_ij over the band (not
+  // B_ii - 1, which loses the digits of weakly coupled nodes).
+  Eigen::VectorXd bk = Eigen::VectorXd::Zero(q);
+  for (int I = 0; I < ch.blocks(); ++I) {
+    const int a = ch.start(I);
+    for (int j = 0; j < ch.size(I); ++j)
+      for (int i = 0; i < ch.size(I); ++i) bk[a + i] += Bd[I](i, j) * K(a + i, a + j);
+    if (I + 1 < ch.blocks()) {
+      const int b = ch.start(I + 1);
+      for (int j = 0; j < ch.size(I); ++j)
+        for (int i = 0; i < ch.size(I + 1); ++i) {
+          const double v = Bs[I](i, j) * K(b + i, a + j);
+          bk[b + i] += v;
+          bk[a + j] += v;
+        }
+    }
+  }
+  out.s.d1 = -f1.dot(bk);
+  if (order == DerivativeOrder::kForce) return out;
+  const Eigen::VectorXd g = f2 - f1.cwiseAbs2();
+  // Tr[B d2K] over the band: diagonal blocks and twice the sub-diagonal blocks.
+  double tr = 0.0;
+  for (int I = 0; I < ch.blocks(); ++I) {
+    const int a = ch.start(I);
+    for (int j = 0; j < ch.size(I); ++j)
+      for (int i = j; i < ch.size(I); ++i) {
+        const Eigen::Index r = a + i, c = a + j;
+        const double h = 0.25 * (f1[r] + f1[c]) * (f1[r] + f1[c]) + 0.5 * (g[r] + g[c]);
+        tr += (i == j ? 1.0 : 2.0) * Bd[I](i, j) * h * K(r, c);
+      }
+    if (I + 1 < ch.blocks()) {
+      const int b = ch.start(I + 1);
+      for (int j = 0; j < ch.size(I); ++j)
+        for (int i = 0; i < ch.size(I + 1); ++i) {
+          const Eigen::Index r = b + i, c = a + j;
+          if (r - c > w) continue;  // outside the band K is zero
+          const double h = 0.25 * (f1[r] + f1[c]) * (f1[r] + f1[c]) + 0.5 * (g[r] + g[c]);
+          tr += 2.0 * Bs[I](i, j) * h * K(r, c);
+        }
+    }
+  }
+  // Z = L^{-1} dK L^{-T}; dK is symmetric, so Z^T = L^{-1} (L^{-1} dK)^T.
+  Eigen::MatrixXd X = Eigen::MatrixXd::Zero(q, q);
+  for (Eigen::Index j = 0; j < q; ++j)
+    for (Eigen::Index i = std::max<Eigen::Index>(0, j - w); i <= std::min(q - 1, j + w); ++i)
+      X(i, j) = 0.5 * (f1[i] + f1[j]) * (i >= j ? K(i, j) : K(j, i));
+  ch.solve_lower(X);
+  X.transposeInPlace();
+  ch.solve_lower(X);
+  out.s.d2 = -tr - X.squaredNorm();
   return out;
 }
 
 }  // namespace
 
-LogDetResult logdet_one_minus(const LowRankBlock& b, DerivativeOrder order) {
+LogDetResult logdet_node_matrix(Eigen::MatrixXd A, const Eigen::VectorXd& f1,
+                                const Eigen::VectorXd& f2, DerivativeOrder order,
+                                NodeSpaceSolver solver) {
+  const Eigen::Index q = A.rows();
+  if (q == 0) return {};
+  A.triangularView<Eigen::StrictlyUpper>() = A.transpose();
+  const int w = solver == NodeSpaceSolver::kDense ? static_cast<int>(q) : lower_bandwidth(A);
+  // Banded when the band is at most a quarter of the dimension: its O(q nb^2) factorisation and
+  // O(q^2 nb) second derivative then beat the dense O(q^3).
+  const bool banded =
+      solver == NodeSpaceSolver::kBanded || (solver == NodeSpaceSolver::kAuto && 4 * w <= q);
+  return banded ? logdet_banded(A, std::min<int>(w, static_cast<int>(q)), f1, f2, order)
+                : logdet_dense(A, f1, f2, order);
+}
+
+namespace {
+
+// Sylvester's identity det(1 - sigma W C W^T) = det(1 - K), K = (sigma C)^{1/2} W^T W
+// (sigma C)^{1/2} (q x q), for sigma c_i >= 0. With dC/dL = F1 C, K_ij ~ sqrt(c_i c_j): the form
+// of logdet_node_matrix. When W's row ranges are known, the columns are first ordered by the
+// centre of their range, so that columns far apart in that order share no rows: K is then
+// banded (momentum nodes couple only to nearby nodes; measured half-width ~ 50 of 680 nodes at
+// R/L = 1000).
+LogDetResult logdet_node_space(const LowRankBlock& b, double sigma, DerivativeOrder order,
+                               NodeSpaceSolver solver) {
+  const Eigen::Index q = b.W.cols();
+  const bool ranges = b.group_start.size() >= 2;
+  const int groups = ranges ? static_cast<int>(b.group_start.size()) - 1 : 0;
+  std::vector<int> perm(q);
+  std::iota(perm.begin(), perm.end(), 0);
+  if (ranges) {
+    std::vector<double> key(q, 0.0);
+    for (Eigen::Index c = 0; c < q; ++c) {
+      double sum = 0.0;
+      int used = 0;
+      for (int g = 0; g < groups; ++g) {
+        const int lo = b.col_lo[c * groups + g], hi = b.col_hi[c * groups + g];
+        if (hi <= lo) continue;
+        sum += 0.5 * (lo + hi) - b.group_start[g];
+        ++used;
+      }
+      key[c] = used > 0 ? sum / used : 0.0;
+    }
+    std::stable_sort(perm.begin(), perm.end(), [&](int x, int y) { return key[x] < key[y]; });
+  }
+  Eigen::MatrixXd Ws(b.W.rows(), q);
+  Eigen::VectorXd f1(q), f2(q);
+  std::vector<int> lo, hi;
+  if (ranges) {
+    lo.resize(q * groups);
+    hi.resize(q * groups);
+  }
+  for (Eigen::Index k = 0; k < q; ++k) {
+    const int c = perm[k];
+    Ws.col(k) = b.W.col(c) * std::sqrt(sigma * b.c[c]);
+    f1[k] = order >= DerivativeOrder::kForce ? b.f1[c] : 0.0;
+    f2[k] = order >= DerivativeOrder::kGradient ? b.f2[c] : 0.0;
+    for (int g = 0; g < groups; ++g) {
+      lo[k * groups + g] = b.col_lo[c * groups + g];
+      hi[k * groups + g] = b.col_hi[c * groups + g];
+    }
+  }
+  Eigen::MatrixXd A = Eigen::MatrixXd::Identity(q, q);
+  if (ranges)
+    subtract_banded_gram(b.group_start, lo, hi, Ws, A);
+  else
+    A.selfadjointView<Eigen::Lower>().rankUpdate(Ws.transpose(), -1.0);
+  return logdet_node_matrix(std::move(A), f1, f2, order, solver);
+}
+
+}  // namespace
+
+LogDetResult logdet_one_minus(const LowRankBlock& b, DerivativeOrder order,
+                              NodeSpaceSolver solver) {
   LogDetResult out;
   const Eigen::Index n = b.W.rows();
   out.dimension = static_cast<int>(n);
@@ -102,7 +340,7 @@ LogDetResult logdet_one_minus(const LowRankBlock& b, DerivativeOrder order) {
   const Eigen::Index q = b.W.cols();
   bool positive = uniform;  // sigma c_i >= 0 for all i: M is positive semidefinite
   for (Eigen::Index i = 0; positive && i < q; ++i) positive = sigma * b.c[i] >= 0.0;
-  if (positive && q < n) return logdet_node_space(b, sigma, order);
+  if (positive && q < n) return logdet_node_space(b, sigma, order, solver);
 
   Eigen::MatrixXd A = Eigen::MatrixXd::Identity(n, n);
   Eigen::MatrixXd Z;  // (1-M)^{-1} S W

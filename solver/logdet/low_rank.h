@@ -48,6 +48,21 @@ struct LogDetResult {
   int dimension = 0;
 };
 
-LogDetResult logdet_one_minus(const LowRankBlock& block, DerivativeOrder order);
+/// How the node-space matrix 1 - K (q x q) is factorised. kAuto: banded when its non-zero band,
+/// after ordering the columns by the centre of their row range, is narrow (the momentum nodes of
+/// the sphere-plate blocks couple only to nodes nearby), dense otherwise. kDense and kBanded
+/// force one (tests compare them).
+enum class NodeSpaceSolver { kAuto, kDense, kBanded };
+
+LogDetResult logdet_one_minus(const LowRankBlock& block, DerivativeOrder order,
+                              NodeSpaceSolver solver = NodeSpaceSolver::kAuto);
+
+/// log det A and its L-derivatives for A = 1 - K given directly in node space: K symmetric,
+/// K_ij = sqrt(c_i c_j) G_ij with G independent of L and dc_i/dL = f1_i c_i,
+/// d2c_i/dL2 = f2_i c_i (the form logdet_one_minus reaches through Sylvester's identity).
+/// Only the lower triangle of A is read. A must be positive definite.
+LogDetResult logdet_node_matrix(Eigen::MatrixXd A, const Eigen::VectorXd& f1,
+                                const Eigen::VectorXd& f2, DerivativeOrder order,
+                                NodeSpaceSolver solver = NodeSpaceSolver::kAuto);
 
 }  // namespace roundtrip
