@@ -39,6 +39,7 @@
 
 #include "solver/constants.h"
 #include "solver/geometries/plate_plate.h"
+#include "solver/geometries/static_bessel_kernel.h"
 #include "solver/logdet/low_rank.h"
 #include "solver/materials/models.h"
 #include "solver/pfa/pfa.h"
@@ -190,6 +191,8 @@ class SpherePlate final : public Geometry {
     // l_max, the momentum nodes and the m tail all follow tol.
     const double tol = rel_tol > 0.0 && rel_tol < 0.1 ? rel_tol : o_.rel_tol;
     const bool is_static = xi == 0.0;
+    if (is_static)
+      if (const auto s = static_closed_form(gap, tol, order)) return *s;
     const int lmax = lmax_for(gap, tol, xi, order);
     // Per-frequency data shared by all m.
     NodeSet nodes;
@@ -201,27 +204,35 @@ class SpherePlate final : public Geometry {
       prepare_dynamic(xi, gap, lmax, tol, nodes, mie);
 
     const int mlimit = o_.m_max >= 0 ? std::min(o_.m_max, lmax) : lmax;
+    return sum_over_m(mlimit, order, tol, xi, gap, lmax, [&](int m) {
+      const LowRankBlock b = is_static ? static_block(m, gap, lmax, nodes, st, true)
+                                       : dynamic_block(m, lmax, nodes, mie);
+      return logdet_one_minus(b, order, o_.node_solver);
+    });
+  }
+
+  /// Sum over m of the block log dets (+m and -m give the same block), in batches of kMBatch
+  /// computed in parallel. The m terms fall off geometrically once m exceeds ~sqrt(R/L)
+  /// (measured); the ratio r is estimated from each batch and the sum stops when the tail,
+  /// last * r/(1-r), is below 0.1 tol.
+  template <class BlockLogDet>
+  Spectral sum_over_m(int mlimit, DerivativeOrder order, double tol, double xi, double gap,
+                      int lmax, BlockLogDet&& block) const {
     Spectral total;
     std::vector<LogDetResult> batch(kMBatch);
     for (int m0 = 0; m0 <= mlimit; m0 += kMBatch) {
       const int m1 = std::min(mlimit + 1, m0 + kMBatch);
 #pragma omp parallel for schedule(dynamic, 1)
-      for (int m = m0; m < m1; ++m) {
-        const LowRankBlock b =
-            is_static ? static_block(m, gap, lmax, nodes, st) : dynamic_block(m, lmax, nodes, mie);
-        batch[m - m0] = logdet_one_minus(b, order);
-      }
+      for (int m = m0; m < m1; ++m) batch[m - m0] = block(m);
       for (int m = m0; m < m1; ++m) {
         const LogDetResult& r = batch[m - m0];
         if (!r.ok)
           throw std::runtime_error(
               fmt::format("sphere-plate: xi = {:.6g} rad/s, L = {:.6g} m, m = {}: {} (l_max = {})",
                           xi, gap, m, r.message, lmax));
-        total += r.s * (m == 0 ? 1.0 : 2.0);  // +m and -m give the same block
+        total += r.s * (m == 0 ? 1.0 : 2.0);
       }
       if (o_.m_max >= 0 || m1 - m0 < 2) continue;
-      // The m terms fall off geometrically once m exceeds ~sqrt(R/L) (measured); estimate the
-      // ratio r from the batch and stop when the tail, last * r/(1-r), is below 0.1 rel_tol.
       bool done = true;
       for (int c = 0; c < 1 + static_cast<int>(order); ++c) {
         auto comp = [&](const Spectral& v) { return c == 0 ? v.value : (c == 1 ? v.d1 : v.d2); };
@@ -235,6 +246,49 @@ class SpherePlate final : public Geometry {
       if (done) break;
     }
     return total;
+  }
+
+  /// xi = 0 with the multipole sum done in closed form where the static sphere factor is 1 for
+  /// every l and the plate's static reflection is the same for all k (static_bessel_kernel.h):
+  /// the TM channel of conducting spheres and the Dirichlet sphere. There the only cut-offs are
+  /// the momentum nodes and m (no l_max); the other channel (TE of perfect-conductor and
+  /// plasma-model spheres), if it is not zero, keeps the multipole path. TE and TM decouple at
+  /// xi = 0, so their log dets add. A fixed l_max in the options keeps the multipole path.
+  std::optional<Spectral> static_closed_form(double gap, double tol, DerivativeOrder order) const {
+    if (o_.l_max > 0 || o_.field == FieldKind::kNeumann) return std::nullopt;
+    const bool em = o_.field == FieldKind::kElectromagnetic;
+    const int lmax = lmax_for(gap, tol, 0.0, order);
+    NodeSet nodes;
+    StaticSphere st;
+    prepare_static(gap, lmax, tol, nodes, st);
+    const std::vector<double>& g2 = em ? st.g2_tm : st.g2_te;
+    for (int l = em ? 1 : 0; l <= lmax; ++l)
+      if (g2[l] != 1.0) return std::nullopt;
+    const std::vector<double>& c = em ? nodes.c_tm : nodes.c_te;
+    for (double v : c)
+      if (!(v > 0.0) || v != c.front()) return std::nullopt;
+    bool te_left = false;
+    if (em)
+      for (int l = 1; l <= lmax; ++l) te_left = te_left || st.g2_te[l] != 0.0;
+
+    const double D = o_.radius + gap;
+    const int m_cap = o_.m_max >= 0 ? o_.m_max : static_m_cap(o_.radius, gap, tol);
+    std::vector<double> log_w(nodes.x.size());
+    for (std::size_t j = 0; j < log_w.size(); ++j) log_w[j] = 2.0 * nodes.half_log_w[j];
+    const StaticBesselKernel kernel(nodes.x, log_w, o_.radius, D, c.front(), em, m_cap);
+    const Eigen::Map<const Eigen::VectorXd> f1(nodes.f1.data(), nodes.f1.size()),
+        f2(nodes.f2.data(), nodes.f2.size());
+    const int mlimit = te_left ? std::min(m_cap, lmax) : m_cap;
+    return sum_over_m(mlimit, order, tol, 0.0, gap, lmax, [&](int m) {
+      LogDetResult r = logdet_node_matrix(kernel.one_minus(m), f1, f2, order, o_.node_solver);
+      if (r.ok && te_left) {
+        const LogDetResult te =
+            logdet_one_minus(static_block(m, gap, lmax, nodes, st, false), order, o_.node_solver);
+        if (!te.ok) return te;
+        r.s += te.s;
+      }
+      return r;
+    });
   }
 
   /// Multipole cut-off for s(xi) and its first `order` gap derivatives to relative accuracy tol.
@@ -403,10 +457,12 @@ class SpherePlate final : public Geometry {
     }
   }
 
+  /// with_tm = false: the TE channel alone (electromagnetic field; TE and TM decouple at xi = 0).
   LowRankBlock static_block(int m, double gap, int lmax, const NodeSet& nodes,
-                            const StaticSphere& st) const {
-    const bool em = o_.field == FieldKind::kElectromagnetic;
-    const int lmin = em ? std::max(1, m) : m;
+                            const StaticSphere& st, bool with_tm) const {
+    const bool em = o_.field == FieldKind::kElectromagnetic && with_tm;
+    const bool em_field = o_.field == FieldKind::kElectromagnetic;
+    const int lmin = em_field ? std::max(1, m) : m;
     const int nl = lmax - lmin + 1;
     const int N = static_cast<int>(nodes.x.size());
     const int dim = em ? 2 * nl : nl;

@@ -5,6 +5,7 @@
 #include <memory>
 
 #include "solver/geometries/geometry.h"
+#include "solver/logdet/low_rank.h"
 #include "solver/materials/material.h"
 #include "solver/planar/planar.h"
 #include "solver/scatterers/field.h"
@@ -17,9 +18,11 @@ struct SpherePlateOptions {
   PlanarPtr plate;      ///< planar body (ignored for scalar fields)
   MaterialPtr medium;   ///< medium between the bodies (vacuum if null)
   FieldKind field = FieldKind::kElectromagnetic;
-  double rel_tol = 1e-5;         ///< target relative error; sets l_max and quadrature unless fixed
-  int l_max = 0;                 ///< 0: automatic from rel_tol and R/L
-  int m_max = -1;                ///< -1: automatic (up to l_max, stopped by decay of the m terms)
+  double rel_tol = 1e-5;  ///< target relative error; sets l_max and quadrature unless fixed
+  int l_max = 0;          ///< 0: automatic from rel_tol and R/L
+  int m_max = -1;         ///< -1: automatic (up to l_max, stopped by decay of the m terms)
+  /// Factorisation of the node-space matrix (tests compare the banded and dense paths).
+  NodeSpaceSolver node_solver = NodeSpaceSolver::kAuto;
   std::string validate() const;  ///< empty if valid, else a sentence naming the bad field
 };
 
