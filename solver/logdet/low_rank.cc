@@ -9,27 +9,41 @@ namespace roundtrip {
 
 namespace {
 
-// A -= Ws^T Ws on and below the diagonal, skipping the rows where a column is zero: columns are
-// taken in blocks of kColumnBlock, each block pair multiplies only the rows where both blocks
-// have non-zeros (per row group). Exact up to the dropped zeros; same result as rankUpdate.
-// Row ranges: column c is zero outside [lo[c * groups + g], hi[...]) in row group g.
-void subtract_banded_gram(const std::vector<int>& group_start, const std::vector<int>& col_lo,
-                          const std::vector<int>& col_hi, const Eigen::MatrixXd& Ws,
-                          Eigen::MatrixXd& A) {
+// A -= Ws^T Ws on and below the diagonal, Ws = W(:, perm) diag(scale), skipping the rows where
+// a column is zero. Columns are taken in blocks of kColumnBlock; each block's non-zero rows per
+// row group (the union of its columns' ranges) are gathered once, scaled, into a small dense
+// matrix, and each block pair multiplies only the rows where both have non-zeros. Exact up to
+// the dropped zeros (same result as a rank update), and only the band of W is read.
+// Row ranges: column c is zero outside [col_lo[c * groups + g], col_hi[...]) in row group g.
+void subtract_banded_gram(const LowRankBlock& b, const std::vector<int>& perm,
+                          const Eigen::VectorXd& scale, Eigen::MatrixXd& A) {
   constexpr int kColumnBlock = 24;
-  const int q = static_cast<int>(Ws.cols());
-  const int groups = static_cast<int>(group_start.size()) - 1;
+  const int q = static_cast<int>(perm.size());
+  const int groups = static_cast<int>(b.group_start.size()) - 1;
   const int nb = (q + kColumnBlock - 1) / kColumnBlock;
   std::vector<int> lo(nb * groups, std::numeric_limits<int>::max()), hi(nb * groups, -1);
-  for (int c = 0; c < q; ++c)
+  for (int k = 0; k < q; ++k)
     for (int g = 0; g < groups; ++g) {
-      const int l0 = col_lo[c * groups + g], h0 = col_hi[c * groups + g];
+      const int c = perm[k];
+      const int l0 = b.col_lo[c * groups + g], h0 = b.col_hi[c * groups + g];
       if (h0 <= l0) continue;
-      int& L = lo[(c / kColumnBlock) * groups + g];
-      int& H = hi[(c / kColumnBlock) * groups + g];
+      int& L = lo[(k / kColumnBlock) * groups + g];
+      int& H = hi[(k / kColumnBlock) * groups + g];
       L = std::min(L, l0);
       H = std::max(H, h0);
     }
+  std::vector<Eigen::MatrixXd> gathered(nb * groups);
+  for (int I = 0; I < nb; ++I) {
+    const int i0 = I * kColumnBlock, ni = std::min(kColumnBlock, q - i0);
+    for (int g = 0; g < groups; ++g) {
+      const int r0 = lo[I * groups + g], r1 = hi[I * groups + g];
+      if (r1 <= r0) continue;
+      Eigen::MatrixXd& G = gathered[I * groups + g];
+      G.resize(r1 - r0, ni);
+      for (int k = 0; k < ni; ++k)
+        G.col(k) = b.W.col(perm[i0 + k]).segment(r0, r1 - r0) * scale[i0 + k];
+    }
+  }
   for (int I = 0; I < nb; ++I) {
     const int i0 = I * kColumnBlock, ni = std::min(kColumnBlock, q - i0);
     for (int J = 0; J <= I; ++J) {
@@ -38,8 +52,11 @@ void subtract_banded_gram(const std::vector<int>& group_start, const std::vector
         const int r0 = std::max(lo[I * groups + g], lo[J * groups + g]);
         const int r1 = std::min(hi[I * groups + g], hi[J * groups + g]);
         if (r1 <= r0) continue;
+        const Eigen::MatrixXd& GI = gathered[I * groups + g];
+        const Eigen::MatrixXd& GJ = gathered[J * groups + g];
         A.block(i0, j0, ni, nj).noalias() -=
-            Ws.block(r0, i0, r1 - r0, ni).transpose() * Ws.block(r0, j0, r1 - r0, nj);
+            GI.middleRows(r0 - lo[I * groups + g], r1 - r0).transpose() *
+            GJ.middleRows(r0 - lo[J * groups + g], r1 - r0);
       }
     }
   }
@@ -293,28 +310,20 @@ LogDetResult logdet_node_space(const LowRankBlock& b, double sigma, DerivativeOr
     }
     std::stable_sort(perm.begin(), perm.end(), [&](int x, int y) { return key[x] < key[y]; });
   }
-  Eigen::MatrixXd Ws(b.W.rows(), q);
-  Eigen::VectorXd f1(q), f2(q);
-  std::vector<int> lo, hi;
-  if (ranges) {
-    lo.resize(q * groups);
-    hi.resize(q * groups);
-  }
+  Eigen::VectorXd f1(q), f2(q), scale(q);
   for (Eigen::Index k = 0; k < q; ++k) {
     const int c = perm[k];
-    Ws.col(k) = b.W.col(c) * std::sqrt(sigma * b.c[c]);
+    scale[k] = std::sqrt(sigma * b.c[c]);
     f1[k] = order >= DerivativeOrder::kForce ? b.f1[c] : 0.0;
     f2[k] = order >= DerivativeOrder::kGradient ? b.f2[c] : 0.0;
-    for (int g = 0; g < groups; ++g) {
-      lo[k * groups + g] = b.col_lo[c * groups + g];
-      hi[k * groups + g] = b.col_hi[c * groups + g];
-    }
   }
   Eigen::MatrixXd A = Eigen::MatrixXd::Identity(q, q);
-  if (ranges)
-    subtract_banded_gram(b.group_start, lo, hi, Ws, A);
-  else
+  if (ranges) {
+    subtract_banded_gram(b, perm, scale, A);
+  } else {
+    const Eigen::MatrixXd Ws = b.W * scale.asDiagonal();
     A.selfadjointView<Eigen::Lower>().rankUpdate(Ws.transpose(), -1.0);
+  }
   return logdet_node_matrix(std::move(A), f1, f2, order, solver);
 }
 
