@@ -18,9 +18,10 @@ struct SpherePlateOptions {
   PlanarPtr plate;      ///< planar body (ignored for scalar fields)
   MaterialPtr medium;   ///< medium between the bodies (vacuum if null)
   FieldKind field = FieldKind::kElectromagnetic;
-  double rel_tol = 1e-5;  ///< target relative error; sets l_max and quadrature unless fixed
-  int l_max = 0;          ///< 0: automatic from rel_tol and R/L
-  int m_max = -1;         ///< -1: automatic (up to l_max, stopped by decay of the m terms)
+  double rel_tol = 1e-5;   ///< target relative error; sets l_max and quadrature unless fixed
+  int l_max = 0;           ///< 0: automatic from rel_tol and R/L
+  int m_max = -1;          ///< -1: automatic (up to l_max, stopped by decay of the m terms)
+  int nodes_per_unit = 0;  ///< momentum nodes per unit of sqrt(t); 0: automatic from rel_tol
   /// Factorisation of the node-space matrix (tests compare the banded and dense paths).
   NodeSpaceSolver node_solver = NodeSpaceSolver::kAuto;
   std::string validate() const;  ///< empty if valid, else a sentence naming the bad field

@@ -155,6 +155,30 @@ TEST(SpherePlateStatic, DrudeTermAtLargeAspectRatioMatchesBimonteEmig2012) {
   EXPECT_NEAR(f / bimonte_emig_drude(x), 1.0, 1e-8);
 }
 
+TEST(SpherePlate, MomentumNodesMeetTheTolerance) {
+  // The automatic node density (2-4 per unit of sqrt(t), from rel_tol and xi/xi_c) against
+  // 8 per unit at the same l_max: the node error must stay below 0.1 rel_tol in s and both
+  // gap derivatives, from near-static to high frequencies (common practice: convergence).
+  for (double tol : {1e-4, 1e-6})
+    for (double ratio : {10.0, 60.0})
+      for (double u : {0.001, 0.1, 3.0}) {
+        if (tol < 1e-4 && ratio > 10) continue;  // same rule as at R/L = 10; keeps the test short
+        for (SpherePlateOptions o : {drude(tol), pec(tol)}) {
+          const double gap = kR / ratio, xi = u * kSpeedOfLight / (2 * gap);
+          const Spectral a =
+              make_sphere_plate(o)->at_frequency(xi, gap, DerivativeOrder::kGradient);
+          o.nodes_per_unit = 8;
+          const Spectral r =
+              make_sphere_plate(o)->at_frequency(xi, gap, DerivativeOrder::kGradient);
+          const std::string what = o.sphere->name() + " tol " + std::to_string(tol) + " R/L " +
+                                   std::to_string(ratio) + " u " + std::to_string(u);
+          EXPECT_NEAR(a.value / r.value, 1.0, 0.1 * tol) << what;
+          EXPECT_NEAR(a.d1 / r.d1, 1.0, 0.1 * tol) << what;
+          EXPECT_NEAR(a.d2 / r.d2, 1.0, 0.1 * tol) << what;
+        }
+      }
+}
+
 TEST(SpherePlate, BandedNodeSpaceFactorisationEqualsDense) {
   // Same matrix, two factorisations (solver/logdet/low_rank.h): rounding differences only.
   for (double ratio : {10.0, 200.0}) {
