@@ -75,14 +75,20 @@ double plan_flops_per_frequency(const Geometry& g, double gap, DerivativeOrder o
   // "gemm-equivalent" flops: measured at R/L = 200 and 1000 (gold, rel_tol 1e-4) against the
   // timed 384 x 384 product; the small blocked products and transcendental functions run well
   // below the large-gemm rate.
+  // The node-space matrix is banded (nodes couple to nodes within a fixed distance in sqrt(t);
+  // measured half-width ~50-100, kNodeBand): banded Cholesky q nb^2, selected inversion for
+  // the force ~4 q nb^2, two block-bidiagonal solves 4 q^2 nb for the gradient.
   constexpr double kNodeSpaceInefficiency = 6.0;
+  constexpr double kNodeBand = 100.0;
   const double band = std::min(1.0, 8.0 / std::sqrt(double(lmax)));
+  const double nb = std::min(q, kNodeBand);
   double flops = 0.0;
   for (int m = 0; m < blocks; ++m) {
     const double n = 2.0 * (lmax - std::max(1, m) + 1);
     if (q < n) {
-      double f = band * q * q * n + q * q * q / 3.0 + 30.0 * band * n * q + 20.0 * lmax * q;
-      if (order != DerivativeOrder::kEnergy) f += q * q * q;
+      double f = band * q * q * n + q * nb * nb + 30.0 * band * n * q + 20.0 * lmax * q;
+      if (order != DerivativeOrder::kEnergy) f += 4.0 * q * nb * nb;
+      if (order == DerivativeOrder::kGradient) f += 4.0 * q * q * nb;
       flops += kNodeSpaceInefficiency * f;
     } else {
       flops += 4.0 * n * n * q + n * n * n / 3.0;
