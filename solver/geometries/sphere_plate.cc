@@ -54,6 +54,13 @@ constexpr double kNegInf = -std::numeric_limits<double>::infinity();
 /// m-blocks computed per parallel batch; fixed so that the set of computed m (and hence the
 /// result) does not depend on the thread count.
 constexpr int kMBatch = 8;
+/// W entries below e^kLogNegligible (~1.6e-18; |M| <= 1) are dropped (BandedWriter).
+constexpr double kLogNegligible = -41.0;
+/// The band search on the saddle-point estimate of Pt (error O(1/l) in the log) takes rows down
+/// to this much below the negligible level; the exact values then confirm the ends.
+constexpr double kEstimateMargin = 4.0;
+/// Blocks with at most this many rows per group are computed over all rows.
+constexpr int kWholeBlockRows = 64;
 
 /// Quadrature nodes and everything about them that does not depend on m.
 struct NodeSet {
@@ -115,7 +122,6 @@ class BandedWriter {
   }
 
  private:
-  static constexpr double kLogNegligible = -41.0;
   LowRankBlock& b_;
   Eigen::ArrayXd values_;
   int groups_ = 1;
@@ -207,8 +213,9 @@ class SpherePlate final : public Geometry {
       const int m1 = std::min(mlimit + 1, m0 + kMBatch);
 #pragma omp parallel for schedule(dynamic, 1)
       for (int m = m0; m < m1; ++m) {
-        const LowRankBlock b =
-            is_static ? static_block(m, gap, lmax, nodes, st) : dynamic_block(m, lmax, nodes, mie);
+        const LowRankBlock b = is_static         ? static_block(m, gap, lmax, nodes, st)
+                               : o_.full_range_w ? dynamic_block_full_range(m, lmax, nodes, mie)
+                                                 : dynamic_block(m, lmax, nodes, mie);
         batch[m - m0] = logdet_one_minus(b, order);
       }
       for (int m = m0; m < m1; ++m) {
@@ -306,7 +313,225 @@ class SpherePlate final : public Geometry {
     }
   }
 
+  /// Row data of block m shared by both builders: signs S, and per row the log of the factor
+  /// a_l sqrt|T_l| for TE (hte) and TM (htm).
+  void dynamic_rows(int m, int lmax, const MieLog& mie, LowRankBlock& b, Eigen::ArrayXd& hte,
+                    Eigen::ArrayXd& htm) const {
+    const bool em = o_.field == FieldKind::kElectromagnetic;
+    const int lmin = em ? std::max(1, m) : m;
+    const int nl = lmax - lmin + 1;
+    hte.resize(nl);
+    htm.resize(nl);
+    for (int l = lmin; l <= lmax; ++l) {
+      double la = std::log(2.0 * l + 1.0) + std::lgamma(l - m + 1.0) - std::lgamma(l + m + 1.0);
+      if (em) la -= std::log(double(l) * (l + 1.0));
+      const int i = l - lmin;
+      hte[i] = 0.5 * la + 0.5 * mie.log_abs_te[l];
+      if (em) {
+        htm[i] = 0.5 * la + 0.5 * mie.log_abs_tm[l];
+        b.s[i] = mie.sign_te[l];
+        b.s[nl + i] = -mie.sign_tm[l];
+      } else {
+        b.s[i] = mie.sign_te[l];
+      }
+    }
+  }
+
+  /// W of block m, column by column over the band of rows where the column is not negligible
+  /// (BandedWriter), at a cost ~ (nodes) x (band width) instead of (nodes) x l_max: the band
+  /// (width ~ 14 sqrt(l) at R/L = 1000) is first located on the saddle-point estimate of the
+  /// Legendre functions (legendre_log_estimate, a margin kEstimateMargin below the negligible
+  /// level), then computed exactly by the recurrence started at its lower edge
+  /// (legendre_log_range_pair), and accepted only if every column is below the negligible level
+  /// at both ends of the computed rows and falls off outwards there; otherwise the rows are
+  /// extended. A column's log is concave in l (Pt grows, a_l sqrt|T_l| falls ever faster), so
+  /// nothing outside the computed rows is above the level. Same entries as
+  /// dynamic_block_full_range up to rounding.
   LowRankBlock dynamic_block(int m, int lmax, const NodeSet& nodes, const MieLog& mie) const {
+    const bool em = o_.field == FieldKind::kElectromagnetic;
+    const int lmin = em ? std::max(1, m) : m;
+    const int nl = lmax - lmin + 1;
+    const int N = static_cast<int>(nodes.x.size());
+    LowRankBlock b;
+    b.resize(em ? 2 * nl : nl, em ? 2 * N : N);
+    thread_local Eigen::ArrayXd hte, htm, hmax, pm, pm1, lt, lp, col;
+    dynamic_rows(m, lmax, mie, b, hte, htm);
+    hmax = em ? hte.max(htm).eval() : hte;
+    BandedWriter w(b, em ? std::vector<int>{0, nl, 2 * nl} : std::vector<int>{0, nl});
+    const double log_m = m > 0 ? std::log(double(m)) : 0.0;
+    // Nodes by increasing x (the rule lists them panel by panel), so that each band is close
+    // to the previous one.
+    std::vector<int> order(N);
+    for (int j = 0; j < N; ++j) order[j] = j;
+    std::stable_sort(order.begin(), order.end(),
+                     [&](int a, int c) { return nodes.x[a] < nodes.x[c]; });
+    int prev_lo = 0, prev_hi = 0;            // band of the previous node (empty: none yet)
+    int prev_rows_lo = 0, prev_rows_hi = 0;  // rows computed for it
+    for (const int j : order) {
+      const double x = nodes.x[j];
+      const double hw = nodes.half_log_w[j];
+      const double log_s = 0.5 * std::log((x - 1.0) * (x + 1.0));
+      const double log_mx_s = log_m + std::log(x) - log_s;
+      // Estimated log of the largest entry of row i over the node's columns (t >= p).
+      auto estimate = [&](int i) {
+        const int l = lmin + i;
+        if (!em) return hmax[i] + hw + special::legendre_log_estimate(x, m, l);
+        const double e1 = special::legendre_log_estimate(x, m + 1, l);
+        if (m == 0) return hmax[i] + hw + e1;
+        const double e0 = log_mx_s + special::legendre_log_estimate(x, m, l);
+        const double hi = std::max(e0, e1), lo = std::min(e0, e1);
+        return hmax[i] + hw + hi + std::log1p(std::exp(lo - hi));
+      };
+      // Rows to compute: around the previous node's band (bands move little from node to node),
+      // or the rows that showed the previous node negligible; for the first node from the
+      // estimate; small blocks whole.
+      int lo = 0, hi = nl;
+      if (nl > kWholeBlockRows) {
+        if (prev_hi > prev_lo) {
+          const int margin = std::max(8, (prev_hi - prev_lo) / 8);
+          lo = std::max(0, prev_lo - margin);
+          hi = std::min(nl, prev_hi + margin);
+          if (hi - lo < 4) lo = std::max(0, hi - 4), hi = std::min(nl, lo + 4);
+        } else if (prev_rows_hi > prev_rows_lo) {
+          lo = prev_rows_lo;
+          hi = prev_rows_hi;
+        } else {
+          estimated_band(estimate, nl, kLogNegligible - kEstimateMargin, lo, hi);
+        }
+      }
+      for (;;) {
+        const int n = hi - lo;
+        if (pm.size() < n) {
+          for (auto* a : {&pm, &pm1, &lt, &lp, &col}) a->resize(n);
+        }
+        special::legendre_log_range_pair(x, m, lmin + lo, n, pm.data(), pm1.data());
+        auto P = pm.head(n);
+        auto P1 = pm1.head(n);
+        auto LT = lt.head(n), LP = lp.head(n);
+        if (em) {
+          if (m == 0) {
+            LT = P1;  // t = Pt^1, p = 0
+            LP.setConstant(kNegInf);
+          } else {
+            // t = m x Pt^m / s + Pt^{m+1}, p = m Pt^m / s (both terms positive: log-sum-exp)
+            LP = std::log(double(m)) - log_s + P;
+            const Eigen::ArrayXd a = LP + std::log(x);
+            const Eigen::ArrayXd h = a.max(P1), l = a.min(P1);
+            LT = h + (1.0 + (l - h).exp()).log();
+          }
+        }
+        // Are all columns negligible and falling outwards at both ends of the rows?
+        bool ok_lo = true, ok_hi = true;
+        auto check = [&](const Eigen::ArrayXd& h0, const auto& f) {
+          if (lo > 0) {
+            const double a = h0[lo] + f[0], c = h0[lo + 1] + f[1];
+            ok_lo = ok_lo && a + hw < kLogNegligible && a < c;
+          }
+          if (hi < nl) {
+            const double a = h0[hi - 1] + f[n - 1], c = h0[hi - 2] + f[n - 2];
+            ok_hi = ok_hi && a + hw < kLogNegligible && a < c;
+          }
+        };
+        if (!em) {
+          check(hte, P);
+        } else {
+          check(hte, LT);
+          check(htm, LT);
+          if (m > 0) {
+            check(hte, LP);
+            check(htm, LP);
+          }
+        }
+        if (ok_lo && ok_hi) break;
+        const int grow = std::max(32, n / 2);
+        if (!ok_lo) lo = std::max(0, lo - grow);
+        if (!ok_hi) hi = std::min(nl, hi + grow);
+      }
+      const int n = hi - lo;
+      auto put = [&](int c, int group, const Eigen::ArrayXd& h0, const auto& f) {
+        const int row0 = group == 0 ? 0 : nl;
+        auto dst = b.W.col(c).segment(row0, nl);
+        dst.head(lo).setZero();
+        dst.tail(nl - hi).setZero();
+        col.head(n) = h0.segment(lo, n) + hw + f;
+        w.put_column(c, row0 + lo, group, col.head(n));
+      };
+      if (!em) {
+        put(j, 0, hte, pm.head(n));
+      } else {
+        put(j, 0, hte, lt.head(n));      // u_j, TE rows
+        put(j, 1, htm, lp.head(n));      // u_j, TM rows
+        put(N + j, 0, hte, lp.head(n));  // v_j, TE rows
+        put(N + j, 1, htm, lt.head(n));  // v_j, TM rows
+      }
+      // this node's band (union over its columns), the next node's first guess
+      prev_rows_lo = lo;
+      prev_rows_hi = hi;
+      prev_lo = nl;
+      prev_hi = 0;
+      for (int c : {j, N + j}) {
+        if (c >= b.W.cols()) continue;
+        for (int g = 0; g < (em ? 2 : 1); ++g) {
+          const int clo = b.col_lo[c * (em ? 2 : 1) + g], chi = b.col_hi[c * (em ? 2 : 1) + g];
+          if (chi <= clo) continue;
+          prev_lo = std::min(prev_lo, clo - g * nl);
+          prev_hi = std::max(prev_hi, chi - g * nl);
+        }
+      }
+      set_node_coefficients(nodes, j, em, b);
+    }
+    return b;
+  }
+
+  /// Rows [lo, hi) (0 <= lo < hi <= n, hi - lo >= 4 if n >= 4) around the maximum of the
+  /// estimate f over 0..n-1 where f > level, found by golden-section search for the maximum
+  /// and bisection for the edges (f assumed unimodal); a few rows around the maximum if f is
+  /// below the level everywhere.
+  template <class F>
+  static void estimated_band(const F& f, int n, double level, int& lo, int& hi) {
+    int a = 0, c = n - 1;
+    // golden-section search on integers for the maximum
+    while (c - a > 3) {
+      const int p = a + static_cast<int>(0.381966 * (c - a));
+      const int q = c - static_cast<int>(0.381966 * (c - a));
+      if (f(p) < f(q))
+        a = p;
+      else
+        c = q;
+    }
+    int peak = a;
+    double fpeak = f(a);
+    for (int i = a + 1; i <= c; ++i) {
+      const double v = f(i);
+      if (v > fpeak) fpeak = v, peak = i;
+    }
+    if (!(fpeak > level)) {
+      lo = peak;
+      hi = peak + 1;
+    } else {
+      // lowest row above the level: f(lo) > level, f(lo - 1) <= level
+      int below = -1, above = peak;  // f(below) <= level (or out of range), f(above) > level
+      while (above - below > 1) {
+        const int mid = (below + above) / 2;
+        (f(mid) > level ? above : below) = mid;
+      }
+      lo = above;
+      int in = peak, out = n;
+      while (out - in > 1) {
+        const int mid = (in + out) / 2;
+        (f(mid) > level ? in : out) = mid;
+      }
+      hi = out;
+    }
+    // at least 4 rows, so that both ends can be checked
+    while (hi - lo < std::min(4, n)) {
+      if (lo > 0) --lo;
+      if (hi - lo < std::min(4, n) && hi < n) ++hi;
+    }
+  }
+
+  LowRankBlock dynamic_block_full_range(int m, int lmax, const NodeSet& nodes,
+                                        const MieLog& mie) const {
     const bool em = o_.field == FieldKind::kElectromagnetic;
     const int lmin = em ? std::max(1, m) : m;
     const int nl = lmax - lmin + 1;
@@ -328,8 +553,8 @@ class SpherePlate final : public Geometry {
       }
     }
     BandedWriter w(b, em ? std::vector<int>{0, nl, 2 * nl} : std::vector<int>{0, nl});
-    // Per node, the whole column in log form with Eigen's vectorised exp/log (one pass per
-    // column), then the band of entries above the negligible level.
+    // Reference path (SpherePlateOptions::full_range_w): per node, the whole column in log form
+    // from the recurrences over all l, then the band of entries above the negligible level.
     Eigen::ArrayXd hte0(nl), htm0(nl);
     for (int i = 0; i < nl; ++i) {
       hte0[i] = log_a[i] + 0.5 * mie.log_abs_te[lmin + i];

@@ -17,9 +17,12 @@ struct SpherePlateOptions {
   PlanarPtr plate;      ///< planar body (ignored for scalar fields)
   MaterialPtr medium;   ///< medium between the bodies (vacuum if null)
   FieldKind field = FieldKind::kElectromagnetic;
-  double rel_tol = 1e-5;         ///< target relative error; sets l_max and quadrature unless fixed
-  int l_max = 0;                 ///< 0: automatic from rel_tol and R/L
-  int m_max = -1;                ///< -1: automatic (up to l_max, stopped by decay of the m terms)
+  double rel_tol = 1e-5;  ///< target relative error; sets l_max and quadrature unless fixed
+  int l_max = 0;          ///< 0: automatic from rel_tol and R/L
+  int m_max = -1;         ///< -1: automatic (up to l_max, stopped by decay of the m terms)
+  /// Testing only: at xi > 0 build each W column over all l = l_min..l_max (the reference path)
+  /// instead of over its band of non-negligible entries; same W up to rounding.
+  bool full_range_w = false;
   std::string validate() const;  ///< empty if valid, else a sentence naming the bad field
 };
 
