@@ -213,10 +213,11 @@ class SpherePlate final : public Geometry {
       const int m1 = std::min(mlimit + 1, m0 + kMBatch);
 #pragma omp parallel for schedule(dynamic, 1)
       for (int m = m0; m < m1; ++m) {
-        const LowRankBlock b = is_static         ? static_block(m, gap, lmax, nodes, st)
-                               : o_.full_range_w ? dynamic_block_full_range(m, lmax, nodes, mie)
-                                                 : dynamic_block(m, lmax, nodes, mie);
+        std::string mismatch;
+        const LowRankBlock b = is_static ? static_block(m, gap, lmax, nodes, st)
+                                         : build_dynamic(m, lmax, nodes, mie, mismatch);
         batch[m - m0] = logdet_one_minus(b, order);
+        if (!mismatch.empty()) batch[m - m0] = LogDetResult{{}, false, mismatch, 0};
       }
       for (int m = m0; m < m1; ++m) {
         const LogDetResult& r = batch[m - m0];
@@ -311,6 +312,42 @@ class SpherePlate final : public Geometry {
         nodes.c_te[j] = o_.field == FieldKind::kDirichlet ? -1.0 : 1.0;
       }
     }
+  }
+
+  /// W block m as SpherePlateOptions::w_build says; `mismatch` describes a failed cross-check.
+  LowRankBlock build_dynamic(int m, int lmax, const NodeSet& nodes, const MieLog& mie,
+                             std::string& mismatch) const {
+    if (o_.w_build == WBuild::kFullRange) return dynamic_block_full_range(m, lmax, nodes, mie);
+    LowRankBlock b = dynamic_block(m, lmax, nodes, mie);
+    if (o_.w_build == WBuild::kBandCheckedAgainstFullRange)
+      mismatch = compare_blocks(b, dynamic_block_full_range(m, lmax, nodes, mie), m);
+    return b;
+  }
+
+  /// Empty if a and r have the same recorded bands, the same zero entries and entries within
+  /// 1e-10 relative (both carry ~1e-12 from logs of size ~1e4), else what differs first.
+  static std::string compare_blocks(const LowRankBlock& a, const LowRankBlock& r, int m) {
+    constexpr double kEntryTol = 1e-10;
+    if (a.W.rows() != r.W.rows() || a.W.cols() != r.W.cols() || a.group_start != r.group_start)
+      return fmt::format("m = {}: block shapes differ", m);
+    const int groups = static_cast<int>(a.group_start.size()) - 1;
+    for (Eigen::Index c = 0; c < a.W.cols(); ++c)
+      for (int g = 0; g < groups; ++g) {
+        const std::size_t k = c * groups + g;
+        const bool ea = a.col_hi[k] <= a.col_lo[k], er = r.col_hi[k] <= r.col_lo[k];
+        if (ea != er || (!ea && (a.col_lo[k] != r.col_lo[k] || a.col_hi[k] != r.col_hi[k])))
+          return fmt::format("m = {}, column {}, group {}: band [{}, {}) but [{}, {}) over all l",
+                             m, c, g, a.col_lo[k], a.col_hi[k], r.col_lo[k], r.col_hi[k]);
+      }
+    for (Eigen::Index c = 0; c < a.W.cols(); ++c)
+      for (Eigen::Index i = 0; i < a.W.rows(); ++i) {
+        const double x = a.W(i, c), y = r.W(i, c);
+        if ((x == 0.0) != (y == 0.0) || !(std::abs(x - y) <= kEntryTol * std::abs(y)))
+          return fmt::format("m = {}, W({}, {}) = {:.17g} but {:.17g} over all l", m, i, c, x, y);
+      }
+    if (a.s != r.s || a.c != r.c || a.f1 != r.f1 || a.f2 != r.f2)
+      return fmt::format("m = {}: signs or node factors differ", m);
+    return {};
   }
 
   /// Row data of block m shared by both builders: signs S, and per row the log of the factor
@@ -553,7 +590,7 @@ class SpherePlate final : public Geometry {
       }
     }
     BandedWriter w(b, em ? std::vector<int>{0, nl, 2 * nl} : std::vector<int>{0, nl});
-    // Reference path (SpherePlateOptions::full_range_w): per node, the whole column in log form
+    // Reference path (WBuild::kFullRange): per node, the whole column in log form
     // from the recurrences over all l, then the band of entries above the negligible level.
     Eigen::ArrayXd hte0(nl), htm0(nl);
     for (int i = 0; i < nl; ++i) {

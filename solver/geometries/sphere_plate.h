@@ -11,6 +11,12 @@
 
 namespace roundtrip {
 
+/// kBand: each W column over its band of non-negligible rows (the default); kFullRange: over all
+/// l = l_min..l_max (the reference path, same W up to rounding); kBandCheckedAgainstFullRange:
+/// both, and a block whose recorded bands or zeros differ, or whose entries differ by more than
+/// 1e-10 relative, fails with a message (testing only).
+enum class WBuild { kBand, kFullRange, kBandCheckedAgainstFullRange };
+
 struct SpherePlateOptions {
   double radius = 0.0;  ///< R (m), > 0
   MaterialPtr sphere;   ///< sphere material (ignored for scalar fields)
@@ -20,9 +26,8 @@ struct SpherePlateOptions {
   double rel_tol = 1e-5;  ///< target relative error; sets l_max and quadrature unless fixed
   int l_max = 0;          ///< 0: automatic from rel_tol and R/L
   int m_max = -1;         ///< -1: automatic (up to l_max, stopped by decay of the m terms)
-  /// Testing only: at xi > 0 build each W column over all l = l_min..l_max (the reference path)
-  /// instead of over its band of non-negligible entries; same W up to rounding.
-  bool full_range_w = false;
+  /// Testing only: how the xi > 0 W matrices are built (sphere_plate.cc, dynamic_block).
+  WBuild w_build = WBuild::kBand;
   std::string validate() const;  ///< empty if valid, else a sentence naming the bad field
 };
 
