@@ -14,7 +14,7 @@ namespace roundtrip {
 /// kBand: each W column over its band of non-negligible rows (the default); kFullRange: over all
 /// l = l_min..l_max (the reference path, same W up to rounding); kBandCheckedAgainstFullRange:
 /// both, and a block whose recorded bands or zeros differ, or whose entries differ by more than
-/// 1e-10 relative, fails with a message (testing only).
+/// 1e-9 relative, fails with a message (testing only).
 enum class WBuild { kBand, kFullRange, kBandCheckedAgainstFullRange };
 
 struct SpherePlateOptions {
