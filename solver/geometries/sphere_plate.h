@@ -12,6 +12,12 @@
 
 namespace roundtrip {
 
+/// kBand: each W column over its band of non-negligible rows (the default); kFullRange: over all
+/// l = l_min..l_max (the reference path, same W up to rounding); kBandCheckedAgainstFullRange:
+/// both, and a block whose recorded bands or zeros differ, or whose entries differ by more than
+/// 1e-9 relative, fails with a message (testing only).
+enum class WBuild { kBand, kFullRange, kBandCheckedAgainstFullRange };
+
 struct SpherePlateOptions {
   double radius = 0.0;  ///< R (m), > 0
   MaterialPtr sphere;   ///< sphere material (ignored for scalar fields)
@@ -24,6 +30,8 @@ struct SpherePlateOptions {
   int nodes_per_unit = 0;  ///< momentum nodes per unit of sqrt(t); 0: automatic from rel_tol
   /// Factorisation of the node-space matrix (tests compare the banded and dense paths).
   NodeSpaceSolver node_solver = NodeSpaceSolver::kAuto;
+  /// Testing only: how the xi > 0 W matrices are built (sphere_plate.cc, dynamic_block).
+  WBuild w_build = WBuild::kBand;
   std::string validate() const;  ///< empty if valid, else a sentence naming the bad field
 };
 

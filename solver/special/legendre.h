@@ -22,4 +22,35 @@ void legendre_log_many(const Eigen::ArrayXd& x, int m, int lmax, Eigen::ArrayXXd
 /// log((2m-1)!!), with (-1)!! = 1.
 double log_double_factorial_odd(int m);
 
+/// log((l+m)!/l!) for l, m >= 0, to a few ulps of the result (Stirling series of the difference
+/// of log-gammas for l >= 32, a direct sum below; DLMF 5.11.1). Two lgamma calls lose ~ulp of
+/// lgamma(l+m+1) instead, ~1e-11 absolute at l ~ 1e4.
+double log_rising_factorial(int l, int m);
+
+/// log Pt_l^m(x) and log(Pt_{l+1}^m(x) / Pt_l^m(x)) for l > m >= 0, x > 1, without the recurrence
+/// from l = m: Laplace's first integral for x > 1 (Hobson, The Theory of Spherical and
+/// Ellipsoidal Harmonics (1931); DLMF §14.12), with s = sqrt(x^2 - 1),
+///   Pt_l^m(x) = (l+m)!/(2 pi l!) \int_{-pi}^{pi} (x + s cos phi)^l e^{i m phi} dphi,
+/// on the line phi = theta + i beta through the saddle point (l s sinh beta = m (x + s cosh beta)),
+/// where the integrand is largest at theta = 0 and not oscillating there, by the trapezoid rule
+/// (periodic entire integrand: exact for more than l + m + 1 points, spectrally accurate for
+/// fewer that resolve the peak). Measured against mpmath (tests/special/legendre_band_test.cc):
+/// log Pt within an ulp of the log for l - m >= 100, x - 1 >= 1e-7, l <= 8000. The ratio uses
+/// the line placed for l: within a few steps of l = m and x -> 1 it loses up to ~1e-11 (start
+/// there from l = m instead, as legendre_log_range_pair does).
+void legendre_log_start(double x, int m, int l, double& log_p, double& log_ratio);
+
+/// Leading saddle-point value of log Pt_l^m(x) (l >= m, x > 1) from the same integral: error
+/// O(1/l) in the log, capped so that it never exceeds the bound |integral| <= its peak. For
+/// locating where a product with Pt is negligible, not for values.
+double legendre_log_estimate(double x, int m, int l);
+
+/// log Pt_l^m(x) and log Pt_l^{m+1}(x) for l = l0 .. l0 + n - 1 into pm[0..n), pm1[0..n)
+/// (-inf where l < m resp. l < m + 1). Each starts at max(l0, m) (max(l0, m+1)) by
+/// legendre_log_start, or from l = m by the closed form if that is only a few steps below,
+/// then the recurrence (DLMF 14.10.3) on values rescaled by powers of two: the cost is O(n)
+/// whatever l0, and the rounding does not accumulate in a running sum of logs (near x = 1, where
+/// both solutions grow alike, each step's ~1e-16 is carried along: ~2e-13 after 200 steps).
+void legendre_log_range_pair(double x, int m, int l0, int n, double* pm, double* pm1);
+
 }  // namespace roundtrip::special
