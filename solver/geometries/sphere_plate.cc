@@ -94,7 +94,11 @@ void set_node_coefficients(const NodeSet& nodes, int j, bool em, LowRankBlock& b
 /// (solver/logdet/low_rank.h). Measured: ~20 % of the entries are non-zero at R/L = 200.
 class BandedWriter {
  public:
-  BandedWriter(LowRankBlock& b, std::vector<int> group_start) : b_(b) {
+  /// write_zeros = false: entries outside the recorded ranges are left unset
+  /// (LowRankBlock::zero_outside_ranges).
+  BandedWriter(LowRankBlock& b, std::vector<int> group_start, bool write_zeros = true)
+      : b_(b), write_zeros_(write_zeros) {
+    b_.zero_outside_ranges = write_zeros;
     groups_ = static_cast<int>(group_start.size()) - 1;
     b_.group_start = std::move(group_start);
     b_.col_lo.assign(b_.W.cols() * groups_, std::numeric_limits<int>::max());
@@ -108,8 +112,10 @@ class BandedWriter {
     while (first < n && !(logs[first] > kLogNegligible)) ++first;
     while (last > first && !(logs[last - 1] > kLogNegligible)) --last;
     auto dst = b_.W.col(col).segment(row0, n);
-    dst.head(first).setZero();
-    dst.tail(n - last).setZero();
+    if (write_zeros_) {
+      dst.head(first).setZero();
+      dst.tail(n - last).setZero();
+    }
     if (last > first) {
       // exp into an aligned temporary first: Eigen peels unaligned destinations element by
       // element (scalar std::exp), which would make the last bits depend on the buffer address.
@@ -124,6 +130,7 @@ class BandedWriter {
 
  private:
   LowRankBlock& b_;
+  bool write_zeros_ = true;
   Eigen::ArrayXd values_;
   int groups_ = 1;
 };
@@ -383,9 +390,10 @@ class SpherePlate final : public Geometry {
   LowRankBlock build_dynamic(int m, int lmax, const NodeSet& nodes, const MieLog& mie,
                              std::string& mismatch) const {
     if (o_.w_build == WBuild::kFullRange) return dynamic_block_full_range(m, lmax, nodes, mie);
-    LowRankBlock b = dynamic_block(m, lmax, nodes, mie);
-    if (o_.w_build == WBuild::kBandCheckedAgainstFullRange)
-      mismatch = compare_blocks(b, dynamic_block_full_range(m, lmax, nodes, mie), m);
+    // The checked build writes the zeros too, so that they can be compared.
+    const bool checked = o_.w_build == WBuild::kBandCheckedAgainstFullRange;
+    LowRankBlock b = dynamic_block(m, lmax, nodes, mie, checked);
+    if (checked) mismatch = compare_blocks(b, dynamic_block_full_range(m, lmax, nodes, mie), m);
     return b;
   }
 
@@ -454,7 +462,10 @@ class SpherePlate final : public Geometry {
   /// geometrically, a_l sqrt|T_l| falls ever faster once l > kappa R); the cross-check
   /// WBuild::kBandCheckedAgainstFullRange (tests/sphere_plate/banded_w_test.cc) finds the same
   /// recorded bands and zeros as dynamic_block_full_range, and entries within rounding.
-  LowRankBlock dynamic_block(int m, int lmax, const NodeSet& nodes, const MieLog& mie) const {
+  /// write_zeros = false leaves W unset outside the recorded bands (no n x q zero fill; the
+  /// node-space log det reads only the bands, low_rank.h).
+  LowRankBlock dynamic_block(int m, int lmax, const NodeSet& nodes, const MieLog& mie,
+                             bool write_zeros) const {
     const bool em = o_.field == FieldKind::kElectromagnetic;
     const int lmin = em ? std::max(1, m) : m;
     const int nl = lmax - lmin + 1;
@@ -464,7 +475,7 @@ class SpherePlate final : public Geometry {
     thread_local Eigen::ArrayXd hte, htm, hmax, pm, pm1, lt, lp, col;
     dynamic_rows(m, lmax, mie, b, hte, htm);
     hmax = em ? hte.max(htm).eval() : hte;
-    BandedWriter w(b, em ? std::vector<int>{0, nl, 2 * nl} : std::vector<int>{0, nl});
+    BandedWriter w(b, em ? std::vector<int>{0, nl, 2 * nl} : std::vector<int>{0, nl}, write_zeros);
     const double log_m = m > 0 ? std::log(double(m)) : 0.0;
     // Nodes by increasing x (the rule lists them panel by panel), so that each band is close
     // to the previous one.
@@ -558,8 +569,10 @@ class SpherePlate final : public Geometry {
       auto put = [&](int c, int group, const Eigen::ArrayXd& h0, const auto& f) {
         const int row0 = group == 0 ? 0 : nl;
         auto dst = b.W.col(c).segment(row0, nl);
-        dst.head(lo).setZero();
-        dst.tail(nl - hi).setZero();
+        if (write_zeros) {
+          dst.head(lo).setZero();
+          dst.tail(nl - hi).setZero();
+        }
         col.head(n) = h0.segment(lo, n) + hw + f;
         w.put_column(c, row0 + lo, group, col.head(n));
       };

@@ -40,8 +40,15 @@ void subtract_banded_gram(const LowRankBlock& b, const std::vector<int>& perm,
       if (r1 <= r0) continue;
       Eigen::MatrixXd& G = gathered[I * groups + g];
       G.resize(r1 - r0, ni);
-      for (int k = 0; k < ni; ++k)
-        G.col(k) = b.W.col(perm[i0 + k]).segment(r0, r1 - r0) * scale[i0 + k];
+      for (int k = 0; k < ni; ++k) {
+        // Only the column's own range is read (outside it W may be unset).
+        const int c = perm[i0 + k];
+        const int c0 = std::max(r0, b.col_lo[c * groups + g]);
+        const int c1 = std::min(r1, b.col_hi[c * groups + g]);
+        G.col(k).setZero();
+        if (c1 > c0)
+          G.col(k).segment(c0 - r0, c1 - c0) = b.W.col(c).segment(c0, c1 - c0) * scale[i0 + k];
+      }
     }
   }
   for (int I = 0; I < nb; ++I) {
@@ -327,6 +334,22 @@ LogDetResult logdet_node_space(const LowRankBlock& b, double sigma, DerivativeOr
   return logdet_node_matrix(std::move(A), f1, f2, order, solver);
 }
 
+// A copy of b whose W is zero outside the recorded ranges.
+LowRankBlock with_zeros_outside_ranges(const LowRankBlock& b) {
+  LowRankBlock z = b;
+  const int groups = static_cast<int>(b.group_start.size()) - 1;
+  for (Eigen::Index c = 0; c < b.W.cols(); ++c)
+    for (int g = 0; g < groups; ++g) {
+      const int g0 = b.group_start[g], g1 = b.group_start[g + 1];
+      const int lo = std::clamp(b.col_lo[c * groups + g], g0, g1);
+      const int hi = std::clamp(b.col_hi[c * groups + g], lo, g1);
+      z.W.col(c).segment(g0, lo - g0).setZero();
+      z.W.col(c).segment(hi, g1 - hi).setZero();
+    }
+  z.zero_outside_ranges = true;
+  return z;
+}
+
 }  // namespace
 
 LogDetResult logdet_one_minus(const LowRankBlock& b, DerivativeOrder order,
@@ -349,6 +372,9 @@ LogDetResult logdet_one_minus(const LowRankBlock& b, DerivativeOrder order,
   const Eigen::Index q = b.W.cols();
   bool positive = uniform;  // sigma c_i >= 0 for all i: M is positive semidefinite
   for (Eigen::Index i = 0; positive && i < q; ++i) positive = sigma * b.c[i] >= 0.0;
+  if (positive && q < n && b.group_start.size() >= 2)
+    return logdet_node_space(b, sigma, order, solver);
+  if (!b.zero_outside_ranges) return logdet_one_minus(with_zeros_outside_ranges(b), order, solver);
   if (positive && q < n) return logdet_node_space(b, sigma, order, solver);
 
   Eigen::MatrixXd A = Eigen::MatrixXd::Identity(n, n);

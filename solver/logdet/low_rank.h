@@ -31,6 +31,10 @@ struct LowRankBlock {
   /// is zero in that group: lo = col_lo[c * groups + g], hi = col_hi[...]. Empty: W is dense.
   std::vector<int> group_start;
   std::vector<int> col_lo, col_hi;
+  /// False: W's entries outside the recorded ranges are unset (never written, so a builder
+  /// saves writing n x q zeros); logdet_one_minus then reads only the ranges, or zeroes the
+  /// rest on a copy when it needs a path that reads all of W. Requires the ranges.
+  bool zero_outside_ranges = true;
   /// Size W (n x q), c, f1, f2 (q) and s (n); contents are left unset.
   void resize(Eigen::Index n, Eigen::Index q) {
     W.resize(n, q);
