@@ -106,31 +106,36 @@ int main(int argc, char** argv) {
   std::printf("%-26s %8s %6s %10s %6s %10s %10s\n", "case", "rel_tol", "old n", "old err", "new n",
               "new err", "new est");
   for (auto& c : cases) {
-    int count = 0;
-    const SpectralFunction counted = [&](double xi) {
-      ++count;
-      return c.s(xi);
-    };
-    Spectral ref = c.exact;
-    if (ref.value == 0.0) {
-      FrequencyRuleOptions o;
-      o.rel_tol = 1e-11;
-      const FrequencySum r = sum_over_frequencies(c.s, c.xi_scale, o);
-      ref = r.total;
-    }
-    for (double tol : tols) {
-      FrequencyRuleOptions o;
-      o.rel_tol = tol;
-      count = 0;
-      const FrequencySum a = zero_temperature_exp_sinh_rule(counted, c.xi_scale, o);
-      const int n_old = count;
-      count = 0;
-      const FrequencySum b = sum_over_frequencies(counted, c.xi_scale, o);
-      const int n_new = count;
-      std::printf("%-26s %8.0e %6d %10.2e %6d %10.2e %10.2e%s\n", c.name.c_str(), tol, n_old,
-                  worst_error(a.total, ref), n_new, worst_error(b.total, ref),
-                  b.abs_error / std::abs(b.total.value), b.converged ? "" : " (not converged)");
-      std::fflush(stdout);
+    for (bool energy_only : {false, true}) {
+      int count = 0;
+      const SpectralFunction counted = [&](double xi) {
+        ++count;
+        Spectral v = c.s(xi);
+        if (energy_only) v.d1 = v.d2 = 0.0;
+        return v;
+      };
+      Spectral ref = c.exact;
+      if (ref.value == 0.0) {
+        FrequencyRuleOptions o;
+        o.rel_tol = 1e-11;
+        ref = sum_over_frequencies(c.s, c.xi_scale, o).total;
+      }
+      if (energy_only) ref.d1 = ref.d2 = 0.0;
+      for (double tol : tols) {
+        FrequencyRuleOptions o;
+        o.rel_tol = tol;
+        count = 0;
+        const FrequencySum a = zero_temperature_exp_sinh_rule(counted, c.xi_scale, o);
+        const int n_old = count;
+        count = 0;
+        const FrequencySum b = sum_over_frequencies(counted, c.xi_scale, o);
+        const int n_new = count;
+        std::printf("%-26s %2s %8.0e %6d %10.2e %6d %10.2e %10.2e%s\n", c.name.c_str(),
+                    energy_only ? "E" : "EF", tol, n_old, worst_error(a.total, ref), n_new,
+                    worst_error(b.total, ref), b.abs_error / std::abs(b.total.value),
+                    b.converged ? "" : " (not converged)");
+        std::fflush(stdout);
+      }
     }
   }
 }

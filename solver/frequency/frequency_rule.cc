@@ -1,12 +1,19 @@
 // Frequency rules (formulas and signs in frequency_rule.h and geometry.h).
 //
 // T = 0: E = (hbar / 2 pi) \int_0^inf dxi s(xi). With u = xi / xi_scale we use the double-
-// exponential exp-sinh substitution u = exp((pi/2) sinh t) and the trapezoidal rule in t
-// (Takahasi & Mori, Publ. RIMS 9, 721 (1974)): nodes are nested (the step h halves at each level),
-// deterministic, and cope with the square-root-like structure that Drude TE terms give near
-// xi = 0. Convergence: the change between the last two levels, relative to \int |s|, is below
-// rel_tol for value and derivatives. That change is also the reported error; it is usually far
-// larger than the true error of the finer level (which roughly squares per halving).
+// exponential substitution u = exp(t - e^-t) (Takahasi & Mori, Publ. RIMS 9, 721 (1974); the
+// form for integrands decaying like e^-u, M. Mori, Publ. RIMS 41, 897 (2005), from memory) and
+// the trapezoidal rule in t: double-exponential decay at both ends for s bounded at 0 and
+// ~e^-u at infinity, so the log a-type endpoint terms of the plate spectra and the Drude TE
+// drop near xi = 0 cost nothing extra. Levels h = 1, 1/2, 1/4, ... are nested; the left end
+// u_L ~ rel_tol is chosen so that the gap [0, xi_L] (added assuming s flat there, checked) is
+// negligible, the right end by a march until the nodes are negligible. Convergence: the change
+// between the last two levels plus the truncation bounds, relative to \int |s|, is below
+// rel_tol for value and derivatives; that sum is the reported error (it overstates the error
+// of the finer level, by 10 to 1e4 times in tests/frequency). The exp-sinh rule used
+// before (u = exp((pi/2) sinh t), left end u = 2.4e-19, h from 1/2) is kept as
+// zero_temperature_exp_sinh_rule: on the same spectra it needs 2-4 times as many evaluations
+// (benchmarks/bench_t0_rule.cc).
 //
 // T > 0: E = k_B T \sum'_{n>=0} s(xi_n), xi_n = 2 pi n k_B T / hbar, n = 0 weighted 1/2 (Lifshitz;
 // e.g. Bordag, Mohideen, Mostepanenko, Phys. Rep. 353, 1 (2001)). The tail after the last term is
