@@ -270,12 +270,13 @@ bool flat(const Spectral& a, const Spectral& b, double frac) {
 
 FrequencySum zero_temperature(const SpectralFunction& f, double xi_scale,
                               const FrequencyRuleOptions& opts) {
-  // Left end: u_L = kLeftFraction rel_tol. The omitted [0, xi_L] adds ~ xi_L |s(xi_L)| when |s|
-  // is flat there (it is for every spectrum whose xi -> 0 limit is finite: |s| is near its
-  // maximum), i.e. ~ 0.02 rel_tol of \int |s| (>= ~0.9 |s(0)| xi_scale for the mirror models).
-  // Flatness is checked on the two leftmost nodes; if they differ by more than kPlateau (a
-  // structure near xi = 0, e.g. the Drude TE drop at xi ~ gamma c^2 / (omega_p L)^2), the left
-  // end moves left by h0 until they agree, at most to kTLeftMin (u = 3.5e-26).
+  // Left end: u_L = kLeftFraction rel_tol. The trapezoidal nodes left of it are added with
+  // s(xi_L) for s, which holds when |s| is flat there (it is for every spectrum with a finite
+  // xi -> 0 limit and no structure below u_L); the bound kPlateau xi_L |s| is then ~ 1e-3 rel_tol
+  // of \int |s| (>= ~0.9 |s(0)| xi_scale for the mirror models). Flatness is checked on the two
+  // leftmost nodes; if they differ by more than kPlateau (a structure near xi = 0, e.g. the
+  // Drude TE drop at xi ~ gamma c^2 / (omega_p L)^2), probes move the left end (below), at most
+  // to kTLeftMin (u = 3.5e-26).
   constexpr double kLeftFraction = 0.02;
   constexpr double kPlateau = 0.05;
   constexpr double kTLeftMin = -4.0;
@@ -368,8 +369,7 @@ FrequencySum zero_temperature(const SpectralFunction& f, double xi_scale,
       if (i + 1 == nodes.size() || nodes[i].probe || nodes[i].skip_right) continue;
       // The far tail is not refined: between two negligible nodes, and between a small node
       // (kSkipFraction rel_tol, past u = 1, with |w s| falling from its left neighbour) and a
-      // negligible one. With |w s| falling there, the interval holds at most |s_i| dxi/dt_i
-      // (t_{i+1} - t_i), which is added to the truncation bound.
+      // negligible one. The interval's bound (below) is added to the truncation bound.
       const Spectral ci = contrib(nodes[i]), next = contrib(nodes[i + 1]);
       bool skip = negligible(next, l1_coarse, tail_tol) && negligible(ci, l1_coarse, tail_tol);
       if (!skip && i >= 1 && nodes[i].xi > xi_scale && negligible(next, l1_coarse, tail_tol) &&
@@ -378,8 +378,13 @@ FrequencySum zero_temperature(const SpectralFunction& f, double xi_scale,
         skip = before.value >= ci.value && before.d1 >= ci.d1 && before.d2 >= ci.d2;
       }
       if (skip) {
+        // |w s| is monotone between the two (rising on the left, falling on the right): the
+        // larger end times the interval bounds what is left out.
         refined.back().skip_right = true;
-        truncation += abs(nodes[i].s) * (nodes[i].jac * (nodes[i + 1].t - nodes[i].t));
+        const double dt_over_h = (nodes[i + 1].t - nodes[i].t) / h;
+        truncation += Spectral{std::max(ci.value, next.value), std::max(ci.d1, next.d1),
+                               std::max(ci.d2, next.d2)} *
+                      dt_over_h;
         continue;
       }
       refined.push_back(make_exp_exp_node(0.5 * (nodes[i].t + nodes[i + 1].t), xi_scale, f));
