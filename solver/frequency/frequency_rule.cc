@@ -282,11 +282,11 @@ FrequencySum zero_temperature(const SpectralFunction& f, double xi_scale,
   constexpr double kTLeftMin = -4.0;
   // Right end: march at h0 until a node past u = 1 is negligible (|w s| <= kTailFraction
   // rel_tol of the running \int |s|, every component); beyond it the integrand falls double
-  // exponentially in t. kTRightMax (u = 400) is far beyond any exponential decay in u.
+  // exponentially in t. kTRightMax (u = 8100) leaves room for a decay scale 100 times xi_scale.
   constexpr double kTailFraction = 1e-3;
   // A falling tail node this small next to a negligible one is not refined towards it.
   constexpr double kSkipFraction = 1e-2;
-  constexpr double kTRightMax = 6.0;
+  constexpr double kTRightMax = 9.0;
   constexpr double kH0 = 1.0;
   // Accept the change between h = 1/2 and 1/4 at the earliest (h = 1 is too coarse to agree
   // by anything but accident).

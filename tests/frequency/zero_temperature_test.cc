@@ -250,3 +250,32 @@ TEST(ZeroTemperatureRule, DrudeSpherePlateAtRadiusFiftyGapsAgreesWithFewerEvalua
 
 }  // namespace
 }  // namespace roundtrip
+
+namespace roundtrip {
+namespace {
+
+TEST(ZeroTemperatureRule, DecayScaleOffByAHundredEitherWayStillConverges) {
+  // (hbar/2pi) \int_0^inf e^{-a xi} dxi = hbar / (2 pi a) (elementary), with xi_scale 100 times
+  // too small and too large. More evaluations are allowed; the accuracy is not relaxed.
+  for (double off : {100.0, 0.01}) {
+    const double a = 1.0 / (off * 1e15);
+    for (double tol : {1e-4, 1e-7}) {
+      FrequencyRuleOptions o;
+      o.rel_tol = tol;
+      const FrequencySum r = sum_over_frequencies(
+          [a](double xi) {
+            const double e = std::exp(-a * xi);
+            return Spectral{e, -2.0 * e, 3.0 * e};
+          },
+          1e15, o);
+      const double exact = kHbar / (2.0 * kPi * a);
+      ASSERT_TRUE(r.converged) << r.message << " off " << off << " tol " << tol;
+      expect_close(r.total, {exact, -2.0 * exact, 3.0 * exact}, tol,
+                   fmt::format("off {} rel_tol {}", off, tol));
+      EXPECT_GE(r.abs_error, std::abs(r.total.value - exact)) << off << " " << tol;
+    }
+  }
+}
+
+}  // namespace
+}  // namespace roundtrip
