@@ -87,4 +87,9 @@ FrequencySum sum_over_frequencies(const SpectralFunction& s, double xi_scale,
 FrequencySum sum_over_frequencies(const TolerantSpectralFunction& s, double xi_scale,
                                   const FrequencyRuleOptions& opts);
 
+/// The T = 0 rule used before the exp-exp rule (exp-sinh map, nested levels from h = 1/2, left
+/// end u = 2.4e-19): an independent path for tests and benchmarks (frequency_rule.cc).
+FrequencySum zero_temperature_exp_sinh_rule(const SpectralFunction& s, double xi_scale,
+                                            const FrequencyRuleOptions& opts);
+
 }  // namespace roundtrip
