@@ -119,6 +119,23 @@ class CompensatedSum {
   Spectral sum_, c_;
 };
 
+// Total, error and status of a T = 0 quadrature (both DE rules): `last_change` is the change of
+// the value between the last two levels (J), reported when the rule did not converge.
+void finish_zero_temperature(FrequencySum& out, const Spectral& total, double abs_error,
+                             double last_change, bool converged, double rel_tol,
+                             std::size_t nodes) {
+  out.total = total;
+  out.abs_error = abs_error;
+  out.converged = converged && all_finite(out.total);
+  if (!converged)
+    out.message = fmt::format(
+        "T = 0 frequency quadrature did not reach rel_tol = {} with {} nodes (last change {:.3g} "
+        "of the energy)",
+        rel_tol, nodes, std::abs(last_change / out.total.value));
+  else if (!all_finite(out.total))
+    out.message = "T = 0 frequency quadrature produced a non-finite value";
+}
+
 struct DeNode {
   double t = 0.0;
   double xi = 0.0;
@@ -225,16 +242,8 @@ FrequencySum zero_temperature_exp_sinh(const SpectralFunction& f, double xi_scal
     total.add(term.s * term.weight);
     out.terms.push_back(term);
   }
-  out.total = total.value();
-  out.abs_error = prefactor * error_estimate;
-  out.converged = converged && all_finite(out.total);
-  if (!converged)
-    out.message = fmt::format(
-        "T = 0 frequency quadrature did not reach rel_tol = {} with {} nodes (last change {:.3g} "
-        "of the energy)",
-        opts.rel_tol, nodes.size(), std::abs(prefactor * diff.value / out.total.value));
-  else if (!all_finite(out.total))
-    out.message = "T = 0 frequency quadrature produced a non-finite value";
+  finish_zero_temperature(out, total.value(), prefactor * error_estimate, prefactor * diff.value,
+                          converged, opts.rel_tol, nodes.size());
   return out;
 }
 
@@ -427,16 +436,8 @@ FrequencySum zero_temperature(const SpectralFunction& f, double xi_scale,
     total.add(term.s * term.weight);
     out.terms.push_back(term);
   }
-  out.total = total.value();
-  out.abs_error = prefactor * error_estimate;
-  out.converged = converged && all_finite(out.total);
-  if (!converged)
-    out.message = fmt::format(
-        "T = 0 frequency quadrature did not reach rel_tol = {} with {} nodes (last change {:.3g} "
-        "of the energy)",
-        opts.rel_tol, nodes.size(), std::abs(prefactor * diff.value / out.total.value));
-  else if (!all_finite(out.total))
-    out.message = "T = 0 frequency quadrature produced a non-finite value";
+  finish_zero_temperature(out, total.value(), prefactor * error_estimate, prefactor * diff.value,
+                          converged, opts.rel_tol, nodes.size());
   return out;
 }
 
