@@ -76,8 +76,10 @@ double plan_flops_per_frequency(const Geometry& g, double gap, DerivativeOrder o
   // timed 384 x 384 product; the small blocked products and transcendental functions run well
   // below the large-gemm rate.
   // The node-space matrix is banded (nodes couple to nodes within a fixed distance in sqrt(t);
+  // so the Gram pairs each column only with ~nb others over its band of rows;
   // measured half-width ~50-100, kNodeBand): banded Cholesky q nb^2, selected inversion for
-  // the force ~4 q nb^2, two block-bidiagonal solves 4 q^2 nb for the gradient.
+  // the force ~4 q nb^2, two block-bidiagonal solves 4 q^2 nb for the gradient. The columns
+  // (Legendre recurrences and exp) are computed over their bands only: ~50 flops per entry.
   constexpr double kNodeSpaceInefficiency = 6.0;
   constexpr double kNodeBand = 100.0;
   const double band = std::min(1.0, 8.0 / std::sqrt(double(lmax)));
@@ -86,7 +88,7 @@ double plan_flops_per_frequency(const Geometry& g, double gap, DerivativeOrder o
   for (int m = 0; m < blocks; ++m) {
     const double n = 2.0 * (lmax - std::max(1, m) + 1);
     if (q < n) {
-      double f = band * q * q * n + q * nb * nb + 30.0 * band * n * q + 20.0 * lmax * q;
+      double f = band * n * q * nb + q * nb * nb + 50.0 * band * n * q;
       if (order != DerivativeOrder::kEnergy) f += 4.0 * q * nb * nb;
       if (order == DerivativeOrder::kGradient) f += 4.0 * q * q * nb;
       flops += kNodeSpaceInefficiency * f;
