@@ -4,7 +4,9 @@
 #include "solver/plan.h"
 
 #include <gtest/gtest.h>
+#include <omp.h>
 
+#include <algorithm>
 #include <cmath>
 #include <string>
 
@@ -35,6 +37,15 @@ rel_tol = 1e-4
 )";
 
 TEST(Plan, TruncationsFrequenciesAndTimeAgreeWithTheRunWithinTheStatedFactor) {
+  // One thread for calibration, plan and run alike: with ctest -j2 another test's threads share
+  // the two cores, and oversubscribed OpenMP barriers would time the millisecond-long frequencies
+  // of this case erratically (up to 10x, seen in CI), which says nothing about the plan.
+  const int threads_before = omp_get_max_threads();
+  omp_set_num_threads(1);
+  struct Restore {
+    int n;
+    ~Restore() { omp_set_num_threads(n); }
+  } restore{threads_before};
   const CaseSpec spec = parse_case(kCase, "plan.toml");
   const auto g = build_geometry(spec);
   RunOptions opts;
@@ -46,7 +57,16 @@ TEST(Plan, TruncationsFrequenciesAndTimeAgreeWithTheRunWithinTheStatedFactor) {
   ASSERT_TRUE(std::isfinite(cal.seconds_ref) && cal.seconds_ref > 0.0);
   ASSERT_TRUE(std::isfinite(cal.alpha));
   const Plan plan = make_plan(*g, spec.gaps, opts, cal);
-  const RunResult run = run_sweep(*g, spec.gaps, opts);
+  // The run's wall time is the least of three runs (common practice for timings): a burst of
+  // load from the tests running beside this one (ctest -j2) then has to hit all three.
+  RunResult run = run_sweep(*g, spec.gaps, opts);
+  for (int rep = 0; rep < 2; ++rep) {
+    const RunResult again = run_sweep(*g, spec.gaps, opts);
+    ASSERT_EQ(again.points.size(), run.points.size());
+    for (std::size_t i = 0; i < run.points.size(); ++i)
+      run.points[i].wall_seconds =
+          std::min(run.points[i].wall_seconds, again.points[i].wall_seconds);
+  }
   ASSERT_EQ(plan.gaps.size(), run.points.size());
   double wall = 0.0;
   for (std::size_t i = 0; i < run.points.size(); ++i) {
