@@ -74,6 +74,23 @@ struct NodeSet {
   }
 };
 
+/// Logs of the continued Mie angular functions at one node x > 1 (log_s = log sqrt(x^2 - 1))
+/// over some rows, from log Pt^m (P) and log Pt^{m+1} (P1): t = m x Pt^m / s + Pt^{m+1},
+/// p = m Pt^m / s (both terms positive: log-sum-exp); m = 0: t = Pt^1, p = 0.
+template <class In0, class In1, class OutT, class OutP>
+void angular_logs(int m, double x, double log_s, const In0& P, const In1& P1, OutT&& lt,
+                  OutP&& lp) {
+  if (m == 0) {
+    lt = P1;
+    lp.setConstant(kNegInf);
+    return;
+  }
+  lp = std::log(double(m)) - log_s + P;
+  const Eigen::ArrayXd a = lp + std::log(x);
+  const Eigen::ArrayXd hi = a.max(P1), lo = a.min(P1);
+  lt = hi + (1.0 + (lo - hi).exp()).log();
+}
+
 /// Reflection factor and L-derivative factors of node j: column j (TE channel, or the scalar
 /// field) and, for EM, column N + j (TM channel).
 void set_node_coefficients(const NodeSet& nodes, int j, bool em, LowRankBlock& b) {
@@ -527,16 +544,7 @@ class SpherePlate final : public Geometry {
         auto P1 = pm1.head(n);
         auto LT = lt.head(n), LP = lp.head(n);
         if (em) {
-          if (m == 0) {
-            LT = P1;  // t = Pt^1, p = 0
-            LP.setConstant(kNegInf);
-          } else {
-            // t = m x Pt^m / s + Pt^{m+1}, p = m Pt^m / s (both terms positive: log-sum-exp)
-            LP = std::log(double(m)) - log_s + P;
-            const Eigen::ArrayXd a = LP + std::log(x);
-            const Eigen::ArrayXd h = a.max(P1), l = a.min(P1);
-            LT = h + (1.0 + (l - h).exp()).log();
-          }
+          angular_logs(m, x, log_s, P, P1, LT, LP);
         }
         // Are all columns negligible and falling outwards at both ends of the rows?
         bool ok_lo = true, ok_hi = true;
@@ -697,16 +705,7 @@ class SpherePlate final : public Geometry {
       }
       const Eigen::Map<const Eigen::ArrayXd> P1(&pm1(lmin, j), nl);
       const double log_s = 0.5 * std::log((x - 1.0) * (x + 1.0));
-      if (m == 0) {
-        lt = P1;  // t = Pt^1, p = 0
-        lp.setConstant(kNegInf);
-      } else {
-        // t = m x Pt^m / s + Pt^{m+1}, p = m Pt^m / s (both terms positive: log-sum-exp)
-        lp = std::log(double(m)) - log_s + P;
-        const Eigen::ArrayXd a = lp + std::log(x);
-        const Eigen::ArrayXd hi = a.max(P1), lo = a.min(P1);
-        lt = hi + (1.0 + (lo - hi).exp()).log();
-      }
+      angular_logs(m, x, log_s, P, P1, lt, lp);
       col = hte0 + hw + lt;
       w.put_column(j, 0, 0, col);  // u_j, TE rows
       col = htm0 + hw + lp;
