@@ -50,20 +50,21 @@ struct RuleRun {
   int evaluations = 0;
 };
 
-RuleRun new_rule(Counted& s, double xi_scale, double rel_tol) {
+// One rule (the T = 0 path of sum_over_frequencies, or the exp-sinh reference) on s, counting
+// its evaluations.
+using Rule = FrequencySum (*)(const SpectralFunction&, double, const FrequencyRuleOptions&);
+RuleRun run_rule(Rule rule, Counted& s, double xi_scale, double rel_tol) {
   FrequencyRuleOptions o;
   o.rel_tol = rel_tol;
-  RuleRun r{sum_over_frequencies(s.fn(), xi_scale, o), 0};
+  RuleRun r{rule(s.fn(), xi_scale, o), 0};
   r.evaluations = s.take();
   return r;
 }
-
+RuleRun new_rule(Counted& s, double xi_scale, double rel_tol) {
+  return run_rule(sum_over_frequencies, s, xi_scale, rel_tol);
+}
 RuleRun old_rule(Counted& s, double xi_scale, double rel_tol) {
-  FrequencyRuleOptions o;
-  o.rel_tol = rel_tol;
-  RuleRun r{zero_temperature_exp_sinh_rule(s.fn(), xi_scale, o), 0};
-  r.evaluations = s.take();
-  return r;
+  return run_rule(zero_temperature_exp_sinh_rule, s, xi_scale, rel_tol);
 }
 
 // Per component: |x - ref| <= tol |ref| (components of ref that vanish are skipped).
