@@ -6,26 +6,6 @@
 
 namespace roundtrip::geometry {
 
-std::string to_string(ConfigurationKind k) {
-  switch (k) {
-    case ConfigurationKind::kPlatePlate:
-      return "plate-plate";
-    case ConfigurationKind::kSpherePlate:
-      return "sphere-plate";
-  }
-  return "?";
-}
-
-std::optional<ConfigurationKind> configuration_kind_from_string(std::string_view s) {
-  for (auto k : {ConfigurationKind::kPlatePlate, ConfigurationKind::kSpherePlate})
-    if (to_string(k) == s) return k;
-  return std::nullopt;
-}
-
-std::vector<std::string> configuration_kind_names() {
-  return {to_string(ConfigurationKind::kPlatePlate), to_string(ConfigurationKind::kSpherePlate)};
-}
-
 namespace {
 std::string positive_length_problem(double v, const char* what, const char* zero_meaning) {
   if (!std::isfinite(v)) return fmt::format("a {} must be a finite length", what);
@@ -49,19 +29,42 @@ std::string thickness_problem(double thickness) {
   return positive_length_problem(thickness, "layer thickness", "leave the layer out instead");
 }
 
+std::string to_string(Shape s) {
+  switch (s) {
+    case Shape::kPlate:
+      return "plate";
+    case Shape::kSphere:
+      return "sphere";
+  }
+  return "?";
+}
+
+std::string Body::validate() const {
+  if (shape == Shape::kPlate) return {};
+  if (auto p = radius_problem(radius); !p.empty())
+    return fmt::format("{}.radius = {} m: {}", name, radius, p);
+  double total = 0.0;
+  for (std::size_t i = 0; i < shell_thicknesses.size(); ++i) {
+    const double t = shell_thicknesses[i];
+    if (auto p = thickness_problem(t); !p.empty())
+      return fmt::format("{}.shells[{}].thickness = {} m: {}", name, i, t, p);
+    total += t;
+  }
+  if (!shell_thicknesses.empty() && !(total < radius))
+    return fmt::format(
+        "{}.shells: the shells are {} m thick together, not less than the radius {} m (the core "
+        "needs a radius > 0)",
+        name, total, radius);
+  return {};
+}
+
 std::string Configuration::validate() const {
   if (gaps.empty()) return "gaps: at least one gap is needed";
   for (std::size_t i = 0; i < gaps.size(); ++i)
     if (auto p = gap_problem(gaps[i]); !p.empty())
       return fmt::format("gaps[{}] = {} m: {}", i, gaps[i], p);
-  const bool wants_sphere = kind == ConfigurationKind::kSpherePlate;
-  if (wants_sphere != sphere.has_value())
-    return fmt::format("sphere: {} for a {} configuration", wants_sphere ? "missing" : "not used",
-                       to_string(kind));
-  if (sphere)
-    if (auto p = radius_problem(sphere->radius); !p.empty())
-      return fmt::format("sphere.radius = {} m: {}", sphere->radius, p);
-  return {};
+  if (auto p = lower.validate(); !p.empty()) return p;
+  return upper.validate();
 }
 
 }  // namespace roundtrip::geometry

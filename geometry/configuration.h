@@ -1,7 +1,10 @@
 #pragma once
 // Body and configuration descriptions, and their validity checks, before any solver object
-// exists. Conventions: every length in metres; a gap L is the smallest surface-to-surface
-// distance (for a sphere above a plate, L = D - R with D the centre-to-plate distance).
+// exists. geometry/ knows shapes and sizes, never physics. Conventions: every length in metres;
+// the two bodies face each other across the gap plane: the lower body lies below z = 0 (a
+// plate's surface is z = 0, a sphere touches z = 0 from below), the upper body starts at z = L.
+// A gap L is the smallest surface-to-surface distance (sphere above a plate: L = D - R with D
+// the centre-to-plate distance; two spheres: L = d - R1 - R2 with d the centre distance).
 // Checks return an empty string when the value is valid, else a short sentence saying what is
 // wrong (callers add the field name, the value and the file position).
 #include <optional>
@@ -11,29 +14,32 @@
 
 namespace roundtrip::geometry {
 
-enum class ConfigurationKind { kPlatePlate, kSpherePlate };
-std::string to_string(ConfigurationKind k);
-/// "plate-plate" or "sphere-plate"; nullopt for anything else.
-std::optional<ConfigurationKind> configuration_kind_from_string(std::string_view s);
-/// All accepted spellings, for error messages and help texts.
-std::vector<std::string> configuration_kind_names();
-
 /// Gap L (m): finite and > 0 (L = 0 is contact, L < 0 overlap; neither has a finite energy).
 std::string gap_problem(double gap);
 /// Sphere radius R (m): finite and > 0.
 std::string radius_problem(double radius);
-/// Layer thickness (m): finite and > 0.
+/// Layer or shell thickness (m): finite and > 0.
 std::string thickness_problem(double thickness);
 
-struct SphereBody {
-  double radius = 0.0;  ///< R (m)
+/// The shapes a body can have. A plate is a half-space or a planar stack (its layers live in
+/// the solver's planar body); a sphere may carry concentric shells.
+enum class Shape { kPlate, kSphere };
+std::string to_string(Shape s);
+
+struct Body {
+  std::string name;  ///< the case-file table, e.g. "plate", "sphere2"; the preview's group name
+  Shape shape = Shape::kPlate;
+  double radius = 0.0;                    ///< spheres: outer radius (m)
+  std::vector<double> shell_thicknesses;  ///< spheres: shells, outermost first (m)
+  /// Empty if valid, else a sentence naming the bad field and value.
+  std::string validate() const;
 };
 
-/// A configuration of bodies at a list of gaps (materials live in the solver objects).
+/// Two bodies across a list of gaps (materials live in the solver objects).
 struct Configuration {
-  ConfigurationKind kind = ConfigurationKind::kPlatePlate;
-  std::optional<SphereBody> sphere;  ///< present exactly for sphere-plate
-  std::vector<double> gaps;          ///< m, each > 0
+  std::string kind;  ///< the geometry kind's name, e.g. "sphere-plate" (io/kinds)
+  Body lower, upper;
+  std::vector<double> gaps;  ///< m, each > 0
   /// Empty if valid, else a sentence naming the first bad field and value.
   std::string validate() const;
 };

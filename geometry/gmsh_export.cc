@@ -6,6 +6,7 @@
 #include <gmshc.h>
 #include <unistd.h>
 
+#include <algorithm>
 #include <cmath>
 #include <mutex>
 #include <stdexcept>
@@ -144,29 +145,40 @@ PreviewSummary export_gmsh(const Configuration& c, double gap, const std::filesy
     check(e, "occ::addBox");
     return t;
   };
-  if (c.kind == ConfigurationKind::kSpherePlate) {
-    const double R = c.sphere->radius * u;
-    const double W = 4.0 * R, T = R / 2.0;
-    const int sphere =
-        g.gmshModelOccAddSphere(0.0, 0.0, L + R, R, -1, -M_PI / 2, M_PI / 2, 2 * M_PI, &e);
+  // Sizes: plates are slabs W x W x T standing for half-spaces; W = 4 x the largest sphere
+  // radius (spheres present) or 20 L (plates only).
+  double rmax = 0.0;
+  for (const Body* b : {&c.lower, &c.upper})
+    if (b->shape == Shape::kSphere) rmax = std::max(rmax, b->radius * u);
+  const double W = rmax > 0.0 ? 4.0 * rmax : 20.0 * L, T = rmax > 0.0 ? rmax / 2.0 : W / 4.0;
+  fine = coarse = W / kElementsPerSize;
+  std::vector<std::string> parts;
+  // The lower body below z = 0, the upper one from z = L up.
+  const auto add = [&](const Body& b, bool lower) {
+    if (b.shape == Shape::kPlate) {
+      volumes.emplace_back(box(-W / 2, -W / 2, lower ? -T : L, W, W, T), b.name);
+      parts.push_back(fmt::format("{} {} x {} x {}", b.name, length_text(W / u), length_text(W / u),
+                                  length_text(T / u)));
+      return;
+    }
+    const double R = b.radius * u;
+    const double zc = lower ? -R : L + R;
+    const int tag = g.gmshModelOccAddSphere(0.0, 0.0, zc, R, -1, -M_PI / 2, M_PI / 2, 2 * M_PI, &e);
     check(e, "occ::addSphere");
-    volumes.emplace_back(sphere, "sphere");
-    volumes.emplace_back(box(-W / 2, -W / 2, -T, W, W, T), "plate");
-    fine = 2.0 * M_PI * R / (4.0 * kElementsPerSize);
-    coarse = W / kElementsPerSize;
-    summary.description =
-        fmt::format("sphere of radius {} centred {} above a plate of {} x {} x {} (gap {})",
-                    length_text(c.sphere->radius), length_text(gap + c.sphere->radius),
-                    length_text(W / u), length_text(W / u), length_text(T / u), length_text(gap));
-  } else {
-    const double W = 20.0 * L, T = W / 4.0;
-    volumes.emplace_back(box(-W / 2, -W / 2, -T, W, W, T), "plate");
-    volumes.emplace_back(box(-W / 2, -W / 2, L, W, W, T), "plate2");
-    fine = coarse = W / kElementsPerSize;
-    summary.description =
-        fmt::format("two plates of {} x {} x {} facing each other across a gap of {}",
-                    length_text(W / u), length_text(W / u), length_text(T / u), length_text(gap));
-  }
+    volumes.emplace_back(tag, b.name);
+    fine = std::min(fine, 2.0 * M_PI * R / (4.0 * kElementsPerSize));
+    parts.push_back(fmt::format(
+        "{} of radius {}{} centred at z = {}", b.name, length_text(b.radius),
+        b.shell_thicknesses.empty()
+            ? std::string()
+            : fmt::format(" ({} shell{}, outer surface drawn)", b.shell_thicknesses.size(),
+                          b.shell_thicknesses.size() == 1 ? "" : "s"),
+        length_text(zc / u)));
+  };
+  add(c.lower, true);
+  add(c.upper, false);
+  summary.description = fmt::format("{}: {} below, {} above, across a gap of {}", c.kind, parts[0],
+                                    parts[1], length_text(gap));
   g.gmshModelOccSynchronize(&e);
   check(e, "occ::synchronize");
   // Volume and surface groups per body: only elements in physical groups are saved, and a

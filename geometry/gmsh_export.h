@@ -5,10 +5,12 @@
 //
 // Layout (lengths in micrometres in the file: OpenCASCADE's fixed tolerance of 1e-7 model units
 // would swallow a 100 nm gap written in metres): the plate's surface facing the gap is z = 0 and
-// the plate fills z < 0 (a slab of finite thickness standing for a half-space or a stack);
-//   sphere-plate: sphere of radius R centred at (0, 0, L + R); plate W x W x R/2 with W = 4 R;
-//   plate-plate:  second plate from z = L up; both W x W x W/4 with W = 20 L.
-// Physical groups (volumes): "sphere" and "plate", or "plate" and "plate2".
+// the lower body lies below z = 0 and the upper one above z = L (geometry/configuration.h). A
+// plate is a slab W x W x T standing for a half-space or a stack; a sphere of radius R is
+// centred at z = -R (lower) or z = L + R (upper). With spheres W = 4 R_max and T = R_max / 2,
+// else W = 20 L and T = W / 4. Shells are listed in the description; the outer surface is drawn.
+// Physical groups: one volume and one surface ("<name> surface") per body, named by its
+// case-file table ("plate", "plate2", "sphere", "sphere2").
 #include <filesystem>
 #include <string>
 

@@ -14,14 +14,12 @@
 #include "io/errors.h"
 #include "io/material_spec.h"
 #include "io/units.h"
-#include "solver/geometries/plate_plate.h"
-#include "solver/geometries/sphere_plate.h"
 #include "solver/materials/library.h"
 
 namespace roundtrip::io {
 namespace {
 
-using geometry::ConfigurationKind;
+using geometry::Shape;
 
 constexpr int kMaxGaps = 100000;               // a typo guard: more gaps than any sweep needs
 constexpr double kMaxRelTol = 0.1;             // beyond 10 % the numbers are not worth printing
@@ -227,10 +225,50 @@ std::vector<std::string> field_names() { return {"electromagnetic", "dirichlet",
 
 geometry::Configuration CaseSpec::configuration() const {
   geometry::Configuration c;
-  c.kind = kind;
+  c.kind = kind ? kind->name : std::string();
   c.gaps = gaps;
-  if (kind == ConfigurationKind::kSpherePlate) c.sphere = geometry::SphereBody{sphere_radius};
+  if (bodies.size() == 2) {
+    c.lower = bodies[0].geometry();
+    c.upper = bodies[1].geometry();
+  }
   return c;
+}
+
+const BodySpec& CaseSpec::body(std::string_view table) const {
+  for (const auto& b : bodies)
+    if (b.table == table) return b;
+  throw std::out_of_range(fmt::format("no body [{}] in this case", table));
+}
+
+std::vector<std::pair<std::string, double>> CaseSpec::body_lengths() const {
+  std::vector<std::pair<std::string, double>> out;
+  for (const auto& b : bodies)
+    if (b.shape == Shape::kSphere) out.emplace_back(b.table + "_radius_m", b.radius);
+  return out;
+}
+
+geometry::Body BodySpec::geometry() const {
+  geometry::Body b;
+  b.name = table;
+  b.shape = shape;
+  b.radius = radius;
+  for (const auto& s : shells) b.shell_thicknesses.push_back(s.thickness);
+  return b;
+}
+
+std::string BodySpec::describe() const {
+  std::string d;
+  if (shape == Shape::kPlate) {
+    d = plate ? plate->describe() : std::string("none (scalar field)");
+  } else {
+    d = fmt::format("radius {:.6g} um", radius * 1e6);
+    if (material) d += ", " + material->name();
+    for (std::size_t i = 0; i < shells.size(); ++i)
+      d += fmt::format("{} {:.6g} nm {}", i == 0 ? "; shells (outermost first):" : ",",
+                       shells[i].thickness * 1e9, shells[i].material->name());
+  }
+  if (!defaulted_from.empty()) d += " (same as [" + defaulted_from + "])";
+  return d;
 }
 
 namespace {
@@ -247,12 +285,20 @@ toml::table parse_toml(const std::string& text, const std::string& name) {
 // Where a [scan] key lands in the case: (table, key) pairs.
 std::vector<std::pair<std::string, std::string>> scan_targets(const std::string& key,
                                                               const toml::table& root) {
-  if (key == "radius") return {{"sphere", "radius"}};
   if (key == "temperature") return {{"conditions", "temperature"}};
-  if (key == "material") {
-    std::vector<std::pair<std::string, std::string>> t{{"plate", "material"}};
-    if (root.contains("plate2")) t.emplace_back("plate2", "material");
-    if (root.contains("sphere")) t.emplace_back("sphere", "material");
+  if (key == "radius" || key == "material") {
+    // Every body of the case that has this key: the kind's tables present in the file, and its
+    // required ones (a defaulted table follows the one it defaults to).
+    std::vector<std::pair<std::string, std::string>> t;
+    const toml::node* g = root.get("geometry");
+    const GeometryKind* kind =
+        g && g->is_string() ? find_geometry_kind(g->as_string()->get()) : nullptr;
+    if (kind == nullptr) return {{"plate", "material"}};  // parse_root names the bad kind
+    for (const BodySlot* s : {&kind->lower, &kind->upper}) {
+      if (key == "radius" && s->shape != Shape::kSphere) continue;
+      if (!s->defaults_to.empty() && !root.contains(s->table)) continue;
+      t.emplace_back(s->table, key);
+    }
     return t;
   }
   const auto dot = key.find('.');
@@ -261,27 +307,45 @@ std::vector<std::pair<std::string, std::string>> scan_targets(const std::string&
 
 // The [scan] table: axes with their values checked one by one (field scan.KEY[i]).
 std::vector<ScanAxis> parse_scan_axes(const toml::table& root, const toml::table& scan,
-                                      ConfigurationKind kind) {
-  check_keys(scan, "scan", {"radius", "temperature", "material", "sphere", "plate", "plate2"});
-  for (const char* body : {"sphere", "plate", "plate2"})
+                                      const GeometryKind* kind) {
+  std::vector<std::string> top{"radius", "temperature", "material"};
+  for (const auto& t : body_table_names()) top.push_back(t);
+  check_keys(scan, "scan", top);
+  const auto kind_has = [&](const std::string& table) {
+    return kind && (kind->lower.table == table || kind->upper.table == table);
+  };
+  const auto kind_text = [&] {
+    return kind ? fmt::format("geometry = \"{}\" has [{}] and [{}]", kind->name, kind->lower.table,
+                              kind->upper.table)
+                : std::string("the case's geometry is not known");
+  };
+  for (const auto& body : body_table_names())
     if (const toml::node* n = scan.get(body)) {
       const auto* t = n->as_table();
+      const std::string field = fmt::format("scan.{}", body);
       if (t == nullptr)
-        throw error_at(*n, fmt::format("scan.{}", body),
-                       fmt::format("expected {}.material = [...] inside [scan]", body));
-      check_keys(*t, fmt::format("scan.{}", body), {"material"});
+        throw error_at(*n, field, fmt::format("expected {}.material = [...] inside [scan]", body));
+      if (!kind_has(body))
+        throw error_at(*n, field, fmt::format("no [{}] to scan ({})", body, kind_text()));
+      const bool sphere =
+          (kind->lower.table == body ? kind->lower : kind->upper).shape == Shape::kSphere;
+      check_keys(*t, field,
+                 sphere ? std::vector<std::string>{"material", "radius"}
+                        : std::vector<std::string>{"material"});
     }
+  bool any_sphere = false;
+  if (kind)
+    for (const BodySlot* s : {&kind->lower, &kind->upper})
+      any_sphere = any_sphere || s->shape == Shape::kSphere;
   std::vector<ScanAxis> axes;
   std::size_t points = 1;
-  for (const std::string& key : scan_keys()) {
+  for (const std::string& key : scan_keys(kind)) {
     const toml::node* n = scan.at_path(key).node();
     if (n == nullptr) continue;
     const std::string field = "scan." + key;
-    const bool sphere_key = key == "radius" || key == "sphere.material";
-    if (sphere_key && kind != ConfigurationKind::kSpherePlate)
-      throw error_at(*n, field, "only sphere-plate cases have a sphere to scan");
-    if (key == "plate2.material" && kind != ConfigurationKind::kPlatePlate)
-      throw error_at(*n, field, "only plate-plate cases have a [plate2]");
+    if (key == "radius" && !any_sphere)
+      throw error_at(*n, field, fmt::format("no sphere to scan ({})", kind_text()));
+    const bool radius_key = key == "radius" || key.ends_with(".radius");
     const auto* arr = n->as_array();
     if (arr == nullptr || arr->empty())
       throw error_at(*n, field, "expected a non-empty array of strings, e.g. [\"a\", \"b\"]");
@@ -291,7 +355,7 @@ std::vector<ScanAxis> parse_scan_axes(const toml::table& root, const toml::table
       const std::string fi = fmt::format("{}[{}]", field, i);
       const auto* str = e.as_string();
       if (str == nullptr) throw error_at(e, fi, "expected a string in double quotes");
-      if (key == "radius") {
+      if (radius_key) {
         positive_length(e, fi, geometry::radius_problem);
       } else if (key == "temperature") {
         if (parse_quantity(e, Dimension::kTemperature, fi) < 0.0)
@@ -327,10 +391,9 @@ CaseSpec parse_with_choice(const std::string& text, const std::filesystem::path&
     const auto* scan = sn->as_table();
     if (scan == nullptr) throw error_at(*sn, "scan", "expected a table, e.g. [scan]");
     const toml::node* g = root.get("geometry");
-    const auto kind = g && g->is_string()
-                          ? geometry::configuration_kind_from_string(g->as_string()->get())
-                          : std::nullopt;
-    spec.scan = parse_scan_axes(root, *scan, kind.value_or(ConfigurationKind::kPlatePlate));
+    const GeometryKind* kind =
+        g && g->is_string() ? find_geometry_kind(g->as_string()->get()) : nullptr;
+    spec.scan = parse_scan_axes(root, *scan, kind);
     // Move the chosen values into the case (moved nodes keep their line for messages).
     toml::table scan_copy = std::move(*root.get("scan")->as_table());
     root.erase("scan");
@@ -360,9 +423,27 @@ CaseSpec parse_with_choice(const std::string& text, const std::filesystem::path&
 
 }  // namespace
 
-std::vector<std::string> scan_keys() {
-  return {"radius",          "temperature",    "material",
-          "sphere.material", "plate.material", "plate2.material"};
+std::vector<std::string> scan_keys(const GeometryKind* kind) {
+  std::vector<std::string> keys{"radius", "temperature", "material"};
+  // Body keys: spheres before plates, tables in name order ("sphere" < "sphere2").
+  std::vector<BodySlot> slots;
+  if (kind) {
+    slots = {kind->lower, kind->upper};
+  } else {
+    for (const auto& k : geometry_kinds())
+      for (const BodySlot* s : {&k.lower, &k.upper})
+        if (std::none_of(slots.begin(), slots.end(),
+                         [&](const BodySlot& x) { return x.table == s->table; }))
+          slots.push_back(*s);
+  }
+  std::sort(slots.begin(), slots.end(), [](const BodySlot& a, const BodySlot& b) {
+    const bool sa = a.shape == Shape::kSphere, sb = b.shape == Shape::kSphere;
+    return sa != sb ? sa : a.table < b.table;
+  });
+  for (const auto& s : slots)
+    if (s.shape == Shape::kSphere) keys.push_back(s.table + ".radius");
+  for (const auto& s : slots) keys.push_back(s.table + ".material");
+  return keys;
 }
 
 CaseSpec parse_case(std::string text, const std::filesystem::path& path) {
@@ -401,26 +482,27 @@ namespace {
 CaseSpec parse_root(toml::table& root, CaseSpec spec) {
   const std::filesystem::path path = spec.path;
   const std::string name = path.string();
-  check_keys(root, "",
-             {"title", "geometry", "field", "plate", "plate2", "sphere", "medium", "separations",
-              "conditions", "compute", "numerics", "output", "materials", "scan"});
+  std::vector<std::string> top{"title",       "geometry",   "field",   "medium",
+                               "separations", "conditions", "compute", "numerics",
+                               "output",      "materials",  "scan"};
+  for (const auto& t : body_table_names()) top.push_back(t);
+  check_keys(root, "", top);
 
   spec.title = optional_string(root, "title", "title").value_or("");
-  const std::string kind =
+  const std::string kind_name =
       required_string(root, "geometry", "geometry", "geometry = \"plate-plate\"");
-  const auto k = geometry::configuration_kind_from_string(kind);
-  if (!k)
-    throw error_at(
-        *root.get("geometry"), "geometry",
-        "unknown geometry (use " + quoted_list(geometry::configuration_kind_names()) + ")");
-  spec.kind = *k;
-  const bool sphere_plate = spec.kind == ConfigurationKind::kSpherePlate;
+  spec.kind = find_geometry_kind(kind_name);
+  if (spec.kind == nullptr)
+    throw error_at(*root.get("geometry"), "geometry",
+                   "unknown geometry (use " + quoted_list(geometry_kind_names()) + ")");
+  const GeometryKind& kind = *spec.kind;
 
   if (const auto f = optional_string(root, "field", "field")) {
-    if (!sphere_plate)
+    if (!kind.scalar_fields)
       throw error_at(*root.get("field"), "field",
-                     "only sphere-plate cases choose a field (plate-plate is "
-                     "electromagnetic)");
+                     fmt::format("geometry = \"{}\" has no scalar test fields (it is "
+                                 "electromagnetic only)",
+                                 kind.name));
     const auto names = field_names();
     if (std::find(names.begin(), names.end(), *f) == names.end())
       throw error_at(*root.get("field"), "field", "unknown field (use " + quoted_list(names) + ")");
@@ -447,41 +529,95 @@ CaseSpec parse_root(toml::table& root, CaseSpec spec) {
   };
   MaterialList used;
 
-  // Bodies.
-  const auto plate_from = [&](const toml::table& t, const std::string& field) {
-    PlanarPtr p = planar_from_toml(t, field, resolver);
+  // Bodies: the kind's two tables, each read by the reader of its shape.
+  for (const auto& table : body_table_names())
+    if (table != kind.lower.table && table != kind.upper.table && root.contains(table))
+      throw error_at(*root.get(table), table,
+                     fmt::format("[{}] is not used by geometry = \"{}\" (its bodies are [{}] "
+                                 "and [{}])",
+                                 table, kind.name, kind.lower.table, kind.upper.table));
+  const auto read_plate = [&](const toml::table& t, BodySpec& b) {
+    b.plate = planar_from_toml(t, b.table, resolver);
     std::vector<std::string> names;
     collect_material_names(t, names);
-    for (const auto& n : names) used.add(resolver.get(n, field + ".material"));
-    return p;
+    for (const auto& n : names) used.add(resolver.get(n, b.table + ".material"));
   };
-  const toml::table* plate = optional_table(root, "plate", "plate");
-  if (plate == nullptr && electromagnetic)
-    throw root_error(root, "plate", "missing table [plate] (e.g. material = \"gold-drude\")");
-  if (plate != nullptr) spec.plate = plate_from(*plate, "plate");
-  if (const toml::table* p2 = optional_table(root, "plate2", "plate2")) {
-    if (sphere_plate)
-      throw error_at(*root.get("plate2"), "plate2", "[plate2] is only for plate-plate cases");
-    spec.plate2 = plate_from(*p2, "plate2");
-  } else {
-    spec.plate2 = spec.plate;
-  }
-  if (const toml::table* s = optional_table(root, "sphere", "sphere")) {
-    if (!sphere_plate)
-      throw error_at(*root.get("sphere"), "sphere", "[sphere] is only for sphere-plate cases");
-    check_keys(*s, "sphere", {"radius", "material"});
-    if (!s->contains("radius"))
-      throw table_error(*s, "sphere.radius", "missing required key (e.g. radius = \"50 um\")");
-    spec.sphere_radius =
-        positive_length(*s->get("radius"), "sphere.radius", geometry::radius_problem);
-    if (s->contains("material")) {
-      spec.sphere_material = material_at(*s, "material", "sphere.material");
-      used.add(spec.sphere_material);
+  const auto read_sphere = [&](const toml::table& s, BodySpec& b) {
+    const std::string& tb = b.table;
+    check_keys(s, tb, {"radius", "material", "shells"});
+    if (!s.contains("radius"))
+      throw table_error(s, tb + ".radius", "missing required key (e.g. radius = \"50 um\")");
+    b.radius = positive_length(*s.get("radius"), tb + ".radius", geometry::radius_problem);
+    if (s.contains("material")) {
+      b.material = material_at(s, "material", tb + ".material");
+      used.add(b.material);
     } else if (electromagnetic) {
-      throw table_error(*s, "sphere.material", "missing required key (e.g. \"gold-drude\")");
+      throw table_error(s, tb + ".material", "missing required key (e.g. \"gold-drude\")");
     }
-  } else if (sphere_plate) {
-    throw root_error(root, "sphere", "missing table [sphere] (radius and material)");
+    if (const toml::node* sh = s.get("shells")) {
+      const std::string field = tb + ".shells";
+      const auto* arr = sh->as_array();
+      if (arr == nullptr)
+        throw error_at(*sh, field,
+                       "expected an array of tables, e.g. [{ material = \"gold-drude\", "
+                       "thickness = \"50 nm\" }] (outermost first)");
+      if (!electromagnetic) throw error_at(*sh, field, "scalar test fields take no shells");
+      double total = 0.0;
+      for (std::size_t i = 0; i < arr->size(); ++i) {
+        const toml::node& e = (*arr)[i];
+        const std::string fi = fmt::format("{}[{}]", field, i);
+        const auto* t = e.as_table();
+        if (t == nullptr)
+          throw error_at(e, fi, "expected { material = \"...\", thickness = \"...\" }");
+        check_keys(*t, fi, {"material", "thickness"});
+        if (!t->contains("material"))
+          throw table_error(*t, fi + ".material", "missing required key");
+        if (!t->contains("thickness"))
+          throw table_error(*t, fi + ".thickness", "missing required key (e.g. \"50 nm\")");
+        ShellSpec shell;
+        shell.material = material_at(*t, "material", fi + ".material");
+        used.add(shell.material);
+        shell.thickness =
+            positive_length(*t->get("thickness"), fi + ".thickness", geometry::thickness_problem);
+        total += shell.thickness;
+        if (!(total < b.radius))
+          throw error_at(*t->get("thickness"), fi + ".thickness",
+                         fmt::format("the shells are {:.6g} nm thick up to here, not less than "
+                                     "the radius {:.6g} nm (the core needs a radius > 0)",
+                                     total * 1e9, b.radius * 1e9));
+        b.shells.push_back(std::move(shell));
+      }
+    }
+  };
+  for (const BodySlot* slot : {&kind.lower, &kind.upper}) {
+    BodySpec b;
+    b.table = slot->table;
+    b.shape = slot->shape;
+    const toml::table* t = optional_table(root, slot->table, slot->table);
+    if (t == nullptr && !slot->defaults_to.empty()) {
+      for (const auto& other : spec.bodies)
+        if (other.table == slot->defaults_to) b = other;
+      b.table = slot->table;
+      b.defaulted_from = slot->defaults_to;
+      spec.bodies.push_back(std::move(b));
+      continue;
+    }
+    if (slot->shape == Shape::kPlate) {
+      if (t == nullptr) {
+        if (electromagnetic)
+          throw root_error(
+              root, slot->table,
+              fmt::format("missing table [{}] (e.g. material = \"gold-drude\")", slot->table));
+      } else {
+        read_plate(*t, b);
+      }
+    } else {
+      if (t == nullptr)
+        throw root_error(root, slot->table,
+                         fmt::format("missing table [{}] (radius and material)", slot->table));
+      read_sphere(*t, b);
+    }
+    spec.bodies.push_back(std::move(b));
   }
   if (const toml::table* m = optional_table(root, "medium", "medium")) {
     check_keys(*m, "medium", {"material"});
@@ -516,9 +652,9 @@ CaseSpec parse_root(toml::table& root, CaseSpec spec) {
   if (const toml::table* c = optional_table(root, "compute", "compute"))
     spec.quantities = parse_quantities(*c);
   if (const toml::table* n = optional_table(root, "numerics", "numerics")) {
-    check_keys(*n, "numerics",
-               sphere_plate ? std::vector<std::string>{"rel_tol", "l_max", "frequency_rule"}
-                            : std::vector<std::string>{"rel_tol", "frequency_rule"});
+    std::vector<std::string> numerics{"rel_tol", "frequency_rule"};
+    numerics.insert(numerics.end(), kind.numerics_keys.begin(), kind.numerics_keys.end());
+    check_keys(*n, "numerics", numerics);
     if (const toml::node* r = n->get("rel_tol")) {
       const double tol = parse_quantity(*r, Dimension::kDimensionless, "numerics.rel_tol");
       if (!(tol > 0.0 && tol < kMaxRelTol))
@@ -616,24 +752,8 @@ std::vector<std::pair<std::string, std::string>> case_key_fields(const CaseSpec&
 }
 
 std::shared_ptr<Geometry> build_geometry(const CaseSpec& spec) {
-  switch (spec.kind) {
-    case ConfigurationKind::kPlatePlate:
-      return make_plate_plate(spec.plate, spec.plate2, spec.medium);
-    case ConfigurationKind::kSpherePlate: {
-      SpherePlateOptions o;
-      o.radius = spec.sphere_radius;
-      o.sphere = spec.sphere_material;
-      o.plate = spec.plate;
-      o.medium = spec.medium;
-      o.field = field_kind_from_string(spec.field);
-      o.rel_tol = spec.frequency.rel_tol;
-      o.l_max = spec.l_max;
-      if (const std::string p = o.validate(); !p.empty())
-        throw CaseError(fmt::format("{}: sphere-plate: {}", spec.path.string(), p));
-      return make_sphere_plate(o);
-    }
-  }
-  throw CaseError("unknown geometry kind");
+  if (spec.kind == nullptr) throw CaseError(spec.path.string() + ": geometry: not parsed");
+  return spec.kind->build(spec);
 }
 
 }  // namespace roundtrip::io

@@ -9,6 +9,7 @@
 #include <vector>
 
 #include "geometry/configuration.h"
+#include "io/kinds/kind.h"
 #include "solver/frequency/frequency_rule.h"
 #include "solver/geometries/geometry.h"
 #include "solver/materials/material.h"
@@ -19,25 +20,44 @@ namespace roundtrip::io {
 
 /// One axis of a [scan]: a case key and the values it takes, as written in the case file.
 struct ScanAxis {
-  std::string key;                  ///< "radius", "temperature", "material", "sphere.material", ...
+  std::string key;  ///< "radius", "temperature", "material", "<body>.material", "<body>.radius"
   std::vector<std::string> values;  ///< e.g. "10 um", "gold-plasma"
+};
+
+/// A shell of a sphere: material and thickness (m).
+struct ShellSpec {
+  MaterialPtr material;
+  double thickness = 0.0;
+};
+
+/// One body as read from its table: a plate (planar body) or a sphere (radius, material,
+/// shells). Which tables a case has and their shapes come from its kind (io/kinds/kind.h).
+struct BodySpec {
+  std::string table;  ///< "plate", "sphere2", ...
+  geometry::Shape shape = geometry::Shape::kPlate;
+  std::string defaulted_from;     ///< non-empty: the table was absent and this one was used
+  PlanarPtr plate;                ///< plates; null for scalar fields without a plate table
+  double radius = 0.0;            ///< spheres: outer radius (m)
+  MaterialPtr material;           ///< spheres: core material (null for scalar fields)
+  std::vector<ShellSpec> shells;  ///< spheres: outermost first
+  /// The body's shape and sizes for geometry/ (validation, preview).
+  geometry::Body geometry() const;
+  /// One line for `check`: "radius 10 um, gold-drude" or the plate's description.
+  std::string describe() const;
 };
 
 struct CaseSpec {
   std::filesystem::path path;  ///< the case file as given
   std::string text;            ///< its contents, verbatim
   std::string title;
-  geometry::ConfigurationKind kind = geometry::ConfigurationKind::kPlatePlate;
-  std::string field = "electromagnetic";  ///< sphere-plate: electromagnetic | dirichlet | neumann
-  PlanarPtr plate;                        ///< [plate] (null for scalar fields without [plate])
-  PlanarPtr plate2;                       ///< [plate2], or the same object as plate
-  double sphere_radius = 0.0;             ///< m (sphere-plate)
-  MaterialPtr sphere_material;            ///< sphere-plate, electromagnetic field
+  const GeometryKind* kind = nullptr;     ///< from the registry; never null after parsing
+  std::string field = "electromagnetic";  ///< kinds with scalar_fields: or dirichlet | neumann
+  std::vector<BodySpec> bodies;           ///< the kind's lower and upper body, in that order
   MaterialPtr medium;                     ///< never null (vacuum by default)
   std::vector<double> gaps;               ///< m, each > 0, in the order given
   FrequencyRuleOptions frequency;         ///< temperature_K and rel_tol
   Quantities quantities;
-  int l_max = 0;             ///< sphere-plate: 0 = automatic
+  int l_max = 0;             ///< kinds with spheres: multipole cut-off, 0 = automatic
   std::string output_file;   ///< [output] file, empty if not given
   std::string output_where;  ///< "file:line" of output.file, for messages
   /// Every material the case uses (plates, layers, sphere, medium), in order of first mention.
@@ -46,6 +66,10 @@ struct CaseSpec {
   std::vector<ScanAxis> scan;
 
   geometry::Configuration configuration() const;
+  /// The body read from `table` (one of the kind's two); throws std::out_of_range otherwise.
+  const BodySpec& body(std::string_view table) const;
+  /// Body lengths for the HDF5 file: "<table>_radius_m" of each sphere.
+  std::vector<std::pair<std::string, double>> body_lengths() const;
 };
 
 /// One point of a scan: its parameters (scan key, value as written) and the complete case.
@@ -58,15 +82,17 @@ struct ScanPoint {
 /// scan_keys() with the last axis varying fastest; without [scan], the case itself (no
 /// parameters).
 std::vector<ScanPoint> scan_points(const CaseSpec& spec);
-/// The keys [scan] accepts, in the order scan points vary (slowest first).
-std::vector<std::string> scan_keys();
+/// The keys [scan] accepts for `kind` (null: any kind), in the order scan points vary (slowest
+/// first).
+std::vector<std::string> scan_keys(const GeometryKind* kind = nullptr);
 
 /// Parse and validate case text; `path` is used in messages and anchors relative table paths.
 CaseSpec parse_case(std::string text, const std::filesystem::path& path);
 /// Read and parse a case file (a missing or unreadable file is a CaseError).
 CaseSpec load_case(const std::filesystem::path& path);
 
-/// The solver Geometry of a case. Throws CaseError for geometries not built in this version.
+/// The solver Geometry of a case (its kind's build). Throws CaseError for what the kind cannot
+/// compute.
 std::shared_ptr<Geometry> build_geometry(const CaseSpec& spec);
 
 /// The case content that fixes the numbers, as (dotted key, value as written) pairs in a

@@ -1,14 +1,15 @@
 #pragma once
 // User-input errors: always-on checks at the boundary (case files, CLI, tables). The message names
 // the field, the offending value and, where known, the file and line.
-#include <stdexcept>
 #include <string>
+
+#include "solver/input_error.h"
 
 namespace roundtrip::io {
 
-class CaseError : public std::runtime_error {
+class CaseError : public InputError {
  public:
-  using std::runtime_error::runtime_error;
+  using InputError::InputError;
 };
 
 }  // namespace roundtrip::io

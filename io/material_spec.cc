@@ -209,8 +209,8 @@ MaterialPtr build_user(const std::string& name, const toml::table& t, const std:
       throw error_at(fnode, fld("file"), fmt::format("no such file: {}", file.string()));
     OpticalData data;
     try {
-      data = read_optical_csv(file);  // CaseError with the table's file:line
-    } catch (const CaseError& e) {
+      data = read_optical_csv(file);  // InputError with the table's file:line
+    } catch (const InputError& e) {
       throw error_at(fnode, fld("file"), e.what());
     }
     try {

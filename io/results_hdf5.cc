@@ -109,15 +109,16 @@ void write_theta(H5::Group& res, const RunResult& r) {
 
 // One run (all gaps) into `file` (no scan) or into /scan/<k>.
 void write_run(H5::Group& file, const RunResult& r, const ResultsInfo& info) {
-  const QuantityUnits u = quantity_units(r.per_area);
+  const ScaleUnits u = scale_units(r.scale);
   const Quantities& q = info.quantities;
 
   attr(file, "threads", r.threads);
   attr(file, "wall_time_s", r.wall_seconds);
   attr(file, "geometry", r.kind);
   attr(file, "description", r.description);
-  attr(file, "per_area", r.per_area ? 1 : 0);
-  if (info.sphere_radius_m > 0.0) attr(file, "sphere_radius_m", info.sphere_radius_m);
+  attr(file, "result_scale", to_string(r.scale));
+  attr(file, "per_area", r.scale == ResultScale::kPerArea ? 1 : 0);  // kept for older readers
+  for (const auto& [name, metres] : info.body_lengths) attr(file, name, metres);
   attr(file, "temperature_K", info.temperature_K);
   attr(file, "rel_tol", info.rel_tol);
   attr(file, "frequency_rule", info.frequency_rule);
@@ -201,7 +202,7 @@ void write_run(H5::Group& file, const RunResult& r, const ResultsInfo& info) {
 
   // Per-gap frequency contributions: E = sum_j weight_j s(xi_j) (see geometry.h).
   const bool zero_t = info.temperature_K == 0.0;
-  const std::string s_units = r.per_area ? "1/m^2" : "1";
+  const std::string s_units = u.spectral;
   H5::Group freq = file.createGroup("frequencies");
   for (std::size_t i = 0; i < r.points.size(); ++i) {
     const PointResult& p = r.points[i];
@@ -232,10 +233,9 @@ void write_run(H5::Group& file, const RunResult& r, const ResultsInfo& info) {
                    "relative accuracy s was computed to (looser for terms with a small share)");
     vector_dataset(g, "s", col([](auto& x) { return x.s.value; }), s_units,
                    "sum over blocks of log det(1 - M)");
-    vector_dataset(g, "ds_dL", col([](auto& x) { return x.s.d1; }), r.per_area ? "1/m^3" : "1/m",
+    vector_dataset(g, "ds_dL", col([](auto& x) { return x.s.d1; }), u.spectral_d1,
                    "first derivative of s with respect to the gap");
-    vector_dataset(g, "d2s_dL2", col([](auto& x) { return x.s.d2; }),
-                   r.per_area ? "1/m^4" : "1/m^2",
+    vector_dataset(g, "d2s_dL2", col([](auto& x) { return x.s.d2; }), u.spectral_d2,
                    "second derivative of s with respect to the gap");
   }
 }
@@ -258,11 +258,6 @@ void remove_stale_temporaries(const std::filesystem::path& final_path) {
 }
 
 }  // namespace
-
-QuantityUnits quantity_units(bool per_area) {
-  if (per_area) return {"J/m^2", "Pa", "Pa/m"};
-  return {"J", "N", "N/m"};
-}
 
 std::string iso8601_utc_now() {
   const std::time_t now = std::chrono::system_clock::to_time_t(std::chrono::system_clock::now());

@@ -27,11 +27,13 @@ struct ResultsInfo {
   std::string case_text;       ///< the case file verbatim
   double temperature_K = 0.0;  ///< K
   double rel_tol = 0.0;
-  std::string frequency_rule;    ///< e.g. "matsubara"
-  Quantities quantities;         ///< which of energy / force / gradient were computed
-  bool complete = true;          ///< false: interrupted, only the finished gaps are in the file
-  int gaps_planned = 0;          ///< gaps the case asks for (>= the gaps in the file)
-  double sphere_radius_m = 0.0;  ///< sphere-plate: R (for L/R), else 0
+  std::string frequency_rule;  ///< e.g. "matsubara"
+  Quantities quantities;       ///< which of energy / force / gradient were computed
+  bool complete = true;        ///< false: interrupted, only the finished gaps are in the file
+  int gaps_planned = 0;        ///< gaps the case asks for (>= the gaps in the file)
+  /// Body lengths as file attributes, named with their unit, e.g. {"sphere_radius_m", R}
+  /// (the geometry kind says which; solver/ and io/kinds).
+  std::vector<std::pair<std::string, double>> body_lengths;
 };
 
 /// One point of a [scan] with its parameters (scan key, value as written).
@@ -40,12 +42,6 @@ struct ScanRunResult {
   ResultsInfo info;
   std::vector<std::pair<std::string, std::string>> parameters;
 };
-
-/// SI units of energy, force and gradient: J, N, N/m (compact bodies) or J/m^2, Pa, Pa/m.
-struct QuantityUnits {
-  std::string energy, force, gradient;
-};
-QuantityUnits quantity_units(bool per_area);
 
 class ResultsWriter {
  public:

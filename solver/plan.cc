@@ -12,22 +12,10 @@
 namespace roundtrip {
 namespace {
 
-constexpr int kMBatch = 8;  // m blocks are computed in batches of 8 (sphere_plate.cc)
+constexpr int kMBatch = 8;  // m blocks are computed in batches of 8 (solver/geometries)
 
 double seconds_since(std::chrono::steady_clock::time_point t0) {
   return std::chrono::duration<double>(std::chrono::steady_clock::now() - t0).count();
-}
-
-bool dense_blocks(const std::map<std::string, double>& t) {
-  return t.count("l_max") && t.count("quadrature_nodes");
-}
-
-int estimated_blocks(const Geometry& g, double gap, int lmax, double rel_tol) {
-  const auto R = g.pfa_length();
-  if (!R) return lmax + 1;
-  const double m = std::sqrt(*R / gap) * std::log(10.0 / rel_tol) / 2.0;
-  const int batches = std::max(1, static_cast<int>(std::ceil(m / kMBatch)));
-  return std::min(lmax + 1, batches * kMBatch);
 }
 
 // Frequency evaluations of the rule on s(xi) = -exp(-xi / xi_c) and its L-derivatives.
@@ -62,42 +50,7 @@ double gemm_seconds_per_flop() {
 
 double plan_flops_per_frequency(const Geometry& g, double gap, DerivativeOrder order,
                                 double rel_tol) {
-  const auto t = g.truncation(gap);
-  if (!dense_blocks(t)) return 1.0;
-  const int lmax = static_cast<int>(t.at("l_max"));
-  const double q = 2.0 * t.at("quadrature_nodes");
-  const int blocks = estimated_blocks(g, gap, lmax, rel_tol);
-  // Cost model of solver/logdet/low_rank.cc as used by the sphere-plate blocks (n multipole
-  // rows, q node columns). Node space (q < n): banded Gram (a node couples to ~8/sqrt(l_max) of
-  // the multipoles; measured 0.22 at l_max = 1109), Cholesky, inverse for the derivatives, and
-  // the column assembly (Legendre recurrences, exp inside the band). Otherwise the dense
-  // multipole-space factorisation. The factor kNodeSpaceInefficiency = 6 converts to
-  // "gemm-equivalent" flops: measured at R/L = 200 and 1000 (gold, rel_tol 1e-4) against the
-  // timed 384 x 384 product; the small blocked products and transcendental functions run well
-  // below the large-gemm rate.
-  // The node-space matrix is banded (nodes couple to nodes within a fixed distance in sqrt(t);
-  // so the Gram pairs each column only with ~nb others over its band of rows;
-  // measured half-width ~50-100, kNodeBand): banded Cholesky q nb^2, selected inversion for
-  // the force ~4 q nb^2, two block-bidiagonal solves 4 q^2 nb for the gradient. The columns
-  // (Legendre recurrences and exp) are computed over their bands only: ~50 flops per entry.
-  constexpr double kNodeSpaceInefficiency = 6.0;
-  constexpr double kNodeBand = 100.0;
-  const double band = std::min(1.0, 8.0 / std::sqrt(double(lmax)));
-  const double nb = std::min(q, kNodeBand);
-  double flops = 0.0;
-  for (int m = 0; m < blocks; ++m) {
-    const double n = 2.0 * (lmax - std::max(1, m) + 1);
-    if (q < n) {
-      double f = band * n * q * nb + q * nb * nb + 50.0 * band * n * q;
-      if (order != DerivativeOrder::kEnergy) f += 4.0 * q * nb * nb;
-      if (order == DerivativeOrder::kGradient) f += 4.0 * q * q * nb;
-      flops += kNodeSpaceInefficiency * f;
-    } else {
-      flops += 4.0 * n * n * q + n * n * n / 3.0;
-      if (order == DerivativeOrder::kGradient) flops += 2.0 * n * q * q;
-    }
-  }
-  return flops;
+  return g.cost(gap, order, rel_tol).flops();
 }
 
 PlanCalibration calibrate_plan(const Geometry& g, const std::vector<double>& gaps,
@@ -117,7 +70,7 @@ PlanCalibration calibrate_plan(const Geometry& g, const std::vector<double>& gap
   // number if the model says it is too expensive to time.
   const auto timed = [&](double gap) {
     const double flops = plan_flops_per_frequency(g, gap, order, rel_tol);
-    if (dense_blocks(g.truncation(gap)) && flops * gemm > max_seconds) return -1.0;
+    if (flops > 1.0 && flops * gemm > max_seconds) return -1.0;
     const double xi = g.frequency_scale(gap);
     (void)g.at_frequency(xi, gap, order);
     const auto t0 = std::chrono::steady_clock::now();
@@ -188,13 +141,11 @@ Plan make_plan(const Geometry& g, const std::vector<double>& gaps, const RunOpti
     p.gap = gap;
     p.truncation = g.truncation(gap);
     p.frequencies = estimated_frequencies(g, gap, options.frequency);
-    p.flops_per_frequency = plan_flops_per_frequency(g, gap, order, tol);
-    if (dense_blocks(p.truncation)) {
-      const int lmax = static_cast<int>(p.truncation.at("l_max"));
-      p.blocks = estimated_blocks(g, gap, lmax, tol);
-      const double n = 2.0 * lmax, q = 2.0 * p.truncation.at("quadrature_nodes");
-      p.memory_bytes = 8.0 * (n * q + 3.0 * q * q);
-    }
+    const FrequencyCost cost = g.cost(gap, order, tol);
+    p.flops_per_frequency = cost.flops();
+    p.blocks = static_cast<int>(cost.block_flops.size());
+    p.block_flops = cost.block_flops;
+    p.memory_bytes = cost.memory_bytes;
     p.seconds = p.frequencies * calibration.seconds_per_frequency(p.flops_per_frequency) +
                 calibration.per_gap_seconds;
     serial += p.seconds;
@@ -213,6 +164,21 @@ Plan make_plan(const Geometry& g, const std::vector<double>& gaps, const RunOpti
     plan.memory_bytes = per_thread_peak * plan.threads;
   }
   return plan;
+}
+
+std::vector<WorkItem> work_items(const Plan& plan, int point) {
+  std::vector<WorkItem> items;
+  for (std::size_t g = 0; g < plan.gaps.size(); ++g) {
+    const GapPlan& p = plan.gaps[g];
+    const std::vector<double> blocks =
+        p.block_flops.empty() ? std::vector<double>{p.flops_per_frequency} : p.block_flops;
+    for (int f = 0; f < p.frequencies; ++f)
+      for (std::size_t b = 0; b < blocks.size(); ++b)
+        items.push_back({point, static_cast<int>(g), f, static_cast<int>(b), blocks[b]});
+  }
+  std::stable_sort(items.begin(), items.end(),
+                   [](const WorkItem& a, const WorkItem& b) { return a.flops > b.flops; });
+  return items;
 }
 
 }  // namespace roundtrip

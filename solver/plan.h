@@ -2,7 +2,9 @@
 // Planned work of a separation sweep before it runs: truncations per gap (Geometry::truncation),
 // the number of frequency evaluations, the dense-matrix sizes, peak memory and a time estimate.
 //
-// Model (sphere-plate; plates have no dense blocks and cost a constant per frequency):
+// Model: Geometry::cost (each kind's own; the default in solver/geometries/geometry.cc models
+// blocked plane-wave round trips; plates have no dense blocks and cost a constant per
+// frequency). The default, as measured on sphere-plate:
 //   per frequency, blocks m = 0 .. m_est, each a round trip in factored form M = S W C W^T
 //   (solver/logdet/low_rank.h) with W of n x q, n = 2 (l_max - max(1, m) + 1) multipoles
 //   (TE and TM), q = 2 N plane-wave columns (N = quadrature_nodes, both polarisations);
@@ -38,6 +40,7 @@ struct GapPlan {
   std::map<std::string, double> truncation;  ///< Geometry::truncation(gap)
   int frequencies = 0;                       ///< estimated evaluations of s(xi)
   int blocks = 1;                            ///< estimated symmetry blocks per frequency
+  std::vector<double> block_flops;           ///< model flops of each block (Geometry::cost)
   double flops_per_frequency = 0.0;          ///< model flops (plates: 1 = one unit)
   double memory_bytes = 0.0;                 ///< peak working memory per thread, bytes
   double seconds = 0.0;                      ///< estimated wall time of this gap on one thread
@@ -62,7 +65,24 @@ struct Plan {
   PlanCalibration calibration;
 };
 
-/// Model flops of one frequency at `gap` (plates: 1).
+/// One addressable unit of work: block `block` (m, k_z or Bloch vector) of frequency number
+/// `frequency` at gap number `gap` of scan point `point`, with its model cost. The frequencies
+/// of a gap are known before it runs (the rule is chosen on a model spectrum, frequency_rule.h);
+/// the blocks are those of the cost model (a geometry may stop its block sum earlier). This is
+/// the unit a distributed run hands out (largest first) and a journal may key on.
+struct WorkItem {
+  int point = 0;
+  int gap = 0;
+  int frequency = 0;
+  int block = 0;
+  double flops = 0.0;
+};
+
+/// Every work item of `plan` for scan point `point`, largest cost first (ties in
+/// (gap, frequency, block) order, so the list is deterministic).
+std::vector<WorkItem> work_items(const Plan& plan, int point = 0);
+
+/// Model flops of one frequency at `gap` (Geometry::cost; plates: 1).
 double plan_flops_per_frequency(const Geometry& geometry, double gap, DerivativeOrder order,
                                 double rel_tol);
 

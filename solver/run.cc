@@ -72,7 +72,7 @@ RunResult run_sweep(const Geometry& geometry, const std::vector<double>& gaps,
   RunResult result;
   result.kind = geometry.kind();
   result.description = geometry.describe();
-  result.per_area = geometry.per_area();
+  result.scale = geometry.scale();
   result.points.resize(gaps.size());
 
   const int n = static_cast<int>(gaps.size());
@@ -120,11 +120,6 @@ RunResult run_sweep(const Geometry& geometry, const std::vector<double>& gaps,
   }
   result.wall_seconds = seconds_since(t0);
   return result;
-}
-
-std::map<std::string, std::string> result_units(bool per_area) {
-  if (per_area) return {{"energy", "J/m^2"}, {"force", "Pa"}, {"gradient", "Pa/m"}};
-  return {{"energy", "J"}, {"force", "N"}, {"gradient", "N/m"}};
 }
 
 }  // namespace roundtrip

@@ -51,7 +51,7 @@ struct RunOptions {
   const std::atomic<bool>* cancel = nullptr;
 };
 
-/// Result at one gap. Units: J, N, N/m for compact bodies; J/m^2, Pa, Pa/m when per_area.
+/// Result at one gap. Units: those of the geometry's ResultScale (solver/result_scale.h).
 struct PointResult {
   double gap = 0.0;           ///< m
   double energy = 0.0;        ///< free energy (T > 0) or energy (T = 0)
@@ -68,7 +68,7 @@ struct PointResult {
 struct RunResult {
   std::string kind;  ///< Geometry::kind()
   std::string description;
-  bool per_area = false;
+  ResultScale scale = ResultScale::kTotal;  ///< Geometry::scale()
   std::vector<PointResult> points;
   double wall_seconds = 0.0;
   int threads = 1;
@@ -81,8 +81,5 @@ struct RunResult {
 /// Compute every gap in `gaps` (m, each > 0). Deterministic for any thread count.
 RunResult run_sweep(const Geometry& geometry, const std::vector<double>& gaps,
                     const RunOptions& options);
-
-/// Unit strings for a result: {"energy", "force", "gradient"} -> "J" / "J/m^2" etc.
-std::map<std::string, std::string> result_units(bool per_area);
 
 }  // namespace roundtrip

@@ -145,7 +145,7 @@ void print_results(const CaseSpec& spec, const RunResult& r, std::ostream& out) 
   std::vector<double> gaps;
   for (const auto& p : r.points) gaps.push_back(p.gap);
   const DisplayUnit gu = length_display_unit(gaps);
-  const QuantityUnits u = quantity_units(r.per_area);
+  const ScaleUnits u = scale_units(r.scale);
   const Quantities& q = spec.quantities;
   const bool force = q.force || q.gradient;
   bool any_pfa = false, any_unconverged = false;
@@ -179,7 +179,7 @@ void print_results(const CaseSpec& spec, const RunResult& r, std::ostream& out) 
   if (!spec.title.empty()) out << spec.title << "\n";
   out << r.description << "\n";
   out << rule_sentence(spec, &r) << ", rel_tol = " << spec.frequency.rel_tol
-      << (r.per_area ? "; values per unit area" : "") << "\n";
+      << (u.phrase.empty() ? "" : "; values " + u.phrase) << "\n";
   out << "sign: E < 0 and F < 0 mean attraction; F = -dE/dL, F\u2032 = dF/dL\n\n";
   out << t.render();
   if (any_unconverged) out << "! the frequency rule did not reach rel_tol at this gap\n";
@@ -219,8 +219,7 @@ ResultsInfo results_info(const CaseSpec& spec) {
   info.frequency_rule = rules_used(spec, nullptr);
   info.quantities = spec.quantities;
   info.gaps_planned = static_cast<int>(spec.gaps.size());
-  if (spec.kind == geometry::ConfigurationKind::kSpherePlate)
-    info.sphere_radius_m = spec.sphere_radius;
+  info.body_lengths = spec.body_lengths();
   return info;
 }
 
@@ -414,19 +413,12 @@ int check_command(const std::string& case_path, std::ostream& out) {
   row("case", spec.path.string() + " (valid)");
   if (!spec.title.empty()) row("title", spec.title);
   row("geometry",
-      geometry::to_string(spec.kind) + (spec.kind == geometry::ConfigurationKind::kSpherePlate
-                                            ? ", field: " + spec.field
-                                            : std::string()));
+      spec.kind->name + (spec.kind->scalar_fields ? ", field: " + spec.field : std::string()));
   if (!geometry_line.empty()) row("bodies", geometry_line);
-  if (spec.kind == geometry::ConfigurationKind::kPlatePlate) {
-    row("plate", spec.plate->describe());
-    row("plate2", spec.plate2 == spec.plate ? "same as plate" : spec.plate2->describe());
-  } else {
-    row("sphere", fmt::format("radius {:.6g} um", spec.sphere_radius * 1e6) +
-                      (spec.sphere_material ? ", " + spec.sphere_material->name() : ""));
-    if (spec.plate) row("plate", spec.plate->describe());
+  for (const auto& b : spec.bodies) row(b.table, b.describe());
+  const auto& nk = spec.kind->numerics_keys;
+  if (std::find(nk.begin(), nk.end(), "l_max") != nk.end())
     row("l_max", spec.l_max == 0 ? std::string("automatic") : std::to_string(spec.l_max));
-  }
   row("medium", spec.medium->name());
   for (std::size_t i = 0; i < spec.materials.size(); ++i) {
     const auto& m = spec.materials[i];

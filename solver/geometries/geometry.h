@@ -12,26 +12,12 @@
 #include <map>
 #include <optional>
 #include <string>
+#include <vector>
+
+#include "solver/result_scale.h"
+#include "solver/spectral.h"
 
 namespace roundtrip {
-
-/// A frequency-resolved quantity and its derivatives with respect to the gap L (SI units:
-/// d1 carries an extra 1/m, d2 an extra 1/m^2 relative to value).
-struct Spectral {
-  double value = 0.0;
-  double d1 = 0.0;
-  double d2 = 0.0;
-  Spectral& operator+=(const Spectral& o) {
-    value += o.value;
-    d1 += o.d1;
-    d2 += o.d2;
-    return *this;
-  }
-  Spectral operator*(double w) const { return {value * w, d1 * w, d2 * w}; }
-};
-
-/// How many L-derivatives a caller needs: 0 energy only, 1 with force, 2 with gradient.
-enum class DerivativeOrder : int { kEnergy = 0, kForce = 1, kGradient = 2 };
 
 /// Proximity-force values to show beside an exact result (same units as the exact ones).
 struct PfaValues {
@@ -41,6 +27,20 @@ struct PfaValues {
 };
 
 struct FrequencyRuleOptions;  // solver/frequency/frequency_rule.h
+
+/// Model cost of one frequency of a geometry: its symmetry blocks (m, k_z or Bloch vector), each
+/// with a cost in model flops, and the peak working memory of one thread. Flops are
+/// "gemm-equivalent": seconds = flops x (seconds per flop of a large matrix product) x the
+/// calibration of solver/plan.h. A geometry without dense blocks: one block of cost 1.
+struct FrequencyCost {
+  std::vector<double> block_flops{1.0};
+  double memory_bytes = 0.0;  ///< per thread
+  double flops() const {
+    double f = 0.0;
+    for (double b : block_flops) f += b;
+    return f;
+  }
+};
 
 class Geometry {
  public:
@@ -55,8 +55,9 @@ class Geometry {
                                        double /*rel_tol*/) const {
     return at_frequency(xi, gap, order);
   }
-  /// True if s is per unit area (plates): energies then are J/m^2, forces Pa, gradients Pa/m.
-  virtual bool per_area() const = 0;
+  /// How results are normalised (solver/result_scale.h): total (J, N, N/m), per area (plates,
+  /// gratings: J/m^2, Pa, Pa/m) or per length (cylinders: J/m, N/m, N/m^2).
+  virtual ResultScale scale() const = 0;
   /// A characteristic imaginary frequency (rad/s) at gap L, e.g. c/(2L): sets quadrature scales.
   virtual double frequency_scale(double gap) const = 0;
   /// Short kind name, e.g. "plate-plate", "sphere-plate".
@@ -74,6 +75,11 @@ class Geometry {
   virtual std::map<std::string, double> truncation(double /*gap*/) const { return {}; }
   /// True if at_frequency already runs in parallel (then callers do not add threads on top).
   virtual bool parallel_inside() const { return false; }
+  /// The cost model of one frequency at gap L (solver/plan.h uses it for estimates, progress and
+  /// the work items a cluster run distributes). The default models blocked plane-wave round
+  /// trips from truncation()'s "l_max" and "quadrature_nodes" (geometry.cc); a geometry
+  /// without them costs one unit per frequency.
+  virtual FrequencyCost cost(double gap, DerivativeOrder order, double rel_tol) const;
 };
 
 }  // namespace roundtrip

@@ -41,7 +41,7 @@ class PlatePlate final : public Geometry {
   /// 1/m^3). Summed by a frequency rule it gives \int_L^inf E dL', -E, -dE/dL.
   Spectral integrated_at_frequency(double xi, double gap, DerivativeOrder order) const;
 
-  bool per_area() const override { return true; }
+  ResultScale scale() const override { return ResultScale::kPerArea; }
   /// c / (2 L sqrt(eps_m(0))): where e^{-2 kappa L} has fallen by 1/e at k = 0.
   double frequency_scale(double gap) const override;
   std::string kind() const override { return "plate-plate"; }

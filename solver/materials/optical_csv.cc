@@ -15,8 +15,8 @@
 #include <fstream>
 #include <string_view>
 
-#include "io/errors.h"
 #include "solver/constants.h"
+#include "solver/input_error.h"
 #include "solver/materials/tabulated.h"
 
 namespace roundtrip {
@@ -51,9 +51,9 @@ std::string lower(std::string_view s) {
 OpticalData read_optical_csv(const std::filesystem::path& path) {
   const std::string file = path.string();
   std::ifstream in(path);
-  if (!in) throw io::CaseError(fmt::format("{}: cannot open optical table", file));
+  if (!in) throw InputError(fmt::format("{}: cannot open optical table", file));
   const auto error = [&](int line, const std::string& what) {
-    return io::CaseError(fmt::format("{}:{}: {}", file, line, what));
+    return InputError(fmt::format("{}:{}: {}", file, line, what));
   };
   enum class Abscissa { kEnergyEv, kWavelengthNm, kWavelengthUm } abscissa{};
   bool header = false, nk = false;

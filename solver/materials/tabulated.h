@@ -29,7 +29,7 @@ struct OpticalData {
   std::string origin;         ///< file name or "in memory", for messages
 };
 
-/// Read a CSV table (format in optical_csv.cc / materials_readme). Throws io::CaseError naming
+/// Read a CSV table (format in optical_csv.cc / materials_readme). Throws InputError naming
 /// the file and line for every malformed input.
 OpticalData read_optical_csv(const std::filesystem::path& path);
 

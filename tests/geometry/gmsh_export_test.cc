@@ -71,10 +71,16 @@ fs::path temp_file(const std::string& name) {
   return d / name;
 }
 
-TEST(GmshExport, SpherePlateReadsBackWithRadiusAndGapOfTheCase) {
+Configuration sphere_plate(double radius) {
   Configuration c;
-  c.kind = ConfigurationKind::kSpherePlate;
-  c.sphere = SphereBody{5e-6};
+  c.kind = "sphere-plate";
+  c.lower = Body{"plate", Shape::kPlate, 0.0, {}};
+  c.upper = Body{"sphere", Shape::kSphere, radius, {}};
+  return c;
+}
+
+TEST(GmshExport, SpherePlateReadsBackWithRadiusAndGapOfTheCase) {
+  Configuration c = sphere_plate(5e-6);
   c.gaps = {200e-9};
   const fs::path f = temp_file("sp.msh");
   const PreviewSummary s = export_gmsh(c, 200e-9, f);
@@ -104,6 +110,9 @@ TEST(GmshExport, SpherePlateReadsBackWithRadiusAndGapOfTheCase) {
 
 TEST(GmshExport, TwoPlatesReadBackWithTheGapBetweenThem) {
   Configuration c;
+  c.kind = "plate-plate";
+  c.lower = Body{"plate", Shape::kPlate, 0.0, {}};
+  c.upper = Body{"plate2", Shape::kPlate, 0.0, {}};
   c.gaps = {100e-9};
   const fs::path f = temp_file("pp.msh");
   export_gmsh(c, 100e-9, f);
@@ -117,13 +126,14 @@ TEST(GmshExport, TwoPlatesReadBackWithTheGapBetweenThem) {
 }
 
 TEST(GmshExport, BadGapsRadiiAndNamesAreRefusedBeforeAnythingIsWritten) {
-  Configuration c;
-  c.kind = ConfigurationKind::kSpherePlate;
-  c.sphere = SphereBody{-1e-6};
+  Configuration c = sphere_plate(-1e-6);
   c.gaps = {1e-7};
   const fs::path f = temp_file("bad.msh");
   EXPECT_THROW(export_gmsh(c, 1e-7, f), std::invalid_argument);
-  c.sphere = SphereBody{1e-6};
+  c.upper.shell_thicknesses = {0.5e-6, 0.6e-6};  // thicker than the radius together
+  c.upper.radius = 1e-6;
+  EXPECT_THROW(export_gmsh(c, 1e-7, f), std::invalid_argument);
+  c.upper.shell_thicknesses.clear();
   EXPECT_THROW(export_gmsh(c, 0.0, f), std::invalid_argument);
   EXPECT_THROW(export_gmsh(c, -1e-9, f), std::invalid_argument);
   EXPECT_THROW(export_gmsh(c, std::numeric_limits<double>::quiet_NaN(), f), std::invalid_argument);
@@ -145,6 +155,27 @@ TEST(GmshExport, PreviewCommandWritesTheCaseAtItsSmallestGap) {
   const Box& sp = boxes.at("sphere surface");
   EXPECT_NEAR(sp.lo[2], 0.2, 0.2 * kRoundOff) << "case: from = \"200 nm\"";
   EXPECT_NEAR(sp.hi[2] - sp.lo[2], 10.0, 10.0 * kRoundOff) << "case: radius = \"5 um\"";
+  fs::remove_all(f.parent_path());
+}
+
+TEST(GmshExport, TwoSpheresStandOnEitherSideOfTheGap) {
+  Configuration c;
+  c.kind = "sphere-sphere";
+  c.lower = Body{"sphere", Shape::kSphere, 2e-6, {}};
+  c.upper = Body{"sphere2", Shape::kSphere, 1e-6, {0.1e-6}};
+  c.gaps = {300e-9};
+  const fs::path f = temp_file("ss.msh");
+  const PreviewSummary s = export_gmsh(c, 300e-9, f);
+  EXPECT_NE(s.description.find("1 shell"), std::string::npos) << s.description;
+  int volumes = 0;
+  const auto boxes = read_back(f, volumes);
+  EXPECT_EQ(volumes, 2);
+  ASSERT_TRUE(boxes.count("sphere surface") && boxes.count("sphere2 surface"));
+  const Box& lo = boxes.at("sphere surface");
+  const Box& up = boxes.at("sphere2 surface");
+  EXPECT_NEAR(lo.hi[2], 0.0, 2.0 * kRoundOff) << "lower sphere touches z = 0 from below";
+  EXPECT_NEAR(up.lo[2] - lo.hi[2], 0.3, 0.3 * 1e-6) << "surface-to-surface gap";
+  EXPECT_NEAR(up.hi[2] - up.lo[2], 2.0, 2.0 * kRoundOff) << "upper diameter";
   fs::remove_all(f.parent_path());
 }
 

@@ -37,7 +37,10 @@ TEST(CaseFile, DefaultsAreVacuumEnergyAndForceAndTheSamePlateTwice) {
   EXPECT_TRUE(s.quantities.energy && s.quantities.force && !s.quantities.gradient);
   EXPECT_EQ(s.frequency.rel_tol, 1e-6);
   EXPECT_EQ(s.frequency.temperature_K, 300.0);
-  EXPECT_EQ(s.plate2, s.plate);
+  ASSERT_EQ(s.bodies.size(), 2u);
+  EXPECT_EQ(s.body("plate2").plate, s.body("plate").plate);
+  EXPECT_EQ(s.body("plate2").defaulted_from, "plate");
+  EXPECT_EQ(s.kind, io::find_geometry_kind("plate-plate"));
   EXPECT_TRUE(s.output_file.empty());
   ASSERT_EQ(s.gaps.size(), 1u);
   EXPECT_NEAR(s.gaps[0], 1e-6, 1e-6 * kGapRelTol);
@@ -63,7 +66,8 @@ TEST(CaseFile, SphereKeysInAPlateCaseAreErrors) {
   const std::string gaps = "[separations]\nvalues = [\"1 um\"]\n";
   EXPECT_NE(error_of("field = \"dirichlet\"\n" + kBase + gaps).find("t.toml:1: field"),
             std::string::npos);
-  EXPECT_NE(error_of(kBase + gaps + "[sphere]\nradius = \"1 um\"\n").find("only for sphere-plate"),
+  EXPECT_NE(error_of(kBase + gaps + "[sphere]\nradius = \"1 um\"\n")
+                .find("[sphere] is not used by geometry = \"plate-plate\""),
             std::string::npos);
   EXPECT_NE(error_of(kBase + gaps + "[numerics]\nl_max = 4\n").find("numerics.l_max"),
             std::string::npos);
@@ -116,14 +120,16 @@ TEST(Configuration, ValidateNamesTheFirstBadGapOrRadius) {
   EXPECT_NE(c.validate().find("finite"), std::string::npos) << c.validate();
   c.gaps = {1e-7};
   EXPECT_EQ(c.validate(), "");
-  c.kind = ConfigurationKind::kSpherePlate;
-  EXPECT_NE(c.validate().find("sphere: missing"), std::string::npos) << c.validate();
-  c.sphere = SphereBody{-1e-6};
+  c.upper = Body{"sphere", Shape::kSphere, -1e-6, {}};
   EXPECT_NE(c.validate().find("sphere.radius"), std::string::npos) << c.validate();
-  c.sphere = SphereBody{1e-6};
+  c.upper.radius = 1e-6;
   EXPECT_EQ(c.validate(), "");
-  EXPECT_EQ(configuration_kind_from_string("sphere-plate"), ConfigurationKind::kSpherePlate);
-  EXPECT_FALSE(configuration_kind_from_string("sphere-sphere").has_value());
+  c.upper.shell_thicknesses = {0.2e-6, 0.0};
+  EXPECT_NE(c.validate().find("sphere.shells[1].thickness"), std::string::npos) << c.validate();
+  c.upper.shell_thicknesses = {0.6e-6, 0.4e-6};
+  EXPECT_NE(c.validate().find("not less than the radius"), std::string::npos) << c.validate();
+  c.upper.shell_thicknesses = {0.6e-6, 0.3e-6};
+  EXPECT_EQ(c.validate(), "");
 }
 
 }  // namespace

@@ -29,7 +29,7 @@ RunResult sample_result() {
   RunResult r;
   r.kind = "sphere-plate";
   r.description = "sphere R = 50 um of gold-drude above half-space of gold-drude";
-  r.per_area = false;
+  r.scale = ResultScale::kTotal;
   r.threads = 2;
   r.wall_seconds = 1.5;
   for (int i = 0; i < 3; ++i) {
@@ -135,7 +135,7 @@ TEST(ResultsHdf5, ScanGroupsThetaFitsAndCompletenessReadBackWithH5py) {
       run.info.temperature_K = k == 0 ? 0.0 : 300.0;
       run.info.frequency_rule = k == 0 ? "zero-temperature-quadrature" : "matsubara";
       run.info.quantities = {true, true, true};
-      run.info.sphere_radius_m = 5e-6;
+      run.info.body_lengths = {{"sphere_radius_m", 5e-6}};
       run.info.complete = k == 0;
       run.parameters = {{"temperature", k == 0 ? "0 K" : "300 K"}};
       runs.push_back(run);

@@ -45,23 +45,23 @@ sphere.material = ["gold-drude", "gold-plasma"]
   EXPECT_EQ(points[1].parameters[2].second, "gold-plasma");
   EXPECT_EQ(points[2].parameters[1].second, "300 K");
   EXPECT_EQ(points[7].parameters[0].second, "50 um");
-  EXPECT_EQ(points[0].spec.sphere_radius, 10e-6);
-  EXPECT_EQ(points[7].spec.sphere_radius, 50e-6);
+  EXPECT_EQ(points[0].spec.body("sphere").radius, 10e-6);
+  EXPECT_EQ(points[7].spec.body("sphere").radius, 50e-6);
   EXPECT_EQ(points[0].spec.frequency.temperature_K, 0.0);
   EXPECT_EQ(points[3].spec.frequency.temperature_K, 300.0);
-  EXPECT_EQ(points[1].spec.sphere_material->name(), "gold-plasma");
-  EXPECT_EQ(points[1].spec.plate->describe().find("plasma"), std::string::npos)
+  EXPECT_EQ(points[1].spec.body("sphere").material->name(), "gold-plasma");
+  EXPECT_EQ(points[1].spec.body("plate").plate->describe().find("plasma"), std::string::npos)
       << "sphere.material leaves the plate alone";
   // The case itself is the first point.
-  EXPECT_EQ(spec.sphere_radius, 10e-6);
+  EXPECT_EQ(spec.body("sphere").radius, 10e-6);
 }
 
 TEST(Scan, MaterialSetsEveryBodyAndACaseWithoutScanIsOnePoint) {
   const CaseSpec spec = parse_case(kSphere + "[scan]\nmaterial = [\"gold-plasma\"]\n", "s.toml");
   const auto points = scan_points(spec);
   ASSERT_EQ(points.size(), 1u);
-  EXPECT_EQ(points[0].spec.sphere_material->name(), "gold-plasma");
-  EXPECT_NE(points[0].spec.plate->describe().find("gold-plasma"), std::string::npos);
+  EXPECT_EQ(points[0].spec.body("sphere").material->name(), "gold-plasma");
+  EXPECT_NE(points[0].spec.body("plate").plate->describe().find("gold-plasma"), std::string::npos);
   const auto single = scan_points(parse_case(kSphere, "s.toml"));
   ASSERT_EQ(single.size(), 1u);
   EXPECT_TRUE(single[0].parameters.empty());
@@ -96,7 +96,8 @@ temperature = "300 K"
 radius = ["1 um"]
 )";
   EXPECT_NE(error_of(plates).find("s.toml:9: scan.radius = "), std::string::npos);
-  EXPECT_NE(error_of(plates).find("only sphere-plate cases have a sphere to scan"),
+  EXPECT_NE(error_of(plates).find(
+                "no sphere to scan (geometry = \"plate-plate\" has [plate] and [plate2])"),
             std::string::npos)
       << error_of(plates);
 }

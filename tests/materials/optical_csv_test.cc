@@ -33,8 +33,8 @@ void expect_error_at_line(const std::string& name, const std::string& text, int 
   const auto p = write_temp(name, text);
   try {
     read_optical_csv(p);
-    ADD_FAILURE() << name << ": no CaseError";
-  } catch (const io::CaseError& e) {
+    ADD_FAILURE() << name << ": no InputError";
+  } catch (const InputError& e) {
     const std::string want = p.string() + ":" + std::to_string(line) + ":";
     EXPECT_NE(std::string(e.what()).find(want), std::string::npos)
         << name << ": message '" << e.what() << "' lacks '" << want << "'";
@@ -113,7 +113,7 @@ TEST(OpticalCsv, MalformedTablesNameFileAndLine) {
   expect_error_at_line("few", "energy_eV,n,k\n1,1,1\n2,1,1\n3,1,1\n", 4);
   expect_error_at_line("no_header", "# only comments\n", 1);
   expect_error_at_line("zero_x", "energy_eV,n,k\n0,1,1\n", 2);
-  EXPECT_THROW(read_optical_csv("/nonexistent/roundtrip.csv"), io::CaseError);
+  EXPECT_THROW(read_optical_csv("/nonexistent/roundtrip.csv"), InputError);
 }
 
 }  // namespace

@@ -30,7 +30,7 @@ TEST(RunSweep, PecForceIsCasimirPressure) {
   o.quantities.gradient = true;
   const RunResult r = run_sweep(*geometry, gaps(), o);
   ASSERT_EQ(r.points.size(), gaps().size());
-  EXPECT_TRUE(r.per_area);
+  EXPECT_EQ(r.scale, ResultScale::kPerArea);
   EXPECT_EQ(r.kind, "plate-plate");
   constexpr double kTol = 1e-10;  // as for the plate-plate PEC check
   for (const auto& p : r.points) {
@@ -77,12 +77,18 @@ TEST(RunSweep, ProgressReachesTotalAndUnitsFollowPerArea) {
   run_sweep(*geometry, gaps(), o);
   EXPECT_EQ(calls, 9);
   EXPECT_EQ(last, 9);
-  EXPECT_EQ(result_units(true).at("force"), "Pa");
-  EXPECT_EQ(result_units(true).at("energy"), "J/m^2");
-  EXPECT_EQ(result_units(true).at("gradient"), "Pa/m");
-  EXPECT_EQ(result_units(false).at("energy"), "J");
-  EXPECT_EQ(result_units(false).at("force"), "N");
-  EXPECT_EQ(result_units(false).at("gradient"), "N/m");
+  // SI units of each result scale (solver/result_scale.h; standard).
+  EXPECT_EQ(scale_units(ResultScale::kPerArea).force, "Pa");
+  EXPECT_EQ(scale_units(ResultScale::kPerArea).energy, "J/m^2");
+  EXPECT_EQ(scale_units(ResultScale::kPerArea).gradient, "Pa/m");
+  EXPECT_EQ(scale_units(ResultScale::kTotal).energy, "J");
+  EXPECT_EQ(scale_units(ResultScale::kTotal).force, "N");
+  EXPECT_EQ(scale_units(ResultScale::kTotal).gradient, "N/m");
+  EXPECT_EQ(scale_units(ResultScale::kPerLength).energy, "J/m");
+  EXPECT_EQ(scale_units(ResultScale::kPerLength).force, "N/m");
+  EXPECT_EQ(scale_units(ResultScale::kPerLength).gradient, "N/m^2");
+  for (auto s : {ResultScale::kTotal, ResultScale::kPerArea, ResultScale::kPerLength})
+    EXPECT_EQ(result_scale_from_string(to_string(s)), s);
 }
 
 TEST(RunSweep, RejectsNonPositiveGapNamingIt) {

@@ -1,0 +1,41 @@
+// geometry = "sphere-plate": a sphere above a planar body, total energy and force.
+#include "solver/geometries/sphere_plate.h"
+
+#include <fmt/format.h>
+
+#include "io/case_file.h"
+#include "io/errors.h"
+#include "io/kinds/kind.h"
+
+namespace roundtrip::io {
+
+GeometryKind sphere_plate_kind() {
+  GeometryKind k;
+  k.name = "sphere-plate";
+  k.summary = "a sphere (optionally with shells) above a planar body";
+  k.lower = {"plate", geometry::Shape::kPlate, ""};
+  k.upper = {"sphere", geometry::Shape::kSphere, ""};
+  k.scale = ResultScale::kTotal;
+  k.scalar_fields = true;
+  k.numerics_keys = {"l_max"};
+  k.build = [](const CaseSpec& spec) {
+    const BodySpec& s = spec.body("sphere");
+    SpherePlateOptions o;
+    o.radius = s.radius;
+    o.sphere = s.material;
+    if (!s.shells.empty())
+      throw CaseError(fmt::format("{}: sphere.shells: coated spheres are not built in this version",
+                                  spec.path.string()));
+    o.plate = spec.body("plate").plate;
+    o.medium = spec.medium;
+    o.field = field_kind_from_string(spec.field);
+    o.rel_tol = spec.frequency.rel_tol;
+    o.l_max = spec.l_max;
+    if (const std::string p = o.validate(); !p.empty())
+      throw CaseError(fmt::format("{}: sphere-plate: {}", spec.path.string(), p));
+    return make_sphere_plate(o);
+  };
+  return k;
+}
+
+}  // namespace roundtrip::io
