@@ -217,12 +217,29 @@ class SphereSphere final : public Geometry {
     std::fill(nodes.c_te.begin(), nodes.c_te.end(), 1.0);
     std::fill(nodes.c_tm.begin(), nodes.c_tm.end(), 1.0);
 
+    // Balanced weights for unequal spheres: any split Omega = Omega_1^{1/2} Omega_2^{1/2} with
+    // Omega_1 Omega_2 = Omega^2 leaves det(1 - G1 G2) unchanged (a diagonal similarity). Sphere
+    // i's node-space reflection grows like e^{2 kappa R_i x}; with Omega_{1,2} = Omega
+    // e^{-+kappa x (R1 - R2)} both G_i fall like e^{-kappa L x}, so that neither is lost below
+    // the negligible level of the W entries nor dominates the LU in rounding. (At xi = 0 the
+    // same with kappa x -> k = t/d.)
+    NodeSet nodes1 = nodes, nodes2 = nodes;
+    if (!mirror_) {
+      const double shift = o_.radius1 - o_.radius2;
+      const double kappa = is_static ? 0.0 : std::sqrt(o_.medium->epsilon(xi)) * xi / kSpeedOfLight;
+      for (std::size_t j = 0; j < nodes.x.size(); ++j) {
+        const double k_or_kx = is_static ? nodes.x[j] / d : kappa * nodes.x[j];
+        nodes1.half_log_w[j] -= 0.5 * k_or_kx * shift;
+        nodes2.half_log_w[j] += 0.5 * k_or_kx * shift;
+      }
+    }
     auto block = [&](int which, int m, bool write_zeros) {
       const double R = which == 1 ? o_.radius1 : o_.radius2;
       const int l = which == 1 ? l1 : l2;
+      const NodeSet& ns = which == 1 ? nodes1 : nodes2;
       if (is_static)
-        return sphere_static_block(o_.field, m, R, d, l, nodes, which == 1 ? st1 : st2, true);
-      return sphere_dynamic_block(o_.field, m, l, nodes, which == 1 ? mie1 : mie2, write_zeros);
+        return sphere_static_block(o_.field, m, R, d, l, ns, which == 1 ? st1 : st2, true);
+      return sphere_dynamic_block(o_.field, m, l, ns, which == 1 ? mie1 : mie2, write_zeros);
     };
     const int mcap = std::min(l1, l2);
     const int mlimit = o_.m_max >= 0 ? std::min(o_.m_max, mcap) : mcap;
