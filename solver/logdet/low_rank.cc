@@ -15,8 +15,9 @@ namespace {
 // matrix, and each block pair multiplies only the rows where both have non-zeros. Exact up to
 // the dropped zeros (same result as a rank update), and only the band of W is read.
 // Row ranges: column c is zero outside [col_lo[c * groups + g], col_hi[...]) in row group g.
+// add = true: A += Ws^T Ws instead (same band logic).
 void subtract_banded_gram(const LowRankBlock& b, const std::vector<int>& perm,
-                          const Eigen::VectorXd& scale, Eigen::MatrixXd& A) {
+                          const Eigen::VectorXd& scale, Eigen::MatrixXd& A, bool add = false) {
   constexpr int kColumnBlock = 24;
   const int q = static_cast<int>(perm.size());
   const int groups = static_cast<int>(b.group_start.size()) - 1;
@@ -61,9 +62,14 @@ void subtract_banded_gram(const LowRankBlock& b, const std::vector<int>& perm,
         if (r1 <= r0) continue;
         const Eigen::MatrixXd& GI = gathered[I * groups + g];
         const Eigen::MatrixXd& GJ = gathered[J * groups + g];
-        A.block(i0, j0, ni, nj).noalias() -=
-            GI.middleRows(r0 - lo[I * groups + g], r1 - r0).transpose() *
-            GJ.middleRows(r0 - lo[J * groups + g], r1 - r0);
+        if (add)
+          A.block(i0, j0, ni, nj).noalias() +=
+              GI.middleRows(r0 - lo[I * groups + g], r1 - r0).transpose() *
+              GJ.middleRows(r0 - lo[J * groups + g], r1 - r0);
+        else
+          A.block(i0, j0, ni, nj).noalias() -=
+              GI.middleRows(r0 - lo[I * groups + g], r1 - r0).transpose() *
+              GJ.middleRows(r0 - lo[J * groups + g], r1 - r0);
       }
     }
   }
@@ -295,8 +301,9 @@ namespace {
 // centre of their range, so that columns far apart in that order share no rows: K is then
 // banded (momentum nodes couple only to nearby nodes; measured half-width ~ 50 of 680 nodes at
 // R/L = 1000).
+// plus = true: det(1 + K) instead (K = C^{1/2} W^T W C^{1/2}, sigma = 1).
 LogDetResult logdet_node_space(const LowRankBlock& b, double sigma, DerivativeOrder order,
-                               NodeSpaceSolver solver) {
+                               NodeSpaceSolver solver, bool plus = false) {
   const Eigen::Index q = b.W.cols();
   const bool ranges = b.group_start.size() >= 2;
   const int groups = ranges ? static_cast<int>(b.group_start.size()) - 1 : 0;
@@ -326,10 +333,10 @@ LogDetResult logdet_node_space(const LowRankBlock& b, double sigma, DerivativeOr
   }
   Eigen::MatrixXd A = Eigen::MatrixXd::Identity(q, q);
   if (ranges) {
-    subtract_banded_gram(b, perm, scale, A);
+    subtract_banded_gram(b, perm, scale, A, plus);
   } else {
     const Eigen::MatrixXd Ws = b.W * scale.asDiagonal();
-    A.selfadjointView<Eigen::Lower>().rankUpdate(Ws.transpose(), -1.0);
+    A.selfadjointView<Eigen::Lower>().rankUpdate(Ws.transpose(), plus ? 1.0 : -1.0);
   }
   return logdet_node_matrix(std::move(A), f1, f2, order, solver);
 }
@@ -443,6 +450,14 @@ LogDetResult logdet_one_minus(const LowRankBlock& b, DerivativeOrder order,
   d2 -= (H.array() * H.transpose().array()).sum();
   out.s.d2 = d2;
   return out;
+}
+
+LogDetResult logdet_node_gram(const LowRankBlock& b, double sign, DerivativeOrder order,
+                              NodeSpaceSolver solver) {
+  for (Eigen::Index i = 0; i < b.c.size(); ++i)
+    if (!(b.c[i] >= 0.0)) return {{}, false, "logdet_node_gram: c_i < 0", 0};
+  if (b.W.rows() == 0 || b.W.cols() == 0) return {};
+  return logdet_node_space(b, 1.0, order, solver, sign < 0.0);
 }
 
 }  // namespace roundtrip

@@ -69,4 +69,11 @@ LogDetResult logdet_node_matrix(Eigen::MatrixXd A, const Eigen::VectorXd& f1,
                                 const Eigen::VectorXd& f2, DerivativeOrder order,
                                 NodeSpaceSolver solver = NodeSpaceSolver::kAuto);
 
+/// log det(1 - sign K) and its L-derivatives in node space, K = C^{1/2} W^T W C^{1/2} (q x q),
+/// for c_i >= 0 and sign = +1 or -1; the signs S are not read. Same banded / dense choice as
+/// logdet_one_minus. Sphere-sphere uses it for det(1 - G) det(1 + G) = det(1 - G^2),
+/// G = W^T S W, with the mirror symmetry of equal spheres (sphere_sphere.cc).
+LogDetResult logdet_node_gram(const LowRankBlock& block, double sign, DerivativeOrder order,
+                              NodeSpaceSolver solver = NodeSpaceSolver::kAuto);
+
 }  // namespace roundtrip

@@ -47,4 +47,9 @@ using PlanarPtr = std::shared_ptr<const PlanarSurface>;
 /// The homogeneous half-space of `material`.
 PlanarPtr make_half_space(MaterialPtr material);
 
+/// Ideal mirrors at every frequency: kElectric r_TE = -1, r_TM = +1 (perfect conductor);
+/// kMagnetic r_TE = +1, r_TM = -1 (perfect magnetic conductor). solver/planar/ideal_mirror.cc.
+enum class MirrorKind { kElectric, kMagnetic };
+PlanarPtr make_ideal_mirror(MirrorKind kind);
+
 }  // namespace roundtrip

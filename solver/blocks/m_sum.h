@@ -1,0 +1,25 @@
+#pragma once
+// Sum over the azimuthal number m of per-m log dets for bodies on a common axis (+m and -m give
+// the same block, so m > 0 counts twice). Shared by sphere-plate and sphere-sphere.
+#include <functional>
+#include <string>
+
+#include "solver/geometries/geometry.h"
+#include "solver/logdet/low_rank.h"
+
+namespace roundtrip::blocks {
+
+/// m-blocks computed per parallel batch; fixed so that the set of computed m (and hence the
+/// result) does not depend on the thread count.
+inline constexpr int kMBatch = 8;
+
+/// Sum over m = 0 .. mlimit of block(m), in batches of kMBatch computed in parallel (OpenMP,
+/// fixed reduction order). Unless `fixed_m_max`, the terms are taken to fall off geometrically
+/// once m exceeds ~sqrt(R/L) (measured for sphere-plate): the ratio r is estimated from each
+/// batch and the sum stops when the tail, last * r/(1-r), is below 0.1 tol for every derivative
+/// up to `order`. A block that fails throws std::runtime_error(fail_message(m, result)).
+Spectral sum_over_m(int mlimit, bool fixed_m_max, DerivativeOrder order, double tol,
+                    const std::function<LogDetResult(int)>& block,
+                    const std::function<std::string(int, const LogDetResult&)>& fail_message);
+
+}  // namespace roundtrip::blocks
