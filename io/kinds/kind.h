@@ -55,5 +55,6 @@ std::vector<std::string> body_table_names();
 // The entries (one file each, io/kinds/<kind>.cc).
 GeometryKind plate_plate_kind();
 GeometryKind sphere_plate_kind();
+GeometryKind sphere_sphere_kind();
 
 }  // namespace roundtrip::io

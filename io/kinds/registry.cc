@@ -9,6 +9,7 @@ const std::vector<GeometryKind>& geometry_kinds() {
   static const std::vector<GeometryKind> kinds{
       plate_plate_kind(),
       sphere_plate_kind(),
+      sphere_sphere_kind(),
   };
   return kinds;
 }

@@ -143,7 +143,7 @@ class SphereSphere final : public Geometry {
     }
   }
 
-  bool per_area() const override { return false; }
+  ResultScale scale() const override { return ResultScale::kTotal; }
   bool parallel_inside() const override { return true; }
   std::string kind() const override { return "sphere-sphere"; }
 
