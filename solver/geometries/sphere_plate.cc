@@ -41,7 +41,9 @@
 #include "solver/logdet/low_rank.h"
 #include "solver/materials/models.h"
 #include "solver/pfa/pfa.h"
+#include "solver/planar/layered.h"
 #include "solver/scatterers/mie.h"
+#include "solver/scatterers/sphere_body.h"
 #include "solver/special/gauss_laguerre.h"
 #include "solver/special/legendre.h"
 #include "solver/special/momentum_rule.h"
@@ -53,14 +55,20 @@ using namespace blocks;
 
 class SpherePlate final : public Geometry {
  public:
-  explicit SpherePlate(SpherePlateOptions o) : o_(std::move(o)) {
+  explicit SpherePlate(SpherePlateOptions o)
+      : o_(std::move(o)), body_{o_.radius, o_.sphere, o_.shells} {
     keep_large_blocks_in_heap();
     if (!o_.medium) o_.medium = make_vacuum();
     // PFA partner: the plate facing a half-space of the sphere's material. Scalar fields: each
     // of Dirichlet and Neumann is half of the electromagnetic perfect-conductor plate-plate
     // energy (r^2 = 1 per polarisation), at every temperature.
     if (o_.field == FieldKind::kElectromagnetic) {
-      pfa_plates_ = std::make_unique<PlatePlate>(o_.plate, make_half_space(o_.sphere), o_.medium);
+      // A coated sphere's partner is the same films on a half-space of the core (layered.h).
+      std::vector<Layer> films;
+      for (const SphereShell& s : o_.shells) films.push_back({s.material, s.thickness});
+      pfa_plates_ = std::make_unique<PlatePlate>(
+          o_.plate, films.empty() ? make_half_space(o_.sphere) : make_layered(films, o_.sphere),
+          o_.medium);
       pfa_scale_ = 1.0;
     } else {
       const PlanarPtr pec = make_half_space(make_perfect_conductor());
@@ -83,7 +91,7 @@ class SpherePlate final : public Geometry {
     if (o_.field != FieldKind::kElectromagnetic)
       return fmt::format("{} sphere (R = {:.6g} m) over a {} plate, scalar field",
                          to_string(o_.field), o_.radius, to_string(o_.field));
-    return fmt::format("sphere of {} (R = {:.6g} m) over {} in {}", o_.sphere->name(), o_.radius,
+    return fmt::format("sphere of {} (R = {:.6g} m) over {} in {}", body_.describe(), o_.radius,
                        o_.plate->describe(), o_.medium->name());
   }
 
@@ -152,6 +160,9 @@ class SpherePlate final : public Geometry {
   std::optional<Spectral> static_closed_form(double gap, double tol, DerivativeOrder order) const {
     if (o_.l_max > 0 || o_.field == FieldKind::kNeumann) return std::nullopt;
     const bool em = o_.field == FieldKind::kElectromagnetic;
+    // g_l^2 = 1 for every l (not only l <= l_max) needs a conducting outer surface; a coated
+    // sphere whose g_l^2 is 1 to rounding up to l_max but not beyond must keep the multipoles.
+    if (em && !static_tm_is_unit(body_)) return std::nullopt;
     const int lmax = lmax_for(gap, tol, 0.0, order);
     NodeSet nodes;
     StaticSphere st;
@@ -228,9 +239,7 @@ class SpherePlate final : public Geometry {
     const double kappa = std::sqrt(eps_m) * xi / kSpeedOfLight;
     const double D = o_.radius + gap;
     const bool em = o_.field == FieldKind::kElectromagnetic;
-    const bool pec = em && o_.sphere->is_perfect_conductor();
-    const double n = (em && !pec) ? std::sqrt(o_.sphere->epsilon(xi) / eps_m) : 1.0;
-    mie = mie_imaginary(o_.field, pec, kappa * o_.radius, n, lmax);
+    mie = sphere_mie(body_, o_.field, xi, *o_.medium, lmax);  // homogeneous or coated
 
     const auto& gl = momentum_rule_for(lmax, tol, xi / frequency_scale(gap));
     const int N = static_cast<int>(gl.nodes.size());
@@ -267,9 +276,7 @@ class SpherePlate final : public Geometry {
 
   void prepare_static(double gap, int lmax, double tol, NodeSet& nodes, StaticSphere& st) const {
     const bool em = o_.field == FieldKind::kElectromagnetic;
-    const StaticLimit sm = o_.medium->static_limit();
-    const StaticLimit ss = em ? o_.sphere->static_limit() : StaticLimit{};
-    st = static_sphere(o_.field, ss, sm.static_eps, o_.radius, lmax);
+    st = sphere_static(body_, o_.field, *o_.medium, lmax);  // exact xi = 0, homogeneous or coated
     // Integrands t^{l+l'} e^{-t} rho: the same sqrt(t)-panel rule as at xi > 0.
     const auto& gl = momentum_rule_for(lmax, tol, -1.0);
     const int N = static_cast<int>(gl.nodes.size());
@@ -290,6 +297,7 @@ class SpherePlate final : public Geometry {
   }
 
   SpherePlateOptions o_;
+  SphereBody body_;  // radius, sphere (core) and shells of o_
   std::unique_ptr<PlatePlate> pfa_plates_;
   double pfa_scale_ = 1.0;
 };
@@ -313,7 +321,9 @@ std::string SpherePlateOptions::validate() const {
   if (nodes_per_unit < 0)
     return fmt::format("nodes_per_unit must be >= 0 (0 = automatic), got {}", nodes_per_unit);
   if (field == FieldKind::kElectromagnetic) {
-    if (!sphere) return "sphere material is missing";
+    // the sphere: material set; shells with materials, 0 < thickness, sum < radius
+    const std::string why = SphereBody{radius, sphere, shells}.validate();
+    if (!why.empty()) return why;
     if (!plate) return "plate is missing";
   }
   return {};

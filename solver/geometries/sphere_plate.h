@@ -3,12 +3,14 @@
 // Conventions: R sphere radius, L surface-to-surface gap, D = R + L centre-to-plate.
 // Implementation and physics notes in sphere_plate.cc.
 #include <memory>
+#include <vector>
 
 #include "solver/geometries/geometry.h"
 #include "solver/logdet/low_rank.h"
 #include "solver/materials/material.h"
 #include "solver/planar/planar.h"
 #include "solver/scatterers/field.h"
+#include "solver/scatterers/sphere_body.h"
 
 namespace roundtrip {
 
@@ -20,9 +22,12 @@ enum class WBuild { kBand, kFullRange, kBandCheckedAgainstFullRange };
 
 struct SpherePlateOptions {
   double radius = 0.0;  ///< R (m), > 0
-  MaterialPtr sphere;   ///< sphere material (ignored for scalar fields)
-  PlanarPtr plate;      ///< planar body (ignored for scalar fields)
-  MaterialPtr medium;   ///< medium between the bodies (vacuum if null)
+  MaterialPtr sphere;   ///< sphere material (the core if shells are set; ignored for scalar)
+  /// Coatings, outermost first, thicknesses in m; `radius` stays the OUTER radius and the core
+  /// radius is radius - sum of thicknesses (solver/scatterers/sphere_body.h). Empty: homogeneous.
+  std::vector<SphereShell> shells;
+  PlanarPtr plate;     ///< planar body (ignored for scalar fields)
+  MaterialPtr medium;  ///< medium between the bodies (vacuum if null)
   FieldKind field = FieldKind::kElectromagnetic;
   double rel_tol = 1e-5;   ///< target relative error; sets l_max and quadrature unless fixed
   int l_max = 0;           ///< 0: automatic from rel_tol and R/L
