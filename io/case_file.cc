@@ -256,6 +256,12 @@ geometry::Body BodySpec::geometry() const {
   return b;
 }
 
+std::vector<SphereShell> BodySpec::solver_shells() const {
+  std::vector<SphereShell> out;
+  for (const auto& s : shells) out.push_back({s.material, s.thickness});
+  return out;
+}
+
 std::string BodySpec::describe() const {
   std::string d;
   if (shape == Shape::kPlate) {

@@ -15,6 +15,7 @@
 #include "solver/materials/material.h"
 #include "solver/planar/planar.h"
 #include "solver/run.h"
+#include "solver/scatterers/sphere_body.h"
 
 namespace roundtrip::io {
 
@@ -42,6 +43,8 @@ struct BodySpec {
   std::vector<ShellSpec> shells;  ///< spheres: outermost first
   /// The body's shape and sizes for geometry/ (validation, preview).
   geometry::Body geometry() const;
+  /// The shells as the solver takes them (solver/scatterers/sphere_body.h).
+  std::vector<SphereShell> solver_shells() const;
   /// One line for `check`: "radius 10 um, gold-drude" or the plate's description.
   std::string describe() const;
 };

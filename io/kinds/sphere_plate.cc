@@ -23,9 +23,7 @@ GeometryKind sphere_plate_kind() {
     SpherePlateOptions o;
     o.radius = s.radius;
     o.sphere = s.material;
-    if (!s.shells.empty())
-      throw CaseError(fmt::format("{}: sphere.shells: coated spheres are not built in this version",
-                                  spec.path.string()));
+    o.shells = s.solver_shells();
     o.plate = spec.body("plate").plate;
     o.medium = spec.medium;
     o.field = field_kind_from_string(spec.field);

@@ -1,5 +1,7 @@
 // geometry = "sphere-sphere": two spheres on a common axis (optionally with shells), total
 // energy and force; [sphere2] defaults to [sphere].
+#include "solver/geometries/sphere_sphere.h"
+
 #include <fmt/format.h>
 
 #include <stdexcept>
@@ -7,7 +9,6 @@
 #include "io/case_file.h"
 #include "io/errors.h"
 #include "io/kinds/kind.h"
-#include "solver/geometries/sphere_sphere.h"
 
 namespace roundtrip::io {
 
@@ -23,15 +24,13 @@ GeometryKind sphere_sphere_kind() {
   k.build = [](const CaseSpec& spec) {
     const BodySpec& a = spec.body("sphere");
     const BodySpec& b = spec.body("sphere2");
-    for (const BodySpec* s : {&a, &b})
-      if (!s->shells.empty())
-        throw CaseError(fmt::format("{}: {}.shells: coated spheres are not built in this version",
-                                    spec.path.string(), s->table));
     SphereSphereOptions o;
     o.radius1 = a.radius;
     o.sphere1 = a.material;
     o.radius2 = b.radius;
     o.sphere2 = b.material;
+    o.shells1 = a.solver_shells();
+    o.shells2 = b.solver_shells();
     o.medium = spec.medium;
     o.field = field_kind_from_string(spec.field);
     o.rel_tol = spec.frequency.rel_tol;

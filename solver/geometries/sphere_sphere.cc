@@ -49,8 +49,10 @@
 #include "solver/geometries/plate_plate.h"
 #include "solver/materials/models.h"
 #include "solver/pfa/pfa.h"
+#include "solver/planar/layered.h"
 #include "solver/planar/planar.h"
 #include "solver/scatterers/mie.h"
+#include "solver/scatterers/sphere_body.h"
 
 namespace roundtrip {
 namespace {
@@ -128,14 +130,27 @@ class SphereSphere final : public Geometry {
     keep_large_blocks_in_heap();
     if (!o_.medium) o_.medium = make_vacuum();
     em_ = o_.field == FieldKind::kElectromagnetic;
-    const bool equal = o_.radius1 == o_.radius2 && (!em_ || same_material(o_.sphere1, o_.sphere2));
+    if (!em_) o_.shells1.clear(), o_.shells2.clear();  // scalar spheres are homogeneous
+    body1_ = SphereBody{o_.radius1, o_.sphere1, o_.shells1};
+    body2_ = SphereBody{o_.radius2, o_.sphere2, o_.shells2};
+    bool same_shells = o_.shells1.size() == o_.shells2.size();
+    for (std::size_t i = 0; same_shells && i < o_.shells1.size(); ++i)
+      same_shells = o_.shells1[i].thickness == o_.shells2[i].thickness &&
+                    same_material(o_.shells1[i].material, o_.shells2[i].material);
+    const bool equal =
+        o_.radius1 == o_.radius2 && same_shells && (!em_ || same_material(o_.sphere1, o_.sphere2));
     mirror_ = equal && o_.method == SphereSphereMethod::kAuto;
     r_eff_ = pfa_effective_radius(o_.radius1, o_.radius2);
     // PFA partner: half-spaces of the two materials (Derjaguin 1934 with R_eff). Scalar fields:
     // half of the electromagnetic perfect-conductor plates, as for sphere-plate.
     if (em_) {
-      pfa_plates_ = std::make_unique<PlatePlate>(make_half_space(o_.sphere1),
-                                                 make_half_space(o_.sphere2), o_.medium);
+      // A coated sphere's partner is the same films on a half-space of its core (layered.h).
+      const auto partner = [](const SphereBody& b) {
+        std::vector<Layer> films;
+        for (const SphereShell& s : b.shells) films.push_back({s.material, s.thickness});
+        return films.empty() ? make_half_space(b.core) : make_layered(films, b.core);
+      };
+      pfa_plates_ = std::make_unique<PlatePlate>(partner(body1_), partner(body2_), o_.medium);
     } else {
       const PlanarPtr pec = make_half_space(make_perfect_conductor());
       pfa_plates_ = std::make_unique<PlatePlate>(pec, pec, o_.medium);
@@ -156,7 +171,7 @@ class SphereSphere final : public Geometry {
       return fmt::format("two {} spheres (R1 = {:.6g} m, R2 = {:.6g} m), scalar field",
                          to_string(o_.field), o_.radius1, o_.radius2);
     return fmt::format("spheres of {} (R1 = {:.6g} m) and {} (R2 = {:.6g} m) in {}",
-                       o_.sphere1->name(), o_.radius1, o_.sphere2->name(), o_.radius2,
+                       body1_.describe(), o_.radius1, body2_.describe(), o_.radius2,
                        o_.medium->name());
   }
 
@@ -200,18 +215,15 @@ class SphereSphere final : public Geometry {
     StaticSphere st1, st2;
     if (is_static) {
       fill_static_nodes(gl, d, nodes);
-      const double eps_m = o_.medium->static_limit().static_eps;
-      st1 = static_sphere(o_.field, em_ ? o_.sphere1->static_limit() : StaticLimit{}, eps_m,
-                          o_.radius1, l1);
-      if (!mirror_)
-        st2 = static_sphere(o_.field, em_ ? o_.sphere2->static_limit() : StaticLimit{}, eps_m,
-                            o_.radius2, l2);
+      // Exact xi = 0 factors, homogeneous or coated (sphere_body.h).
+      st1 = sphere_static(body1_, o_.field, *o_.medium, l1);
+      if (!mirror_) st2 = sphere_static(body2_, o_.field, *o_.medium, l2);
     } else {
       const double eps_m = o_.medium->epsilon(xi);
       const double kappa = std::sqrt(eps_m) * xi / kSpeedOfLight;
       fill_dynamic_nodes(gl, kappa * d, kappa, nodes);
-      mie1 = sphere_mie(o_.sphere1, o_.radius1, xi, eps_m, kappa, l1);
-      if (!mirror_) mie2 = sphere_mie(o_.sphere2, o_.radius2, xi, eps_m, kappa, l2);
+      mie1 = sphere_mie(body1_, o_.field, xi, *o_.medium, l1);  // homogeneous or coated
+      if (!mirror_) mie2 = sphere_mie(body2_, o_.field, xi, *o_.medium, l2);
     }
     // The mirror's reflection factor c = +-1 drops out of G1 G2 and of det(1 -+ W^T W).
     std::fill(nodes.c_te.begin(), nodes.c_te.end(), 1.0);
@@ -287,16 +299,10 @@ class SphereSphere final : public Geometry {
     return sphere_plate_lmax_model(radius, 0.5 * gap, xi / mirror_scale(gap), tol, order);
   }
 
-  MieLog sphere_mie(const MaterialPtr& sphere, double radius, double xi, double eps_m, double kappa,
-                    int lmax) const {
-    const bool pec = em_ && sphere->is_perfect_conductor();
-    const double n = (em_ && !pec) ? std::sqrt(sphere->epsilon(xi) / eps_m) : 1.0;
-    return mie_imaginary(o_.field, pec, kappa * radius, n, lmax);
-  }
-
   SphereSphereOptions o_;
   bool em_ = true;
   bool mirror_ = false;
+  SphereBody body1_, body2_;  // radius, core and shells of each sphere
   double r_eff_ = 0.0;
   std::unique_ptr<PlatePlate> pfa_plates_;
   double pfa_scale_ = 1.0;
@@ -317,6 +323,10 @@ std::string SphereSphereOptions::validate() const {
   if (field == FieldKind::kElectromagnetic) {
     if (!sphere1) return "material of sphere 1 is missing";
     if (!sphere2) return "material of sphere 2 is missing";
+    if (auto p = SphereBody{radius1, sphere1, shells1}.validate(); !p.empty())
+      return "sphere 1: " + p;
+    if (auto p = SphereBody{radius2, sphere2, shells2}.validate(); !p.empty())
+      return "sphere 2: " + p;
   }
   return {};
 }

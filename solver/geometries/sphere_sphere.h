@@ -10,6 +10,7 @@
 #include "solver/logdet/low_rank.h"
 #include "solver/materials/material.h"
 #include "solver/scatterers/field.h"
+#include "solver/scatterers/sphere_body.h"
 
 namespace roundtrip {
 
@@ -22,7 +23,10 @@ struct SphereSphereOptions {
   double radius2 = 0.0;  ///< R2 (m), > 0
   MaterialPtr sphere1;   ///< material of sphere 1 (ignored for scalar fields)
   MaterialPtr sphere2;   ///< material of sphere 2 (ignored for scalar fields)
-  MaterialPtr medium;    ///< medium around the spheres (vacuum if null)
+  /// Shells of each sphere, outermost first (solver/scatterers/sphere_body.h); the radii stay
+  /// the outer radii and sphere1/sphere2 the cores. Ignored for scalar fields.
+  std::vector<SphereShell> shells1, shells2;
+  MaterialPtr medium;  ///< medium around the spheres (vacuum if null)
   FieldKind field = FieldKind::kElectromagnetic;
   double rel_tol = 1e-5;   ///< target relative error; sets l_max and quadrature unless fixed
   int l_max = 0;           ///< 0: automatic per sphere from rel_tol and R_i/L; else both spheres
