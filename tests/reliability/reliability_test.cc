@@ -153,7 +153,7 @@ TEST_F(DiskFull, WhileWritingTheResultsTheOlderFileAndTheJournalAreKeptAndTheSta
   EXPECT_NE(err("full").find("writing the results file failed: no space left on device"),
             std::string::npos)
       << err("full");
-  EXPECT_EQ(slurp(dir_ / "mnt/res.h5"), slurp(dir_ / "older.h5")) << "the older file changed";
+  EXPECT_TRUE(slurp(dir_ / "mnt/res.h5") == slurp(dir_ / "older.h5")) << "the older file changed";
   EXPECT_TRUE(fs::exists(dir_ / "mnt/res.h5.journal")) << "the journal is kept";
   EXPECT_EQ(temporaries(dir_ / "mnt"), std::vector<std::string>{}) << "temporary file left";
   // With space again, the same command resumes from the journal to the same numbers.
@@ -171,7 +171,7 @@ TEST_F(DiskFull, WhileJournallingTheStatusIsNoSpaceAndTheJournalKeepsWholeRecord
   EXPECT_EQ(status, kExitWriteFailed) << err("full");  // was 1, "bad input"
   EXPECT_NE(err("full").find("checkpoint journal"), std::string::npos) << err("full");
   EXPECT_NE(err("full").find("no space left on device"), std::string::npos) << err("full");
-  EXPECT_EQ(slurp(dir_ / "mnt/res.h5"), slurp(dir_ / "older.h5")) << "the older file changed";
+  EXPECT_TRUE(slurp(dir_ / "mnt/res.h5") == slurp(dir_ / "older.h5")) << "the older file changed";
   EXPECT_EQ(temporaries(dir_ / "mnt"), std::vector<std::string>{}) << "temporary file left";
   const std::string journal = slurp(dir_ / "mnt/res.h5.journal");
   ASSERT_FALSE(journal.empty());
@@ -199,7 +199,7 @@ TEST_F(Reliability, AnInterruptedRerunKeepsTheCompleteFileAndWritesItsPartialRes
       interrupt("sp.toml --threads 1 -o sp.h5", "sp.h5.journal", kSphereHeaderLines + 12, "rerun"),
       kExitInterrupted)
       << err("rerun");
-  EXPECT_EQ(slurp(dir_ / "sp.h5"), slurp(dir_ / "complete.h5"))
+  EXPECT_TRUE(slurp(dir_ / "sp.h5") == slurp(dir_ / "complete.h5"))
       << "an interrupted rerun replaced the complete file";  // was: replaced by 1 of 3 gaps
   ASSERT_TRUE(fs::exists(dir_ / "sp.partial.h5")) << err("rerun");
   EXPECT_EQ(attr("sp.partial.h5", "complete"), 0);
