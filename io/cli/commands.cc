@@ -307,9 +307,9 @@ int run_command(const RunArgs& args, std::ostream& out, std::ostream& err) {
       lines += (i ? ", " : "") + std::to_string(bad[i]);
     err << fmt::format(
         "roundtrip: warning: {}: {} damaged record{} dropped (line{} {}{}: checksum mismatch, "
-        "unreadable or not finite); they are computed again\n",
+        "unreadable or not finite); {} computed again\n",
         journal.path().string(), bad.size(), bad.size() == 1 ? "" : "s", bad.size() == 1 ? "" : "s",
-        lines, bad.size() > 20 ? ", ..." : "");
+        lines, bad.size() > 20 ? ", ..." : "", bad.size() == 1 ? "it is" : "they are");
   }
   // Geometries that parallelise inside (sphere-plate) use the OpenMP default team size.
   if (args.threads > 0) omp_set_num_threads(args.threads);
