@@ -12,4 +12,21 @@ class CaseError : public InputError {
   using InputError::InputError;
 };
 
+/// Writing the results file or the checkpoint journal failed after the run had started (no space
+/// left on device, quota, I/O error, file system turned read-only). What was on disk before is
+/// kept; `error_number` is the errno of the failed call.
+class StorageError : public std::runtime_error {
+ public:
+  StorageError(const std::string& what, int error_number)
+      : std::runtime_error(what), error_number_(error_number) {}
+  int error_number() const { return error_number_; }
+
+ private:
+  int error_number_;
+};
+
+/// Why a path cannot be written, from errno and the file system (statvfs): "the file system is
+/// read-only", "no permission to write in directory ...", "no space left on device", ...
+std::string write_failure_reason(int error_number, const std::string& directory);
+
 }  // namespace roundtrip::io

@@ -4,10 +4,12 @@
 #include <fmt/format.h>
 #include <sys/file.h>
 #include <unistd.h>
+#include <zlib.h>
 
 #include <bit>
 #include <cerrno>
 #include <chrono>
+#include <cmath>
 #include <cstdio>
 #include <cstdlib>
 #include <cstring>
@@ -19,7 +21,8 @@
 namespace roundtrip::io {
 namespace {
 
-constexpr const char* kMagic = "roundtrip-journal 1";
+constexpr const char* kMagic = "roundtrip-journal 2";
+constexpr const char* kMagicV1 = "roundtrip-journal 1";  // no record checksums: never resumed
 constexpr std::chrono::milliseconds kSyncInterval{200};  // power loss loses at most this much
 
 std::string escape(const std::string& s) {
@@ -66,9 +69,28 @@ std::string first_difference(const JournalKey& old_key, const JournalKey& new_ke
   return "the header hash differs";
 }
 
+// zlib's CRC-32 of a record's text (ISO 3309 / ITU-T V.42 polynomial; common practice).
+std::uint32_t crc_of(const std::string& text) {
+  return static_cast<std::uint32_t>(
+      ::crc32(0L, reinterpret_cast<const Bytef*>(text.data()), static_cast<uInt>(text.size())));
+}
+
+std::string record_line(int point, int gap, double xi, const Spectral& s) {
+  const std::string body =
+      fmt::format("c {} {} {} {} {} {}", point, gap, hex(xi), hex(s.value), hex(s.d1), hex(s.d2));
+  return fmt::format("{} {:08x}\n", body, crc_of(body));
+}
+
+// A record "c <point> <gap> <xi> <s> <ds/dL> <d2s/dL2> <crc32>": false if it does not parse,
+// its checksum does not match its text, or a value is not finite (never taken from a journal).
 bool parse_record(const std::string& line, int& point, int& gap, double v[4]) {
   if (line.size() < 2 || line[0] != 'c' || line[1] != ' ') return false;
-  const char* p = line.c_str() + 2;
+  const auto sp = line.rfind(' ');
+  const std::string body = line.substr(0, sp), crc_text = line.substr(sp + 1);
+  if (crc_text.size() != 8 || crc_text.find_first_not_of("0123456789abcdef") != std::string::npos)
+    return false;
+  if (std::strtoul(crc_text.c_str(), nullptr, 16) != crc_of(body)) return false;
+  const char* p = body.c_str() + 2;
   char* end = nullptr;
   errno = 0;
   const long a = std::strtol(p, &end, 10);
@@ -79,30 +101,49 @@ bool parse_record(const std::string& line, int& point, int& gap, double v[4]) {
   p = end;
   for (int i = 0; i < 4; ++i) {
     v[i] = std::strtod(p, &end);
-    if (end == p) return false;
+    if (end == p || !std::isfinite(v[i])) return false;
     p = end;
   }
   while (*p == ' ') ++p;
-  if (*p != '\0' || a < 0 || b < 0) return false;
+  if (*p != '\0' || a < 0 || b < 0 || a > 1000000000 || b > 1000000000) return false;
   point = static_cast<int>(a);
   gap = static_cast<int>(b);
   return true;
 }
 
-void write_all(int fd, const std::string& s, const std::filesystem::path& path, bool sync) {
+std::string no_space_hint(int e) {
+  return e == ENOSPC || e == EDQUOT ? "; free some space and run the same command again to resume"
+                                    : "";
+}
+
+// Write `s` at the end of the journal. On failure the journal is cut back to `size` (what it
+// held before), so that it keeps every whole record written so far and no torn line.
+void write_all(int fd, const std::string& s, const std::filesystem::path& path, bool sync,
+               std::size_t& size, std::size_t records) {
   std::size_t done = 0;
+  const auto fail = [&](const char* step, int e) {
+    if (::ftruncate(fd, static_cast<off_t>(size)) != 0) {
+      // nothing more to do: a torn last line is dropped when the journal is read
+    }
+    const auto dir = path.has_parent_path() ? path.parent_path() : std::filesystem::path(".");
+    return StorageError(
+        fmt::format("checkpoint journal \"{}\": {} failed: {}; the journal keeps every "
+                    "contribution written before (at least {}){}",
+                    path.string(), step, write_failure_reason(e, dir.string()), records,
+                    no_space_hint(e)),
+        e);
+  };
   while (done < s.size()) {
     const ssize_t n = ::write(fd, s.data() + done, s.size() - done);
     if (n < 0) {
       if (errno == EINTR) continue;
-      throw CaseError(fmt::format("checkpoint journal \"{}\": write failed: {}", path.string(),
-                                  std::strerror(errno)));
+      throw fail("write", errno);
     }
     done += static_cast<std::size_t>(n);
   }
+  size += s.size();
   if (sync && ::fdatasync(fd) != 0 && errno != EINVAL)
-    throw CaseError(fmt::format("checkpoint journal \"{}\": flush to disk failed: {}",
-                                path.string(), std::strerror(errno)));
+    throw fail("flush to disk (fdatasync)", errno);
 }
 
 }  // namespace
@@ -173,11 +214,32 @@ void Journal::load_or_start(const JournalKey& key, bool restart, const std::stri
     std::ostringstream ss;
     ss << in.rdbuf();
     const std::string text = ss.str();
+    // Only whole lines count: a torn last line (killed while writing) is dropped.
     const std::size_t good_end = text.rfind('\n') == std::string::npos ? 0 : text.rfind('\n') + 1;
-    // Header.
-    std::istringstream lines(text.substr(0, good_end));
+    std::size_t offset = 0;
+    int lineno = 0;
+    bool crlf = false;
+    // The next whole line without its line ending (CRLF accepted: a journal copied through a
+    // Windows editor or transfer reads the same); false at the end of the whole lines.
+    const auto next_line = [&](std::string& line) {
+      if (offset >= good_end) return false;
+      const std::size_t nl = text.find('\n', offset);
+      line = text.substr(offset, nl - offset);
+      if (!line.empty() && line.back() == '\r') {
+        line.pop_back();
+        crlf = true;
+      }
+      offset = nl + 1;
+      ++lineno;
+      return true;
+    };
     std::string line;
-    std::getline(lines, line);
+    if (!next_line(line)) line = text.substr(0, std::min<std::size_t>(text.size(), 60));
+    if (line == kMagicV1)
+      throw CaseError(fmt::format(
+          "{}: written by an older roundtrip (journal format 1, without record checksums); it "
+          "is not resumed. Rerun with --restart to discard it and start over",
+          where));
     if (line != kMagic)
       throw CaseError(fmt::format(
           "{}: not a roundtrip checkpoint journal (first line \"{}\"); move it away or rerun "
@@ -186,64 +248,68 @@ void Journal::load_or_start(const JournalKey& key, bool restart, const std::stri
     JournalKey old_key;
     std::string old_hash;
     bool begun = false;
-    while (std::getline(lines, line)) {
+    while (next_line(line)) {
       if (line == "begin") {
         begun = true;
         break;
       }
+      const auto eq = line.find(" = ");
       if (line.rfind("hash ", 0) == 0) {
         old_hash = line.substr(5);
-      } else if (line.rfind("key ", 0) == 0) {
-        const auto eq = line.find(" = ");
-        if (eq == std::string::npos) break;
+      } else if (line.rfind("key ", 0) == 0 && eq != std::string::npos) {
         old_key.emplace_back(line.substr(4, eq - 4), line.substr(eq + 3));
       } else {
-        break;
+        throw CaseError(fmt::format(
+            "{}:{}: damaged header line \"{}\"; it will not be resumed. Rerun with --restart to "
+            "discard it and start over",
+            where, lineno, line.substr(0, 60)));
       }
     }
     if (!begun) {
       // A run killed while writing the header saved nothing yet: start over.
       fresh = true;
     } else {
-      if (old_hash != fmt::format("{:016x}", journal_hash(key)) || header != header_text(key)) {
+      // Every header line against the case: the key lines one by one, then the hash line.
+      JournalKey escaped;
+      for (const auto& [k, v] : key) escaped.emplace_back(escape(k), escape(v));
+      if (old_key != escaped)
         throw CaseError(fmt::format(
             "{}: the case changed since this checkpoint was written ({}); it will not be "
             "resumed. Rerun with --restart to discard it and start over",
             where, first_difference(old_key, key)));
-      }
+      if (old_hash != fmt::format("{:016x}", journal_hash(key)))
+        throw CaseError(fmt::format(
+            "{}: its header hash line \"hash {}\" does not match its key lines (the header was "
+            "edited or damaged); it will not be resumed. Rerun with --restart to discard it",
+            where, old_hash.substr(0, 40)));
       fresh = false;
-      std::size_t offset = static_cast<std::size_t>(lines.tellg());
-      int lineno = 1 + static_cast<int>(key.size()) + 2;
-      while (offset < good_end) {
-        const std::size_t nl = text.find('\n', offset);
-        const std::string rec = text.substr(offset, nl - offset);
-        ++lineno;
+      while (next_line(line)) {
         int point = 0, gap = 0;
         double v[4];
-        if (!parse_record(rec, point, gap, v)) {
-          if (nl + 1 == good_end) {  // a damaged last record: drop it
-            break;
-          }
-          throw CaseError(fmt::format(
-              "{}:{}: damaged record \"{}\"; rerun with --restart to discard the journal", where,
-              lineno, rec.substr(0, 60)));
+        if (!parse_record(line, point, gap, v)) {
+          damaged_lines_.push_back(lineno);  // dropped: computed again and reported
+          continue;
         }
         records_[{point, gap, bits(v[0])}] = Spectral{v[1], v[2], v[3]};
-        offset = nl + 1;
       }
       loaded_ = records_.size();
-      // Cut a torn or damaged tail so that appended records start on a fresh line.
-      if (offset != text.size()) {
-        if (::ftruncate(fd_, static_cast<off_t>(offset)) != 0)
-          throw CaseError(
-              fmt::format("{}: cannot repair its torn last line: {}", where, std::strerror(errno)));
+      crlf_ = crlf;
+      // Cut a torn tail so that appended records start on a fresh line.
+      if (good_end != text.size()) {
+        if (::ftruncate(fd_, static_cast<off_t>(good_end)) != 0)
+          throw StorageError(
+              fmt::format("{}: cannot repair its torn last line: {}", where, std::strerror(errno)),
+              errno);
       }
+      size_ = good_end;
     }
   }
   if (fresh) {
     if (::ftruncate(fd_, 0) != 0)
-      throw CaseError(fmt::format("{}: cannot truncate it: {}", where, std::strerror(errno)));
-    write_all(fd_, header, path_, true);
+      throw StorageError(fmt::format("{}: cannot truncate it: {}", where, std::strerror(errno)),
+                         errno);
+    size_ = 0;
+    write_all(fd_, header, path_, true, size_, 0);
   }
 }
 
@@ -271,15 +337,17 @@ bool Journal::lookup(int point, int gap, double xi, Spectral& s) {
 }
 
 void Journal::record(int point, int gap, double xi, const Spectral& s) {
-  const std::string line =
-      fmt::format("c {} {} {} {} {} {}\n", point, gap, hex(xi), hex(s.value), hex(s.d1), hex(s.d2));
+  // A value that is not finite is never saved: a resumed run computes it again.
+  if (!std::isfinite(xi) || !std::isfinite(s.value) || !std::isfinite(s.d1) || !std::isfinite(s.d2))
+    return;
+  const std::string line = record_line(point, gap, xi, s);
   std::lock_guard<std::mutex> lock(mutex_);
   // write() alone survives kill -9 (the kernel holds the data); fdatasync, for power loss and
   // OS crashes, costs about a millisecond here, more than a plate-plate frequency, so it runs
   // at most every kSyncInterval.
   const auto now = std::chrono::steady_clock::now();
   const bool sync = now - last_sync_ >= kSyncInterval;
-  write_all(fd_, line, path_, sync);
+  write_all(fd_, line, path_, sync, size_, records_.size());
   if (sync) last_sync_ = now;
   records_[{point, gap, bits(xi)}] = s;
 }

@@ -1,6 +1,7 @@
 #include "io/results_hdf5.h"
 
 #include <H5Cpp.h>
+#include <fcntl.h>
 #include <fmt/format.h>
 #include <signal.h>
 #include <unistd.h>
@@ -257,7 +258,145 @@ void remove_stale_temporaries(const std::filesystem::path& final_path) {
   }
 }
 
+void silence_hdf5() {
+  H5::Exception::dontPrint();                   // the C++ API's default error stack
+  H5Eset_auto2(H5E_DEFAULT, nullptr, nullptr);  // and the C library's
+}
+
+bool is_hdf5(const std::filesystem::path& p) {
+  try {
+    return H5::H5File::isHdf5(p.string());
+  } catch (const H5::Exception&) {
+    return false;
+  }
+}
+
+std::filesystem::path directory_of(const std::filesystem::path& p) {
+  return p.has_parent_path() ? p.parent_path() : std::filesystem::path(".");
+}
+
+// The whole file in memory (core driver without a backing store): HDF5 never touches the disk,
+// so a full device cannot fail inside HDF5 (whose C++ destructors print and, while an exception
+// unwinds, crashed on the half-closed file).
+std::vector<unsigned char> build_image(const std::function<void(H5::H5File&)>& fill,
+                                       const std::string& name, const std::string& where) {
+  silence_hdf5();
+  try {
+    H5::FileAccPropList fapl;
+    fapl.setCore(std::size_t{1} << 20, false);
+    H5::H5File file(name, H5F_ACC_TRUNC, H5::FileCreatPropList::DEFAULT, fapl);
+    fill(file);
+    file.flush(H5F_SCOPE_GLOBAL);
+    const ssize_t n = H5Fget_file_image(file.getId(), nullptr, 0);
+    if (n <= 0) throw H5::FileIException("H5Fget_file_image", "no file image");
+    std::vector<unsigned char> image(static_cast<std::size_t>(n));
+    if (H5Fget_file_image(file.getId(), image.data(), image.size()) != n)
+      throw H5::FileIException("H5Fget_file_image", "file image changed size");
+    file.close();
+    return image;
+  } catch (const H5::Exception& e) {
+    throw StorageError(
+        fmt::format("{}: building the HDF5 file in memory failed: {}", where, e.getDetailMsg()),
+        EIO);
+  }
+}
+
+// write() the bytes to `path`, fsync and close it; on any failure remove it and throw the errno.
+void write_durably(const std::filesystem::path& path, const std::vector<unsigned char>& bytes,
+                   const std::string& where) {
+  const auto failed = [&](const char* step, int e) {
+    std::error_code ec;
+    std::filesystem::remove(path, ec);
+    return StorageError(
+        fmt::format("{}: {} the results file failed: {}; any older results file and the "
+                    "checkpoint journal are kept as they were{}",
+                    where, step, write_failure_reason(e, directory_of(path).string()),
+                    e == ENOSPC || e == EDQUOT
+                        ? "; free some space and run the same command again: it resumes from "
+                          "the journal"
+                        : ""),
+        e);
+  };
+  const int fd = ::open(path.c_str(), O_WRONLY | O_CREAT | O_TRUNC | O_CLOEXEC, 0644);
+  if (fd < 0) throw failed("creating", errno);
+  std::size_t done = 0;
+  while (done < bytes.size()) {
+    const ssize_t n = ::write(fd, bytes.data() + done, bytes.size() - done);
+    if (n < 0) {
+      if (errno == EINTR) continue;
+      const int e = errno;
+      ::close(fd);
+      throw failed("writing", e);
+    }
+    done += static_cast<std::size_t>(n);
+  }
+  if (::fsync(fd) != 0 && errno != EINVAL) {
+    const int e = errno;
+    ::close(fd);
+    throw failed("flushing (fsync)", e);
+  }
+  if (::close(fd) != 0 && errno != EINTR) throw failed("closing", errno);
+}
+
+// After a rename, fsync the directory so that the new name survives a power loss.
+void sync_directory(const std::filesystem::path& dir) {
+  const int fd = ::open(dir.c_str(), O_RDONLY | O_DIRECTORY | O_CLOEXEC);
+  if (fd < 0) return;
+  ::fsync(fd);  // best effort: the file itself is already on disk
+  ::close(fd);
+}
+
+int gaps_in(const H5::Group& g) {
+  if (!g.nameExists("results") || !g.nameExists("results/gap")) return 0;
+  const H5::DataSet ds = g.openDataSet("results/gap");
+  hsize_t n = 0;
+  ds.getSpace().getSimpleExtentDims(&n);
+  return static_cast<int>(n);
+}
+
+int int_attr(const H5::H5Object& obj, const std::string& name, int fallback) {
+  if (!obj.attrExists(name)) return fallback;
+  int v = fallback;
+  obj.openAttribute(name).read(H5::PredType::NATIVE_INT, &v);
+  return v;
+}
+
 }  // namespace
+
+ExistingResults read_existing_results(const std::filesystem::path& path) {
+  ExistingResults out;
+  silence_hdf5();
+  if (!is_hdf5(path)) return out;
+  try {
+    H5::H5File file(path.string(), H5F_ACC_RDONLY);
+    if (!file.attrExists("format")) return out;
+    std::string format;
+    const H5::Attribute a = file.openAttribute("format");
+    a.read(a.getStrType(), format);
+    if (format != kResultsFormatName) return out;
+    out.complete = int_attr(file, "complete", 0) == 1;
+    if (file.attrExists("scan_points")) {
+      if (file.nameExists("scan")) {
+        const H5::Group scan = file.openGroup("scan");
+        for (hsize_t i = 0; i < scan.getNumObjs(); ++i)
+          out.finished_gaps += gaps_in(scan.openGroup(scan.getObjnameByIdx(i)));
+      }
+    } else {
+      out.finished_gaps = gaps_in(file);
+    }
+    out.readable = true;
+  } catch (const H5::Exception&) {
+    out = ExistingResults{};
+  }
+  return out;
+}
+
+std::filesystem::path partial_results_path(const std::filesystem::path& final_path) {
+  const std::string ext = final_path.has_extension() ? final_path.extension().string() : ".h5";
+  std::filesystem::path p = final_path;
+  p.replace_filename(final_path.stem().string() + ".partial" + ext);
+  return p;
+}
 
 std::string iso8601_utc_now() {
   const std::time_t now = std::chrono::system_clock::to_time_t(std::chrono::system_clock::now());
@@ -277,11 +416,11 @@ ResultsWriter::ResultsWriter(std::filesystem::path final_path, std::string field
   if (final_.empty()) throw fail("empty path");
   std::error_code ec;
   if (std::filesystem::is_directory(final_, ec)) throw fail("it is a directory");
-  H5::Exception::dontPrint();
+  silence_hdf5();
   // Never clobber something else (a typo such as `-o case.toml`): only HDF5 files are replaced.
-  if (std::filesystem::exists(final_, ec) && !H5::H5File::isHdf5(final_.string()))
+  if (std::filesystem::exists(final_, ec) && !is_hdf5(final_))
     throw fail("a file that is not HDF5 exists there; not overwriting it");
-  const auto dir = final_.has_parent_path() ? final_.parent_path() : std::filesystem::path(".");
+  const auto dir = directory_of(final_);
   if (!std::filesystem::is_directory(dir, ec))
     throw fail(fmt::format("directory \"{}\" does not exist", dir.string()));
   remove_stale_temporaries(final_);
@@ -293,15 +432,20 @@ ResultsWriter::ResultsWriter(std::filesystem::path final_path, std::string field
     std::copy(t.begin(), t.end(), g_pending_path);
     g_pending_path[t.size()] = '\0';
   }
-  H5::Exception::dontPrint();
-  try {
-    H5::H5File probe(temp_.string(), H5F_ACC_TRUNC);
-    probe.close();
-  } catch (const H5::Exception&) {
-    std::filesystem::remove(temp_, ec);
-    throw fail(access(dir.c_str(), W_OK) != 0 ? "no permission to write in its directory"
-                                              : "HDF5 could not create the file");
+  // The probe is a plain open(): its errno tells a read-only file system from a missing
+  // permission or a full device.
+  const int fd = ::open(temp_.c_str(), O_WRONLY | O_CREAT | O_TRUNC | O_CLOEXEC, 0644);
+  if (fd < 0) {
+    const int e = errno;
+    g_pending_path[0] = '\0';
+    const std::string why = write_failure_reason(e, dir.string());
+    if (e == ENOSPC || e == EDQUOT)
+      throw StorageError(fmt::format("{} = \"{}\": cannot write the results file: {}", field_,
+                                     final_.string(), why),
+                         e);
+    throw fail(why);
   }
+  ::close(fd);
 }
 
 void remove_pending_results_file() noexcept {
@@ -316,61 +460,91 @@ ResultsWriter::~ResultsWriter() {
   }
 }
 
-void ResultsWriter::commit(const RunResult& result, const ResultsInfo& info) {
-  write([&](H5::H5File& file) {
-    write_common(file, info);
-    write_run(file, result, info);
-  });
+CommitOutcome ResultsWriter::commit(const RunResult& result, const ResultsInfo& info) {
+  return write(
+      [&](H5::H5File& file) {
+        write_common(file, info);
+        write_run(file, result, info);
+      },
+      info.complete, static_cast<int>(result.points.size()));
 }
 
-void ResultsWriter::commit_scan(const std::vector<ScanRunResult>& runs, const ResultsInfo& common,
-                                int points_planned) {
-  write([&](H5::H5File& file) {
-    write_common(file, common);
-    bool complete = static_cast<int>(runs.size()) == points_planned;
-    double wall = 0.0;
-    for (const auto& run : runs) {
-      complete = complete && run.info.complete;
-      wall += run.result.wall_seconds;
-    }
-    attr(file, "scan_points", points_planned);
-    attr(file, "scan_points_written", static_cast<int>(runs.size()));
-    std::string keys;
-    if (!runs.empty())
-      for (const auto& [k, v] : runs.front().parameters) keys += (keys.empty() ? "" : ", ") + k;
-    attr(file, "scan_keys", keys);
-    attr(file, "complete", complete ? 1 : 0);
-    attr(file, "wall_time_s", wall);
-    H5::Group scan = file.createGroup("scan");
-    for (std::size_t i = 0; i < runs.size(); ++i) {
-      H5::Group g = scan.createGroup(std::to_string(i));
-      std::string label;
-      for (const auto& [k, v] : runs[i].parameters) {
-        attr(g, "scan." + k, v);
-        label += (label.empty() ? "" : ", ") + k + " = " + v;
-      }
-      attr(g, "scan_label", label);
-      write_run(g, runs[i].result, runs[i].info);
-    }
-  });
-}
-
-void ResultsWriter::write(const std::function<void(H5::H5File&)>& fill) {
-  try {
-    H5::H5File file(temp_.string(), H5F_ACC_TRUNC);
-    fill(file);
-    file.close();
-  } catch (const H5::Exception& e) {
-    throw CaseError(fmt::format("{} = \"{}\": writing the results file failed: {}", field_,
-                                final_.string(), e.getDetailMsg()));
+CommitOutcome ResultsWriter::commit_scan(const std::vector<ScanRunResult>& runs,
+                                         const ResultsInfo& common, int points_planned) {
+  bool complete = static_cast<int>(runs.size()) == points_planned;
+  int finished = 0;
+  double wall = 0.0;
+  for (const auto& run : runs) {
+    complete = complete && run.info.complete;
+    finished += static_cast<int>(run.result.points.size());
+    wall += run.result.wall_seconds;
   }
+  return write(
+      [&](H5::H5File& file) {
+        write_common(file, common);
+        attr(file, "scan_points", points_planned);
+        attr(file, "scan_points_written", static_cast<int>(runs.size()));
+        std::string keys;
+        if (!runs.empty())
+          for (const auto& [k, v] : runs.front().parameters) keys += (keys.empty() ? "" : ", ") + k;
+        attr(file, "scan_keys", keys);
+        attr(file, "complete", complete ? 1 : 0);
+        attr(file, "wall_time_s", wall);
+        H5::Group scan = file.createGroup("scan");
+        for (std::size_t i = 0; i < runs.size(); ++i) {
+          H5::Group g = scan.createGroup(std::to_string(i));
+          std::string label;
+          for (const auto& [k, v] : runs[i].parameters) {
+            attr(g, "scan." + k, v);
+            label += (label.empty() ? "" : ", ") + k + " = " + v;
+          }
+          attr(g, "scan_label", label);
+          write_run(g, runs[i].result, runs[i].info);
+        }
+      },
+      complete, finished);
+}
+
+CommitOutcome ResultsWriter::write(const std::function<void(H5::H5File&)>& fill, bool complete,
+                                   int finished_gaps) {
+  const std::string where = fmt::format("{} = \"{}\"", field_, final_.string());
+  const std::vector<unsigned char> image = build_image(fill, temp_.string() + ".image", where);
+
+  CommitOutcome outcome;
+  outcome.written = final_;
   std::error_code ec;
-  std::filesystem::rename(temp_, final_, ec);
-  if (ec)
-    throw CaseError(fmt::format("{} = \"{}\": could not move the finished file into place: {}",
-                                field_, final_.string(), ec.message()));
+  if (!complete && std::filesystem::exists(final_, ec)) {
+    outcome.existing = read_existing_results(final_);
+    const ExistingResults& old = outcome.existing;
+    if (!old.readable || old.complete || old.finished_gaps > finished_gaps) {
+      outcome.written = partial_results_path(final_);
+      outcome.kept_existing = true;
+      if (std::filesystem::exists(outcome.written, ec) && !is_hdf5(outcome.written))
+        throw StorageError(
+            fmt::format("{}: the partial results were not written: a file that is not HDF5 "
+                        "exists at \"{}\" and is not overwritten (the checkpoint journal keeps "
+                        "every finished frequency)",
+                        where, outcome.written.string()),
+            EEXIST);
+    }
+  }
+  write_durably(temp_, image, where);
+  if (::rename(temp_.c_str(), outcome.written.c_str()) != 0) {
+    const int e = errno;
+    std::filesystem::remove(temp_, ec);
+    throw StorageError(fmt::format("{}: could not move the finished file into place: {}", where,
+                                   write_failure_reason(e, directory_of(outcome.written).string())),
+                       e);
+  }
   committed_ = true;
   g_pending_path[0] = '\0';
+  sync_directory(directory_of(outcome.written));
+  if (complete) {
+    const auto partial = partial_results_path(final_);
+    if (std::filesystem::exists(partial, ec) && read_existing_results(partial).readable)
+      outcome.removed_partial = std::filesystem::remove(partial, ec);
+  }
+  return outcome;
 }
 
 }  // namespace roundtrip::io

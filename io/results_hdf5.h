@@ -1,10 +1,14 @@
 #pragma once
 // Results of one run in one HDF5 file (layout documented in README.md, "HDF5 results layout").
 //
-// The file is written to "<final>.tmp.<pid>" in the same directory and renamed at the end, so a
-// file at the final path is always complete. The temporary file is created when the writer is
-// constructed, before anything is computed: an unwritable path fails at once. All values are SI,
-// each dataset carries a `units` attribute.
+// The whole file is first built in memory (HDF5 core driver), then written with plain write()
+// calls to "<final>.tmp.<pid>" in the same directory, fsync'ed, renamed over the final path and
+// the directory fsync'ed: a file at the final path is always complete, and a full disk or an I/O
+// error is an errno (StorageError) with the older file left as it was, never an HDF5 failure in
+// the middle of a half-written file. The temporary file is created when the writer is
+// constructed, before anything is computed: an unwritable path fails at once. An interrupted run
+// never replaces a file that holds more finished gaps (see commit()). All values are SI, each
+// dataset carries a `units` attribute.
 #include <H5Cpp.h>
 
 #include <filesystem>
@@ -43,25 +47,51 @@ struct ScanRunResult {
   std::vector<std::pair<std::string, std::string>> parameters;
 };
 
+/// What an existing results file holds (read from its attributes and /results/gap lengths).
+struct ExistingResults {
+  bool readable = false;  ///< a roundtrip results file that could be read
+  bool complete = false;  ///< its `complete` attribute
+  int finished_gaps = 0;  ///< gaps in it (summed over scan points)
+};
+ExistingResults read_existing_results(const std::filesystem::path& path);
+
+/// Where an interrupted run puts its results when the final path holds more finished work:
+/// "<stem>.partial<ext>" beside it (ext ".h5" when the final path has none).
+std::filesystem::path partial_results_path(const std::filesystem::path& final_path);
+
+/// Where commit() put the file.
+struct CommitOutcome {
+  std::filesystem::path written;  ///< the final path, or the partial path beside it
+  bool kept_existing = false;     ///< the final path held more finished work and was kept
+  ExistingResults existing;       ///< what was at the final path before
+  bool removed_partial = false;   ///< a complete run removed an older partial file beside it
+};
+
 class ResultsWriter {
  public:
-  /// Creates the temporary file now. Throws CaseError naming `field` and the path if the file
-  /// cannot be created (missing directory, no permission, path is a directory).
+  /// Creates the temporary file now. Throws CaseError naming `field`, the path and the reason
+  /// (missing directory, no permission, read-only file system, path is a directory), or
+  /// StorageError if the device is full.
   ResultsWriter(std::filesystem::path final_path, std::string field);
   ~ResultsWriter();  ///< removes the temporary file unless commit() succeeded
   ResultsWriter(const ResultsWriter&) = delete;
   ResultsWriter& operator=(const ResultsWriter&) = delete;
 
-  /// Write everything into the temporary file, close it and rename it to the final path.
-  void commit(const RunResult& result, const ResultsInfo& info);
+  /// Build the file, write it to the temporary path, fsync and rename it to the final path. An
+  /// incomplete result (info.complete false) goes to partial_results_path() instead when the
+  /// final path holds a complete file, more finished gaps, or an HDF5 file that cannot be read
+  /// as roundtrip results. A complete result removes an older partial file beside it.
+  /// Throws StorageError (errno) if writing, fsync or rename fails; the older files are kept.
+  CommitOutcome commit(const RunResult& result, const ResultsInfo& info);
   /// Same for a scan: one group /scan/<k> per point (layout in README.md); `points_planned`
   /// is the number of scan points of the case (more than runs.size() if interrupted).
-  void commit_scan(const std::vector<ScanRunResult>& runs, const ResultsInfo& common,
-                   int points_planned);
+  CommitOutcome commit_scan(const std::vector<ScanRunResult>& runs, const ResultsInfo& common,
+                            int points_planned);
   const std::filesystem::path& path() const { return final_; }
 
  private:
-  void write(const std::function<void(H5::H5File&)>& fill);
+  CommitOutcome write(const std::function<void(H5::H5File&)>& fill, bool complete,
+                      int finished_gaps);
   std::filesystem::path final_, temp_;
   std::string field_;
   bool committed_ = false;

@@ -8,7 +8,7 @@ set -euo pipefail
 cd "$(dirname "$0")/.."
 
 packages=(cmake g++ make pkg-config libeigen3-dev libboost-dev libhdf5-dev hdf5-tools libgmsh-dev
-          libtomlplusplus-dev libgtest-dev libbenchmark-dev libcli11-dev libfmt-dev python3-h5py
+          libtomlplusplus-dev libgtest-dev libbenchmark-dev libcli11-dev libfmt-dev zlib1g-dev python3-h5py
           python3-matplotlib python3-scipy python3-mpmath)
 missing=()
 for p in "${packages[@]}"; do

@@ -296,9 +296,20 @@ int run_command(const RunArgs& args, std::ostream& out, std::ostream& err) {
   ResultsWriter writer(where.path, where.field);  // fails now if the path is unwritable
   Journal journal(journal_path(where.path), journal_key(spec), args.restart);
   if (journal.loaded() > 0)
-    err << fmt::format("roundtrip: resuming from {} ({} contributions saved)\n",
-                       journal.path().string(), journal.loaded())
+    err << fmt::format("roundtrip: resuming from {} ({} contributions saved{})\n",
+                       journal.path().string(), journal.loaded(),
+                       journal.had_crlf() ? "; CRLF line endings accepted" : "")
         << std::flush;
+  if (const auto& bad = journal.damaged_lines(); !bad.empty()) {
+    std::string lines;
+    for (std::size_t i = 0; i < bad.size() && i < 20; ++i)
+      lines += (i ? ", " : "") + std::to_string(bad[i]);
+    err << fmt::format(
+        "roundtrip: warning: {}: {} damaged record{} dropped (line{} {}{}: checksum mismatch, "
+        "unreadable or not finite); {} computed again\n",
+        journal.path().string(), bad.size(), bad.size() == 1 ? "" : "s", bad.size() == 1 ? "" : "s",
+        lines, bad.size() > 20 ? ", ..." : "", bad.size() == 1 ? "it is" : "they are");
+  }
   // Geometries that parallelise inside (sphere-plate) use the OpenMP default team size.
   if (args.threads > 0) omp_set_num_threads(args.threads);
   const bool terminal = isatty(STDERR_FILENO) == 1;
@@ -359,10 +370,9 @@ int run_command(const RunArgs& args, std::ostream& out, std::ostream& err) {
     err << fmt::format("roundtrip: resumed: {} contributions reused from {}\n", journal.reused(),
                        journal.path().string());
 
-  if (scan)
-    writer.commit_scan(runs, results_info(spec), static_cast<int>(points.size()));
-  else
-    writer.commit(runs.front().result, runs.front().info);
+  const CommitOutcome written =
+      scan ? writer.commit_scan(runs, results_info(spec), static_cast<int>(points.size()))
+           : writer.commit(runs.front().result, runs.front().info);
   std::size_t gaps_written = 0, gaps_planned = 0;
   double wall = 0.0;
   bool converged = true;
@@ -373,12 +383,24 @@ int run_command(const RunArgs& args, std::ostream& out, std::ostream& err) {
   }
   for (const auto& p : points) gaps_planned += p.spec.gaps.size();
   if (interrupted) {
+    if (written.kept_existing)
+      err << fmt::format(
+          "roundtrip: interrupted: {} holds more finished work ({}) than this run and is kept; "
+          "the partial results go beside it\n",
+          where.path.string(),
+          !written.existing.readable ? "an HDF5 file that is not readable as roundtrip results"
+          : written.existing.complete
+              ? "a complete run"
+              : fmt::format("{} finished gaps", written.existing.finished_gaps));
     err << fmt::format(
         "roundtrip: interrupted: {} of {} gaps finished, written to {} (complete = 0); the "
         "checkpoint {} keeps every finished frequency: run the same command again to resume\n",
-        gaps_written, gaps_planned, where.path.string(), journal.path().string());
+        gaps_written, gaps_planned, written.written.string(), journal.path().string());
     return kExitInterrupted;
   }
+  if (written.removed_partial)
+    err << fmt::format("roundtrip: removed {} (superseded by the complete {})\n",
+                       partial_results_path(where.path).string(), where.path.string());
   journal.remove();
   const int threads = runs.front().result.threads;
   if (scan)

@@ -15,6 +15,9 @@ inline constexpr int kExitInputError = 1;     // bad case file, option or path: 
 inline constexpr int kExitNotConverged = 3;   // results written, but some gap missed rel_tol
 inline constexpr int kExitInternalError = 4;  // a solver failure (a bug or an unhandled regime)
 inline constexpr int kExitInterrupted = 130;  // Ctrl-C: finished gaps written, journal kept
+// Writing failed while or after computing (no space left on device, quota, I/O error, file
+// system turned read-only): the older results file and the journal are kept as they were.
+inline constexpr int kExitWriteFailed = 6;
 
 /// Set by main's SIGINT/SIGTERM handler: the run stops at the next frequency, writes what has
 /// finished and keeps its checkpoint journal.

@@ -35,6 +35,7 @@ int main(int argc, char** argv) {
   app.footer(
       "Case-file reference: README.md. Exit status: 0 ok, 1 bad input (nothing written),\n"
       "2 bad command line, 3 results written but not converged, 4 solver failure,\n"
+      "6 writing failed (no space left on device, I/O error; older files kept),\n"
       "130 interrupted (finished gaps written; the same command resumes).");
 
   cli::RunArgs run_args;
@@ -102,6 +103,9 @@ int main(int argc, char** argv) {
     if (*preview) return cli::preview_command(preview_args, std::cout);
     if (*list) return cli::materials_list_command(std::cout);
     if (*eps) return cli::materials_eps_command(eps_args, std::cout);
+  } catch (const roundtrip::io::StorageError& e) {
+    std::cerr << "roundtrip: error: " << e.what() << "\n";
+    return cli::kExitWriteFailed;
   } catch (const roundtrip::io::CaseError& e) {
     std::cerr << "roundtrip: error: " << e.what() << "\n";
     return cli::kExitInputError;

@@ -169,6 +169,59 @@ print("OK")
   fs::remove_all(dir);
 }
 
+// An incomplete result never replaces a file with more finished gaps (or a complete one): it goes
+// to <stem>.partial.h5 beside it; one with as many or more gaps replaces an incomplete file; a
+// complete result replaces the file and removes the partial one. Decided from the `complete`
+// attribute and the /results/gap lengths (read_existing_results).
+TEST(ResultsHdf5, AnIncompleteResultNeverReplacesAFileWithMoreFinishedGaps) {
+  const fs::path dir = fresh_dir("partial");
+  const fs::path out = dir / "run.h5";
+  const auto commit = [&](int gaps, bool complete) {
+    RunResult r = sample_result();
+    r.points.resize(gaps);
+    ResultsInfo info;
+    info.quantities = {true, true, true};
+    info.complete = complete;
+    info.gaps_planned = 3;
+    return ResultsWriter(out, "output.file").commit(r, info);
+  };
+  EXPECT_EQ(partial_results_path(out), dir / "run.partial.h5");
+  EXPECT_EQ(partial_results_path(dir / "run"), dir / "run.partial.h5");
+  EXPECT_FALSE(read_existing_results(out).readable);
+
+  CommitOutcome c = commit(3, true);
+  EXPECT_EQ(c.written, out);
+  ExistingResults e = read_existing_results(out);
+  EXPECT_TRUE(e.readable && e.complete);
+  EXPECT_EQ(e.finished_gaps, 3);
+
+  c = commit(2, false);  // interrupted rerun: the complete file stays
+  EXPECT_TRUE(c.kept_existing);
+  EXPECT_EQ(c.written, dir / "run.partial.h5");
+  EXPECT_TRUE(read_existing_results(out).complete);
+  e = read_existing_results(dir / "run.partial.h5");
+  EXPECT_TRUE(e.readable && !e.complete);
+  EXPECT_EQ(e.finished_gaps, 2);
+
+  c = commit(3, true);  // the complete run replaces the file and removes the partial one
+  EXPECT_EQ(c.written, out);
+  EXPECT_TRUE(c.removed_partial);
+  EXPECT_FALSE(fs::exists(dir / "run.partial.h5"));
+
+  fs::remove(out);
+  c = commit(2, false);
+  EXPECT_EQ(c.written, out);
+  c = commit(1, false);  // fewer finished gaps than the incomplete file: beside it
+  EXPECT_EQ(c.written, dir / "run.partial.h5");
+  EXPECT_EQ(read_existing_results(out).finished_gaps, 2);
+  c = commit(2, false);  // as many: replaces it
+  EXPECT_EQ(c.written, out);
+  EXPECT_FALSE(c.kept_existing);
+  for (const auto& f : fs::directory_iterator(dir))
+    EXPECT_EQ(f.path().string().find(".tmp."), std::string::npos) << f.path();
+  fs::remove_all(dir);
+}
+
 TEST(ResultsHdf5, AbandonedRunLeavesNoFile) {
   const fs::path dir = fresh_dir("abandon");
   { ResultsWriter w(dir / "run.h5", "output.file"); }  // no commit: the computation failed
