@@ -9,6 +9,8 @@
 #include <chrono>
 #include <cmath>
 
+#include "solver/guards.h"
+
 namespace roundtrip {
 namespace {
 
@@ -22,12 +24,13 @@ bool dense_blocks(const std::map<std::string, double>& t) {
   return t.count("l_max") && t.count("quadrature_nodes");
 }
 
-int estimated_blocks(const Geometry& g, double gap, int lmax, double rel_tol) {
+// In double throughout: at R/L ~ 1e8 and beyond, l_max and the block count leave the int range.
+double estimated_blocks(const Geometry& g, double gap, double lmax, double rel_tol) {
   const auto R = g.pfa_length();
-  if (!R) return lmax + 1;
+  if (!R) return lmax + 1.0;
   const double m = std::sqrt(*R / gap) * std::log(10.0 / rel_tol) / 2.0;
-  const int batches = std::max(1, static_cast<int>(std::ceil(m / kMBatch)));
-  return std::min(lmax + 1, batches * kMBatch);
+  const double batches = std::max(1.0, std::ceil(m / kMBatch));
+  return std::min(lmax + 1.0, batches * kMBatch);
 }
 
 // Frequency evaluations of the rule on s(xi) = -exp(-xi / xi_c) and its L-derivatives.
@@ -64,9 +67,9 @@ double plan_flops_per_frequency(const Geometry& g, double gap, DerivativeOrder o
                                 double rel_tol) {
   const auto t = g.truncation(gap);
   if (!dense_blocks(t)) return 1.0;
-  const int lmax = static_cast<int>(t.at("l_max"));
+  const double lmax = t.at("l_max");
   const double q = 2.0 * t.at("quadrature_nodes");
-  const int blocks = estimated_blocks(g, gap, lmax, rel_tol);
+  const double blocks = estimated_blocks(g, gap, lmax, rel_tol);
   // Cost model of solver/logdet/low_rank.cc as used by the sphere-plate blocks (n multipole
   // rows, q node columns). Node space (q < n): banded Gram (a node couples to ~8/sqrt(l_max) of
   // the multipoles; measured 0.22 at l_max = 1109), Cholesky, inverse for the derivatives, and
@@ -82,19 +85,22 @@ double plan_flops_per_frequency(const Geometry& g, double gap, DerivativeOrder o
   // (Legendre recurrences and exp) are computed over their bands only: ~50 flops per entry.
   constexpr double kNodeSpaceInefficiency = 6.0;
   constexpr double kNodeBand = 100.0;
-  const double band = std::min(1.0, 8.0 / std::sqrt(double(lmax)));
+  const double band = std::min(1.0, 8.0 / std::sqrt(lmax));
   const double nb = std::min(q, kNodeBand);
   double flops = 0.0;
-  for (int m = 0; m < blocks; ++m) {
-    const double n = 2.0 * (lmax - std::max(1, m) + 1);
+  // Blocks beyond what could ever run (the plan refuses them, truncation_problem) are summed in
+  // 1000 strides of equal size, so that the model stays cheap and finite.
+  const double stride = std::max(1.0, std::floor(blocks / 1000.0));
+  for (double m = 0.0; m < blocks; m += stride) {
+    const double n = 2.0 * (lmax - std::max(1.0, m) + 1.0);
     if (q < n) {
       double f = band * n * q * nb + q * nb * nb + 50.0 * band * n * q;
       if (order != DerivativeOrder::kEnergy) f += 4.0 * q * nb * nb;
       if (order == DerivativeOrder::kGradient) f += 4.0 * q * q * nb;
-      flops += kNodeSpaceInefficiency * f;
+      flops += stride * kNodeSpaceInefficiency * f;
     } else {
-      flops += 4.0 * n * n * q + n * n * n / 3.0;
-      if (order == DerivativeOrder::kGradient) flops += 2.0 * n * q * q;
+      flops += stride * (4.0 * n * n * q + n * n * n / 3.0);
+      if (order == DerivativeOrder::kGradient) flops += stride * 2.0 * n * q * q;
     }
   }
   return flops;
@@ -117,7 +123,9 @@ PlanCalibration calibrate_plan(const Geometry& g, const std::vector<double>& gap
   // number if the model says it is too expensive to time.
   const auto timed = [&](double gap) {
     const double flops = plan_flops_per_frequency(g, gap, order, rel_tol);
-    if (dense_blocks(g.truncation(gap)) && flops * gemm > max_seconds) return -1.0;
+    const auto t = g.truncation(gap);
+    if (dense_blocks(t) && !(flops * gemm <= max_seconds && t.at("l_max") <= kMaxMultipoleOrder))
+      return -1.0;
     const double xi = g.frequency_scale(gap);
     (void)g.at_frequency(xi, gap, order);
     const auto t0 = std::chrono::steady_clock::now();
@@ -190,7 +198,7 @@ Plan make_plan(const Geometry& g, const std::vector<double>& gaps, const RunOpti
     p.frequencies = estimated_frequencies(g, gap, options.frequency);
     p.flops_per_frequency = plan_flops_per_frequency(g, gap, order, tol);
     if (dense_blocks(p.truncation)) {
-      const int lmax = static_cast<int>(p.truncation.at("l_max"));
+      const double lmax = p.truncation.at("l_max");
       p.blocks = estimated_blocks(g, gap, lmax, tol);
       const double n = 2.0 * lmax, q = 2.0 * p.truncation.at("quadrature_nodes");
       p.memory_bytes = 8.0 * (n * q + 3.0 * q * q);
@@ -213,6 +221,62 @@ Plan make_plan(const Geometry& g, const std::vector<double>& gaps, const RunOpti
     plan.memory_bytes = per_thread_peak * plan.threads;
   }
   return plan;
+}
+
+std::string bytes_text(double b) {
+  if (!(b > 0.0)) return "negligible";
+  if (b < 1024.0 * 1024.0) return fmt::format("{:.0f} KiB", std::max(1.0, b / 1024.0));
+  if (b < 1024.0 * 1024.0 * 1024.0) return fmt::format("{:.1f} MiB", b / (1024.0 * 1024.0));
+  return fmt::format("{:.2f} GiB", b / (1024.0 * 1024.0 * 1024.0));
+}
+
+std::string truncation_problem(const Geometry& g, const Plan& plan) {
+  for (const GapPlan& p : plan.gaps) {
+    const auto it = p.truncation.find("l_max");
+    if (it == p.truncation.end()) continue;
+    const double lmax = it->second;
+    if (lmax <= kMaxMultipoleOrder) continue;
+    const auto R = g.pfa_length();
+    const std::string body =
+        R ? fmt::format("the sphere of radius R = {:.6g} m at gap L = {:.6g} m (R/L = {:.3g})", *R,
+                        p.gap, *R / p.gap)
+          : fmt::format("gap L = {:.6g} m", p.gap);
+    std::string hint;
+    if (R && std::isfinite(lmax))
+      hint = fmt::format("; at this rel_tol R/L up to about {:.2g} fits",
+                         *R / p.gap * kMaxMultipoleOrder / lmax);
+    return fmt::format(
+        "{} needs l_max = {:.3g} multipoles, beyond the {:.0e} this program can index{}: the "
+        "exact computation is refused (the PFA and the derivative expansion are the tools "
+        "there)",
+        body, lmax, kMaxMultipoleOrder, hint);
+  }
+  return {};
+}
+
+MemoryLimit memory_limit(double user_bytes) {
+  const AvailableMemory a = available_memory();
+  MemoryLimit m{a.bytes, a.bytes > 0.0 ? a.source : std::string()};
+  if (user_bytes > 0.0 && (m.bytes <= 0.0 || user_bytes < m.bytes)) {
+    m.bytes = user_bytes;
+    m.source = a.bytes > 0.0 ? fmt::format("--max-memory; the machine has {} available ({})",
+                                           bytes_text(a.bytes), a.source)
+                             : std::string("--max-memory");
+  }
+  return m;
+}
+
+std::string memory_problem(const Plan& plan, const MemoryLimit& limit) {
+  if (!(limit.bytes > 0.0) || plan.memory_bytes <= limit.bytes) return {};
+  const GapPlan* peak = nullptr;
+  for (const GapPlan& p : plan.gaps)
+    if (!peak || p.memory_bytes > peak->memory_bytes) peak = &p;
+  return fmt::format(
+      "the plan needs about {} of working memory ({}{} thread{}), more than the {} available "
+      "({})",
+      bytes_text(plan.memory_bytes),
+      peak ? fmt::format("largest at L = {:.6g} m, ", peak->gap) : std::string(), plan.threads,
+      plan.threads == 1 ? "" : "s", bytes_text(limit.bytes), limit.source);
 }
 
 }  // namespace roundtrip

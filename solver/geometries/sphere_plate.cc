@@ -32,6 +32,7 @@
 
 #include <algorithm>
 #include <cmath>
+#include <exception>
 #include <limits>
 #include <mutex>
 #include <stdexcept>
@@ -40,6 +41,7 @@
 #include "solver/constants.h"
 #include "solver/geometries/plate_plate.h"
 #include "solver/geometries/static_bessel_kernel.h"
+#include "solver/guards.h"
 #include "solver/logdet/low_rank.h"
 #include "solver/materials/models.h"
 #include "solver/pfa/pfa.h"
@@ -204,10 +206,21 @@ class SpherePlate final : public Geometry {
 
   /// At the case's rel_tol and xi = c/(2L) for the energy; derivatives and higher frequencies
   /// use more multipoles, terms asked for less accuracy fewer (lmax_for).
+  /// Computed in double: beyond kMaxMultipoleOrder (guards.h) the values are reported as they
+  /// are (the plan refuses them) instead of wrapping around in int.
   std::map<std::string, double> truncation(double gap) const override {
-    const int lmax = lmax_for(gap, o_.rel_tol, frequency_scale(gap));
-    return {{"l_max", double(lmax)},
-            {"quadrature_nodes", double(nodes_for(lmax, o_.rel_tol, 1.0))}};
+    const double lmax =
+        o_.l_max > 0 ? o_.l_max : lmax_required(gap, o_.rel_tol, frequency_scale(gap));
+    if (lmax <= kMaxMultipoleOrder)
+      return {{"l_max", lmax},
+              {"quadrature_nodes", double(nodes_for(static_cast<int>(lmax), o_.rel_tol, 1.0))}};
+    // The node count of momentum_rule (solver/special/momentum_rule.cc: panels of 10
+    // Gauss-Legendre nodes, nodes_per_unit per unit of sqrt(t), up to sqrt(2 l_max + 1/2) + 8),
+    // without building a rule that large.
+    const double per_unit = nodes_per_unit_for(o_.rel_tol, 1.0);
+    return {{"l_max", lmax},
+            {"quadrature_nodes",
+             10.0 * std::ceil((std::sqrt(2.0 * lmax + 0.5) + 8.0) * per_unit / 10.0)}};
   }
 
   std::optional<PfaValues> pfa(double gap, const FrequencyRuleOptions& opts) const override;
@@ -255,8 +268,22 @@ class SpherePlate final : public Geometry {
     std::vector<LogDetResult> batch(kMBatch);
     for (int m0 = 0; m0 <= mlimit; m0 += kMBatch) {
       const int m1 = std::min(mlimit + 1, m0 + kMBatch);
+      // A cancellation request (guards.h) is seen before each block and inside the W builders;
+      // exceptions may not leave an OpenMP region, so the first is kept and rethrown after it.
+      // The frequency is then abandoned as a whole (never recorded). Polling changes no number.
+      std::exception_ptr failure;
+      std::mutex failure_mutex;
 #pragma omp parallel for schedule(dynamic, 1)
-      for (int m = m0; m < m1; ++m) batch[m - m0] = block(m);
+      for (int m = m0; m < m1; ++m) {
+        try {
+          throw_if_cancelled();
+          batch[m - m0] = block(m);
+        } catch (...) {
+          std::lock_guard<std::mutex> lock(failure_mutex);
+          if (!failure) failure = std::current_exception();
+        }
+      }
+      if (failure) std::rethrow_exception(failure);
       for (int m = m0; m < m1; ++m) {
         const LogDetResult& r = batch[m - m0];
         if (!r.ok)
@@ -334,9 +361,10 @@ class SpherePlate final : public Geometry {
   /// falls like Z^l_max, Z = exp(-mu), cosh mu = 1 + L/R (bispherical parameter of Bimonte &
   /// Emig 2012). u is capped at 10 (the measured range): beyond it s(xi) carries less than ~1e-3
   /// of any frequency sum (it falls like e^-u), and the T = 0 quadrature samples u up to ~1e3.
-  int lmax_for(double gap, double tol, double xi = 0.0,
-               DerivativeOrder order = DerivativeOrder::kEnergy) const {
-    if (o_.l_max > 0) return o_.l_max;
+  /// l_max as a double (no int overflow at any R/L); lmax_for refuses values beyond
+  /// kMaxMultipoleOrder with a message naming R and L.
+  double lmax_required(double gap, double tol, double xi = 0.0,
+                       DerivativeOrder order = DerivativeOrder::kEnergy) const {
     const double u = std::min(xi / frequency_scale(gap), 10.0);
     constexpr double kA[3] = {2.0, 1.85, 1.7};
     constexpr double kC[3] = {1.0, 8.0, 20.0};
@@ -344,7 +372,18 @@ class SpherePlate final : public Geometry {
     const double log_b_over_tol = std::log(std::max(kC[k], 1.2 * (1.0 + u) * (1.0 + u)) / tol);
     const double near = log_b_over_tol * (1.0 + u / 40.0) / kA[k] * o_.radius / gap;
     const double far = log_b_over_tol / std::acosh(1.0 + gap / o_.radius);
-    return std::max(3, static_cast<int>(std::ceil(std::max(near, far))) + 3);
+    return std::max(3.0, std::ceil(std::max(near, far)) + 3.0);
+  }
+  int lmax_for(double gap, double tol, double xi = 0.0,
+               DerivativeOrder order = DerivativeOrder::kEnergy) const {
+    if (o_.l_max > 0) return o_.l_max;
+    const double lmax = lmax_required(gap, tol, xi, order);
+    if (!(lmax <= kMaxMultipoleOrder))
+      throw std::runtime_error(fmt::format(
+          "sphere-plate: R = {:.6g} m at L = {:.6g} m (R/L = {:.3g}) needs l_max = {:.3g} "
+          "multipoles, beyond the {:.0e} this program can handle",
+          o_.radius, gap, o_.radius / gap, lmax, kMaxMultipoleOrder));
+    return static_cast<int>(lmax);
   }
 
   /// Nodes of the k-integral: composite Gauss-Legendre in sqrt(t) resolving integrands of
@@ -357,11 +396,14 @@ class SpherePlate final : public Geometry {
   /// u >= 0.1 (7x margin at worst), else 3 (rel_tol >= 1e-5), 4 (>= 1e-7), 6. Checked by
   /// SpherePlate.MomentumNodesMeetTheTolerance. u < 0 means static (xi = 0). An explicit
   /// nodes_per_unit in the options wins.
-  const special::GaussLaguerreRule& momentum_rule_for(int lmax, double tol, double u) const {
+  int nodes_per_unit_for(double tol, double u) const {
     int per_unit = tol >= 1e-5 ? 3 : (tol >= 1e-7 ? 4 : 6);
     if (u >= 0.1 && tol >= 1e-4) per_unit = 2;
     if (o_.nodes_per_unit > 0) per_unit = o_.nodes_per_unit;
-    return special::momentum_rule(2 * lmax, per_unit);
+    return per_unit;
+  }
+  const special::GaussLaguerreRule& momentum_rule_for(int lmax, double tol, double u) const {
+    return special::momentum_rule(2 * lmax, nodes_per_unit_for(tol, u));
   }
   int nodes_for(int lmax, double tol, double u) const {
     return static_cast<int>(momentum_rule_for(lmax, tol, u).nodes.size());
@@ -503,6 +545,7 @@ class SpherePlate final : public Geometry {
     int prev_lo = 0, prev_hi = 0;            // band of the previous node (empty: none yet)
     int prev_rows_lo = 0, prev_rows_hi = 0;  // rows computed for it
     for (const int j : order) {
+      throw_if_cancelled();
       const double x = nodes.x[j];
       const double hw = nodes.half_log_w[j];
       const double log_s = 0.5 * std::log((x - 1.0) * (x + 1.0));
@@ -779,6 +822,7 @@ class SpherePlate final : public Geometry {
     const Eigen::ArrayXd ls = Eigen::ArrayXd::LinSpaced(nl, lmin, lmax);
     Eigen::ArrayXd col(nl);
     for (int j = 0; j < N; ++j) {
+      throw_if_cancelled();
       const double log_t = std::log(nodes.x[j]), hw = nodes.half_log_w[j];
       col = log_te + hw + ls * log_t;
       w.put_column(j, 0, 0, col);
