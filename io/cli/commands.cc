@@ -560,14 +560,10 @@ int check_command(const CheckArgs& args, std::ostream& out, std::ostream& err) {
         else
           out << "plan (estimates)\n";
       };
-      // The model alone first: a plan beyond what can run is printed and refused, untimed.
-      const Plan model = make_plan(*g, ps.gaps, opts, PlanCalibration{});
-      if (const std::string t = truncation_problem(*g, model); !t.empty()) {
-        heading();
-        print_plan(model, out);
-        out << std::flush;
-        throw CaseError(where + t);
-      }
+      // A plan beyond what can run is printed and refused (calibrate_plan times no frequency
+      // whose truncation is beyond the limit: it falls back to the matrix-product rate).
+      const std::string beyond =
+          truncation_problem(*g, make_plan(*g, ps.gaps, opts, PlanCalibration{}));
       PlanCalibration cal;
       try {
         throw_if_cancelled();
@@ -580,6 +576,12 @@ int check_command(const CheckArgs& args, std::ostream& out, std::ostream& err) {
         return kExitInterrupted;
       }
       const Plan plan = make_plan(*g, ps.gaps, opts, cal);
+      if (!beyond.empty()) {
+        heading();
+        print_plan(plan, out);
+        out << std::flush;
+        throw CaseError(where + beyond);
+      }
       total += plan.seconds;
       memory = std::max(memory, plan.memory_bytes);
       how = cal.how;
