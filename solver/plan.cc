@@ -259,9 +259,9 @@ MemoryLimit memory_limit(double user_bytes) {
   MemoryLimit m{a.bytes, a.bytes > 0.0 ? a.source : std::string()};
   if (user_bytes > 0.0 && (m.bytes <= 0.0 || user_bytes < m.bytes)) {
     m.bytes = user_bytes;
-    m.source = a.bytes > 0.0 ? fmt::format("--max-memory; the machine has {} available ({})",
-                                           bytes_text(a.bytes), a.source)
-                             : std::string("--max-memory");
+    m.source = "--max-memory";
+    if (a.bytes > 0.0)
+      m.note = fmt::format("the machine has {} available ({})", bytes_text(a.bytes), a.source);
   }
   return m;
 }

@@ -88,6 +88,7 @@ std::string truncation_problem(const Geometry& geometry, const Plan& plan);
 struct MemoryLimit {
   double bytes = 0.0;  ///< 0: unknown (no check)
   std::string source;  ///< e.g. "MemAvailable in /proc/meminfo", "--max-memory"
+  std::string note;    ///< with --max-memory: what the machine has, e.g. "21.6 GiB available (...)"
 };
 /// The machine's (available_memory, guards.h), lowered to `user_bytes` if that is > 0.
 MemoryLimit memory_limit(double user_bytes);

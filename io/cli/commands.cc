@@ -287,7 +287,7 @@ MemoryLimit limit_from(const std::string& max_memory) {
 std::string memory_refusal(const std::string& problem) {
   return problem +
          ": `roundtrip run` refuses it (--force runs it anyway; a looser rel_tol, "
-         "fewer gaps at small L or fewer --threads need less)";
+         "larger gaps or fewer --threads need less)";
 }
 }  // namespace
 
@@ -597,7 +597,8 @@ int check_command(const CheckArgs& args, std::ostream& out, std::ostream& err) {
                                 omp_get_max_threads() == 1 ? "" : "s", bytes_text(memory)));
     row("time from", how);
     row("memory limit", limit.bytes > 0.0
-                            ? fmt::format("{} ({})", bytes_text(limit.bytes), limit.source)
+                            ? fmt::format("{} ({}{}{})", bytes_text(limit.bytes), limit.source,
+                                          limit.note.empty() ? "" : "; ", limit.note)
                             : std::string("unknown (no /proc/meminfo): not checked"));
     if (!memory_warning.empty()) row("warning", memory_warning);
   }

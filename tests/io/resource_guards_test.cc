@@ -93,7 +93,7 @@ class Guards : public roundtrip::testing::ScratchDirTest {
   }
 };
 
-// A sphere-plate case of about a second (invented numbers): R/L = 25 and 12.5.
+// A sphere-plate case of about a second (invented numbers): R/L = 12.5 and 6.25.
 const std::string kSmallCase = R"(geometry = "sphere-plate"
 [sphere]
 radius = "5 um"
@@ -101,7 +101,7 @@ material = "gold-drude"
 [plate]
 material = "gold-drude"
 [separations]
-values = ["200 nm", "400 nm"]
+values = ["400 nm", "800 nm"]
 [conditions]
 temperature = "0 K"
 [numerics]
@@ -182,7 +182,7 @@ TEST_F(Guards, ThreadsAboveFourTimesTheCoresAreRefused) {
 // the plan, or l_max = 3 and then "det(1 - M) <= 0"). Now it is a refusal naming R and L.
 TEST_F(Guards, TruncationBeyondTheIndexRangeIsAClearRefusal) {
   std::string text = kSmallCase;
-  text.replace(text.find("\"10 um\""), 7, "\"30 m\"");
+  text.replace(text.find("\"5 um\""), 6, "\"30 m\"");
   text.replace(text.find("values = [\"200 nm\", \"400 nm\"]"), 29, "values = [\"100 nm\"]");
   write("huge.toml", text);
   for (const char* cmd : {"run", "check"}) {
@@ -199,14 +199,15 @@ TEST_F(Guards, TruncationBeyondTheIndexRangeIsAClearRefusal) {
 }
 
 // One frequency of a gold sphere of R = 500 um at 100 nm (R/L = 5000, T = 0, rel_tol 1e-4,
-// energy) takes ~10-20 s on the 2-core development machine (README "Performance": 24 s with
-// E, F, F' at 1e-4). The first progress line must appear at once, and SIGINT sent ~1.5 s into
-// that first frequency must end the process within kInterruptBound: the cancel flag is polled
-// before every m block (~0.05-0.1 s each at this R/L on 2 threads) and every W column.
-// kInterruptBound = 2 s leaves ~10x for a loaded machine (ctest -j2 beside other builds); it is
-// timing-sensitive under heavy load. Before the guard the process ran to the end of the
-// frequency (tens of seconds).
-constexpr double kInterruptBound = 2.0;
+// energy) takes ~10-20 s on the 2-core development machine when quiet, ~2 min under load
+// (README "Performance": 24 s with E, F, F' at 1e-4). The first progress line must appear at
+// once, and SIGINT sent ~1.5 s into that first frequency must end the process within
+// kInterruptBound: the cancel flag is polled before every m block and every W column.
+// Measured: 0.06-0.25 s when the machine is quiet, 1.0-1.4 s while other builds kept the two
+// cores ~10x oversubscribed; kInterruptBound = 3 s keeps a margin over that and is still far
+// below what the process took before the guard (113 s, the rest of the frequency). Timing-
+// sensitive under heavier load than that.
+constexpr double kInterruptBound = 3.0;
 constexpr double kProgressBound = 5.0;  // "within a few seconds of the start"
 
 const std::string kLongFrequencyCase = R"(geometry = "sphere-plate"
@@ -227,7 +228,7 @@ rel_tol = 1e-4
 file = "long.h5"
 )";
 
-TEST_F(Guards, InterruptInsideOneLongSpherePlateFrequencyIsHonouredWithinTwoSeconds) {
+TEST_F(Guards, InterruptInsideOneLongSpherePlateFrequencyIsHonouredWithinSeconds) {
   write("long.toml", kLongFrequencyCase);
   const Child c = start({"run", "long.toml", "--progress"});
   ASSERT_TRUE(
