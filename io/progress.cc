@@ -60,9 +60,14 @@ std::string Progress::status(double now) const {
     eta = "ETA " + duration_text(now * std::max(total_work - work, 0.0) / work);
   if (done_ == total_) eta = "done";
   std::string freq;
-  if (running_.size() == 1)
-    freq = fmt::format(", {} frequencies at gap {}", running_evals, running_.begin()->first + 1);
-  else if (!running_.empty())
+  if (running_.size() == 1) {
+    const int gap = running_.begin()->first;
+    const bool planned = gap >= 0 && gap < static_cast<int>(planned_frequencies_.size()) &&
+                         planned_frequencies_[gap] > 0;
+    freq = planned ? fmt::format(", {} of ~{} frequencies at gap {}", running_evals,
+                                 planned_frequencies_[gap], gap + 1)
+                   : fmt::format(", {} frequencies at gap {}", running_evals, gap + 1);
+  } else if (!running_.empty())
     freq = fmt::format(", {} frequencies on {} gaps", running_evals, running_.size());
   return fmt::format("roundtrip: {}gap {} of {} done{} ({}, {})", prefix_, done_, total_, freq,
                      duration_text(now), eta);
@@ -79,6 +84,19 @@ void Progress::emit(const std::string& line, bool force) {
   } else {
     err_ << line << "\n" << std::flush;
   }
+}
+
+void Progress::gap_started(int gap) {
+  std::lock_guard<std::mutex> lock(mutex_);
+  running_[gap] = 0;
+  const bool first = !started_;
+  started_ = true;
+  if (!terminal_ && !first) return;  // lines: only the first start; later ones show in updates
+  const bool planned = gap >= 0 && gap < static_cast<int>(planned_frequencies_.size()) &&
+                       planned_frequencies_[gap] > 0;
+  emit(fmt::format("roundtrip: {}starting gap {} of {}, frequency 1{}", prefix_, gap + 1, total_,
+                   planned ? fmt::format(" of ~{}", planned_frequencies_[gap]) : ""),
+       first);
 }
 
 void Progress::frequency(int gap, int evaluations) {

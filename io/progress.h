@@ -1,7 +1,8 @@
 #pragma once
 // Progress and ETA on stderr for `roundtrip run`. On a terminal one status line is redrawn
 // (carriage return) at most ten times a second; elsewhere (--progress with stderr redirected)
-// plain lines: one per finished gap and, on long gaps, one every few seconds.
+// plain lines: one when the first gap starts ("starting gap 1 of N, frequency 1 of ~M"), one
+// per finished gap and, on long gaps, one per finished frequency at most every 5 s.
 //   ETA = elapsed * (remaining work / work done). Without a plan, work is counted in gaps and a
 //   running gap counts as (frequencies so far) / (mean frequencies of the finished gaps); with
 //   a plan (set_plan: expected frequencies and relative cost per gap, solver/plan.h) each gap
@@ -22,6 +23,8 @@ class Progress {
   Progress(std::ostream& err, bool terminal, int total_gaps, std::string prefix = "");
   /// Expected frequencies and relative cost (any unit) of each gap, from the run's plan.
   void set_plan(std::vector<int> frequencies, std::vector<double> cost);
+  /// Gap `gap` (0-based) starts: its first frequency is being computed.
+  void gap_started(int gap);
   /// One frequency evaluated at gap `gap` (0-based), `evaluations` so far there.
   void frequency(int gap, int evaluations);
   /// A gap finished; `done` of `total` so far.
@@ -51,6 +54,7 @@ class Progress {
   double finished_cost_ = 0.0;
   double last_emit_;  // s since start_; lines wait kLineInterval from the start
   bool dirty_ = false;
+  bool started_ = false;  // a gap has started (the first start is always shown)
 };
 
 }  // namespace roundtrip::io

@@ -9,6 +9,8 @@
 #include <chrono>
 #include <cmath>
 
+#include "solver/guards.h"
+
 namespace roundtrip {
 namespace {
 
@@ -70,7 +72,9 @@ PlanCalibration calibrate_plan(const Geometry& g, const std::vector<double>& gap
   // number if the model says it is too expensive to time.
   const auto timed = [&](double gap) {
     const double flops = plan_flops_per_frequency(g, gap, order, rel_tol);
-    if (flops > 1.0 && flops * gemm > max_seconds) return -1.0;
+    const auto t = g.truncation(gap);
+    if (flops > 1.0 && !(flops * gemm <= max_seconds && max_multipole_order(t) <= kMaxMultipoleOrder))
+      return -1.0;
     const double xi = g.frequency_scale(gap);
     (void)g.at_frequency(xi, gap, order);
     const auto t0 = std::chrono::steady_clock::now();
@@ -143,7 +147,7 @@ Plan make_plan(const Geometry& g, const std::vector<double>& gaps, const RunOpti
     p.frequencies = estimated_frequencies(g, gap, options.frequency);
     const FrequencyCost cost = g.cost(gap, order, tol);
     p.flops_per_frequency = cost.flops();
-    p.blocks = static_cast<int>(cost.block_flops.size());
+    p.blocks = cost.blocks;
     p.block_flops = cost.block_flops;
     p.memory_bytes = cost.memory_bytes;
     p.seconds = p.frequencies * calibration.seconds_per_frequency(p.flops_per_frequency) +
@@ -179,6 +183,61 @@ std::vector<WorkItem> work_items(const Plan& plan, int point) {
   std::stable_sort(items.begin(), items.end(),
                    [](const WorkItem& a, const WorkItem& b) { return a.flops > b.flops; });
   return items;
+}
+
+std::string bytes_text(double b) {
+  if (!(b > 0.0)) return "negligible";
+  if (b < 1024.0 * 1024.0) return fmt::format("{:.0f} KiB", std::max(1.0, b / 1024.0));
+  if (b < 1024.0 * 1024.0 * 1024.0) return fmt::format("{:.1f} MiB", b / (1024.0 * 1024.0));
+  return fmt::format("{:.2f} GiB", b / (1024.0 * 1024.0 * 1024.0));
+}
+
+std::string truncation_problem(const Geometry& g, const Plan& plan) {
+  for (const GapPlan& p : plan.gaps) {
+    const double lmax = max_multipole_order(p.truncation);
+    if (lmax <= 0.0) continue;
+    if (lmax <= kMaxMultipoleOrder) continue;
+    const auto R = g.pfa_length();
+    const std::string body =
+        R ? fmt::format("the sphere of radius R = {:.6g} m at gap L = {:.6g} m (R/L = {:.3g})", *R,
+                        p.gap, *R / p.gap)
+          : fmt::format("gap L = {:.6g} m", p.gap);
+    std::string hint;
+    if (R && std::isfinite(lmax))
+      hint = fmt::format("; at this rel_tol R/L up to about {:.2g} fits",
+                         *R / p.gap * kMaxMultipoleOrder / lmax);
+    return fmt::format(
+        "{} needs l_max = {:.3g} multipoles, beyond the {:.0e} this program can index{}: the "
+        "exact computation is refused (the PFA and the derivative expansion are the tools "
+        "there)",
+        body, lmax, kMaxMultipoleOrder, hint);
+  }
+  return {};
+}
+
+MemoryLimit memory_limit(double user_bytes) {
+  const AvailableMemory a = available_memory();
+  MemoryLimit m{a.bytes, a.bytes > 0.0 ? a.source : std::string()};
+  if (user_bytes > 0.0 && (m.bytes <= 0.0 || user_bytes < m.bytes)) {
+    m.bytes = user_bytes;
+    m.source = "--max-memory";
+    if (a.bytes > 0.0)
+      m.note = fmt::format("the machine has {} available ({})", bytes_text(a.bytes), a.source);
+  }
+  return m;
+}
+
+std::string memory_problem(const Plan& plan, const MemoryLimit& limit) {
+  if (!(limit.bytes > 0.0) || plan.memory_bytes <= limit.bytes) return {};
+  const GapPlan* peak = nullptr;
+  for (const GapPlan& p : plan.gaps)
+    if (!peak || p.memory_bytes > peak->memory_bytes) peak = &p;
+  return fmt::format(
+      "the plan needs about {} of working memory ({}{} thread{}), more than the {} available "
+      "({})",
+      bytes_text(plan.memory_bytes),
+      peak ? fmt::format("largest at L = {:.6g} m, ", peak->gap) : std::string(), plan.threads,
+      plan.threads == 1 ? "" : "s", bytes_text(limit.bytes), limit.source);
 }
 
 }  // namespace roundtrip

@@ -39,7 +39,7 @@ struct GapPlan {
   double gap = 0.0;                          ///< m
   std::map<std::string, double> truncation;  ///< Geometry::truncation(gap)
   int frequencies = 0;                       ///< estimated evaluations of s(xi)
-  int blocks = 1;                            ///< estimated symmetry blocks per frequency
+  double blocks = 1;                         ///< estimated symmetry blocks per frequency
   std::vector<double> block_flops;           ///< model flops of each block (Geometry::cost)
   double flops_per_frequency = 0.0;          ///< model flops (plates: 1 = one unit)
   double memory_bytes = 0.0;                 ///< peak working memory per thread, bytes
@@ -94,7 +94,30 @@ PlanCalibration calibrate_plan(const Geometry& geometry, const std::vector<doubl
                                double max_seconds = 0.5);
 
 /// The plan of run_sweep(geometry, gaps, options) on `threads` threads (0: OpenMP default).
+/// Truncations and costs are doubles: a plan beyond what can run is still finite and printable
+/// (truncation_problem says why it cannot run).
 Plan make_plan(const Geometry& geometry, const std::vector<double>& gaps, const RunOptions& options,
                const PlanCalibration& calibration);
+
+/// Why the plan cannot run at all, or empty: a gap whose l_max is beyond kMaxMultipoleOrder
+/// (solver/guards.h) or not finite. Names the gap, the radius and R/L, and the largest R/L that
+/// fits at this rel_tol (l_max grows linearly with R/L near contact).
+std::string truncation_problem(const Geometry& geometry, const Plan& plan);
+
+/// The memory a run may use and where the figure comes from.
+struct MemoryLimit {
+  double bytes = 0.0;  ///< 0: unknown (no check)
+  std::string source;  ///< e.g. "MemAvailable in /proc/meminfo", "--max-memory"
+  std::string note;    ///< with --max-memory: what the machine has, e.g. "21.6 GiB available (...)"
+};
+/// The machine's (available_memory, guards.h), lowered to `user_bytes` if that is > 0.
+MemoryLimit memory_limit(double user_bytes);
+/// Empty if the plan's peak memory fits `limit`, else one sentence (the same for `check`'s
+/// warning and `run`'s refusal): "the plan needs about 540.93 GiB of working memory (largest at
+/// L = ... on 2 threads), more than the 21.2 GiB available (MemAvailable in /proc/meminfo)".
+std::string memory_problem(const Plan& plan, const MemoryLimit& limit);
+
+/// "negligible", "812 KiB", "3.4 MiB", "1.25 GiB" (binary units).
+std::string bytes_text(double bytes);
 
 }  // namespace roundtrip

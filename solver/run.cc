@@ -12,6 +12,8 @@
 #include <mutex>
 #include <stdexcept>
 
+#include "solver/guards.h"
+
 namespace roundtrip {
 namespace {
 
@@ -19,19 +21,18 @@ double seconds_since(std::chrono::steady_clock::time_point t0) {
   return std::chrono::duration<double>(std::chrono::steady_clock::now() - t0).count();
 }
 
-struct Cancelled {};
-
 PointResult run_point(const Geometry& geometry, int index, double gap, const RunOptions& options) {
   const auto t0 = std::chrono::steady_clock::now();
   const DerivativeOrder order = options.quantities.order();
   PointResult p;
   p.gap = gap;
   int evaluations = 0;
+  if (options.gap_started) options.gap_started(index);
   // A frequency asked for again (the rule wants it more accurate) is computed anew; the store
   // keeps the last value per frequency, so a resumed run sees the more accurate one.
   std::vector<double> asked;
   auto s = [&](double xi, double rel_tol) {
-    if (options.cancel && options.cancel->load()) throw Cancelled{};
+    throw_if_cancelled();
     Spectral v;
     const bool again = std::find(asked.begin(), asked.end(), xi) != asked.end();
     asked.push_back(xi);
@@ -69,6 +70,9 @@ RunResult run_sweep(const Geometry& geometry, const std::vector<double>& gaps,
           fmt::format("gaps[{}] = {} m must be finite and > 0", i, gaps[i]));
 
   const auto t0 = std::chrono::steady_clock::now();
+  // options.cancel becomes the flag the geometries poll inside a frequency (guards.h).
+  std::optional<CancelScope> cancel_scope;
+  if (options.cancel) cancel_scope.emplace(options.cancel);
   RunResult result;
   result.kind = geometry.kind();
   result.description = geometry.describe();
@@ -102,7 +106,7 @@ RunResult run_sweep(const Geometry& geometry, const std::vector<double>& gaps,
     if (options.progress) options.progress(done, n);
   }
   if (failure) std::rethrow_exception(failure);
-  result.cancelled = options.cancel && options.cancel->load();
+  result.cancelled = cancellation_requested();
   if (const auto R = geometry.pfa_length()) {
     std::vector<double> x, re, rf, rg;
     for (const auto& p : result.points) {

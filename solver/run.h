@@ -41,13 +41,18 @@ struct RunOptions {
   int threads = 0;  ///< 0: OpenMP default
   /// Called after each finished gap with (done, total); may be empty.
   std::function<void(int, int)> progress;
+  /// Called when a gap starts (gap index), before its first frequency; may be empty.
+  std::function<void(int)> gap_started;
   /// Called after every frequency evaluation with (gap index, evaluations so far at that gap,
   /// from cache or not); may be empty. For ETAs on long gaps.
   std::function<void(int, int)> frequency_progress;
   /// Optional checkpoint store (not owned).
   ContributionStore* store = nullptr;
   /// Optional cancellation flag (e.g. set by a SIGINT handler): gaps not finished when it is
-  /// seen are returned with complete = false; finished ones are kept.
+  /// seen are returned with complete = false; finished ones are kept. It is installed as the
+  /// process-wide flag (solver/guards.h) for the sweep, so it is also seen inside a long
+  /// frequency (sphere-plate: before every m block and W column); that frequency is abandoned
+  /// and not recorded.
   const std::atomic<bool>* cancel = nullptr;
 };
 

@@ -14,6 +14,7 @@
 #include <cstdlib>
 #include <filesystem>
 #include <iostream>
+#include <thread>
 
 #include "geometry/gmsh_export.h"
 #include "io/case_file.h"
@@ -25,6 +26,7 @@
 #include "io/units.h"
 #include "roundtrip/version.h"
 #include "solver/constants.h"
+#include "solver/guards.h"
 #include "solver/materials/library.h"
 #include "solver/plan.h"
 #include "solver/run.h"
@@ -236,13 +238,6 @@ void print_theta(const RunResult& r, std::ostream& out) {
   }
 }
 
-std::string bytes_text(double b) {
-  if (b <= 0.0) return "negligible";
-  if (b < 1024.0 * 1024.0) return fmt::format("{:.0f} KiB", std::max(1.0, b / 1024.0));
-  if (b < 1024.0 * 1024.0 * 1024.0) return fmt::format("{:.1f} MiB", b / (1024.0 * 1024.0));
-  return fmt::format("{:.2f} GiB", b / (1024.0 * 1024.0 * 1024.0));
-}
-
 // The per-gap table of a plan: truncations, estimated frequencies, blocks, memory and time.
 void print_plan(const Plan& plan, std::ostream& out) {
   std::vector<double> gaps;
@@ -267,7 +262,7 @@ void print_plan(const Plan& plan, std::ostream& out) {
       const auto it = g.truncation.find(n);
       row.push_back(it == g.truncation.end() ? "-" : fmt::format("{:g}", it->second));
     }
-    if (dense) row.push_back(std::to_string(g.blocks));
+    if (dense) row.push_back(fmt::format("{:g}", g.blocks));
     row.push_back(std::to_string(g.frequencies));
     if (dense) row.push_back(bytes_text(g.memory_bytes));
     row.push_back(Progress::duration_text(g.seconds));
@@ -281,17 +276,95 @@ std::string parameters_text(const std::vector<std::pair<std::string, std::string
   for (const auto& [k, v] : params) t += (t.empty() ? "" : ", ") + k + " = " + v;
   return t;
 }
+
+// The memory limit of a run or check: the machine's, lowered by --max-memory.
+MemoryLimit limit_from(const std::string& max_memory) {
+  return memory_limit(max_memory.empty() ? 0.0 : parse_memory_size(max_memory, "--max-memory"));
+}
+
+// What `run` says when it refuses for memory and `check` says as a warning (same words).
+std::string memory_refusal(const std::string& problem) {
+  return problem +
+         ": `roundtrip run` refuses it (--force runs it anyway; a looser rel_tol, "
+         "larger gaps or fewer --threads need less)";
+}
 }  // namespace
+
+double parse_memory_size(const std::string& text, const std::string& option) {
+  static const std::pair<const char*, double> kUnits[] = {{"B", 1.0},
+                                                          {"KiB", 1024.0},
+                                                          {"MiB", 1048576.0},
+                                                          {"GiB", 1073741824.0},
+                                                          {"TiB", 1099511627776.0},
+                                                          {"kB", 1e3},
+                                                          {"KB", 1e3},
+                                                          {"MB", 1e6},
+                                                          {"GB", 1e9},
+                                                          {"TB", 1e12}};
+  const auto bad = [&] {
+    return CaseError(fmt::format(
+        "{} = \"{}\": expected a memory size > 0 with a unit, e.g. \"8 GiB\" or \"500 MiB\" "
+        "(units: B, KiB, MiB, GiB, TiB, kB, MB, GB, TB)",
+        option, text));
+  };
+  const char* begin = text.c_str();
+  char* end = nullptr;
+  const double v = std::strtod(begin, &end);
+  if (end == begin || !std::isfinite(v) || !(v > 0.0)) throw bad();
+  std::string unit(end);
+  unit.erase(0, unit.find_first_not_of(' '));
+  unit.erase(unit.find_last_not_of(' ') + 1);
+  for (const auto& [name, factor] : kUnits)
+    if (unit == name) return v * factor;
+  throw bad();
+}
+
+int thread_cap() {
+  int cores = omp_get_num_procs();
+  if (cores < 1) cores = static_cast<int>(std::thread::hardware_concurrency());
+  return 4 * std::max(cores, 1);
+}
+
+void check_thread_count(int threads) {
+  const int cap = thread_cap();
+  if (threads > cap)
+    throw CaseError(fmt::format(
+        "--threads = {}: at most {} (4 x the {} cores of this machine); more threads only "
+        "contend for the same cores",
+        threads, cap, cap / 4));
+}
 
 int run_command(const RunArgs& args, std::ostream& out, std::ostream& err) {
   if (args.threads < 0)
     throw CaseError(
         fmt::format("--threads = {}: must be >= 1 (or 0 for the default)", args.threads));
+  check_thread_count(args.threads);
+  const MemoryLimit limit = limit_from(args.max_memory);
   const CaseSpec spec = load_case(args.case_path);
   const std::vector<ScanPoint> points = scan_points(spec);
   const bool scan = !spec.scan.empty();
   std::vector<std::shared_ptr<Geometry>> geometries;
   for (const auto& p : points) geometries.push_back(build_geometry(p.spec));  // all before any run
+  // Resource guards before anything is written: the plan (model only, no timing) of every scan
+  // point must be computable and, unless --force, fit the memory limit.
+  if (args.threads > 0) omp_set_num_threads(args.threads);
+  std::vector<Plan> plans;
+  for (std::size_t k = 0; k < points.size(); ++k) {
+    RunOptions o;
+    o.frequency = points[k].spec.frequency;
+    o.quantities = points[k].spec.quantities;
+    o.threads = args.threads;
+    plans.push_back(make_plan(*geometries[k], points[k].spec.gaps, o, PlanCalibration{}));
+    const std::string where =
+        scan ? fmt::format("scan point {} ({}): ", k + 1, parameters_text(points[k].parameters))
+             : std::string();
+    if (const std::string t = truncation_problem(*geometries[k], plans.back()); !t.empty())
+      throw CaseError(where + t);
+    if (const std::string m = memory_problem(plans.back(), limit); !m.empty()) {
+      if (!args.force) throw CaseError(where + memory_refusal(m));
+      err << "roundtrip: warning: " << where << m << "; running anyway (--force)\n" << std::flush;
+    }
+  }
   const OutputChoice where = choose_output(args, spec);
   ResultsWriter writer(where.path, where.field);  // fails now if the path is unwritable
   Journal journal(journal_path(where.path), journal_key(spec), args.restart);
@@ -310,8 +383,6 @@ int run_command(const RunArgs& args, std::ostream& out, std::ostream& err) {
         journal.path().string(), bad.size(), bad.size() == 1 ? "" : "s", bad.size() == 1 ? "" : "s",
         lines, bad.size() > 20 ? ", ..." : "", bad.size() == 1 ? "it is" : "they are");
   }
-  // Geometries that parallelise inside (sphere-plate) use the OpenMP default team size.
-  if (args.threads > 0) omp_set_num_threads(args.threads);
   const bool terminal = isatty(STDERR_FILENO) == 1;
   const bool show = !args.quiet && (terminal || args.progress);
 
@@ -329,7 +400,7 @@ int run_command(const RunArgs& args, std::ostream& out, std::ostream& err) {
                       scan ? fmt::format("scan point {} of {}, ", k + 1, points.size()) : "");
     if (show) {
       // Relative cost per gap from the plan's model (no timing needed): small gaps cost more.
-      const Plan plan = make_plan(*geometries[k], ps.gaps, opts, PlanCalibration{});
+      const Plan& plan = plans[k];
       std::vector<int> freqs;
       std::vector<double> cost;
       for (const auto& gp : plan.gaps) {
@@ -338,6 +409,7 @@ int run_command(const RunArgs& args, std::ostream& out, std::ostream& err) {
       }
       progress.set_plan(std::move(freqs), std::move(cost));
       opts.progress = [&](int done, int total) { progress.gap_done(done, total); };
+      opts.gap_started = [&](int gap) { progress.gap_started(gap); };
       opts.frequency_progress = [&](int gap, int n) { progress.frequency(gap, n); };
     }
     ScanRunResult run;
@@ -419,7 +491,21 @@ int run_command(const RunArgs& args, std::ostream& out, std::ostream& err) {
 }
 
 int check_command(const std::string& case_path, std::ostream& out) {
-  const CaseSpec spec = load_case(case_path);
+  CheckArgs args;
+  args.case_path = case_path;
+  return check_command(args, out, std::cerr);
+}
+
+int check_command(const CheckArgs& args, std::ostream& out, std::ostream& err) {
+  if (args.threads < 0)
+    throw CaseError(
+        fmt::format("--threads = {}: must be >= 1 (or 0 for the default)", args.threads));
+  check_thread_count(args.threads);
+  if (args.threads > 0) omp_set_num_threads(args.threads);
+  const MemoryLimit limit = limit_from(args.max_memory);
+  // The calibration below computes real frequencies: Ctrl-C stops it within about a second.
+  const CancelScope cancel_scope(&cancel_requested());
+  const CaseSpec spec = load_case(args.case_path);
   const OutputChoice where = choose_output(RunArgs{}, spec);
   { ResultsWriter probe(where.path, where.field); }  // same early check as `run`; leaves nothing
   std::string geometry_line;
@@ -468,24 +554,54 @@ int check_command(const std::string& case_path, std::ostream& out) {
       row("scan", fmt::format("{} points: {}", points.size(), axes));
     }
     double total = 0.0, memory = 0.0;
-    std::string how;
+    std::string how, memory_warning;
     for (std::size_t k = 0; k < points.size(); ++k) {
       const CaseSpec& ps = points[k].spec;
       const auto g = build_geometry(ps);
       RunOptions opts;
       opts.frequency = ps.frequency;
       opts.quantities = ps.quantities;
-      const PlanCalibration cal = calibrate_plan(*g, ps.gaps, ps.frequency, ps.quantities.order());
+      opts.threads = args.threads;
+      const std::string where =
+          spec.scan.empty()
+              ? std::string()
+              : fmt::format("scan point {} ({}): ", k + 1, parameters_text(points[k].parameters));
+      const auto heading = [&] {
+        out << "\n";
+        if (!spec.scan.empty())
+          out << fmt::format("plan of scan point {} of {}: {}\n", k + 1, points.size(),
+                             parameters_text(points[k].parameters));
+        else
+          out << "plan (estimates)\n";
+      };
+      // A plan beyond what can run is printed and refused (calibrate_plan times no frequency
+      // whose truncation is beyond the limit: it falls back to the matrix-product rate).
+      const std::string beyond =
+          truncation_problem(*g, make_plan(*g, ps.gaps, opts, PlanCalibration{}));
+      PlanCalibration cal;
+      try {
+        throw_if_cancelled();
+        cal = calibrate_plan(*g, ps.gaps, ps.frequency, ps.quantities.order());
+      } catch (const Cancelled&) {
+        out << std::flush;
+        err << "roundtrip: interrupted during `check` (its calibration times real frequencies); "
+               "nothing was written\n"
+            << std::flush;
+        return kExitInterrupted;
+      }
       const Plan plan = make_plan(*g, ps.gaps, opts, cal);
+      if (!beyond.empty()) {
+        heading();
+        print_plan(plan, out);
+        out << std::flush;
+        throw CaseError(where + beyond);
+      }
       total += plan.seconds;
       memory = std::max(memory, plan.memory_bytes);
       how = cal.how;
-      out << "\n";
-      if (!spec.scan.empty())
-        out << fmt::format("plan of scan point {} of {}: {}\n", k + 1, points.size(),
-                           parameters_text(points[k].parameters));
-      else
-        out << "plan (estimates)\n";
+      if (const std::string m = memory_problem(plan, limit); !m.empty() && memory_warning.empty())
+        memory_warning = where + memory_refusal(m);
+      heading();
       print_plan(plan, out);
     }
     out << "\n";
@@ -494,6 +610,11 @@ int check_command(const std::string& case_path, std::ostream& out) {
                                 Progress::duration_text(total), omp_get_max_threads(),
                                 omp_get_max_threads() == 1 ? "" : "s", bytes_text(memory)));
     row("time from", how);
+    row("memory limit", limit.bytes > 0.0
+                            ? fmt::format("{} ({}{}{})", bytes_text(limit.bytes), limit.source,
+                                          limit.note.empty() ? "" : "; ", limit.note)
+                            : std::string("unknown (no /proc/meminfo): not checked"));
+    if (!memory_warning.empty()) row("warning", memory_warning);
   }
   out << "check only: no results were computed or written\n";
   return kExitOk;

@@ -25,15 +25,37 @@ std::atomic<bool>& cancel_requested();
 
 struct RunArgs {
   std::string case_path;
-  std::string output;     ///< -o; empty: [output] file of the case, else <case stem>.h5
-  int threads = 0;        ///< 0: OpenMP default
-  bool quiet = false;     ///< no progress on stderr
-  bool progress = false;  ///< progress even when stderr is not a terminal
-  bool restart = false;   ///< discard a checkpoint journal instead of resuming from it
+  std::string output;      ///< -o; empty: [output] file of the case, else <case stem>.h5
+  int threads = 0;         ///< 0: OpenMP default
+  bool quiet = false;      ///< no progress on stderr
+  bool progress = false;   ///< progress even when stderr is not a terminal
+  bool restart = false;    ///< discard a checkpoint journal instead of resuming from it
+  std::string max_memory;  ///< --max-memory, e.g. "8 GiB"; empty: the machine's available memory
+  bool force = false;      ///< run even if the plan's memory exceeds the limit
 };
+/// Refuses (io::CaseError, exit 1, nothing written) before anything runs when a truncation is
+/// beyond what the code can index, or, unless `force`, when the plan's peak memory exceeds the
+/// machine's available memory or --max-memory (solver/plan.h, memory_problem).
 int run_command(const RunArgs& args, std::ostream& out, std::ostream& err);
 
+struct CheckArgs {
+  std::string case_path;
+  int threads = 0;         ///< --threads: the thread count the plan assumes (0: all cores)
+  std::string max_memory;  ///< --max-memory, as for run
+};
+/// Prints the plan; a memory problem is a warning line with the same sentence `run` refuses
+/// with. Interrupted (SIGINT/SIGTERM during the calibration): exit kExitInterrupted.
+int check_command(const CheckArgs& args, std::ostream& out, std::ostream& err);
 int check_command(const std::string& case_path, std::ostream& out);
+
+/// "8 GiB", "500 MiB", "2GB", "1.5 TiB", "123456 B" -> bytes (binary KiB..TiB, decimal kB..TB);
+/// anything else, or not > 0, is an io::CaseError naming `option`.
+double parse_memory_size(const std::string& text, const std::string& option);
+/// Largest --threads accepted: 4 x the cores this process may use (omp_get_num_procs, else
+/// std::thread::hardware_concurrency); more only make threads contend for the same cores.
+int thread_cap();
+/// Throws io::CaseError if threads > thread_cap(), naming the cap and the cores.
+void check_thread_count(int threads);
 
 int materials_list_command(std::ostream& out);
 

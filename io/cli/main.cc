@@ -1,4 +1,6 @@
 // roundtrip command-line program: option parsing only; the commands live in io/cli/commands.cc.
+#include <fmt/format.h>
+
 #include <CLI/CLI.hpp>
 #include <csignal>
 #include <exception>
@@ -33,7 +35,8 @@ int main(int argc, char** argv) {
   app.set_version_flag("--version", cli::version_line(), "Print the version and exit");
   app.require_subcommand(1);
   app.footer(
-      "Case-file reference: README.md. Exit status: 0 ok, 1 bad input (nothing written),\n"
+      "Case-file reference: README.md. Exit status: 0 ok, 1 bad input or a plan refused for\n"
+      "memory or truncation (nothing written),\n"
       "2 bad command line, 3 results written but not converged, 4 solver failure,\n"
       "6 writing failed (no space left on device, I/O error; older files kept),\n"
       "130 interrupted (finished gaps written; the same command resumes).");
@@ -43,18 +46,30 @@ int main(int argc, char** argv) {
   run->add_option("CASE", run_args.case_path, "Case file (TOML)")->required();
   run->add_option("-o,--output", run_args.output,
                   "Results file (HDF5); overrides [output] file of the case");
-  run->add_option("--threads", run_args.threads, "Worker threads (default: all cores)")
-      ->check(CLI::Range(1, 4096));
+  // The cap (4 x the cores) is checked by the command: exit 1 with the cap and the cores.
+  const std::string threads_help = fmt::format(
+      "Worker threads (default: all cores; at most {}, 4 x the cores)", cli::thread_cap());
+  run->add_option("--threads", run_args.threads, threads_help)->check(CLI::PositiveNumber);
+  run->add_option("--max-memory", run_args.max_memory,
+                  "Refuse a case whose planned peak memory exceeds this, e.g. \"8 GiB\" "
+                  "(default: the memory available to this process)");
+  run->add_flag("--force", run_args.force,
+                "Run even if the planned peak memory exceeds the available memory or "
+                "--max-memory");
   run->add_flag("--quiet", run_args.quiet, "No progress messages on stderr");
   run->add_flag("--progress", run_args.progress,
                 "Progress and ETA on stderr even when it is not a terminal");
   run->add_flag("--restart", run_args.restart,
                 "Discard the checkpoint journal of an earlier run instead of resuming it");
 
-  std::string check_path;
+  cli::CheckArgs check_args;
   CLI::App* check = app.add_subcommand(
       "check", "Validate a case; print the plan, truncations and a memory and time estimate");
-  check->add_option("CASE", check_path, "Case file (TOML)")->required();
+  check->add_option("CASE", check_args.case_path, "Case file (TOML)")->required();
+  check->add_option("--threads", check_args.threads, "Threads the plan assumes (as for run)")
+      ->check(CLI::PositiveNumber);
+  check->add_option("--max-memory", check_args.max_memory,
+                    "Warn if the planned peak memory exceeds this (as for run)");
 
   std::string plot_path, plot_dir;
   CLI::App* plot = app.add_subcommand(
@@ -98,7 +113,7 @@ int main(int argc, char** argv) {
 
   try {
     if (*run) return cli::run_command(run_args, std::cout, std::cerr);
-    if (*check) return cli::check_command(check_path, std::cout);
+    if (*check) return cli::check_command(check_args, std::cout, std::cerr);
     if (*plot) return cli::plot_command(plot_path, plot_dir);
     if (*preview) return cli::preview_command(preview_args, std::cout);
     if (*list) return cli::materials_list_command(std::cout);

@@ -2,8 +2,12 @@
 
 #include <algorithm>
 #include <cmath>
+#include <exception>
+#include <mutex>
 #include <stdexcept>
 #include <vector>
+
+#include "solver/guards.h"
 
 namespace roundtrip::blocks {
 
@@ -14,8 +18,22 @@ Spectral sum_over_m(int mlimit, bool fixed_m_max, DerivativeOrder order, double 
   std::vector<LogDetResult> batch(kMBatch);
   for (int m0 = 0; m0 <= mlimit; m0 += kMBatch) {
     const int m1 = std::min(mlimit + 1, m0 + kMBatch);
+    // A cancellation request (guards.h) is seen before each block and inside the W builders;
+    // exceptions may not leave an OpenMP region, so the first is kept and rethrown after it.
+    // The frequency is then abandoned as a whole (never recorded). Polling changes no number.
+    std::exception_ptr failure;
+    std::mutex failure_mutex;
 #pragma omp parallel for schedule(dynamic, 1)
-    for (int m = m0; m < m1; ++m) batch[m - m0] = block(m);
+    for (int m = m0; m < m1; ++m) {
+      try {
+        throw_if_cancelled();
+        batch[m - m0] = block(m);
+      } catch (...) {
+        std::lock_guard<std::mutex> lock(failure_mutex);
+        if (!failure) failure = std::current_exception();
+      }
+    }
+    if (failure) std::rethrow_exception(failure);
     for (int m = m0; m < m1; ++m) {
       const LogDetResult& r = batch[m - m0];
       if (!r.ok) throw std::runtime_error(fail_message(m, r));

@@ -1,4 +1,7 @@
 #include "solver/blocks/plane_wave_nodes.h"
+#include "solver/guards.h"
+#include <stdexcept>
+#include <fmt/format.h>
 
 #if defined(__GLIBC__)
 #include <malloc.h>
@@ -41,14 +44,40 @@ void fill_static_nodes(const special::GaussLaguerreRule& gl, double length, Node
 
 const special::GaussLaguerreRule& momentum_rule_for(int lmax, double tol, double u,
                                                     int fixed_per_unit) {
+  return special::momentum_rule(2 * lmax, nodes_per_unit_for(tol, u, fixed_per_unit));
+}
+
+int nodes_per_unit_for(double tol, double u, int fixed_per_unit) {
   int per_unit = tol >= 1e-5 ? 3 : (tol >= 1e-7 ? 4 : 6);
   if (u >= 0.1 && tol >= 1e-4) per_unit = 2;
   if (fixed_per_unit > 0) per_unit = fixed_per_unit;
-  return special::momentum_rule(2 * lmax, per_unit);
+  return per_unit;
 }
 
-int sphere_plate_lmax_model(double radius, double gap, double u_in, double tol,
+double momentum_node_count(double lmax, double tol, double u, int fixed_per_unit) {
+  if (lmax <= kMaxMultipoleOrder)
+    return double(
+        momentum_rule_for(static_cast<int>(lmax), tol, u, fixed_per_unit).nodes.size());
+  // The node count of momentum_rule (solver/special/momentum_rule.cc: panels of 10
+  // Gauss-Legendre nodes, nodes_per_unit per unit of sqrt(t), up to sqrt(2 l_max + 1/2) + 8),
+  // without building a rule that large.
+  const double per_unit = nodes_per_unit_for(tol, u, fixed_per_unit);
+  return 10.0 * std::ceil((std::sqrt(2.0 * lmax + 0.5) + 8.0) * per_unit / 10.0);
+}
+
+int sphere_plate_lmax_model(double radius, double gap, double u, double tol,
                             DerivativeOrder order) {
+  const double lmax = sphere_plate_lmax_required(radius, gap, u, tol, order);
+  if (!(lmax <= kMaxMultipoleOrder))
+    throw std::runtime_error(fmt::format(
+        "a sphere of R = {:.6g} m at L = {:.6g} m (R/L = {:.3g}) needs l_max = {:.3g} "
+        "multipoles, beyond the {:.0e} this program can handle",
+        radius, gap, radius / gap, lmax, kMaxMultipoleOrder));
+  return static_cast<int>(lmax);
+}
+
+double sphere_plate_lmax_required(double radius, double gap, double u_in, double tol,
+                                  DerivativeOrder order) {
   const double u = std::min(u_in, 10.0);
   constexpr double kA[3] = {2.0, 1.85, 1.7};
   constexpr double kC[3] = {1.0, 8.0, 20.0};
@@ -56,7 +85,7 @@ int sphere_plate_lmax_model(double radius, double gap, double u_in, double tol,
   const double log_b_over_tol = std::log(std::max(kC[k], 1.2 * (1.0 + u) * (1.0 + u)) / tol);
   const double near = log_b_over_tol * (1.0 + u / 40.0) / kA[k] * radius / gap;
   const double far = log_b_over_tol / std::acosh(1.0 + gap / radius);
-  return std::max(3, static_cast<int>(std::ceil(std::max(near, far))) + 3);
+  return std::max(3.0, std::ceil(std::max(near, far)) + 3.0);  // double: no int overflow
 }
 
 void set_node_coefficients(const NodeSet& nodes, int j, bool em, LowRankBlock& b) {

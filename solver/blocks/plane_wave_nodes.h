@@ -54,7 +54,16 @@ const special::GaussLaguerreRule& momentum_rule_for(int lmax, double tol, double
 
 /// Multipole cut-off model of a sphere of radius R at gap L from a plate (sphere_plate.cc,
 /// lmax_for, where the constants were measured): u = xi / (c / (2 n L)), capped at 10.
+/// Throws std::runtime_error naming R and L beyond kMaxMultipoleOrder (solver/guards.h).
 int sphere_plate_lmax_model(double radius, double gap, double u, double tol, DerivativeOrder order);
+/// The same model in double, never refused or wrapped (plans report it; solver/plan.h refuses).
+double sphere_plate_lmax_required(double radius, double gap, double u, double tol,
+                                  DerivativeOrder order);
+/// Momentum nodes per unit of sqrt(t) (see momentum_rule_for).
+int nodes_per_unit_for(double tol, double u, int fixed_per_unit);
+/// Node count of momentum_rule_for(lmax, ...) for any lmax (computed, not built, beyond
+/// kMaxMultipoleOrder).
+double momentum_node_count(double lmax, double tol, double u, int fixed_per_unit);
 
 /// Logs of the continued Mie angular functions at one node x > 1 (log_s = log sqrt(x^2 - 1))
 /// over some rows, from log Pt^m (P) and log Pt^{m+1} (P1): t = m x Pt^m / s + Pt^{m+1},

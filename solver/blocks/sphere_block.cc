@@ -2,6 +2,7 @@
 // Moved unchanged from sphere_plate.cc (the physics is documented there and in DEVELOPERS.md,
 // "Sphere-plate round trip"); the only parameters added are the field kind and, for xi = 0, the
 // sphere radius and the path length of the round trip.
+#include "solver/guards.h"
 #include "solver/blocks/sphere_block.h"
 
 #include <fmt/format.h>
@@ -160,6 +161,7 @@ LowRankBlock sphere_dynamic_block(FieldKind field, int m, int lmax, const NodeSe
   int prev_lo = 0, prev_hi = 0;            // band of the previous node (empty: none yet)
   int prev_rows_lo = 0, prev_rows_hi = 0;  // rows computed for it
   for (const int j : order) {
+    throw_if_cancelled();  // guards.h: honoured within a column; changes no number
     const double x = nodes.x[j];
     const double hw = nodes.half_log_w[j];
     const double log_s = 0.5 * std::log((x - 1.0) * (x + 1.0));
@@ -304,6 +306,7 @@ LowRankBlock sphere_dynamic_block_full_range(FieldKind field, int m, int lmax, c
   if (em) special::legendre_log_many(xs, m + 1, lmax, pm1);
   Eigen::ArrayXd lt(nl), lp(nl), col(nl);
   for (int j = 0; j < N; ++j) {
+    throw_if_cancelled();
     const double x = nodes.x[j];
     const double hw = nodes.half_log_w[j];
     const Eigen::Map<const Eigen::ArrayXd> P(&pm(lmin, j), nl);
@@ -361,6 +364,7 @@ LowRankBlock sphere_static_block(FieldKind field, int m, double radius, double p
   const Eigen::ArrayXd ls = Eigen::ArrayXd::LinSpaced(nl, lmin, lmax);
   Eigen::ArrayXd col(nl);
   for (int j = 0; j < N; ++j) {
+    throw_if_cancelled();
     const double log_t = std::log(nodes.x[j]), hw = nodes.half_log_w[j];
     col = log_te + hw + ls * log_t;
     w.put_column(j, 0, 0, col);

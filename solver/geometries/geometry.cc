@@ -7,27 +7,35 @@
 namespace roundtrip {
 namespace {
 
-constexpr int kMBatch = 8;  // m blocks are computed in batches of 8 (solver/geometries)
+constexpr int kMBatch = 8;  // m blocks are computed in batches of 8 (solver/blocks/m_sum.h)
 
 // Blocks m = 0 .. m_est: the m sum is cut when its geometric tail is below rel_tol, and the
 // terms fall off beyond m ~ sqrt(R/L) (measured on sphere-plate): m_est = 8 ceil(sqrt(R/L)
-// ln(10/rel_tol) / 16), at most l_max + 1.
-int estimated_blocks(std::optional<double> R, double gap, int lmax, double rel_tol) {
-  if (!R) return lmax + 1;
+// ln(10/rel_tol) / 16), at most l_max + 1. In double: at R/L ~ 1e8 and beyond, l_max and the
+// block count leave the int range (such plans are refused, solver/plan.h).
+double estimated_blocks(std::optional<double> R, double gap, double lmax, double rel_tol) {
+  if (!R) return lmax + 1.0;
   const double m = std::sqrt(*R / gap) * std::log(10.0 / rel_tol) / 2.0;
   const double batches = std::max(1.0, std::ceil(m / kMBatch));
-  return static_cast<int>(std::min<double>(lmax + 1, batches * kMBatch));
+  return std::min(lmax + 1.0, batches * kMBatch);
 }
 
 }  // namespace
 
+double max_multipole_order(const std::map<std::string, double>& t) {
+  double l = 0.0;
+  for (const char* k : {"l_max", "l_max1", "l_max2"})
+    if (const auto it = t.find(k); it != t.end()) l = std::max(l, it->second);
+  return l;
+}
+
 FrequencyCost Geometry::cost(double gap, DerivativeOrder order, double rel_tol) const {
   const auto t = truncation(gap);
   FrequencyCost c;
-  if (!(t.count("l_max") && t.count("quadrature_nodes"))) return c;
-  const int lmax = static_cast<int>(t.at("l_max"));
+  const double lmax = max_multipole_order(t);
+  if (!(lmax > 0.0 && t.count("quadrature_nodes"))) return c;
   const double q = 2.0 * t.at("quadrature_nodes");
-  const int blocks = estimated_blocks(pfa_length(), gap, lmax, rel_tol);
+  const double blocks = estimated_blocks(pfa_length(), gap, lmax, rel_tol);
   // Cost model of solver/logdet/low_rank.cc for a block M = S W C W^T (n multipole rows, q node
   // columns). Node space (q < n): banded Gram (a node couples to ~8/sqrt(l_max) of the
   // multipoles; measured 0.22 at l_max = 1109), Cholesky, inverse for the derivatives, and the
@@ -41,13 +49,17 @@ FrequencyCost Geometry::cost(double gap, DerivativeOrder order, double rel_tol) 
   // half-width ~50-100, kNodeBand): banded Cholesky q nb^2, selected inversion for the force
   // ~4 q nb^2, two block-bidiagonal solves 4 q^2 nb for the gradient. The columns (Legendre
   // recurrences and exp) are computed over their bands only: ~50 flops per entry.
+  // Two spheres ("l_max1", "l_max2") are costed as one sphere of the larger l_max: the mirror
+  // path of equal spheres factorises twice, unequal ones once in LU (sphere_sphere.cc).
   constexpr double kNodeSpaceInefficiency = 6.0;
   constexpr double kNodeBand = 100.0;
-  const double band = std::min(1.0, 8.0 / std::sqrt(double(lmax)));
+  const double band = std::min(1.0, 8.0 / std::sqrt(lmax));
   const double nb = std::min(q, kNodeBand);
-  c.block_flops.assign(blocks, 0.0);
-  for (int m = 0; m < blocks; ++m) {
-    const double n = 2.0 * (lmax - std::max(1, m) + 1);
+  const double stride = blocks <= kMaxListedBlocks ? 1.0 : std::ceil(blocks / 1000.0);
+  c.blocks = blocks;
+  c.block_flops.clear();
+  for (double m = 0.0; m < blocks; m += stride) {
+    const double n = 2.0 * (lmax - std::max(1.0, m) + 1.0);
     double flops = 0.0;
     if (q < n) {
       double f = band * n * q * nb + q * nb * nb + 50.0 * band * n * q;
@@ -58,11 +70,10 @@ FrequencyCost Geometry::cost(double gap, DerivativeOrder order, double rel_tol) 
       flops = 4.0 * n * n * q + n * n * n / 3.0;
       if (order == DerivativeOrder::kGradient) flops += 2.0 * n * q * q;
     }
-    c.block_flops[m] = flops;
+    c.block_flops.push_back(stride * flops);
   }
   // Memory per thread: W (n x q) and three q x q work matrices, 8 bytes each.
-  const double n = 2.0 * lmax;
-  c.memory_bytes = 8.0 * (n * q + 3.0 * q * q);
+  c.memory_bytes = 8.0 * (2.0 * lmax * q + 3.0 * q * q);
   return c;
 }
 

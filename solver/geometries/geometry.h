@@ -33,6 +33,9 @@ struct FrequencyRuleOptions;  // solver/frequency/frequency_rule.h
 /// "gemm-equivalent": seconds = flops x (seconds per flop of a large matrix product) x the
 /// calibration of solver/plan.h. A geometry without dense blocks: one block of cost 1.
 struct FrequencyCost {
+  double blocks = 1.0;  ///< estimated blocks (double: beyond the int range for refused plans)
+  /// Model flops per block; for more than kMaxListedBlocks blocks (plans refused anyway,
+  /// solver/plan.h), per group of equal numbers of blocks, so the list stays short.
   std::vector<double> block_flops{1.0};
   double memory_bytes = 0.0;  ///< per thread
   double flops() const {
@@ -41,6 +44,13 @@ struct FrequencyCost {
     return f;
   }
 };
+
+/// Blocks listed one by one in FrequencyCost::block_flops up to this count.
+inline constexpr double kMaxListedBlocks = 4096;
+
+/// The largest multipole order in a truncation map ("l_max", or "l_max1"/"l_max2" for two
+/// spheres); 0 if there is none.
+double max_multipole_order(const std::map<std::string, double>& truncation);
 
 class Geometry {
  public:

@@ -98,9 +98,14 @@ class SpherePlate final : public Geometry {
   /// At the case's rel_tol and xi = c/(2L) for the energy; derivatives and higher frequencies
   /// use more multipoles, terms asked for less accuracy fewer (lmax_for).
   std::map<std::string, double> truncation(double gap) const override {
-    const int lmax = lmax_for(gap, o_.rel_tol, frequency_scale(gap));
-    return {{"l_max", double(lmax)},
-            {"quadrature_nodes", double(nodes_for(lmax, o_.rel_tol, 1.0))}};
+    // In double: beyond kMaxMultipoleOrder (guards.h) the values are reported as they are (the
+    // plan refuses them) instead of wrapping around in int.
+    const double lmax =
+        o_.l_max > 0 ? o_.l_max
+                     : sphere_plate_lmax_required(o_.radius, gap, 1.0, o_.rel_tol,
+                                                  DerivativeOrder::kEnergy);
+    return {{"l_max", lmax},
+            {"quadrature_nodes", momentum_node_count(lmax, o_.rel_tol, 1.0, o_.nodes_per_unit)}};
   }
 
   std::optional<PfaValues> pfa(double gap, const FrequencyRuleOptions& opts) const override;

@@ -177,13 +177,17 @@ class SphereSphere final : public Geometry {
 
   std::map<std::string, double> truncation(double gap) const override {
     const double xi = frequency_scale(gap);
-    const int l1 = lmax_for(o_.radius1, gap, o_.rel_tol, xi, DerivativeOrder::kEnergy);
-    const int l2 = lmax_for(o_.radius2, gap, o_.rel_tol, xi, DerivativeOrder::kEnergy);
-    const auto& gl =
-        momentum_rule_for(std::max(l1, l2), o_.rel_tol, xi / mirror_scale(gap), o_.nodes_per_unit);
-    return {{"l_max1", double(l1)},
-            {"l_max2", double(l2)},
-            {"quadrature_nodes", double(gl.nodes.size())},
+    // In double, never refused here (the plan refuses what cannot be indexed, solver/plan.h).
+    const auto lmax_of = [&](double radius) {
+      return o_.l_max > 0 ? double(o_.l_max)
+                          : sphere_plate_lmax_required(radius, 0.5 * gap, xi / mirror_scale(gap),
+                                                       o_.rel_tol, DerivativeOrder::kEnergy);
+    };
+    const double l1 = lmax_of(o_.radius1), l2 = lmax_of(o_.radius2);
+    return {{"l_max1", l1},
+            {"l_max2", l2},
+            {"quadrature_nodes", momentum_node_count(std::max(l1, l2), o_.rel_tol,
+                                                     xi / mirror_scale(gap), o_.nodes_per_unit)},
             {"mirror_symmetry", mirror_ ? 1.0 : 0.0}};
   }
 

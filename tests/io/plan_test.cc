@@ -8,9 +8,13 @@
 
 #include <algorithm>
 #include <cmath>
+#include <filesystem>
+#include <fstream>
 #include <string>
 
+#include "common/scratch.h"
 #include "io/case_file.h"
+#include "solver/guards.h"
 
 namespace roundtrip::io {
 namespace {
@@ -104,6 +108,101 @@ temperature = "0 K"
   const Plan plan = make_plan(*g, spec.gaps, opts, PlanCalibration{1e-6, 1.0, 1.0, 0.0, "test"});
   EXPECT_EQ(plan.memory_bytes, 0.0);
   for (const auto& p : plan.gaps) EXPECT_GT(p.frequencies, 5);
+}
+
+// R/L ~ 3e8 used to wrap l_max around in int: "nan h" in the plan at R = 30 m, l_max = 3 (and
+// then "det(1 - M) <= 0") at R = 40-100 m, all at L = 100 nm. Now the truncation is a double,
+// proportional to R/L near contact (derived from the l_max law, sphere_plate.cc lmax_for: the
+// near-contact term is linear in R/L, the +3 and the ceiling are below 1e-8 of it here), the
+// plan stays finite and refuses, and a direct evaluation throws instead of using l_max = 3.
+TEST(Plan, LmaxBeyondTheIndexRangeIsARefusalNamingRadiusAndGap) {
+  constexpr double kLinearTol = 1e-6;  // ceil + 3 against l_max ~ 1e9: ~4e-9
+  const auto spec_for = [](const std::string& radius) {
+    return parse_case(R"(geometry = "sphere-plate"
+[sphere]
+radius = ")" + radius + R"("
+material = "gold-drude"
+[plate]
+material = "gold-drude"
+[separations]
+values = ["100 nm"]
+[conditions]
+temperature = "300 K"
+)",
+                      "huge.toml");
+  };
+  double lmax30 = 0.0;
+  for (const char* radius : {"30 m", "40 m", "100 m"}) {
+    const CaseSpec spec = spec_for(radius);
+    const auto g = build_geometry(spec);
+    const double lmax = g->truncation(1e-7).at("l_max");
+    EXPECT_TRUE(std::isfinite(lmax)) << radius;
+    EXPECT_GT(lmax, kMaxMultipoleOrder) << radius;
+    if (lmax30 == 0.0) lmax30 = lmax;
+    EXPECT_NEAR(lmax / lmax30, spec.body("sphere").radius / 30.0, kLinearTol) << radius;
+    RunOptions opts;
+    opts.frequency = spec.frequency;
+    opts.quantities = spec.quantities;
+    const Plan plan = make_plan(*g, spec.gaps, opts, PlanCalibration{});
+    EXPECT_TRUE(std::isfinite(plan.seconds) && std::isfinite(plan.memory_bytes)) << radius;
+    const std::string why = truncation_problem(*g, plan);
+    EXPECT_NE(why.find(fmt::format("radius R = {} at gap L = 1e-07 m", radius)), std::string::npos)
+        << why;
+    EXPECT_NE(why.find("beyond the 1e+08 this program can index"), std::string::npos) << why;
+    EXPECT_THROW((void)g->at_frequency(1e15, 1e-7, DerivativeOrder::kForce), std::runtime_error);
+  }
+  // R/L = 1e4 (target 2 of the README) is far inside the range.
+  const CaseSpec ok = spec_for("1 mm");
+  const auto g = build_geometry(ok);
+  RunOptions opts;
+  opts.frequency = ok.frequency;
+  EXPECT_EQ(truncation_problem(*g, make_plan(*g, ok.gaps, opts, PlanCalibration{})), "");
+}
+
+// MemAvailable, lowered by a cgroup limit minus the group's usage net of its inactive file
+// cache (cgroup v2 memory.max / memory.current / memory.stat; v1 memory.limit_in_bytes; the
+// "working set" of common practice for containers). Files under a fake root.
+TEST(Plan, AvailableMemoryIsMemAvailableLoweredByACgroupLimit) {
+  const auto root = roundtrip::testing::fresh_dir("meminfo");
+  const auto put = [&](const std::string& path, const std::string& text) {
+    std::filesystem::create_directories((root / path).parent_path());
+    std::ofstream(root / path) << text;
+  };
+  put("proc/meminfo",
+      "MemTotal:       2000 kB\nMemFree:         500 kB\nMemAvailable:   1000 kB\n");
+  AvailableMemory a = available_memory(root.string());
+  EXPECT_EQ(a.bytes, 1024000.0);
+  EXPECT_EQ(a.source, "MemAvailable in /proc/meminfo");
+  put("sys/fs/cgroup/memory.max", "max\n");  // no limit
+  EXPECT_EQ(available_memory(root.string()).bytes, 1024000.0);
+  put("sys/fs/cgroup/memory.max", "500000\n");
+  put("sys/fs/cgroup/memory.current", "300000\n");
+  put("sys/fs/cgroup/memory.stat", "anon 200000\ninactive_file 100000\nactive_file 0\n");
+  a = available_memory(root.string());
+  EXPECT_EQ(a.bytes, 300000.0) << "500000 - (300000 - 100000)";
+  EXPECT_EQ(a.source, "cgroup memory.max");
+  std::filesystem::remove_all(root / "sys");
+  put("sys/fs/cgroup/memory/memory.limit_in_bytes", "9223372036854771712\n");  // v1: no limit
+  EXPECT_EQ(available_memory(root.string()).bytes, 1024000.0);
+  put("sys/fs/cgroup/memory/memory.limit_in_bytes", "2000000\n");  // above MemAvailable
+  put("sys/fs/cgroup/memory/memory.usage_in_bytes", "100000\n");
+  EXPECT_EQ(available_memory(root.string()).bytes, 1024000.0);
+  std::filesystem::remove_all(root);
+}
+
+TEST(Plan, MemoryProblemOnlyAboveTheLimitAndNamesBoth) {
+  Plan plan;
+  plan.threads = 2;
+  plan.memory_bytes = 3.0 * 1024 * 1024 * 1024;
+  GapPlan g;
+  g.gap = 1e-7;
+  g.memory_bytes = plan.memory_bytes / 2;
+  plan.gaps.push_back(g);
+  EXPECT_EQ(memory_problem(plan, MemoryLimit{4.0 * 1024 * 1024 * 1024, "test"}), "");
+  EXPECT_EQ(memory_problem(plan, MemoryLimit{0.0, ""}), "") << "unknown limit: no check";
+  EXPECT_EQ(memory_problem(plan, MemoryLimit{512.0 * 1024 * 1024, "--max-memory"}),
+            "the plan needs about 3.00 GiB of working memory (largest at L = 1e-07 m, 2 threads), "
+            "more than the 512.0 MiB available (--max-memory)");
 }
 
 }  // namespace
