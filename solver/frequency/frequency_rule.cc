@@ -646,7 +646,7 @@ Spectral mirror_model(double a) {
   if (a == 0.0) return {k * kZeta3, -2.0 * k * kZeta3, 6.0 * k * kZeta3};
   const double x = std::exp(-a);
   const double g = a * special::dilog(x) + special::trilog(x);
-  const double l = std::log1p(-x);
+  const double l = std::log(-std::expm1(-a));  // ln(1 - e^-a), also for a < 1e-16 (x = 1)
   const double g1 = a * l;
   const double g2 = l + a / std::expm1(a);
   return {k * g, k * (a * g1 - 2.0 * g), k * (6.0 * g - 4.0 * a * g1 + a * a * g2)};
@@ -779,7 +779,8 @@ ThermalRuleChoice choose_thermal_rule(double xi_scale, const FrequencyRuleOption
   // (terms until a e^-a ~ rel_tol pi tau at a = xi/xi_scale, spacing pi tau) says there are more
   // than kModelRunTerms; then that estimate (never run: at 1e-9 K it would be ~1e13 terms).
   constexpr double kModelRunTerms = 20000.0;
-  const double decay_terms = (std::log(1.0 / (opts.rel_tol * kPi * tau)) + 3.0) / (kPi * tau) + 1.0;
+  const double decay_terms =
+      (-std::log(opts.rel_tol) - std::log(kPi * tau) + 3.0) / (kPi * tau) + 1.0;
   if (decay_terms > kModelRunTerms) {
     c.matsubara_estimated = true;
     c.matsubara_terms = static_cast<int>(
