@@ -675,7 +675,7 @@ CaseSpec parse_root(toml::table& root, CaseSpec spec) {
       if (!rule)
         throw error_at(
             *n->get("frequency_rule"), "numerics.frequency_rule",
-            fmt::format("unknown rule \"{}\" (use \"auto\", \"matsubara\" or \"pade\")", *f));
+            fmt::format("unknown rule \"{}\" (use \"auto\", \"matsubara\", \"pade\" or \"integral-tail\")", *f));
       if (*rule != ThermalRule::kAuto && spec.frequency.temperature_K == 0.0 &&
           !root.contains("scan"))
         throw error_at(

@@ -53,6 +53,8 @@ std::string rules_used(const CaseSpec& spec, const RunResult* r) {
         return to_string(FrequencyRuleKind::kMatsubara);
       case ThermalRule::kPade:
         return to_string(FrequencyRuleKind::kPadeSpectrum);
+      case ThermalRule::kIntegralTail:
+        return to_string(FrequencyRuleKind::kMatsubaraIntegralTail);
       case ThermalRule::kAuto:
         return "auto";
     }
@@ -67,10 +69,12 @@ std::string rules_used(const CaseSpec& spec, const RunResult* r) {
 std::string rule_sentence(const CaseSpec& spec, const RunResult* r = nullptr) {
   const double T = spec.frequency.temperature_K;
   if (T == 0.0) return "T = 0 K, integral over imaginary frequency";
-  int matsubara = 0, pade = 0, lo = 0, hi = 0;
+  int matsubara = 0, pade = 0, lo = 0, hi = 0, tail = 0;
   if (r)
     for (const auto& p : r->points) {
-      if (p.frequencies.rule == FrequencyRuleKind::kPadeSpectrum) {
+      if (p.frequencies.rule == FrequencyRuleKind::kMatsubaraIntegralTail) {
+        ++tail;
+      } else if (p.frequencies.rule == FrequencyRuleKind::kPadeSpectrum) {
         const int n = p.frequencies.pade_poles;
         lo = pade == 0 ? n : std::min(lo, n);
         hi = pade == 0 ? n : std::max(hi, n);
@@ -81,6 +85,11 @@ std::string rule_sentence(const CaseSpec& spec, const RunResult* r = nullptr) {
     }
   const std::string poles =
       lo == hi ? fmt::format("{} poles", lo) : fmt::format("{}\u2013{} poles", lo, hi);
+  if (tail > 0)  // low temperature (frequency_rule.h)
+    return fmt::format("T = {} K, Matsubara terms with an integral tail{}", T,
+                       tail == static_cast<int>(r->points.size())
+                           ? std::string()
+                           : fmt::format(" at {} of {} gaps", tail, r->points.size()));
   if (pade > 0 && matsubara == 0)
     return fmt::format("T = {} K, Pade spectrum decomposition ({})", T, poles);
   if (pade > 0)
@@ -93,11 +102,14 @@ std::string rule_sentence(const CaseSpec& spec, const RunResult* r = nullptr) {
       return fmt::format("T = {} K, Matsubara sum", T);
     case ThermalRule::kPade:
       return fmt::format("T = {} K, Pade spectrum decomposition", T);
+    case ThermalRule::kIntegralTail:
+      return fmt::format("T = {} K, Matsubara terms with an integral tail", T);
     case ThermalRule::kAuto:
       break;
   }
   return fmt::format(
-      "T = {} K, Pade spectrum decomposition or Matsubara sum, whichever needs fewer frequencies",
+      "T = {} K, Pade spectrum decomposition, Matsubara sum or (low T) Matsubara terms with an "
+      "integral tail, whichever needs fewer frequencies",
       T);
 }
 
@@ -603,6 +615,11 @@ int check_command(const CheckArgs& args, std::ostream& out, std::ostream& err) {
         memory_warning = where + memory_refusal(m);
       heading();
       print_plan(plan, out);
+      // A frequency rule that cannot reach rel_tol (caps), judged on the model spectrum.
+      for (double gap : ps.gaps)
+        if (const std::string why = frequency_rule_problem(g->frequency_scale(gap), ps.frequency);
+            !why.empty())
+          out << fmt::format("warning: gap {} m: {}\n", gap, why);
     }
     out << "\n";
     row("estimate", fmt::format("about {} on {} thread{}, peak working memory {} (rough: a "

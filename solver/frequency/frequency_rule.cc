@@ -45,6 +45,8 @@ std::string to_string(FrequencyRuleKind k) {
       return "matsubara";
     case FrequencyRuleKind::kPadeSpectrum:
       return "pade-spectrum";
+    case FrequencyRuleKind::kMatsubaraIntegralTail:
+      return "matsubara-integral-tail";
   }
   return "unknown";
 }
@@ -57,6 +59,8 @@ std::string to_string(ThermalRule r) {
       return "matsubara";
     case ThermalRule::kPade:
       return "pade";
+    case ThermalRule::kIntegralTail:
+      return "integral-tail";
   }
   return "unknown";
 }
@@ -65,6 +69,7 @@ std::optional<ThermalRule> thermal_rule_from_string(const std::string& s) {
   if (s == "auto") return ThermalRule::kAuto;
   if (s == "matsubara") return ThermalRule::kMatsubara;
   if (s == "pade") return ThermalRule::kPade;
+  if (s == "integral-tail") return ThermalRule::kIntegralTail;
   return std::nullopt;
 }
 
@@ -498,6 +503,141 @@ FrequencySum matsubara(const SpectralFunction& f, const FrequencyRuleOptions& op
   return out;
 }
 
+// Gregory's coefficients |G_1| .. |G_8| (1/2, 1/12, 1/24, 19/720, 3/160, 863/60480, 275/24192,
+// 33953/3628800; standard, e.g. Phillips, Proc. Edinburgh Math. Soc. 18, 133 (1972); checked in
+// tests/frequency against exactly summable series).
+constexpr double kGregory[] = {1.0 / 2.0,   1.0 / 12.0,      1.0 / 24.0,      19.0 / 720.0,
+                               3.0 / 160.0, 863.0 / 60480.0, 275.0 / 24192.0, 33953.0 / 3628800.0};
+
+// Weights of f_N .. f_{N+K} in Gregory's end correction with forward differences up to Delta^K:
+//   sum_{n>=N} f_n = \int_N^inf f dn + sum_{k=0}^K (-1)^k |G_{k+1}| Delta^k f_N + ...,
+// Delta^k f_N = sum_j (-1)^(k-j) C(k, j) f_{N+j}, so f_{N+j} carries
+// (-1)^j sum_{k>=j} |G_{k+1}| C(k, j).
+std::vector<double> gregory_weights(int order) {
+  std::vector<double> w(order + 1, 0.0);
+  for (int k = 0; k <= order; ++k) {
+    double binom = 1.0;  // C(k, j)
+    for (int j = 0; j <= k; ++j) {
+      w[j] += (j % 2 == 0 ? 1.0 : -1.0) * kGregory[k] * binom;
+      binom = binom * (k - j) / (j + 1);
+    }
+  }
+  return w;
+}
+
+Spectral forward_difference(const std::vector<Spectral>& f, int order) {
+  Spectral d;
+  double binom = 1.0;
+  for (int j = 0; j <= order; ++j) {
+    d += f[j] * (((order - j) % 2 == 0 ? 1.0 : -1.0) * binom);
+    binom = binom * (order - j) / (j + 1);
+  }
+  return d;
+}
+
+}  // namespace
+
+GregoryCorrection gregory_tail_correction(const std::vector<Spectral>& f) {
+  GregoryCorrection g;
+  const int order = static_cast<int>(f.size()) - 1;
+  if (order < 0 || order >= static_cast<int>(std::size(kGregory)))
+    throw std::invalid_argument("gregory_tail_correction: 1 to 8 values");
+  for (int k = 0; k <= order; ++k) {
+    g.last = forward_difference(f, k) * ((k % 2 == 0 ? 1.0 : -1.0) * kGregory[k]);
+    g.value += g.last;
+  }
+  return g;
+}
+
+namespace {
+
+// Low temperature (frequency_rule.h, "Matsubara terms with an integral tail"): n < N explicit,
+// Gregory's correction from f_N .. f_{N+K}, and the T = 0 rule on [xi_N, inf).
+FrequencySum low_temperature(const SpectralFunction& f, double xi_scale,
+                             const FrequencyRuleOptions& opts) {
+  const double kT = kBoltzmann * opts.temperature_K;
+  const double step = matsubara_frequency(1, opts.temperature_K);  // h = 2 pi k_B T / hbar
+  const std::vector<double> gw = gregory_weights(kGregoryDifferences);
+  // Values s(xi_n), computed once each (N grows by doubling when the check fails).
+  std::vector<Spectral> values;
+  const auto value = [&](int n) -> const Spectral& {
+    while (static_cast<int>(values.size()) <= n)
+      values.push_back(f(matsubara_frequency(static_cast<int>(values.size()), opts.temperature_K)));
+    return values[n];
+  };
+  // The integral's budget: (1 - kGregoryFraction) rel_tol; Gregory's: kGregoryFraction rel_tol.
+  FrequencyRuleOptions integral_opts = opts;
+  integral_opts.temperature_K = 0.0;
+  integral_opts.thermal_rule = ThermalRule::kAuto;
+  integral_opts.rel_tol = std::max(1e-14, (1.0 - kGregoryFraction) * opts.rel_tol);
+  FrequencySum out;
+  out.rule = FrequencyRuleKind::kMatsubaraIntegralTail;
+  std::string why;
+  for (int N = kLowTemperatureFirstTerms; N <= kLowTemperatureMaxTerms; N *= 4) {
+    // Explicit terms n = 0 .. N-1 (n = 0: exact static term, weight 1/2).
+    CompensatedSum explicit_sum;
+    Spectral explicit_abs;
+    for (int n = 0; n < N; ++n) {
+      const Spectral c = value(n) * (n == 0 ? 0.5 * kT : kT);
+      explicit_sum.add(c);
+      explicit_abs += abs(c);
+    }
+    std::vector<Spectral> tail_values;
+    for (int j = 0; j <= kGregoryDifferences; ++j) tail_values.push_back(value(N + j));
+    const GregoryCorrection g = gregory_tail_correction(tail_values);
+    bool finite = all_finite(explicit_sum.value()) && all_finite(g.value);
+    // (hbar / 2 pi) \int_{xi_N}^inf s dxi = k_B T \int_N^inf f dn.
+    const double xi_n = N * step;
+    FrequencySum integral = zero_temperature([&](double x) { return f(xi_n + x); },
+                                             std::max(xi_scale, 1e-300), integral_opts);
+    if (!integral.converged || !finite) {
+      out = std::move(integral);
+      out.rule = FrequencyRuleKind::kMatsubaraIntegralTail;
+      out.converged = false;
+      out.message = finite ? "Matsubara terms with an integral tail: " + out.message
+                           : "Matsubara terms with an integral tail: a non-finite term";
+      return out;
+    }
+    CompensatedSum total;
+    total.add(explicit_sum.value());
+    total.add(g.value * kT);
+    total.add(integral.total);
+    const Spectral e = total.value();
+    // Gregory's error: the last difference term used, which must be small against |E| in every
+    // component and smaller than the one before it (asymptotic regime).
+    Spectral scale = explicit_abs;
+    for (const auto& t : integral.terms) scale += abs(t.s * t.weight);
+    const Spectral gregory_error = abs(g.last * kT);
+    if (negligible(gregory_error, scale, kGregoryFraction * opts.rel_tol)) {
+      out.total = e;
+      out.abs_error = integral.abs_error + gregory_error.value;
+      out.converged = true;
+      out.matsubara_explicit = N;
+      out.terms.clear();
+      for (int n = 0; n < N + kGregoryDifferences + 1; ++n) {
+        double w = n < N ? (n == 0 ? 0.5 * kT : kT) : 0.0;
+        if (n >= N) w += kT * gw[n - N];
+        out.terms.push_back({matsubara_frequency(n, opts.temperature_K), w, values[n]});
+      }
+      for (auto t : integral.terms) {
+        t.xi += xi_n;
+        out.terms.push_back(t);
+      }
+      std::stable_sort(out.terms.begin(), out.terms.end(),
+                       [](const FrequencyTerm& a, const FrequencyTerm& b) { return a.xi < b.xi; });
+      return out;
+    }
+    why = fmt::format("Gregory's end correction at N = {} is {:.3g} of the energy", N,
+                      gregory_error.value / std::abs(e.value));
+  }
+  out.converged = false;
+  out.message = fmt::format(
+      "Matsubara terms with an integral tail did not reach rel_tol = {} with up to {} explicit "
+      "terms ({})",
+      opts.rel_tol, kLowTemperatureMaxTerms, why);
+  return out;
+}
+
 // Perfect-mirror plate-plate spectrum at unit gap with its gap derivatives (see frequency_rule.h):
 // s = -G/(4 pi), ds/dL = -(a G' - 2 G)/(4 pi), d2s/dL2 = -(6 G - 4 a G' + a^2 G'')/(4 pi),
 // G' = a ln(1 - e^-a), G'' = ln(1 - e^-a) + a/(e^a - 1); a G' and a^2 G'' vanish at a = 0.
@@ -506,7 +646,7 @@ Spectral mirror_model(double a) {
   if (a == 0.0) return {k * kZeta3, -2.0 * k * kZeta3, 6.0 * k * kZeta3};
   const double x = std::exp(-a);
   const double g = a * special::dilog(x) + special::trilog(x);
-  const double l = std::log1p(-x);
+  const double l = std::log(-std::expm1(-a));  // ln(1 - e^-a), also for a < 1e-16 (x = 1)
   const double g1 = a * l;
   const double g2 = l + a / std::expm1(a);
   return {k * g, k * (a * g1 - 2.0 * g), k * (6.0 * g - 4.0 * a * g1 + a * a * g2)};
@@ -634,18 +774,44 @@ ThermalRuleChoice choose_thermal_rule(double xi_scale, const FrequencyRuleOption
     throw std::invalid_argument(
         fmt::format("frequency rule: xi_scale = {} rad/s must be finite and > 0", xi_scale));
   const double tau = 2.0 * kBoltzmann * opts.temperature_K / (kHbar * xi_scale);
-  // Matsubara terms the model needs, by the Matsubara rule itself.
-  const FrequencySum m = matsubara([&](double xi) { return mirror_model(xi / xi_scale); }, opts);
-  c.matsubara_terms =
-      m.converged ? static_cast<int>(m.terms.size()) : std::numeric_limits<int>::max();
+  const auto model = [&](double xi) { return mirror_model(xi / xi_scale); };
+  // Matsubara terms the model needs: by the Matsubara rule itself, unless its decay law
+  // (terms until a e^-a ~ rel_tol pi tau at a = xi/xi_scale, spacing pi tau) says there are more
+  // than kModelRunTerms; then that estimate (never run: at 1e-9 K it would be ~1e13 terms).
+  constexpr double kModelRunTerms = 20000.0;
+  const double decay_terms =
+      (-std::log(opts.rel_tol) - std::log(kPi * tau) + 3.0) / (kPi * tau) + 1.0;
+  if (decay_terms > kModelRunTerms) {
+    c.matsubara_estimated = true;
+    c.matsubara_terms = static_cast<int>(
+        std::min(decay_terms, static_cast<double>(std::numeric_limits<int>::max())));
+  } else {
+    const FrequencySum m = matsubara(model, opts);
+    c.matsubara_terms =
+        m.converged ? static_cast<int>(m.terms.size()) : std::numeric_limits<int>::max();
+  }
   c.rule = FrequencyRuleKind::kMatsubara;
   if (opts.thermal_rule == ThermalRule::kMatsubara) return c;
+  // Matsubara terms with an integral tail, when the plain sum is long.
+  int tail = std::numeric_limits<int>::max();
+  const bool forced_tail = opts.thermal_rule == ThermalRule::kIntegralTail;
+  if (forced_tail ||
+      (opts.thermal_rule == ThermalRule::kAuto && c.matsubara_terms > kTailRuleFromTerms)) {
+    const FrequencySum t = low_temperature(model, xi_scale, opts);
+    c.tail_rule_terms = static_cast<int>(t.terms.size());
+    c.tail_rule_converged = t.converged;
+    if (t.converged) tail = c.tail_rule_terms;
+  }
+  if (forced_tail) {
+    c.rule = FrequencyRuleKind::kMatsubaraIntegralTail;
+    return c;
+  }
   // Fewest poles: doubling to a bracket, then bisection (the error falls monotonically in n on
-  // the model, checked in tests/frequency).
+  // the model, checked in tests/frequency). Not beyond the integral-tail rule's count (auto).
   const double target = kPadeModelFraction * opts.rel_tol;
   int hi = 1;
   double hi_err = pade_model_error(hi, tau);
-  while (!(hi_err <= target) && 4 * hi <= kMaxPadePoles) {
+  while (!(hi_err <= target) && 4 * hi <= kMaxPadePoles && hi < tail) {
     hi *= 2;
     hi_err = pade_model_error(hi, tau);
   }
@@ -661,13 +827,53 @@ ThermalRuleChoice choose_thermal_rule(double xi_scale, const FrequencyRuleOption
     }
   }
   const bool pade_ok = hi_err <= target;
-  const bool fewer = hi + 1 < c.matsubara_terms;
-  if (opts.thermal_rule == ThermalRule::kPade || (pade_ok && fewer)) {
+  const int pade_terms = pade_ok ? hi + 1 : std::numeric_limits<int>::max();
+  if (opts.thermal_rule == ThermalRule::kPade ||
+      (pade_ok && pade_terms < c.matsubara_terms && pade_terms <= tail)) {
     c.rule = FrequencyRuleKind::kPadeSpectrum;
     c.pade_poles = hi;
     c.pade_model_error = hi_err;
+  } else if (tail < c.matsubara_terms) {
+    c.rule = FrequencyRuleKind::kMatsubaraIntegralTail;
   }
   return c;
+}
+
+std::string frequency_rule_problem(double xi_scale, const FrequencyRuleOptions& opts) {
+  if (opts.temperature_K == 0.0) return {};
+  const ThermalRuleChoice c = choose_thermal_rule(xi_scale, opts);
+  switch (c.rule) {
+    case FrequencyRuleKind::kMatsubara:
+      if (c.matsubara_terms > opts.max_matsubara_terms)
+        return fmt::format(
+            "the Matsubara sum needs about {:.2g} terms here (perfect-mirror model), more than "
+            "the cap of {}; it would stop unconverged (exit 3){}",
+            static_cast<double>(c.matsubara_terms), opts.max_matsubara_terms,
+            opts.thermal_rule == ThermalRule::kMatsubara
+                ? "; frequency_rule = \"auto\" would use a shorter rule"
+                : "");
+      return {};
+    case FrequencyRuleKind::kPadeSpectrum:
+      if (!(c.pade_model_error <= kPadeModelFraction * opts.rel_tol))
+        return fmt::format(
+            "the Pade spectrum decomposition with {} poles (the most supported) misses rel_tol on "
+            "the perfect-mirror model (error {:.3g}); it would stop unconverged (exit 3){}",
+            c.pade_poles, c.pade_model_error,
+            opts.thermal_rule == ThermalRule::kPade
+                ? "; frequency_rule = \"auto\" would use another rule"
+                : "");
+      return {};
+    case FrequencyRuleKind::kMatsubaraIntegralTail:
+      if (!c.tail_rule_converged)
+        return fmt::format(
+            "the Matsubara terms with an integral tail miss rel_tol on the perfect-mirror model "
+            "(more than {} explicit terms needed); it would stop unconverged (exit 3)",
+            kLowTemperatureMaxTerms);
+      return {};
+    case FrequencyRuleKind::kZeroTemperatureQuadrature:
+      return {};
+  }
+  return {};
 }
 
 FrequencySum sum_over_frequencies(const TolerantSpectralFunction& s, double xi_scale,
@@ -679,7 +885,10 @@ FrequencySum sum_over_frequencies(const TolerantSpectralFunction& s, double xi_s
   if (opts.temperature_K > 0.0) {
     const ThermalRuleChoice c = choose_thermal_rule(xi_scale, opts);
     if (c.rule == FrequencyRuleKind::kPadeSpectrum) return pade_spectrum(s, xi_scale, c, opts);
-    out = matsubara(at_tol, opts);
+    if (c.rule == FrequencyRuleKind::kMatsubaraIntegralTail)
+      out = low_temperature(at_tol, xi_scale, opts);
+    else
+      out = matsubara(at_tol, opts);
   } else {
     if (!std::isfinite(xi_scale) || !(xi_scale > 0.0))
       throw std::invalid_argument(

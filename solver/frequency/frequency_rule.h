@@ -3,7 +3,10 @@
 //   T = 0:  E = (hbar / 2 pi) \int_0^\infty dxi s(xi)       (adaptive quadrature, error reported)
 //   T > 0:  E = k_B T \sum'_{n>=0} s(xi_n)                    (Matsubara, n = 0 weight 1/2)
 //           or its Pade spectrum decomposition E ~ k_B T [s(0)/2 + sum_j eta_j s(xi_j)]
-//           (pade_spectrum.h), chosen when it needs fewer frequencies.
+//           (pade_spectrum.h), chosen when it needs fewer frequencies,
+//           or, at low temperature (many Matsubara terms), Matsubara terms with an integral tail:
+//           E = k_B T [s(0)/2 + sum_{n=1}^{N-1} s(xi_n) + C_N] + (hbar/2 pi) \int_{xi_N}^inf s dxi,
+//           C_N Gregory's end correction from s(xi_N) .. s(xi_{N+6}) (see low_temperature below).
 // Derivatives with respect to L are summed with the same weights. See geometry.h for signs.
 #include <functional>
 #include <optional>
@@ -14,14 +17,19 @@
 
 namespace roundtrip {
 
-enum class FrequencyRuleKind { kZeroTemperatureQuadrature, kMatsubara, kPadeSpectrum };
+enum class FrequencyRuleKind {
+  kZeroTemperatureQuadrature,
+  kMatsubara,
+  kPadeSpectrum,
+  kMatsubaraIntegralTail,  ///< low T: explicit Matsubara terms + Gregory + T = 0 integral tail
+};
 std::string to_string(FrequencyRuleKind k);
 
 /// Which sum to use at T > 0. kAuto takes the one with fewer frequencies for the case (decided
 /// on a model spectrum, see choose_thermal_rule); at T = 0 only kAuto is valid.
-enum class ThermalRule { kAuto, kMatsubara, kPade };
+enum class ThermalRule { kAuto, kMatsubara, kPade, kIntegralTail };
 std::string to_string(ThermalRule r);
-/// "auto", "matsubara", "pade" -> rule; anything else -> nullopt.
+/// "auto", "matsubara", "pade", "integral-tail" -> rule; anything else -> nullopt.
 std::optional<ThermalRule> thermal_rule_from_string(const std::string& s);
 
 struct FrequencyRuleOptions {
@@ -46,7 +54,8 @@ struct FrequencySum {
   double abs_error = 0.0;            ///< estimated absolute error of total.value
   std::vector<FrequencyTerm> terms;  ///< every evaluation, in order of xi
   FrequencyRuleKind rule = FrequencyRuleKind::kZeroTemperatureQuadrature;
-  int pade_poles = 0;  ///< N of the Pade spectrum decomposition, if used
+  int pade_poles = 0;          ///< N of the Pade spectrum decomposition, if used
+  int matsubara_explicit = 0;  ///< N of the Matsubara terms with an integral tail, if used
   bool converged = true;
   std::string message;  ///< why not converged, if not
 };
@@ -72,12 +81,48 @@ inline constexpr double kMaxTermRelTol = 1e-2;
 /// kPadeModelFraction rel_tol in value and both derivatives.
 struct ThermalRuleChoice {
   FrequencyRuleKind rule = FrequencyRuleKind::kMatsubara;
-  int pade_poles = 0;             ///< N (0 unless rule == kPadeSpectrum)
-  int matsubara_terms = 0;        ///< model estimate of the Matsubara terms (incl. n = 0)
-  double pade_model_error = 0.0;  ///< relative error of the PSD on the model
+  int pade_poles = 0;                ///< N (0 unless rule == kPadeSpectrum)
+  int matsubara_terms = 0;           ///< model estimate of the Matsubara terms (incl. n = 0)
+  bool matsubara_estimated = false;  ///< matsubara_terms from the decay law, not a model run
+  double pade_model_error = 0.0;     ///< relative error of the PSD on the model
+  int tail_rule_terms = 0;           ///< evaluations of the integral-tail rule on the model (0: not
+                                     ///< tried: a few Matsubara terms suffice)
+  bool tail_rule_converged = false;  ///< the integral-tail rule met rel_tol on the model
 };
 inline constexpr double kPadeModelFraction = 0.1;
 ThermalRuleChoice choose_thermal_rule(double xi_scale, const FrequencyRuleOptions& opts);
+
+/// Why the rule chosen for this decay scale cannot reach rel_tol (judged on the model spectrum
+/// before any s is computed: a forced Matsubara sum longer than max_matsubara_terms, a forced Pade
+/// decomposition that misses rel_tol on the model); empty if it can. For `roundtrip check`.
+std::string frequency_rule_problem(double xi_scale, const FrequencyRuleOptions& opts);
+
+/// Matsubara terms with an integral tail (FrequencyRuleKind::kMatsubaraIntegralTail), used when
+/// the Matsubara sum needs more than kTailRuleFromTerms terms and the other rules more evaluations.
+/// Euler-Maclaurin in Gregory's form (finite differences instead of derivatives; e.g. Hildebrand,
+/// Introduction to Numerical Analysis (1974), sec. 5.9; standard):
+///   sum_{n>=N} f_n = \int_N^inf f dn + sum_{k=0}^{K} (-1)^k |G_{k+1}| Delta^k f_N + R_K,
+/// f_n = s(xi_n), xi_n = n h, h = 2 pi k_B T/hbar, K = kGregoryDifferences, |G| = 1/2, 1/12, 1/24,
+/// 19/720, 3/160, 863/60480, 275/24192. k_B T \int_N^inf f dn = (hbar/2 pi) \int_{xi_N}^inf s dxi
+/// is the T = 0 rule started at xi_N. The n = 0 term is explicit and exact (static limits), so
+/// the jump between s(0) and s(0+) of Drude metals (k_B T/2 times it: the linear-in-T term when h
+/// is above the Drude TE scale) is kept; as T -> 0 the rule tends to the T = 0 integral plus
+/// k_B T (s(0) - s(0+))/2. N starts at kLowTemperatureFirstTerms and is multiplied by 4 until the
+/// last difference term is below kGregoryFraction rel_tol of sum |w s| in every component (taken
+/// as Gregory's error and added to the reported error); the integral gets the rest of rel_tol.
+inline constexpr int kGregoryDifferences = 6;
+inline constexpr double kGregoryFraction = 0.1;
+inline constexpr int kLowTemperatureFirstTerms = 16;
+inline constexpr int kLowTemperatureMaxTerms = 4096;
+inline constexpr int kTailRuleFromTerms = 100;
+
+/// Gregory's end correction sum_k (-1)^k |G_{k+1}| Delta^k f_0 from f_0 .. f_K (1 <= K + 1 <= 8)
+/// and its last term (the error estimate). Exposed for tests.
+struct GregoryCorrection {
+  Spectral value;
+  Spectral last;
+};
+GregoryCorrection gregory_tail_correction(const std::vector<Spectral>& f);
 
 /// Apply the rule selected by opts.temperature_K to s(xi). xi_scale (rad/s) is the frequency at
 /// which s has decayed by about e^-1 (Geometry::frequency_scale). s is called sequentially.

@@ -28,14 +28,16 @@ DrudeLorentz::DrudeLorentz(std::string name, DrudeLorentzParams p, std::string s
 }
 
 double DrudeLorentz::epsilon(double xi) const {
+  // Each term in a form whose intermediates do not overflow before the term itself does:
+  // (w_p/xi) (w_p/(xi + gamma)) and C [w^2/(w^2 + xi^2 + g xi)] (the bracket is <= 1), so that
+  // eps near the double range (eps = 1.7e308, strengths 1e300) stays finite where it is.
   double eps = p_.eps_inf;
   if (p_.plasma_frequency > 0.0) {
-    const double wp2 = p_.plasma_frequency * p_.plasma_frequency;
-    eps += wp2 / (xi * (xi + p_.damping));
+    eps += (p_.plasma_frequency / xi) * (p_.plasma_frequency / (xi + p_.damping));
   }
   for (const auto& o : p_.oscillators) {
     const double w2 = o.frequency * o.frequency;
-    eps += o.strength * w2 / (w2 + xi * xi + o.damping * xi);
+    eps += o.strength * (w2 / (w2 + xi * xi + o.damping * xi));
   }
   for (const auto& r : p_.relaxations) eps += r.strength / (1.0 + xi / r.rate);
   return eps;

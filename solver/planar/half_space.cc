@@ -22,9 +22,21 @@ class HalfSpaceAt final : public PlanarAtFrequency {
       eps_b_ = body.epsilon(xi);
       km2_ = eps_m_ * q * q;
       kb2_ = eps_b_ * q * q;
-      // eps of a metal overflows at xi ~ 1e-140 rad/s (quadrature nodes get there): that is the
-      // static limit to every digit, so take it exactly.
       if (std::isfinite(eps_b_) && std::isfinite(kb2_) && km2_ > 0.0) return;
+      // eps_b q^2 beyond the double range (eps_b >~ 1e292 at xi ~ 1e15 rad/s, or a sum of terms
+      // that overflowed): kappa_b ~ sqrt(eps_b) q >~ 1e146/m while k, kappa_m <~ 1e12/m, so
+      // r_TE = -1 + 2 kappa_m/(kappa_m + kappa_b) and r_TM = 1 - 2 eps_m kappa_b/(eps_b kappa_m +
+      // eps_m kappa_b) differ from the eps -> inf limits -1 and +1 by < 1e-130 (derived). For a
+      // dielectric an infinite eps can only come from such an overflow of its terms.
+      const bool conductor = body.static_limit().is_conductor();
+      if (std::isfinite(km2_) && km2_ > 0.0 &&
+          ((std::isfinite(eps_b_) && !std::isfinite(kb2_)) ||
+           (!conductor && !std::isfinite(eps_b_)))) {
+        ideal_ = true;
+        return;
+      }
+      // A conductor's eps overflows only as xi -> 0 (Drude: xi ~ 1e-290 rad/s): that is the static
+      // limit to every digit, so take it exactly.
     }
     // xi = 0: exact static limits, kappa = k in the medium.
     static_ = true;
@@ -32,9 +44,13 @@ class HalfSpaceAt final : public PlanarAtFrequency {
     const StaticLimit sm = medium.static_limit();
     eps_m_ = sm.static_eps;
     switch (sb.kind) {
-      case StaticClass::kDielectric:
-        static_tm_ = (sb.static_eps - eps_m_) / (sb.static_eps + eps_m_);
+      case StaticClass::kDielectric: {
+        // (1 - m/e)/(1 + m/e): no overflow for eps(0) near the double range; eps(0) = inf (a sum
+        // of strengths that overflowed) gives the limit 1.
+        const double ratio = eps_m_ / sb.static_eps;
+        static_tm_ = (1.0 - ratio) / (1.0 + ratio);
         break;
+      }
       case StaticClass::kDrudeConductor:
         static_tm_ = 1.0;
         break;
@@ -50,7 +66,7 @@ class HalfSpaceAt final : public PlanarAtFrequency {
   }
 
   Reflection reflect(double k) const override {
-    if (pec_) return {-1.0, 1.0};
+    if (pec_ || ideal_) return {-1.0, 1.0};
     if (static_) {
       Reflection r{0.0, static_tm_};
       if (plasma_te_) {
@@ -79,7 +95,7 @@ class HalfSpaceAt final : public PlanarAtFrequency {
   }
 
  private:
-  bool pec_ = false, static_ = false, plasma_te_ = false;
+  bool pec_ = false, ideal_ = false, static_ = false, plasma_te_ = false;
   double eps_m_ = 1.0, eps_b_ = 1.0, km2_ = 0.0, kb2_ = 0.0, static_tm_ = 0.0;
 };
 

@@ -22,11 +22,12 @@ class HydrodynamicAt final : public PlanarAtFrequency {
     if (xi > 0.0) {
       eps_m_ = medium.epsilon(xi);
       // eps_b from its own terms: eps_T - drude would cancel catastrophically at small xi.
-      const double drude = wp2 / (xi * (xi + p.damping));
+      // The same term forms as DrudeLorentz::epsilon (no premature overflow).
+      const double drude = (p.plasma_frequency / xi) * (p.plasma_frequency / (xi + p.damping));
       eps_b_ = p.eps_inf;
       for (const auto& o : p.oscillators) {
         const double w2 = o.frequency * o.frequency;
-        eps_b_ += o.strength * w2 / (w2 + xi * xi + o.damping * xi);
+        eps_b_ += o.strength * (w2 / (w2 + xi * xi + o.damping * xi));
       }
       for (const auto& r : p.relaxations) eps_b_ += r.strength / (1.0 + xi / r.rate);
       eps_t_ = eps_b_ + drude;

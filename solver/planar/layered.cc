@@ -3,6 +3,7 @@
 
 #include <fmt/format.h>
 
+#include <algorithm>
 #include <cmath>
 #include <stdexcept>
 
@@ -47,6 +48,13 @@ class LayeredAt final : public PlanarAtFrequency {
         } else {
           s.eps = mats[j]->epsilon(xi);
           s.q2_te = s.q2_tm = s.eps * q2;
+          // eps q^2 beyond the double range (eps >~ 1e292, or a dielectric whose terms
+          // overflowed): kappa >~ 1e146/m, the slab reflects as a perfect conductor to every
+          // digit and nothing below it is seen (as in half_space.cc; derived).
+          const bool conductor = mats[j]->static_limit().is_conductor();
+          if ((std::isfinite(s.eps) && !std::isfinite(s.q2_te)) ||
+              (!conductor && !std::isfinite(s.eps)))
+            s.pec = true;
         }
         // Below a perfect conductor nothing is seen, in either polarisation.
         te_.push_back(s);
@@ -78,7 +86,9 @@ class LayeredAt final : public PlanarAtFrequency {
       if (te_.empty() || !te_.back().pec) te_.push_back(s);
       if (tm_.empty() || !tm_.back().pec) {
         Slab t = s;
-        t.pec = sl.is_conductor();  // r_TM = +1 at the first conductor
+        // r_TM = +1 at the first conductor, and at a dielectric whose eps(0) overflowed (the
+        // eps -> inf limit); its TE stays transparent (static r_TE = 0 for every dielectric).
+        t.pec = sl.is_conductor() || !std::isfinite(sl.static_eps);
         tm_.push_back(t);
       }
     }
@@ -108,8 +118,10 @@ class LayeredAt final : public PlanarAtFrequency {
     const auto interface = [&](const Slab& a, double ka, const Slab& b, double kb) {
       if (b.pec) return tm ? 1.0 : -1.0;
       // k = 0 at xi = 0: both kappa vanish; the static ratios are k-independent (layered.h).
-      if (ka + kb == 0.0) return tm ? (b.eps - a.eps) / (b.eps + a.eps) : 0.0;
-      return tm ? (b.eps * ka - a.eps * kb) / (b.eps * ka + a.eps * kb) : (ka - kb) / (ka + kb);
+      // TM with both eps divided by the larger: no overflow for eps up to the double range.
+      const double big = std::max(a.eps, b.eps), ea = a.eps / big, eb = b.eps / big;
+      if (ka + kb == 0.0) return tm ? (eb - ea) / (eb + ea) : 0.0;
+      return tm ? (eb * ka - ea * kb) / (eb * ka + ea * kb) : (ka - kb) / (ka + kb);
     };
     const std::size_t n = slabs.size();
     double kb = slabs[n - 1].pec ? 0.0 : kappa(slabs[n - 1]);

@@ -13,12 +13,14 @@
 namespace roundtrip {
 namespace {
 
-FrequencySum pec_plates(double gap, double temperature, double rel_tol) {
+FrequencySum pec_plates(double gap, double temperature, double rel_tol,
+                        ThermalRule rule = ThermalRule::kAuto) {
   auto pec = make_half_space(make_perfect_conductor());
   const PlatePlate pp(pec, pec, nullptr);
   FrequencyRuleOptions o;
   o.temperature_K = temperature;
   o.rel_tol = rel_tol;
+  o.thermal_rule = temperature > 0.0 ? rule : ThermalRule::kAuto;
   return sum_over_frequencies(
       [&](double xi) { return pp.at_frequency(xi, gap, DerivativeOrder::kEnergy); },
       pp.frequency_scale(gap), o);
@@ -32,7 +34,7 @@ TEST(MatsubaraSum, TendsToZeroTemperatureResultAsTemperatureFalls) {
   const FrequencySum zero = pec_plates(L, 0.0, 1e-14);
   ASSERT_TRUE(zero.converged) << zero.message;
   for (double T : {1.0, 10.0}) {
-    const FrequencySum r = pec_plates(L, T, 1e-14);
+    const FrequencySum r = pec_plates(L, T, 1e-14, ThermalRule::kMatsubara);
     ASSERT_TRUE(r.converged) << r.message;
     const double t = 2.0 * kBoltzmann * T * L / kHbarC;
     const double expected = 45.0 * kZeta3 / (kPi * kPi * kPi) * t * t * t - t * t * t * t;
