@@ -18,11 +18,12 @@ std::optional<ConfigurationKind> configuration_kind_from_string(std::string_view
 /// All accepted spellings, for error messages and help texts.
 std::vector<std::string> configuration_kind_names();
 
-/// Gap L (m): finite and > 0 (L = 0 is contact, L < 0 overlap; neither has a finite energy).
+/// Gap L (m): finite and > 0 (L = 0 is contact, L < 0 overlap; neither has a finite energy),
+/// and within 1e-10 m ... 1 m (reasons in configuration.cc and README "Accepted ranges").
 std::string gap_problem(double gap);
-/// Sphere radius R (m): finite and > 0.
+/// Sphere radius R (m): finite, within 1e-9 m ... 1 m.
 std::string radius_problem(double radius);
-/// Layer thickness (m): finite and > 0.
+/// Layer thickness (m): finite, within 1e-10 m ... 1 m.
 std::string thickness_problem(double thickness);
 
 struct SphereBody {
