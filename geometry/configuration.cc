@@ -7,10 +7,31 @@
 namespace roundtrip::geometry {
 
 namespace {
-std::string positive_length_problem(double v, const char* what, const char* zero_meaning) {
+// Accepted lengths (README "Case files", "Accepted ranges"). Below 0.1 nm a gap or a film is
+// thinner than an atom and the continuum (local dielectric) model that every material here uses
+// does not apply; a sphere below 1 nm holds a few hundred atoms at most, for the same reason.
+// Above 1 m nothing is a laboratory body any more: every case the solver is meant for is far
+// below, and values like "1e300 m" are typing mistakes that would otherwise reach the solver as
+// overflowing multipole counts or underflowing energies (a solver failure instead of an input
+// error). Large R/L at accepted lengths is a cost question, refused by the run plan.
+constexpr double kMinGap = 1e-10;        // m
+constexpr double kMinThickness = 1e-10;  // m
+constexpr double kMinRadius = 1e-9;      // m
+constexpr double kMaxLength = 1.0;       // m
+
+std::string positive_length_problem(double v, const char* what, const char* zero_meaning,
+                                    double min, const char* min_reason) {
   if (!std::isfinite(v)) return fmt::format("a {} must be a finite length", what);
   if (v == 0.0) return fmt::format("a {} must be > 0 ({})", what, zero_meaning);
   if (v < 0.0) return fmt::format("a {} must be > 0", what);
+  if (v < min)
+    return fmt::format("a {} must be at least {:g} m ({}; accepted: {:g} m to {:g} m)", what, min,
+                       min_reason, min, kMaxLength);
+  if (v > kMaxLength)
+    return fmt::format(
+        "a {} must be at most {:g} m (larger values are beyond any laboratory body; accepted: "
+        "{:g} m to {:g} m)",
+        what, kMaxLength, min, kMaxLength);
   return {};
 }
 }  // namespace
@@ -18,15 +39,22 @@ std::string positive_length_problem(double v, const char* what, const char* zero
 std::string gap_problem(double gap) {
   if (gap < 0.0 && std::isfinite(gap))
     return "a gap must be > 0 (a negative gap means overlapping bodies)";
-  return positive_length_problem(gap, "gap", "the bodies would touch");
+  return positive_length_problem(gap, "gap", "the bodies would touch", kMinGap,
+                                 "below 0.1 nm the gap is smaller than an atom and the continuum "
+                                 "model of the materials fails");
 }
 
 std::string radius_problem(double radius) {
-  return positive_length_problem(radius, "radius", "a sphere needs a size");
+  return positive_length_problem(radius, "radius", "a sphere needs a size", kMinRadius,
+                                 "a smaller sphere is a cluster of a few atoms, not a body with a "
+                                 "dielectric function");
 }
 
 std::string thickness_problem(double thickness) {
-  return positive_length_problem(thickness, "layer thickness", "leave the layer out instead");
+  return positive_length_problem(thickness, "layer thickness", "leave the layer out instead",
+                                 kMinThickness,
+                                 "a thinner film is less than one atomic layer, beyond the "
+                                 "continuum model");
 }
 
 std::string to_string(Shape s) {

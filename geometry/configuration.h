@@ -14,11 +14,12 @@
 
 namespace roundtrip::geometry {
 
-/// Gap L (m): finite and > 0 (L = 0 is contact, L < 0 overlap; neither has a finite energy).
+/// Gap L (m): finite and > 0 (L = 0 is contact, L < 0 overlap; neither has a finite energy),
+/// and within 1e-10 m ... 1 m (reasons in configuration.cc and README "Accepted ranges").
 std::string gap_problem(double gap);
-/// Sphere radius R (m): finite and > 0.
+/// Sphere radius R (m): finite, within 1e-9 m ... 1 m.
 std::string radius_problem(double radius);
-/// Layer or shell thickness (m): finite and > 0.
+/// Layer or shell thickness (m): finite, within 1e-10 m ... 1 m.
 std::string thickness_problem(double thickness);
 
 /// The shapes a body can have. A plate is a half-space or a planar stack (its layers live in

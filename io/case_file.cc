@@ -26,6 +26,12 @@ constexpr double kMaxRelTol = 0.1;             // beyond 10 % the numbers are no
 constexpr double kMinRelTol = 1e-14;           // below this, round-off of the sums dominates
 constexpr int kMaxLMax = 100000;               // a typo guard for the multipole cut-off
 constexpr std::size_t kMaxScanPoints = 10000;  // a typo guard: more runs than any scan needs
+// A case file is a page of TOML (the largest shipped one is a few kB; a scan of 10^4 values is
+// ~200 kB): 16 MiB is far above any real case and far below memory trouble.
+constexpr std::size_t kMaxCaseBytes = std::size_t{16} << 20;
+// Levels of nesting (dotted-key segments, tables, arrays, inline tables): a case needs about 4
+// (materials.NAME.oscillators[i].strength); 64 leaves room and keeps every recursive walk short.
+constexpr std::size_t kMaxNesting = 64;
 
 std::string join(const std::vector<std::string>& v) {
   return fmt::format("{}", fmt::join(v, ", "));
@@ -279,13 +285,209 @@ std::string BodySpec::describe() const {
 
 namespace {
 
+// "file:line:column" of a byte offset, for checks made on the raw text.
+std::string text_location(std::string_view text, std::size_t offset, const std::string& name) {
+  std::size_t line = 1, column = 1;
+  for (std::size_t i = 0; i < offset && i < text.size(); ++i) {
+    if (text[i] == '\n') {
+      ++line;
+      column = 1;
+    } else if ((static_cast<unsigned char>(text[i]) & 0xC0) != 0x80) {
+      ++column;
+    }
+  }
+  return fmt::format("{}:{}:{}", name, line, column);
+}
+
+// Offset of the first byte that is not well-formed UTF-8 (Unicode 15, table 3-7: no overlong
+// forms, no surrogates, nothing above U+10FFFF), or npos.
+std::size_t invalid_utf8_at(std::string_view s) {
+  std::size_t i = 0;
+  while (i < s.size()) {
+    const auto c = static_cast<unsigned char>(s[i]);
+    if (c < 0x80) {
+      ++i;
+      continue;
+    }
+    std::size_t n = 0;
+    unsigned char lo = 0x80, hi = 0xBF;  // range of the second byte
+    if (c >= 0xC2 && c <= 0xDF) {
+      n = 2;
+    } else if (c >= 0xE0 && c <= 0xEF) {
+      n = 3;
+      if (c == 0xE0) lo = 0xA0;
+      if (c == 0xED) hi = 0x9F;
+    } else if (c >= 0xF0 && c <= 0xF4) {
+      n = 4;
+      if (c == 0xF0) lo = 0x90;
+      if (c == 0xF4) hi = 0x8F;
+    } else {
+      return i;
+    }
+    if (i + n > s.size()) return i;
+    const auto b1 = static_cast<unsigned char>(s[i + 1]);
+    if (b1 < lo || b1 > hi) return i;
+    for (std::size_t k = 2; k < n; ++k)
+      if ((static_cast<unsigned char>(s[i + k]) & 0xC0) != 0x80) return i;
+    i += n;
+  }
+  return std::string_view::npos;
+}
+
+// Offset where the nesting of the TOML text first exceeds `max_depth`, or npos. Counted on the
+// raw text, before toml++ sees it (its parser and the tables' destructors recurse once per
+// level, so 50 000 dotted levels overflow the stack). A level is a segment of a [header] or of a
+// dotted key, an array bracket or an inline-table brace, summed along the path from the root;
+// strings and comments are skipped. Malformed text is left to the parser: this only bounds the
+// depth it will see.
+std::size_t too_deep_at(std::string_view t, std::size_t max_depth) {
+  struct Open {
+    char kind;            // '[' array or '{' inline table
+    std::size_t outside;  // key segments outside it
+  };
+  std::vector<Open> open;
+  std::size_t table = 0;    // segments of the current [header]
+  std::size_t outside = 0;  // key segments of the keys that lead into the open containers
+  std::size_t key = 0;      // segments of the key being read
+  bool in_key = true;       // reading a key (else a value)
+  bool line_start = true;   // nothing but blanks since the last newline (outside containers)
+  bool header = false;      // inside [ ... ] or [[ ... ]] of a table header
+  std::size_t header_segments = 0;
+  const auto depth = [&] { return table + outside + key + open.size(); };
+  const std::size_t start = t.starts_with("\xEF\xBB\xBF") ? 3 : 0;  // a byte-order mark
+  for (std::size_t i = start; i < t.size(); ++i) {
+    const char c = t[i];
+    if (c == '\n') {
+      if (open.empty()) {
+        in_key = true, line_start = true, header = false, key = 0, outside = 0;
+      }
+      continue;
+    }
+    if (c == ' ' || c == '\t' || c == '\r') continue;
+    if (c == '#') {  // comment to the end of the line
+      while (i + 1 < t.size() && t[i + 1] != '\n') ++i;
+      continue;
+    }
+    if (c == '"' || c == '\'') {  // a string (key or value): skip it
+      const bool triple = t.substr(i, 3) == std::string_view(c == '"' ? "\"\"\"" : "'''");
+      std::size_t j = i + (triple ? 3 : 1);
+      for (; j < t.size(); ++j) {
+        if (c == '"' && t[j] == '\\') {
+          ++j;
+          continue;
+        }
+        if (!triple && t[j] == '\n') break;
+        if (t[j] == c && (!triple || t.substr(j, 3) == t.substr(i, 3))) break;
+      }
+      i = std::min(j + (triple ? 2 : 0), t.size());
+      if (i < t.size() && t[i] == '\n') --i;  // let the newline be seen
+      if (header) header_segments = std::max<std::size_t>(header_segments, 1);
+      if (in_key && !header) key = std::max<std::size_t>(key, 1);
+      line_start = false;
+      continue;
+    }
+    if (header) {
+      if (c == '.') {
+        ++header_segments;
+        if (header_segments + open.size() > max_depth) return i;
+      } else if (c == ']') {
+        table = header_segments + (i + 1 < t.size() && t[i + 1] == ']' ? 1 : 0);
+        header = false;
+        while (i + 1 < t.size() && t[i + 1] == ']') ++i;
+      } else if (c != '[') {
+        header_segments = std::max<std::size_t>(header_segments, 1);
+      }
+      continue;
+    }
+    if (line_start && open.empty() && c == '[') {
+      header = true, header_segments = 0, line_start = false;
+      continue;
+    }
+    line_start = false;
+    if (in_key) {
+      if (c == '.') {
+        ++key;
+        if (depth() > max_depth) return i;
+      } else if (c == '=') {
+        in_key = false;
+      } else if (c == '}' && !open.empty() && open.back().kind == '{') {
+        outside = open.back().outside, key = 0, in_key = false;
+        open.pop_back();
+      } else {
+        key = std::max<std::size_t>(key, 1);
+      }
+      continue;
+    }
+    if (c == '[' || c == '{') {
+      open.push_back({c, outside});
+      outside += key;
+      key = 0;
+      if (depth() > max_depth) return i;
+      in_key = c == '{';
+    } else if ((c == ']' || c == '}') && !open.empty()) {
+      outside = open.back().outside, key = 0;
+      open.pop_back();
+    } else if (c == ',' && !open.empty() && open.back().kind == '{') {
+      in_key = true, key = 0;
+    }
+  }
+  return std::string_view::npos;
+}
+
+// Every key and string of the case: no control characters but tab (they would reach the
+// terminal raw when the title, a name or a source is printed, and no value needs them).
+void check_control_characters(const toml::node& n, const std::string& field, std::size_t depth) {
+  if (depth > kMaxNesting + 2)  // cannot happen after too_deep_at; a guard against deep recursion
+    throw error_at(n, field, fmt::format("nested deeper than {} levels", kMaxNesting));
+  const auto bad = [](std::string_view s) {
+    for (std::size_t i = 0; i < s.size(); ++i) {
+      const auto c = static_cast<unsigned char>(s[i]);
+      if ((c < 0x20 && c != '\t') || c == 0x7F) return true;
+      if (c == 0xC2 && i + 1 < s.size() && static_cast<unsigned char>(s[i + 1]) < 0xA0)
+        return true;  // C1 controls U+0080..U+009F
+    }
+    return false;
+  };
+  const char* what = "contains a control character (only tab is allowed; shown as \\uXXXX above)";
+  if (const auto* t = n.as_table()) {
+    for (const auto& [k, v] : *t) {
+      const std::string f = dotted(field, k.str());
+      if (bad(k.str())) throw error_at(v, f, std::string("the key ") + what);
+      check_control_characters(v, f, depth + 1);
+    }
+  } else if (const auto* a = n.as_array()) {
+    for (std::size_t i = 0; i < a->size(); ++i)
+      check_control_characters((*a)[i], fmt::format("{}[{}]", field, i), depth + 1);
+  } else if (const auto* s = n.as_string()) {
+    if (bad(s->get())) throw error_at(n, field, what);
+  }
+}
+
+// The checks on the raw text (size, encoding, nesting), then toml++, then the strings.
 toml::table parse_toml(const std::string& text, const std::string& name) {
+  if (text.size() > kMaxCaseBytes)
+    throw CaseError(
+        fmt::format("{}: the case file has {} bytes, more than the {} MiB a case file "
+                    "may have (is it the right file?)",
+                    name, text.size(), kMaxCaseBytes >> 20));
+  if (const std::size_t at = invalid_utf8_at(text); at != std::string_view::npos)
+    throw CaseError(fmt::format("{}: byte 0x{:02X} is not UTF-8 (save the case file as UTF-8)",
+                                text_location(text, at, name),
+                                static_cast<unsigned char>(text[at])));
+  if (const std::size_t at = too_deep_at(text, kMaxNesting); at != std::string_view::npos)
+    throw CaseError(
+        fmt::format("{}: nested deeper than {} levels (dotted keys, tables, arrays and "
+                    "inline tables together; a case needs fewer than 10)",
+                    text_location(text, at, name), kMaxNesting));
+  toml::table root;
   try {
-    return toml::parse(std::string_view(text), std::string_view(name));
+    root = toml::parse(std::string_view(text), std::string_view(name));
   } catch (const toml::parse_error& e) {
     throw CaseError(fmt::format("{}:{}:{}: malformed TOML: {}", name, e.source().begin.line,
-                                e.source().begin.column, e.description()));
+                                e.source().begin.column, printable(e.description())));
   }
+  check_control_characters(root, "", 0);
+  return root;
 }
 
 // Where a [scan] key lands in the case: (table, key) pairs.
@@ -355,7 +557,10 @@ std::vector<ScanAxis> parse_scan_axes(const toml::table& root, const toml::table
     const auto* arr = n->as_array();
     if (arr == nullptr || arr->empty())
       throw error_at(*n, field, "expected a non-empty array of strings, e.g. [\"a\", \"b\"]");
+    if (points * arr->size() > kMaxScanPoints)
+      throw error_at(*n, field, fmt::format("the scan has more than {} points", kMaxScanPoints));
     ScanAxis axis{key, {}};
+    std::set<std::string_view> seen;  // values of this axis (views into the nodes)
     for (std::size_t i = 0; i < arr->size(); ++i) {
       const toml::node& e = (*arr)[i];
       const std::string fi = fmt::format("{}[{}]", field, i);
@@ -367,8 +572,7 @@ std::vector<ScanAxis> parse_scan_axes(const toml::table& root, const toml::table
         if (parse_quantity(e, Dimension::kTemperature, fi) < 0.0)
           throw error_at(e, fi, "a temperature must be >= 0 K");
       }
-      if (std::find(axis.values.begin(), axis.values.end(), str->get()) != axis.values.end())
-        throw error_at(e, fi, "listed twice");
+      if (!seen.insert(str->get()).second) throw error_at(e, fi, "listed twice");
       axis.values.push_back(str->get());
     }
     points *= axis.values.size();
@@ -385,46 +589,104 @@ std::vector<ScanAxis> parse_scan_axes(const toml::table& root, const toml::table
 
 CaseSpec parse_root(toml::table& root, CaseSpec spec);
 
-// Parse `text`; if it has a [scan], put value choice[a] of each axis a in place first.
-CaseSpec parse_with_choice(const std::string& text, const std::filesystem::path& path,
-                           const std::vector<std::size_t>* choice) {
-  const std::string name = path.string();
-  toml::table root = parse_toml(text, name);
-  CaseSpec spec;
-  spec.path = path;
-  spec.text = text;
-  if (const toml::node* sn = root.get("scan")) {
-    const auto* scan = sn->as_table();
+// A case parsed once: the root with its [scan] table taken out, and the scan axes. Scan points
+// are made by moving one value node of each axis into the root (moved nodes keep their line
+// for messages), parsing the root, and moving the nodes back, so a scan costs one TOML parse
+// however many points it has.
+struct ParsedCase {
+  toml::table root;
+  toml::table scan;  // [scan] as written (empty without one)
+  std::vector<ScanAxis> axes;
+};
+
+ParsedCase parse_text(const std::string& text, const std::string& name) {
+  ParsedCase pc;
+  pc.root = parse_toml(text, name);
+  if (const toml::node* sn = pc.root.get("scan")) {
+    auto* scan = pc.root.get("scan")->as_table();
     if (scan == nullptr) throw error_at(*sn, "scan", "expected a table, e.g. [scan]");
-    const toml::node* g = root.get("geometry");
+    const toml::node* g = pc.root.get("geometry");
     const GeometryKind* kind =
         g && g->is_string() ? find_geometry_kind(g->as_string()->get()) : nullptr;
-    spec.scan = parse_scan_axes(root, *scan, kind);
-    // Move the chosen values into the case (moved nodes keep their line for messages).
-    toml::table scan_copy = std::move(*root.get("scan")->as_table());
-    root.erase("scan");
-    for (std::size_t a = 0; a < spec.scan.size(); ++a) {
-      const std::size_t i = choice ? (*choice)[a] : 0;
-      const auto targets = scan_targets(spec.scan[a].key, root);
-      toml::value<std::string>* v =
-          scan_copy.at_path(spec.scan[a].key).as_array()->get(i)->as_string();
-      for (std::size_t j = 0; j < targets.size(); ++j) {
-        const auto& [table, key] = targets[j];
-        toml::node* t = root.get(table);
-        if (t == nullptr) {
-          root.insert(table, toml::table{});
-          t = root.get(table);
-        }
-        auto* tt = t->as_table();
-        if (tt == nullptr) continue;  // parse_root names the bad table
-        if (j + 1 < targets.size())
-          tt->insert_or_assign(key, toml::value<std::string>(*v));
-        else
-          tt->insert_or_assign(key, std::move(*v));  // keeps the scan line for messages
+    pc.axes = parse_scan_axes(pc.root, *scan, kind);
+    pc.scan = std::move(*scan);
+    pc.root.erase("scan");
+    // With a temperature axis an empty [scan] stays as a marker: parse_root then lets a forced
+    // frequency rule pass at the 0 K points (README: ignored there).
+    for (const auto& axis : pc.axes)
+      if (axis.key == "temperature") pc.root.insert_or_assign("scan", toml::table{});
+  }
+  return pc;
+}
+
+// The case at value choice[a] of each axis a (choice null: the first value of each).
+CaseSpec parse_point(ParsedCase& pc, CaseSpec spec, const std::vector<std::size_t>* choice) {
+  std::vector<toml::value<std::string>*> moved_to(pc.axes.size(), nullptr);
+  std::vector<toml::value<std::string>*> moved_from(pc.axes.size(), nullptr);
+  const auto restore = [&] {
+    for (std::size_t a = 0; a < pc.axes.size(); ++a)
+      if (moved_to[a] != nullptr) *moved_from[a] = std::move(*moved_to[a]);
+  };
+  for (std::size_t a = 0; a < pc.axes.size(); ++a) {
+    const std::size_t i = choice ? (*choice)[a] : 0;
+    const auto targets = scan_targets(pc.axes[a].key, pc.root);
+    toml::value<std::string>* v = pc.scan.at_path(pc.axes[a].key).as_array()->get(i)->as_string();
+    const std::string value = v->get();
+    for (std::size_t j = 0; j < targets.size(); ++j) {
+      const auto& [table, key] = targets[j];
+      toml::node* t = pc.root.get(table);
+      if (t == nullptr) {
+        pc.root.insert(table, toml::table{});
+        t = pc.root.get(table);
+      }
+      auto* tt = t->as_table();
+      if (tt == nullptr) continue;  // parse_root names the bad table
+      if (moved_from[a] != nullptr) {
+        tt->insert_or_assign(key, toml::value<std::string>(value));  // no line: a copy
+      } else {
+        // The first target (the one parse_root checks first) gets the node itself, which keeps
+        // the scan line for messages.
+        tt->insert_or_assign(key, std::move(*v));
+        moved_from[a] = v;
+        moved_to[a] = tt->get(key)->as_string();
       }
     }
   }
-  return parse_root(root, std::move(spec));
+  try {
+    spec = parse_root(pc.root, std::move(spec));
+  } catch (...) {
+    restore();
+    throw;
+  }
+  restore();
+  return spec;
+}
+
+// Every point of a parsed case, in scan order; `base` is the spec each point starts from.
+std::vector<ScanPoint> expand(ParsedCase& pc, const CaseSpec& base) {
+  std::vector<ScanPoint> out;
+  std::size_t total = 1;
+  for (const auto& axis : pc.axes) total *= axis.values.size();
+  out.reserve(total);
+  std::vector<std::size_t> choice(pc.axes.size(), 0);
+  while (true) {
+    ScanPoint p;
+    for (std::size_t a = 0; a < pc.axes.size(); ++a)
+      p.parameters.emplace_back(pc.axes[a].key, pc.axes[a].values[choice[a]]);
+    try {
+      p.spec = parse_point(pc, base, &choice);
+    } catch (const CaseError& e) {
+      std::string params;
+      for (const auto& [k, v] : p.parameters)
+        params += (params.empty() ? "" : ", ") + k + " = \"" + printable(v) + "\"";
+      throw CaseError(fmt::format("{} (at the scan point {})", e.what(), params));
+    }
+    out.push_back(std::move(p));
+    std::size_t a = pc.axes.size();
+    while (a > 0 && ++choice[a - 1] == pc.axes[a - 1].values.size()) choice[--a] = 0;
+    if (a == 0) break;
+  }
+  return out;
 }
 
 }  // namespace
@@ -453,34 +715,28 @@ std::vector<std::string> scan_keys(const GeometryKind* kind) {
 }
 
 CaseSpec parse_case(std::string text, const std::filesystem::path& path) {
-  CaseSpec spec = parse_with_choice(text, path, nullptr);
+  CaseSpec spec;
+  spec.path = path;
+  spec.material_cache = std::make_shared<MaterialCache>();
+  const MaterialCacheScope scope(spec.material_cache.get());
+  ParsedCase pc = parse_text(text, path.string());
+  CaseSpec point = spec;
+  spec = parse_point(pc, std::move(spec), nullptr);
+  spec.scan = pc.axes;
+  spec.text = std::move(text);
   // Every point must be a valid case (materials of the scan, combinations).
-  if (!spec.scan.empty()) (void)scan_points(spec);
+  if (!pc.axes.empty()) (void)expand(pc, point);
   return spec;
 }
 
 std::vector<ScanPoint> scan_points(const CaseSpec& spec) {
   if (spec.scan.empty()) return {ScanPoint{{}, spec}};
-  std::vector<ScanPoint> out;
-  std::vector<std::size_t> choice(spec.scan.size(), 0);
-  while (true) {
-    ScanPoint p;
-    for (std::size_t a = 0; a < spec.scan.size(); ++a)
-      p.parameters.emplace_back(spec.scan[a].key, spec.scan[a].values[choice[a]]);
-    try {
-      p.spec = parse_with_choice(spec.text, spec.path, &choice);
-    } catch (const CaseError& e) {
-      std::string params;
-      for (const auto& [k, v] : p.parameters)
-        params += (params.empty() ? "" : ", ") + k + " = \"" + v + "\"";
-      throw CaseError(fmt::format("{} (at the scan point {})", e.what(), params));
-    }
-    out.push_back(std::move(p));
-    std::size_t a = spec.scan.size();
-    while (a > 0 && ++choice[a - 1] == spec.scan[a - 1].values.size()) choice[--a] = 0;
-    if (a == 0) break;
-  }
-  return out;
+  const MaterialCacheScope scope(spec.material_cache.get());
+  ParsedCase pc = parse_text(spec.text, spec.path.string());
+  CaseSpec base;
+  base.path = spec.path;
+  base.material_cache = spec.material_cache;
+  return expand(pc, base);
 }
 
 namespace {
@@ -707,11 +963,37 @@ CaseSpec parse_root(toml::table& root, CaseSpec spec) {
 }  // namespace
 
 CaseSpec load_case(const std::filesystem::path& path) {
+  namespace fs = std::filesystem;
+  const std::string name = path.string();
+  std::error_code ec;
+  const fs::file_status st = fs::status(path, ec);
+  if (ec || !fs::exists(st))
+    throw CaseError(fmt::format("{}: cannot open the case file (no such file)", name));
+  if (fs::is_directory(st))
+    throw CaseError(fmt::format("{}: is a directory, not a case file", name));
+  if (!fs::is_regular_file(st))
+    throw CaseError(
+        fmt::format("{}: not a regular file (a device, pipe or socket); give a case "
+                    "file (TOML)",
+                    name));
+  if (const auto size = fs::file_size(path, ec); !ec && size > kMaxCaseBytes)
+    throw CaseError(
+        fmt::format("{}: the case file has {} bytes, more than the {} MiB a case file "
+                    "may have (is it the right file?)",
+                    name, size, kMaxCaseBytes >> 20));
   std::ifstream in(path, std::ios::binary);
-  if (!in) throw CaseError(fmt::format("{}: cannot open the case file", path.string()));
-  std::ostringstream ss;
-  ss << in.rdbuf();
-  return parse_case(ss.str(), path);
+  if (!in) throw CaseError(fmt::format("{}: cannot open the case file", name));
+  // Read with a bound: the size can change between the check and the read.
+  std::string text(kMaxCaseBytes + 1, '\0');
+  in.read(text.data(), static_cast<std::streamsize>(text.size()));
+  if (in.bad()) throw CaseError(fmt::format("{}: cannot read the case file", name));
+  text.resize(static_cast<std::size_t>(in.gcount()));
+  if (text.size() > kMaxCaseBytes)
+    throw CaseError(
+        fmt::format("{}: the case file has more than the {} MiB a case file may have "
+                    "(is it the right file?)",
+                    name, kMaxCaseBytes >> 20));
+  return parse_case(std::move(text), path);
 }
 
 namespace {

@@ -19,6 +19,8 @@
 
 namespace roundtrip::io {
 
+class MaterialCache;  // io/material_spec.h
+
 /// One axis of a [scan]: a case key and the values it takes, as written in the case file.
 struct ScanAxis {
   std::string key;  ///< "radius", "temperature", "material", "<body>.material", "<body>.radius"
@@ -67,6 +69,8 @@ struct CaseSpec {
   std::vector<MaterialPtr> materials;
   /// [scan] axes (empty without [scan]). The fields above are those of the first scan point.
   std::vector<ScanAxis> scan;
+  /// User materials built by the parse, shared by every scan point of this case.
+  std::shared_ptr<MaterialCache> material_cache;
 
   geometry::Configuration configuration() const;
   /// The body read from `table` (one of the kind's two); throws std::out_of_range otherwise.
@@ -76,6 +80,8 @@ struct CaseSpec {
 };
 
 /// One point of a scan: its parameters (scan key, value as written) and the complete case.
+/// `spec.text` and `spec.scan` are left empty in scan points (10^4 copies of a long scan would
+/// cost gigabytes): they are those of the CaseSpec the points were made from.
 struct ScanPoint {
   std::vector<std::pair<std::string, std::string>> parameters;
   CaseSpec spec;
@@ -91,7 +97,8 @@ std::vector<std::string> scan_keys(const GeometryKind* kind = nullptr);
 
 /// Parse and validate case text; `path` is used in messages and anchors relative table paths.
 CaseSpec parse_case(std::string text, const std::filesystem::path& path);
-/// Read and parse a case file (a missing or unreadable file is a CaseError).
+/// Read and parse a case file. A missing, unreadable or non-regular file (directory, device,
+/// pipe), one over 16 MiB, text that is not UTF-8 or nested deeper than 64 levels is a CaseError.
 CaseSpec load_case(const std::filesystem::path& path);
 
 /// The solver Geometry of a case (its kind's build). Throws CaseError for what the kind cannot

@@ -5,10 +5,13 @@
 #include <fmt/format.h>
 
 #include <cmath>
+#include <fstream>
 #include <initializer_list>
+#include <sstream>
 #include <stdexcept>
 #include <string_view>
 
+#include "geometry/configuration.h"
 #include "io/errors.h"
 #include "io/units.h"
 #include "solver/materials/library.h"
@@ -224,7 +227,57 @@ MaterialPtr build_user(const std::string& name, const toml::table& t, const std:
                  "generalized-plasma, perfect-conductor, table)");
 }
 
+thread_local MaterialCache* current_cache = nullptr;
+
+std::string file_digest(const std::filesystem::path& p) {
+  std::ifstream in(p, std::ios::binary);
+  if (!in) return "unreadable";
+  std::uint64_t h = 14695981039346656037ull;  // FNV-1a 64 (Fowler, Noll, Vo; common practice)
+  char buf[1 << 16];
+  while (in.read(buf, sizeof buf) || in.gcount() > 0) {
+    for (std::streamsize i = 0; i < in.gcount(); ++i) {
+      h ^= static_cast<unsigned char>(buf[i]);
+      h *= 1099511628211ull;
+    }
+  }
+  return fmt::format("fnv1a64:{:016x}", h);
+}
+
+// The cache key of a user material: name, directory, definition as written and, for tables, the
+// contents hash of the file (so the same definition over a changed file is not shared).
+std::string cache_key(const std::string& name, const toml::table& t,
+                      const std::filesystem::path& dir, MaterialCache& cache) {
+  std::ostringstream def;
+  def << toml::toml_formatter(t);
+  std::string key = name + '\0' + dir.string() + '\0' + def.str();
+  if (const auto* f = t.get_as<std::string>("file")) {
+    std::filesystem::path file = f->get();
+    if (file.is_relative()) file = dir / file;
+    key += '\0' + cache.digest(file);
+  }
+  return key;
+}
+
 }  // namespace
+
+MaterialPtr MaterialCache::find(const std::string& key) const {
+  const auto it = materials_.find(key);
+  return it == materials_.end() ? nullptr : it->second;
+}
+
+void MaterialCache::put(const std::string& key, MaterialPtr m) { materials_[key] = std::move(m); }
+
+const std::string& MaterialCache::digest(const std::filesystem::path& file) {
+  auto it = digests_.find(file.string());
+  if (it == digests_.end()) it = digests_.emplace(file.string(), file_digest(file)).first;
+  return it->second;
+}
+
+MaterialCacheScope::MaterialCacheScope(MaterialCache* cache) : previous_(current_cache) {
+  current_cache = cache;
+}
+
+MaterialCacheScope::~MaterialCacheScope() { current_cache = previous_; }
 
 MaterialResolver::MaterialResolver(const toml::table* user, std::filesystem::path case_dir)
     : user_(user), dir_(std::move(case_dir)) {
@@ -239,7 +292,17 @@ MaterialResolver::MaterialResolver(const toml::table* user, std::filesystem::pat
     const auto* t = node.as_table();
     if (t == nullptr) throw error_at(node, field, "expected a table [materials." + name + "]");
     try {
-      cache_[name] = build_user(name, *t, field, dir_);
+      if (current_cache == nullptr) {
+        cache_[name] = build_user(name, *t, field, dir_);
+        continue;
+      }
+      const std::string key = cache_key(name, *t, dir_, *current_cache);
+      MaterialPtr m = current_cache->find(key);
+      if (!m) {
+        m = build_user(name, *t, field, dir_);
+        current_cache->put(key, m);
+      }
+      cache_[name] = std::move(m);
     } catch (const std::invalid_argument& e) {  // model constructors: out-of-range parameters
       throw error_at(node, field, e.what());
     }
@@ -293,7 +356,8 @@ PlanarPtr planar_from_toml(const toml::table& plate, const std::string& field,
       l.material = material_at(*t, f, materials);
       const toml::node& tn = required(*t, "thickness", f);
       l.thickness = parse_quantity(tn, Dimension::kLength, f + ".thickness");
-      if (!(l.thickness > 0.0)) throw error_at(tn, f + ".thickness", "must be > 0");
+      if (const std::string p = geometry::thickness_problem(l.thickness); !p.empty())
+        throw error_at(tn, f + ".thickness", p);
       layers.push_back(std::move(l));
     }
     if (nn == nullptr) return make_layered(std::move(layers), substrate);

@@ -41,6 +41,8 @@ constexpr std::array kFrequencyUnits{
     UnitEntry{"PHz", 2.0 * kPi * 1e15},
 };
 
+constexpr double kMaxFrequency = 1e20;  // rad/s, see parse_text
+
 std::string_view trim(std::string_view s) {
   const auto is_space = [](char c) { return c == ' ' || c == '\t' || c == '\n' || c == '\r'; };
   while (!s.empty() && is_space(s.front())) s.remove_prefix(1);
@@ -102,7 +104,7 @@ std::string parse_text(std::string_view raw, Dimension dim, double& out) {
   const std::string_view unit = trim(std::string_view(ptr, static_cast<std::size_t>(end - ptr)));
   if (dim == Dimension::kDimensionless) {
     if (!unit.empty())
-      return fmt::format("unexpected text '{}' after a dimensionless number", unit);
+      return fmt::format("unexpected text '{}' after a dimensionless number", printable(unit));
     out = value;
     return {};
   }
@@ -111,9 +113,17 @@ std::string parse_text(std::string_view raw, Dimension dim, double& out) {
                        si_unit(dim), unit_list(dim));
   const UnitEntry* u = lookup(dim, unit);
   if (u == nullptr)
-    return fmt::format("unknown {} unit '{}' (units: {})", to_string(dim), unit, unit_list(dim));
+    return fmt::format("unknown {} unit '{}' (units: {})", to_string(dim), printable(unit),
+                       unit_list(dim));
   out = value * u->scale / u->divisor;
   if (!std::isfinite(out)) return "value overflows after conversion to SI";
+  // Frequencies of material models: above 1e20 rad/s (a 66 keV photon) matter is transparent,
+  // eps = 1 to within 1e-6, and no model parameter lies there; larger values are typing mistakes
+  // whose squares (plasma frequencies enter as omega_p^2) leave the range of a double.
+  if (dim == Dimension::kFrequency && std::abs(out) > kMaxFrequency)
+    return fmt::format(
+        "a frequency must be at most {:g} rad/s (66 keV; matter is transparent beyond)",
+        kMaxFrequency);
   return {};
 }
 
@@ -154,12 +164,55 @@ std::string location(const toml::source_region& where) {
   return has_line ? fmt::format("line {}", where.begin.line) : std::string();
 }
 
+std::string printable(std::string_view s) {
+  std::string out;
+  out.reserve(s.size());
+  std::size_t i = 0;
+  while (i < s.size()) {
+    const auto c = static_cast<unsigned char>(s[i]);
+    if (c < 0x80) {
+      if (c < 0x20 && c != '\t')
+        out += fmt::format("\\u{:04X}", c);
+      else if (c == 0x7F)
+        out += "\\u007F";
+      else
+        out += static_cast<char>(c);
+      ++i;
+      continue;
+    }
+    // A multi-byte UTF-8 sequence: copy it if well formed, else show its first byte as \xNN.
+    const std::size_t n = c >= 0xF0 ? 4 : c >= 0xE0 ? 3 : c >= 0xC0 ? 2 : 0;
+    bool ok = n >= 2 && i + n <= s.size() && c <= 0xF4 && c >= 0xC2;
+    for (std::size_t k = 1; ok && k < n; ++k)
+      ok = (static_cast<unsigned char>(s[i + k]) & 0xC0) == 0x80;
+    // C1 controls U+0080..U+009F are C2 80..C2 9F.
+    if (ok && n == 2 && c == 0xC2 && static_cast<unsigned char>(s[i + 1]) < 0xA0) {
+      out += fmt::format("\\u{:04X}", static_cast<unsigned char>(s[i + 1]));
+      i += 2;
+      continue;
+    }
+    if (!ok) {
+      out += fmt::format("\\x{:02X}", c);
+      ++i;
+      continue;
+    }
+    out.append(s.substr(i, n));
+    i += n;
+  }
+  return out;
+}
+
 std::string value_text(const toml::node& node) {
-  if (const auto* str = node.as_string()) return fmt::format("\"{}\"", str->get());
+  if (const auto* str = node.as_string()) {
+    std::string v = printable(str->get());
+    constexpr std::size_t kMaxString = 200;  // a megabyte string must not flood the terminal
+    if (v.size() > kMaxString) v = v.substr(0, kMaxString) + "...";
+    return fmt::format("\"{}\"", v);
+  }
   if (const auto* f = node.as_floating_point()) return fmt::format("{}", f->get());
   std::ostringstream os;
   node.visit([&](const auto& v) { os << v; });
-  std::string s = os.str();
+  std::string s = printable(os.str());
   constexpr std::size_t kMaxShown = 60;  // keep messages on one line
   if (s.size() > kMaxShown) s = s.substr(0, kMaxShown) + "...";
   return s;
@@ -167,8 +220,8 @@ std::string value_text(const toml::node& node) {
 
 CaseError error_at(const toml::node& node, const std::string& field, const std::string& what) {
   const std::string where = location(node.source());
-  return CaseError(fmt::format("{}{}{} = {}: {}", where, where.empty() ? "" : ": ", field,
-                               value_text(node), what));
+  return CaseError(fmt::format("{}{}{} = {}: {}", where, where.empty() ? "" : ": ",
+                               printable(field), value_text(node), what));
 }
 
 double parse_quantity(const toml::node& node, Dimension dim, const std::string& field) {
@@ -199,7 +252,8 @@ double parse_quantity(const toml::node& node, Dimension dim, const std::string& 
 double parse_quantity_string(std::string_view text, Dimension dim, const std::string& field) {
   double out = 0.0;
   const std::string why = parse_text(text, dim, out);
-  if (!why.empty()) throw CaseError(fmt::format("{} = \"{}\": {}", field, text, why));
+  if (!why.empty())
+    throw CaseError(fmt::format("{} = \"{}\": {}", printable(field), printable(text), why));
   return out;
 }
 

@@ -30,9 +30,13 @@ double parse_quantity(const toml::node& node, Dimension dim, const std::string& 
 /// Same for a plain string (e.g. a CLI option); messages name `field` and the text, no line.
 double parse_quantity_string(std::string_view text, Dimension dim, const std::string& field);
 
+/// `s` with control characters (C0 other than tab, DEL, C1) written as \uXXXX and bytes that
+/// are not UTF-8 as \xNN, so that user text echoed in messages cannot drive the terminal.
+std::string printable(std::string_view s);
 /// "file:line" (or "line N", or "" when unknown) for messages.
 std::string location(const toml::source_region& where);
-/// The node's value as written in TOML, for messages ("\"150 nm\"", "1e-6", "[...]").
+/// The node's value as written in TOML, for messages, through printable() and shortened ("\"150
+/// nm\"", "1e-6", "[...]").
 std::string value_text(const toml::node& node);
 /// A CaseError "<file>:<line>: <field> = <value>: <what>".
 CaseError error_at(const toml::node& node, const std::string& field, const std::string& what);

@@ -40,6 +40,20 @@ std::vector<std::string_view> split(std::string_view line) {
   return out;
 }
 
+// Control characters and bytes that are not UTF-8 in a message echoing the table, as \xNN, so
+// that a binary file given as a table cannot drive the terminal.
+std::string printable(std::string_view s) {
+  std::string out;
+  for (const char ch : s) {
+    const auto c = static_cast<unsigned char>(ch);
+    if ((c < 0x20 && c != '\t') || c == 0x7F)
+      out += fmt::format("\\x{:02X}", c);
+    else
+      out += ch;
+  }
+  return out;
+}
+
 std::string lower(std::string_view s) {
   std::string out(s);
   for (auto& ch : out) ch = static_cast<char>(std::tolower(static_cast<unsigned char>(ch)));
@@ -50,10 +64,20 @@ std::string lower(std::string_view s) {
 
 OpticalData read_optical_csv(const std::filesystem::path& path) {
   const std::string file = path.string();
+  // Only regular files: a device (/dev/zero) or a pipe would be read until memory runs out. A
+  // table of 10^7 rows is ~400 MB; 1 GiB is above any optical table.
+  constexpr std::uintmax_t kMaxTableBytes = std::uintmax_t{1} << 30;
+  std::error_code ec;
+  if (!std::filesystem::is_regular_file(path, ec))
+    throw InputError(
+        fmt::format("{}: not a regular file (an optical table is a CSV file)", file));
+  if (const auto size = std::filesystem::file_size(path, ec); !ec && size > kMaxTableBytes)
+    throw InputError(
+        fmt::format("{}: {} bytes, more than the 1 GiB an optical table may have", file, size));
   std::ifstream in(path);
   if (!in) throw InputError(fmt::format("{}: cannot open optical table", file));
   const auto error = [&](int line, const std::string& what) {
-    return InputError(fmt::format("{}:{}: {}", file, line, what));
+    return InputError(fmt::format("{}:{}: {}", file, line, printable(what)));
   };
   enum class Abscissa { kEnergyEv, kWavelengthNm, kWavelengthUm } abscissa{};
   bool header = false, nk = false;
@@ -63,6 +87,8 @@ OpticalData read_optical_csv(const std::filesystem::path& path) {
   int line_no = 0;
   while (std::getline(in, text)) {
     ++line_no;
+    // A UTF-8 byte-order mark (spreadsheet exports write one) is not part of the first cell.
+    if (line_no == 1 && text.starts_with("\xEF\xBB\xBF")) text.erase(0, 3);
     const std::string_view line = trim(text);
     if (line.empty() || line.front() == '#') continue;
     const auto cells = split(line);

@@ -3,11 +3,15 @@
 #include "io/case_file.h"
 
 #include <gtest/gtest.h>
+#include <unistd.h>
 
 #include <cmath>
+#include <filesystem>
+#include <fstream>
 #include <string>
 
 #include "io/errors.h"
+#include "io/units.h"
 
 namespace roundtrip::io {
 namespace {
@@ -103,6 +107,179 @@ temperature = "0 K"
   const std::string e = error_of(sp);
   EXPECT_NE(e.find("t.toml:5: sphere.radius = \"0 um\": a radius must be > 0"), std::string::npos)
       << e;
+}
+
+const std::string kSphereCase = R"(geometry = "sphere-plate"
+[plate]
+material = "gold-drude"
+[sphere]
+radius = "RADIUS"
+material = "gold-drude"
+[separations]
+values = ["GAP"]
+[conditions]
+temperature = "300 K"
+)";
+
+std::string sphere_case(const std::string& radius, const std::string& gap) {
+  std::string t = kSphereCase;
+  t.replace(t.find("RADIUS"), 6, radius);
+  t.replace(t.find("GAP"), 3, gap);
+  return t;
+}
+
+// Absurd lengths were passed to the solver and came back as a solver failure (exit 4, no line).
+// Now they are input errors naming file:line, key and value, with the accepted range. Ranges:
+// lengths 0.1 nm (atomic scale, below which the continuum model fails) to 1 m (derived, README
+// "Accepted ranges"); radius from 1 nm.
+TEST(CaseFile, AbsurdLengthsAreRangeErrorsWithFileLineKeyAndValue) {
+  std::string e = error_of(sphere_case("1e300 m", "100 nm"));
+  EXPECT_NE(e.find("t.toml:5: sphere.radius = \"1e300 m\": a radius must be at most 1 m"),
+            std::string::npos)
+      << e;
+  e = error_of(sphere_case("10 um", "1e-20 nm"));
+  EXPECT_NE(e.find("t.toml:8: separations.values[0] = \"1e-20 nm\": a gap must be at least "
+                   "1e-10 m"),
+            std::string::npos)
+      << e;
+  e = error_of(kBase + "[separations]\nvalues = [\"1 um\", \"1e-300 nm\"]\n");
+  EXPECT_NE(e.find("t.toml:7: separations.values[1] = \"1e-300 nm\": a gap must be at least"),
+            std::string::npos)
+      << e;
+  e = error_of(kBase + "[separations]\nfrom = \"1 nm\"\nto = \"2 m\"\ncount = 3\n");
+  EXPECT_NE(e.find("t.toml:8: separations.to = \"2 m\": a gap must be at most 1 m"),
+            std::string::npos)
+      << e;
+  e = error_of(sphere_case("0.5 nm", "100 nm"));
+  EXPECT_NE(e.find("sphere.radius = \"0.5 nm\": a radius must be at least 1e-09 m"),
+            std::string::npos)
+      << e;
+  e = error_of(
+      "geometry = \"plate-plate\"\n[plate]\nmaterial = \"silicon\"\nlayers = [{material = "
+      "\"gold-drude\", thickness = \"1e-20 nm\"}]\n[separations]\nvalues = [\"1 um\"]\n"
+      "[conditions]\ntemperature = \"300 K\"\n");
+  EXPECT_NE(e.find("t.toml:4: plate.layers[0].thickness = \"1e-20 nm\": a layer thickness must "
+                   "be at least 1e-10 m"),
+            std::string::npos)
+      << e;
+  e = error_of(kBase +
+               "[separations]\nvalues = [\"1 um\"]\n[materials.m]\nmodel = \"plasma\"\n"
+               "plasma_frequency = \"1e290 eV\"\n");
+  EXPECT_NE(e.find("t.toml:10: materials.m.plasma_frequency = \"1e290 eV\": a frequency must be "
+                   "at most 1e+20 rad/s"),
+            std::string::npos)
+      << e;
+  // The ends of the ranges are accepted.
+  EXPECT_EQ(error_of(sphere_case("1 m", "0.1 nm")), "no error");
+  EXPECT_EQ(error_of(sphere_case("1 nm", "1 m")), "no error");
+}
+
+// 50 000 dotted levels overflowed the stack of the TOML parser (a signal in `check` and `run`).
+// The raw text is now measured before parsing: beyond 64 levels of dotted keys, headers,
+// arrays and inline tables together, a CaseError names file:line:column.
+TEST(CaseFile, DeepNestingIsACaseErrorNeverACrash) {
+  const auto repeat = [](const std::string& s, int n) {
+    std::string out;
+    for (int i = 0; i < n; ++i) out += s;
+    return out;
+  };
+  const std::string deep[] = {
+      "title = \"x\"\n" + repeat("a.", 50000) + "a = 1\n",
+      "title = \"x\"\n[" + repeat("a.", 50000) + "a]\n",
+      "x = " + repeat("[", 50000) + repeat("]", 50000) + "\n",
+      "x = " + repeat("{a = ", 50000) + "1" + repeat("}", 50000) + "\n",
+      "x = " + repeat("[{a.b = ", 20000) + "1" + repeat("}]", 20000) + "\n",
+      "[[" + repeat("a.", 70) + "a]]\n",
+  };
+  for (const auto& text : deep) {
+    const std::string e = error_of(text);
+    EXPECT_NE(e.find("nested deeper than 64 levels"), std::string::npos) << e.substr(0, 200);
+    EXPECT_EQ(e.rfind("t.toml:", 0), 0u) << e.substr(0, 200);
+  }
+  EXPECT_NE(error_of(repeat("a.", 50000) + "a = 1\n").find("t.toml:1:"), std::string::npos);
+  // 40 levels are fine for the pre-scan (the key is then unknown, an ordinary error).
+  const std::string ok = error_of(repeat("a.", 40) + "a = 1\n" + kBase);
+  EXPECT_EQ(ok.find("nested deeper"), std::string::npos) << ok;
+  EXPECT_NE(ok.find("unknown key"), std::string::npos) << ok;
+  // Strings and comments do not count: dots and brackets inside them are text.
+  EXPECT_EQ(error_of(kBase + "[separations]\nvalues = [\"1 um\"]  # " + repeat("[a.", 100) +
+                     "\ntitle = \"" + repeat("{a.", 100) + "\"\n")
+                .find("nested deeper"),
+            std::string::npos);
+}
+
+// A case file must be text: not UTF-8, over 16 MiB, a directory or a device is refused with a
+// clear message (before: /dev/zero read until bad_alloc, a directory "missing required key").
+TEST(CaseFile, OnlyRegularUtf8FilesOfSaneSizeAreRead) {
+  std::string e = error_of("title = \"caf\xe9\"\n" + kBase);
+  EXPECT_NE(e.find("t.toml:1:13: byte 0xE9 is not UTF-8"), std::string::npos) << e;
+  e = error_of("title = \"\xc0\xaf\"\n" + kBase);  // overlong form of '/'
+  EXPECT_NE(e.find("is not UTF-8"), std::string::npos) << e;
+  e = error_of(kBase + "# " + std::string((16u << 20) + 1, 'x') + "\n");
+  EXPECT_NE(e.find("more than the 16 MiB"), std::string::npos) << e.substr(0, 200);
+  const auto load_error = [](const std::filesystem::path& p) -> std::string {
+    try {
+      load_case(p);
+    } catch (const CaseError& err) {
+      return err.what();
+    }
+    return "no error";
+  };
+  EXPECT_NE(load_error("/tmp").find("/tmp: is a directory, not a case file"), std::string::npos);
+  for (const char* dev : {"/dev/zero", "/dev/urandom", "/dev/null"})
+    EXPECT_NE(load_error(dev).find("not a regular file"), std::string::npos) << load_error(dev);
+  EXPECT_NE(load_error("/nonexistent/c.toml").find("no such file"), std::string::npos);
+  // A sparse 17 MiB file is refused by its size, before anything is read.
+  const auto big = std::filesystem::temp_directory_path() /
+                   ("roundtrip_big_case_" + std::to_string(getpid()) + ".toml");
+  { std::ofstream(big) << "# big\n"; }
+  std::filesystem::resize_file(big, 17u << 20);
+  EXPECT_NE(load_error(big).find("more than the 16 MiB"), std::string::npos) << load_error(big);
+  std::filesystem::remove(big);
+}
+
+// A byte-order mark and CRLF line ends (editors on some systems) parse like the plain file.
+TEST(CaseFile, ByteOrderMarkAndCrlfCasesParse) {
+  const std::string plain = "title = \"t\"\n" + kBase + "[separations]\nvalues = [\"1 um\"]\n";
+  std::string crlf;
+  for (char c : plain) crlf += c == '\n' ? std::string("\r\n") : std::string(1, c);
+  for (const std::string& text : {"\xEF\xBB\xBF" + plain, crlf, "\xEF\xBB\xBF" + crlf}) {
+    const CaseSpec s = parse_case(text, "t.toml");
+    EXPECT_EQ(s.title, "t");
+    EXPECT_EQ(s.gaps, std::vector<double>{1e-6});
+    EXPECT_EQ(s.frequency.temperature_K, 300.0);
+  }
+  // Lines are still counted right after CR LF.
+  EXPECT_NE(error_of(crlf + "[numerics]\r\nrel_tol = 2\r\n").find("t.toml:10: numerics.rel_tol"),
+            std::string::npos)
+      << error_of(crlf + "[numerics]\r\nrel_tol = 2\r\n");
+}
+
+// Control characters in any string of the case (title, names, sources) would reach the terminal
+// raw when printed: they are refused at parse time with file:line, and the message shows them
+// escaped. Tab is allowed.
+TEST(CaseFile, ControlCharactersInStringsAreRefusedAndShownEscaped) {
+  std::string e = error_of("title = \"red \\u001b[31m alert\"\n" + kBase);
+  EXPECT_NE(e.find("t.toml:1: title = \"red \\u001B[31m alert\": contains a control character"),
+            std::string::npos)
+      << e;
+  EXPECT_EQ(e.find('\x1b'), std::string::npos);
+  e = error_of("title = \"\"\"two\nlines\"\"\"\n" + kBase);
+  EXPECT_NE(e.find("title = \"two\\u000Alines\""), std::string::npos) << e;
+  e = error_of("title = \"c1 \\u0085\"\n" + kBase);
+  EXPECT_NE(e.find("contains a control character"), std::string::npos) << e;
+  e = error_of(kBase +
+               "[materials.m]\nmodel = \"plasma\"\nplasma_frequency = \"9 eV\"\n"
+               "source = \"\\u0007bell\"\n");
+  EXPECT_NE(e.find("t.toml:9: materials.m.source"), std::string::npos) << e;
+  e = error_of("\"k\\u001b\" = 1\n" + kBase);
+  EXPECT_NE(e.find("k\\u001B = 1: the key contains a control character"), std::string::npos) << e;
+  const CaseSpec s = parse_case(
+      "title = \"a\\tb \u00b5m\"\n" + kBase + "[separations]\nvalues = [\"1 um\"]\n", "t.toml");
+  EXPECT_EQ(s.title, "a\tb \u00b5m");
+  // The escaping used in messages (io/units.h printable): C0, DEL, C1 and stray bytes.
+  EXPECT_EQ(printable("a\x1b[0m\x7f\xc2\x9b\xff\u00b5\t"),
+            "a\\u001B[0m\\u007F\\u009B\\xFF\u00b5\t");
 }
 
 }  // namespace

@@ -102,6 +102,75 @@ radius = ["1 um"]
       << error_of(plates);
 }
 
+// A scan is parsed once and its user materials are built once: every point shares the same
+// material object (before, each point re-parsed the whole text and rebuilt every material, so a
+// 10^6-row table cost ~11 s per point and the set-up grew as N^2). Timing is in
+// benchmarks/bench_scan_setup.cc; here the sharing itself is checked.
+TEST(Scan, PointsShareUserMaterialsAndTablesBuiltOnce) {
+  const auto dir = roundtrip::testing::fresh_dir("scan_share");
+  {
+    std::ofstream csv(dir / "t.csv");
+    csv << "energy_eV,eps1,eps2\n0.5,-300,40\n1,-80,8\n2,-20,2\n4,-4,0.8\n8,0.5,0.5\n";
+  }
+  std::string text = kSphere + R"([materials.tab]
+model = "table"
+file = "t.csv"
+[materials.my]
+model = "drude"
+plasma_frequency = "9 eV"
+damping = "35 meV"
+[scan]
+temperature = ["1 K", "2 K", "3 K"]
+sphere.material = ["tab", "my"]
+)";
+  std::ofstream(dir / "s.toml") << text;
+  const CaseSpec spec = load_case(dir / "s.toml");
+  const auto points = scan_points(spec);
+  ASSERT_EQ(points.size(), 6u);
+  for (std::size_t k = 2; k < points.size(); ++k)
+    EXPECT_EQ(points[k].spec.body("sphere").material, points[k % 2].spec.body("sphere").material)
+        << k;
+  EXPECT_NE(points[0].spec.body("sphere").material, points[1].spec.body("sphere").material);
+  EXPECT_EQ(points[0].spec.body("sphere").material->name(), "tab");
+  EXPECT_EQ(spec.body("sphere").material,
+            points[0].spec.body("sphere").material);  // the parse's first point
+  // A second expansion (what `run` does after `load_case`) reuses the same objects.
+  EXPECT_EQ(scan_points(spec)[0].spec.body("sphere").material,
+            points[0].spec.body("sphere").material);
+  // Each point's values are its own.
+  EXPECT_EQ(points[5].spec.frequency.temperature_K, 3.0);
+  EXPECT_EQ(points[5].spec.body("sphere").material->name(), "my");
+}
+
+// A bad value met at a later scan point still names the line of the scan value (the first
+// body it goes to, here the plate).
+TEST(Scan, ErrorsAtLaterPointsNameTheScanLine) {
+  const std::string e = error_of(kSphere +
+                                 "[scan]\ntemperature = [\"1 K\", \"2 K\"]\n"
+                                 "material = [\"gold-drude\", \"mithril\"]\n");
+  EXPECT_NE(e.find("s.toml:13: plate.material = \"mithril\": unknown material"), std::string::npos)
+      << e;
+  EXPECT_NE(e.find("at the scan point temperature = \"1 K\", material = \"mithril\""),
+            std::string::npos)
+      << e;
+}
+
+// README: a forced frequency rule is ignored at the 0 K points of a temperature scan (the
+// T = 0 integral is used there); without a temperature axis, 0 K and "pade" stay an error.
+TEST(Scan, ForcedRuleIsIgnoredAtTheZeroKelvinPointsOfATemperatureScan) {
+  const std::string rule = "[numerics]\nfrequency_rule = \"pade\"\n";
+  const CaseSpec spec =
+      parse_case(kSphere + rule + "[scan]\ntemperature = [\"0 K\", \"300 K\"]\n", "s.toml");
+  const auto points = scan_points(spec);
+  ASSERT_EQ(points.size(), 2u);
+  EXPECT_EQ(points[0].spec.frequency.thermal_rule, ThermalRule::kAuto);
+  EXPECT_EQ(points[1].spec.frequency.thermal_rule, ThermalRule::kPade);
+  std::string zero = kSphere;
+  zero.replace(zero.find("300 K"), 5, "0 K");
+  EXPECT_NE(error_of(zero + rule + "[scan]\nmaterial = [\"gold-plasma\"]\n").find("needs T > 0"),
+            std::string::npos);
+}
+
 using roundtrip::testing::slurp;
 
 // The shipped scan case end to end: one table per point, one file with /scan/<k>, and each point

@@ -116,5 +116,42 @@ TEST(OpticalCsv, MalformedTablesNameFileAndLine) {
   EXPECT_THROW(read_optical_csv("/nonexistent/roundtrip.csv"), InputError);
 }
 
+// Spreadsheet exports: a UTF-8 byte-order mark before the header and CRLF line ends read the
+// same as the plain file (before the fix: "unknown column 'energy_eV'").
+TEST(OpticalCsv, ByteOrderMarkAndCrlfReadLikeThePlainTable) {
+  const std::string plain = "energy_eV,eps1,eps2\n1,-5,1\n2,-1,0.5\n3,0.5,0.2\n4,0.9,0.1\n";
+  std::string crlf;
+  for (char c : plain) crlf += c == '\n' ? std::string("\r\n") : std::string(1, c);
+  const OpticalData a = read_optical_csv(write_temp("plain", plain));
+  for (const std::string& text : {"\xEF\xBB\xBF" + plain, crlf, "\xEF\xBB\xBF" + crlf}) {
+    const OpticalData b = read_optical_csv(write_temp("bom_crlf", text));
+    EXPECT_EQ(b.omega, a.omega);
+    EXPECT_EQ(b.eps1, a.eps1);
+    EXPECT_EQ(b.eps2, a.eps2);
+  }
+}
+
+// A directory or a device as the table is refused by name before reading (a device such as
+// /dev/zero would otherwise be read until memory runs out); control bytes echoed from the file
+// are escaped.
+TEST(OpticalCsv, NonRegularFilesAreRefusedAndEchoedBytesEscaped) {
+  for (const char* p : {"/dev/zero", "/tmp"}) {
+    try {
+      read_optical_csv(p);
+      ADD_FAILURE() << p << ": no CaseError";
+    } catch (const io::CaseError& e) {
+      EXPECT_NE(std::string(e.what()).find("not a regular file"), std::string::npos) << e.what();
+    }
+  }
+  try {
+    read_optical_csv(write_temp("esc", "energy_eV,n,\x1b[31mk\n"));
+    ADD_FAILURE() << "no CaseError";
+  } catch (const io::CaseError& e) {
+    const std::string m = e.what();
+    EXPECT_EQ(m.find('\x1b'), std::string::npos) << m;
+    EXPECT_NE(m.find("\\x1B[31mk"), std::string::npos) << m;
+  }
+}
+
 }  // namespace
 }  // namespace roundtrip
