@@ -111,13 +111,15 @@ temperature = "0 K"
 }
 
 // R/L ~ 3e8 used to wrap l_max around in int: "nan h" in the plan at R = 30 m, l_max = 3 (and
-// then "det(1 - M) <= 0") at R = 40-100 m, all at L = 100 nm. Now the truncation is a double,
-// proportional to R/L near contact (derived from the l_max law, sphere_plate.cc lmax_for: the
-// near-contact term is linear in R/L, the +3 and the ceiling are below 1e-8 of it here), the
-// plan stays finite and refuses, and a direct evaluation throws instead of using l_max = 3.
+// then "det(1 - M) <= 0") at R = 40-100 m, all at L = 100 nm. Radii are now at most 1 m (README
+// "Accepted ranges"), so the same R/L = 3.3e8 ... 1e9 is reached at R = 1 m and L = 3 ... 1 nm.
+// The truncation is a double, proportional to R/L near contact (derived from the l_max law,
+// solver/blocks/plane_wave_nodes.cc: the near-contact term is linear in R/L, the +3 and the
+// ceiling are below 1e-8 of it here), the plan stays finite and refuses, and a direct evaluation
+// throws instead of using l_max = 3.
 TEST(Plan, LmaxBeyondTheIndexRangeIsARefusalNamingRadiusAndGap) {
   constexpr double kLinearTol = 1e-6;  // ceil + 3 against l_max ~ 1e9: ~4e-9
-  const auto spec_for = [](const std::string& radius) {
+  const auto spec_for = [](const std::string& radius, const std::string& gap) {
     return parse_case(R"(geometry = "sphere-plate"
 [sphere]
 radius = ")" + radius + R"("
@@ -125,34 +127,35 @@ material = "gold-drude"
 [plate]
 material = "gold-drude"
 [separations]
-values = ["100 nm"]
+values = [")" + gap + R"("]
 [conditions]
 temperature = "300 K"
 )",
                       "huge.toml");
   };
-  double lmax30 = 0.0;
-  for (const char* radius : {"30 m", "40 m", "100 m"}) {
-    const CaseSpec spec = spec_for(radius);
+  double lmax3 = 0.0;
+  for (const char* gap : {"3 nm", "2.5 nm", "1 nm"}) {
+    const CaseSpec spec = spec_for("1 m", gap);
+    const double L = spec.gaps.front();
     const auto g = build_geometry(spec);
-    const double lmax = g->truncation(1e-7).at("l_max");
-    EXPECT_TRUE(std::isfinite(lmax)) << radius;
-    EXPECT_GT(lmax, kMaxMultipoleOrder) << radius;
-    if (lmax30 == 0.0) lmax30 = lmax;
-    EXPECT_NEAR(lmax / lmax30, spec.body("sphere").radius / 30.0, kLinearTol) << radius;
+    const double lmax = g->truncation(L).at("l_max");
+    EXPECT_TRUE(std::isfinite(lmax)) << gap;
+    EXPECT_GT(lmax, kMaxMultipoleOrder) << gap;
+    if (lmax3 == 0.0) lmax3 = lmax;
+    EXPECT_NEAR(lmax / lmax3, 3e-9 / L, kLinearTol) << gap;
     RunOptions opts;
     opts.frequency = spec.frequency;
     opts.quantities = spec.quantities;
     const Plan plan = make_plan(*g, spec.gaps, opts, PlanCalibration{});
-    EXPECT_TRUE(std::isfinite(plan.seconds) && std::isfinite(plan.memory_bytes)) << radius;
+    EXPECT_TRUE(std::isfinite(plan.seconds) && std::isfinite(plan.memory_bytes)) << gap;
     const std::string why = truncation_problem(*g, plan);
-    EXPECT_NE(why.find(fmt::format("radius R = {} at gap L = 1e-07 m", radius)), std::string::npos)
+    EXPECT_NE(why.find(fmt::format("radius R = 1 m at gap L = {:.6g} m", L)), std::string::npos)
         << why;
     EXPECT_NE(why.find("beyond the 1e+08 this program can index"), std::string::npos) << why;
-    EXPECT_THROW((void)g->at_frequency(1e15, 1e-7, DerivativeOrder::kForce), std::runtime_error);
+    EXPECT_THROW((void)g->at_frequency(1e15, L, DerivativeOrder::kForce), std::runtime_error);
   }
   // R/L = 1e4 (target 2 of the README) is far inside the range.
-  const CaseSpec ok = spec_for("1 mm");
+  const CaseSpec ok = spec_for("1 mm", "100 nm");
   const auto g = build_geometry(ok);
   RunOptions opts;
   opts.frequency = ok.frequency;

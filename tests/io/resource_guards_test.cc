@@ -180,17 +180,18 @@ TEST_F(Guards, ThreadsAboveFourTimesTheCoresAreRefused) {
   EXPECT_EQ(files_with(".h5"), 0);
 }
 
-// R/L = 3e8 (R = 30 m at 100 nm): the automatic l_max used to wrap around in int ("nan h" in
-// the plan, or l_max = 3 and then "det(1 - M) <= 0"). Now it is a refusal naming R and L.
+// R/L = 3e8 (then R = 30 m at 100 nm): the automatic l_max used to wrap around in int ("nan h"
+// in the plan, or l_max = 3 and then "det(1 - M) <= 0"). Radii are now at most 1 m, so the same
+// R/L is R = 1 m at 3 nm. Now it is a refusal naming R and L.
 TEST_F(Guards, TruncationBeyondTheIndexRangeIsAClearRefusal) {
   std::string text = kSmallCase;
-  text.replace(text.find("\"5 um\""), 6, "\"30 m\"");
-  text.replace(text.find("values = [\"400 nm\", \"800 nm\"]"), 29, "values = [\"100 nm\"]");
+  text.replace(text.find("\"5 um\""), 6, "\"1 m\"");
+  text.replace(text.find("values = [\"400 nm\", \"800 nm\"]"), 29, "values = [\"3 nm\"]");
   write("huge.toml", text);
   for (const char* cmd : {"run", "check"}) {
     const Outcome o = cli(fmt::format("{} huge.toml", cmd));
     EXPECT_EQ(o.status, 1) << cmd << ": " << o.err;
-    EXPECT_NE(o.err.find("radius R = 30 m at gap L = 1e-07 m (R/L = 3e+08) needs l_max = "),
+    EXPECT_NE(o.err.find("radius R = 1 m at gap L = 3e-09 m (R/L = 3.33e+08) needs l_max = "),
               std::string::npos)
         << o.err;
     EXPECT_NE(o.err.find("beyond the 1e+08 this program can index"), std::string::npos) << o.err;

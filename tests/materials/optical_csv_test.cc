@@ -138,15 +138,15 @@ TEST(OpticalCsv, NonRegularFilesAreRefusedAndEchoedBytesEscaped) {
   for (const char* p : {"/dev/zero", "/tmp"}) {
     try {
       read_optical_csv(p);
-      ADD_FAILURE() << p << ": no CaseError";
-    } catch (const io::CaseError& e) {
+      ADD_FAILURE() << p << ": no InputError";
+    } catch (const InputError& e) {
       EXPECT_NE(std::string(e.what()).find("not a regular file"), std::string::npos) << e.what();
     }
   }
   try {
     read_optical_csv(write_temp("esc", "energy_eV,n,\x1b[31mk\n"));
-    ADD_FAILURE() << "no CaseError";
-  } catch (const io::CaseError& e) {
+    ADD_FAILURE() << "no InputError";
+  } catch (const InputError& e) {
     const std::string m = e.what();
     EXPECT_EQ(m.find('\x1b'), std::string::npos) << m;
     EXPECT_NE(m.find("\\x1B[31mk"), std::string::npos) << m;
