@@ -120,6 +120,7 @@ void write_run(H5::Group& file, const RunResult& r, const ResultsInfo& info) {
   attr(file, "result_scale", to_string(r.scale));
   attr(file, "per_area", r.scale == ResultScale::kPerArea ? 1 : 0);  // kept for older readers
   for (const auto& [name, metres] : info.body_lengths) attr(file, name, metres);
+  if (r.pfa_length > 0.0) attr(file, "pfa_length_m", r.pfa_length);
   attr(file, "temperature_K", info.temperature_K);
   attr(file, "rel_tol", info.rel_tol);
   attr(file, "frequency_rule", info.frequency_rule);

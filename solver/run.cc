@@ -77,6 +77,7 @@ RunResult run_sweep(const Geometry& geometry, const std::vector<double>& gaps,
   result.kind = geometry.kind();
   result.description = geometry.describe();
   result.scale = geometry.scale();
+  result.pfa_length = geometry.pfa_length().value_or(0.0);
   result.points.resize(gaps.size());
 
   const int n = static_cast<int>(gaps.size());

@@ -81,6 +81,9 @@ struct RunResult {
   /// Fits of Q/Q_PFA = 1 + theta L/R + ... over the sweep (geometries with a PFA length scale,
   /// at least 3 finished gaps); see solver/pfa/theta_fit.h.
   ThetaFit theta_energy, theta_force, theta_gradient;
+  /// Geometry::pfa_length(): the R of Q/Q_PFA = 1 + theta L/R (sphere radius, or
+  /// R_eff = R1 R2/(R1 + R2) for two spheres); 0 if the geometry has none.
+  double pfa_length = 0.0;
 };
 
 /// Compute every gap in `gaps` (m, each > 0). Deterministic for any thread count.

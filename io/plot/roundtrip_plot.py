@@ -56,7 +56,8 @@ def plot_pfa(f, out_dir, stem, written):
     markers = {"energy": "o", "force": "s", "gradient": "^"}
     names = {"energy": "E", "force": "F", "gradient": "F\u2032"}
     for lab, g in rs:
-        R = float(g.attrs["sphere_radius_m"]) if "sphere_radius_m" in g.attrs else None
+        # The R of Q/Q_PFA = 1 + theta L/R: the sphere radius, or R_eff of two spheres.
+        R = next((float(g.attrs[k]) for k in ("pfa_length_m", "sphere_radius_m") if k in g.attrs), None)
         if R is None:
             continue
         x = g["results/gap"][:] / R
@@ -73,7 +74,7 @@ def plot_pfa(f, out_dir, stem, written):
                         label=f"\u03b8 L/R, \u03b8 = {float(a['theta']):.3f} \u00b1 "
                               f"{float(a['uncertainty']):.3f}")
     ax.axhline(0.0, color="0.6", lw=0.8)
-    ax.set_xlabel("L/R (gap over sphere radius, 1)")
+    ax.set_xlabel("L/R (gap over the PFA length: sphere radius, or R_eff of two spheres)")
     ax.set_ylabel("Q/Q_PFA \u2212 1 (1)")
     ax.set_title("Departure from the proximity force approximation")
     ax.set_xlim(left=0.0)
