@@ -793,11 +793,13 @@ CaseSpec parse_root(toml::table& root, CaseSpec spec) {
 
   // Bodies: the kind's two tables, each read by the reader of its shape.
   for (const auto& table : body_table_names())
-    if (table != kind.lower.table && table != kind.upper.table && root.contains(table))
-      throw error_at(*root.get(table), table,
-                     fmt::format("[{}] is not used by geometry = \"{}\" (its bodies are [{}] "
-                                 "and [{}])",
-                                 table, kind.name, kind.lower.table, kind.upper.table));
+    if (table != kind.lower.table && table != kind.upper.table && root.contains(table)) {
+      const std::string where = location(root.get(table)->source());
+      throw CaseError(fmt::format(
+          "{}{}[{}] is not used by geometry = \"{}\" (its bodies are [{}] "
+          "and [{}])",
+          where, where.empty() ? "" : ": ", table, kind.name, kind.lower.table, kind.upper.table));
+    }
   const auto read_plate = [&](const toml::table& t, BodySpec& b) {
     b.plate = planar_from_toml(t, b.table, resolver);
     std::vector<std::string> names;
@@ -931,7 +933,9 @@ CaseSpec parse_root(toml::table& root, CaseSpec spec) {
       if (!rule)
         throw error_at(
             *n->get("frequency_rule"), "numerics.frequency_rule",
-            fmt::format("unknown rule \"{}\" (use \"auto\", \"matsubara\", \"pade\" or \"integral-tail\")", *f));
+            fmt::format(
+                "unknown rule \"{}\" (use \"auto\", \"matsubara\", \"pade\" or \"integral-tail\")",
+                *f));
       if (*rule != ThermalRule::kAuto && spec.frequency.temperature_K == 0.0 &&
           !root.contains("scan"))
         throw error_at(

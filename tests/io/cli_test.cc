@@ -229,6 +229,72 @@ TEST_F(Cli, OverlapRadiusInfinityAndTableMistakesFailNamingTheFieldAndWriteNothi
   }
 }
 
+// Two spheres (invented numbers): overlapping spheres, shells thicker than the radius, a zero or
+// negative shell thickness and an unknown key in [sphere2] each name file:line, key and value,
+// and nothing is written (no results file, no journal).
+const std::string kTwoSpheres = R"(geometry = "sphere-sphere"
+[sphere]
+radius = "1 um"
+material = "gold-drude"
+[sphere2]
+radius = "2 um"
+material = "gold-drude"
+[separations]
+values = ["100 nm"]
+[conditions]
+temperature = "0 K"
+)";
+
+TEST_F(Cli, BadTwoSphereAndShellCasesNameTheFieldAndWriteNothing) {
+  const std::vector<BadCase> cases = {
+      {"overlapping spheres",
+       replaced(kTwoSpheres, "\"100 nm\"", "\"-10 nm\""),
+       {"bad.toml:9: separations.values[0] = \"-10 nm\"", "overlapping bodies"}},
+      {"touching spheres",
+       replaced(kTwoSpheres, "\"100 nm\"", "\"0 nm\""),
+       {"bad.toml:9: separations.values[0] = \"0 nm\"", "touch"}},
+      {"shells thicker than the radius",
+       replaced(kTwoSpheres, "radius = \"2 um\"\n",
+                "radius = \"2 um\"\nshells = [{ material = \"silica\", thickness = \"1.5 um\" "
+                "},\n  { material = \"silica\", thickness = \"0.5 um\" }]\n"),
+       {"bad.toml:8: sphere2.shells[1].thickness = \"0.5 um\"", "not less than the radius"}},
+      {"zero shell thickness",
+       replaced(kTwoSpheres, "radius = \"1 um\"\n",
+                "radius = \"1 um\"\nshells = [{ material = \"silica\", thickness = \"0 nm\" }]\n"),
+       {"bad.toml:4: sphere.shells[0].thickness = \"0 nm\""}},
+      {"negative shell thickness",
+       replaced(kTwoSpheres, "radius = \"1 um\"\n",
+                "radius = \"1 um\"\nshells = [{ material = \"silica\", thickness = \"-5 nm\" }]\n"),
+       {"bad.toml:4: sphere.shells[0].thickness = \"-5 nm\""}},
+      {"unknown key in [sphere2]",
+       replaced(kTwoSpheres, "radius = \"2 um\"\n", "radius = \"2 um\"\ncolour = \"gold\"\n"),
+       {"bad.toml:7: sphere2.colour = \"gold\": unknown key"}},
+      {"[plate] in a two-sphere case",
+       kTwoSpheres + "[plate]\nmaterial = \"gold-drude\"\n",
+       {"bad.toml:12: [plate] is not used by geometry = \"sphere-sphere\""}},
+  };
+  for (const auto& c : cases) {
+    SCOPED_TRACE(c.what);
+    write("bad.toml", c.text);
+    const Outcome o = cli("run bad.toml --quiet");
+    EXPECT_EQ(o.status, 1) << o.err;
+    EXPECT_EQ(o.err.rfind("roundtrip: error: ", 0), 0u) << o.err;
+    for (const auto& e : c.expected) EXPECT_NE(o.err.find(e), std::string::npos) << o.err;
+    EXPECT_EQ(o.out, "");
+    EXPECT_FALSE(any_h5()) << "an output file was written";
+    EXPECT_FALSE(fs::exists(dir_ / "bad.h5.journal")) << "a journal was left";
+    const Outcome chk = cli("check bad.toml");
+    EXPECT_EQ(chk.status, 1) << chk.err;
+  }
+  // The same two spheres without the mistakes run (T = 0, one gap, small R/L).
+  write("good.toml", kTwoSpheres + "[numerics]\nrel_tol = 1e-3\n");
+  const Outcome ok = cli("run good.toml --quiet");
+  EXPECT_EQ(ok.status, 0) << ok.err;
+  EXPECT_NE(ok.out.find("spheres of gold-drude (R1 = 1e-06 m) and gold-drude (R2 = 2e-06 m)"),
+            std::string::npos)
+      << ok.out;
+}
+
 TEST_F(Cli, MissingCaseFileAndBadOptionsAreErrors) {
   Outcome o = cli("run nowhere.toml");
   EXPECT_EQ(o.status, 1);
