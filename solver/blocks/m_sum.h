@@ -4,7 +4,7 @@
 #include <functional>
 #include <string>
 
-#include "solver/geometries/geometry.h"
+#include "solver/spectral.h"
 #include "solver/logdet/low_rank.h"
 
 namespace roundtrip::blocks {

@@ -13,7 +13,7 @@
 #include <limits>
 #include <vector>
 
-#include "solver/geometries/geometry.h"
+#include "solver/spectral.h"
 #include "solver/logdet/low_rank.h"
 #include "solver/special/gauss_laguerre.h"
 

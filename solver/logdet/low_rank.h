@@ -16,7 +16,7 @@
 #include <string>
 #include <vector>
 
-#include "solver/geometries/geometry.h"
+#include "solver/spectral.h"
 
 namespace roundtrip {
 
