@@ -11,6 +11,7 @@
 #include <filesystem>
 #include <fstream>
 #include <string>
+#include <tuple>
 
 #include "common/scratch.h"
 #include "io/case_file.h"
@@ -89,6 +90,58 @@ TEST(Plan, TruncationsFrequenciesAndTimeAgreeWithTheRunWithinTheStatedFactor) {
       << "plan " << plan.seconds << " s, run " << wall << " s";
   EXPECT_LT(plan.seconds, wall * kLoadNoise * kPromisedTimeFactor)
       << "plan " << plan.seconds << " s, run " << wall << " s";
+}
+
+// The plan's work items (what a distributed run hands out): one per (gap, frequency, block), each
+// with the cost of its block from Geometry::cost, largest first, ties in (gap, frequency, block)
+// order; their total is the plan's flops (design).
+TEST(Plan, WorkItemsCoverEveryGapFrequencyAndBlockLargestFirst) {
+  for (const std::string& text : {kCase, std::string(R"(geometry = "sphere-sphere"
+[sphere]
+radius = "2 um"
+material = "gold-drude"
+[sphere2]
+radius = "3 um"
+material = "gold-drude"
+[separations]
+values = ["300 nm", "600 nm"]
+[conditions]
+temperature = "300 K"
+[numerics]
+rel_tol = 1e-4
+)")}) {
+    const CaseSpec spec = parse_case(text, "w.toml");
+    SCOPED_TRACE(spec.kind->name);
+    const auto g = build_geometry(spec);
+    RunOptions opts;
+    opts.frequency = spec.frequency;
+    opts.quantities = spec.quantities;
+    const Plan plan = make_plan(*g, spec.gaps, opts, PlanCalibration{});
+    const std::vector<WorkItem> items = work_items(plan, 3);
+    std::size_t expected = 0;
+    double flops = 0.0, item_flops = 0.0;
+    for (const auto& p : plan.gaps) {
+      EXPECT_GT(p.block_flops.size(), 1u) << "dense blocks per m";
+      expected += p.frequencies * p.block_flops.size();
+      flops += p.frequencies * p.flops_per_frequency;
+    }
+    ASSERT_EQ(items.size(), expected);
+    for (std::size_t i = 0; i < items.size(); ++i) {
+      EXPECT_EQ(items[i].point, 3);
+      item_flops += items[i].flops;
+      if (i > 0) {
+        EXPECT_GE(items[i - 1].flops, items[i].flops);
+        if (items[i - 1].flops == items[i].flops) {
+          const auto key = [](const WorkItem& w) {
+            return std::make_tuple(w.gap, w.frequency, w.block);
+          };
+          EXPECT_LT(key(items[i - 1]), key(items[i]));
+        }
+      }
+    }
+    EXPECT_NEAR(item_flops / flops, 1.0, 1e-12);
+    EXPECT_EQ(work_items(plan, 3).size(), items.size());
+  }
 }
 
 TEST(Plan, PlatesNeedNoDenseMemoryAndCostOneUnitPerFrequency) {
