@@ -63,6 +63,8 @@ std::string to_string(Shape s) {
       return "plate";
     case Shape::kSphere:
       return "sphere";
+    case Shape::kCylinder:
+      return "cylinder";
   }
   return "?";
 }

@@ -24,13 +24,13 @@ std::string thickness_problem(double thickness);
 
 /// The shapes a body can have. A plate is a half-space or a planar stack (its layers live in
 /// the solver's planar body); a sphere may carry concentric shells.
-enum class Shape { kPlate, kSphere };
+enum class Shape { kPlate, kSphere, kCylinder };
 std::string to_string(Shape s);
 
 struct Body {
   std::string name;  ///< the case-file table, e.g. "plate", "sphere2"; the preview's group name
   Shape shape = Shape::kPlate;
-  double radius = 0.0;                    ///< spheres: outer radius (m)
+  double radius = 0.0;                    ///< spheres, cylinders: outer radius (m)
   std::vector<double> shell_thicknesses;  ///< spheres: shells, outermost first (m)
   /// Empty if valid, else a sentence naming the bad field and value.
   std::string validate() const;

@@ -31,6 +31,7 @@ struct GmshApi {
   RT_GMSH_FN(gmshModelAdd);
   RT_GMSH_FN(gmshModelOccAddSphere);
   RT_GMSH_FN(gmshModelOccAddBox);
+  RT_GMSH_FN(gmshModelOccAddCylinder);
   RT_GMSH_FN(gmshModelOccSynchronize);
   RT_GMSH_FN(gmshModelAddPhysicalGroup);
   RT_GMSH_FN(gmshModelSetPhysicalName);
@@ -67,6 +68,7 @@ const GmshApi& gmsh_api() {
     RT_LOAD(gmshModelAdd);
     RT_LOAD(gmshModelOccAddSphere);
     RT_LOAD(gmshModelOccAddBox);
+    RT_LOAD(gmshModelOccAddCylinder);
     RT_LOAD(gmshModelOccSynchronize);
     RT_LOAD(gmshModelAddPhysicalGroup);
     RT_LOAD(gmshModelSetPhysicalName);
@@ -149,7 +151,7 @@ PreviewSummary export_gmsh(const Configuration& c, double gap, const std::filesy
   // radius (spheres present) or 20 L (plates only).
   double rmax = 0.0;
   for (const Body* b : {&c.lower, &c.upper})
-    if (b->shape == Shape::kSphere) rmax = std::max(rmax, b->radius * u);
+    if (b->shape != Shape::kPlate) rmax = std::max(rmax, b->radius * u);
   const double W = rmax > 0.0 ? 4.0 * rmax : 20.0 * L, T = rmax > 0.0 ? rmax / 2.0 : W / 4.0;
   fine = coarse = W / kElementsPerSize;
   std::vector<std::string> parts;
@@ -163,6 +165,18 @@ PreviewSummary export_gmsh(const Configuration& c, double gap, const std::filesy
     }
     const double R = b.radius * u;
     const double zc = lower ? -R : L + R;
+    if (b.shape == Shape::kCylinder) {
+      // An infinite cylinder drawn with the length 4R along x (the plate is 4R wide too).
+      const int tag =
+          g.gmshModelOccAddCylinder(-2.0 * R, 0.0, zc, 4.0 * R, 0.0, 0.0, R, -1, 2 * M_PI, &e);
+      check(e, "occ::addCylinder");
+      volumes.emplace_back(tag, b.name);
+      fine = std::min(fine, 2.0 * M_PI * R / (4.0 * kElementsPerSize));
+      parts.push_back(
+          fmt::format("{} of radius {} (infinite; drawn {} long) with its axis at z = {}", b.name,
+                      length_text(b.radius), length_text(4.0 * b.radius), length_text(zc / u)));
+      return;
+    }
     const int tag = g.gmshModelOccAddSphere(0.0, 0.0, zc, R, -1, -M_PI / 2, M_PI / 2, 2 * M_PI, &e);
     check(e, "occ::addSphere");
     volumes.emplace_back(tag, b.name);

@@ -249,7 +249,7 @@ const BodySpec& CaseSpec::body(std::string_view table) const {
 std::vector<std::pair<std::string, double>> CaseSpec::body_lengths() const {
   std::vector<std::pair<std::string, double>> out;
   for (const auto& b : bodies)
-    if (b.shape == Shape::kSphere) out.emplace_back(b.table + "_radius_m", b.radius);
+    if (b.shape != Shape::kPlate) out.emplace_back(b.table + "_radius_m", b.radius);
   return out;
 }
 
@@ -853,6 +853,22 @@ CaseSpec parse_root(toml::table& root, CaseSpec spec) {
       }
     }
   };
+  // A cylinder: radius and material (shells are not built for cylinders yet).
+  const auto read_cylinder = [&](const toml::table& s, BodySpec& b) {
+    const std::string& tb = b.table;
+    check_keys(s, tb, {"radius", "material", "shells"});
+    if (const toml::node* sh = s.get("shells"))
+      throw error_at(*sh, tb + ".shells", "shells on cylinders are not built yet");
+    if (!s.contains("radius"))
+      throw table_error(s, tb + ".radius", "missing required key (e.g. radius = \"50 um\")");
+    b.radius = positive_length(*s.get("radius"), tb + ".radius", geometry::radius_problem);
+    if (s.contains("material")) {
+      b.material = material_at(s, "material", tb + ".material");
+      used.add(b.material);
+    } else if (electromagnetic) {
+      throw table_error(s, tb + ".material", "missing required key (e.g. \"perfect-conductor\")");
+    }
+  };
   for (const BodySlot* slot : {&kind.lower, &kind.upper}) {
     BodySpec b;
     b.table = slot->table;
@@ -879,7 +895,10 @@ CaseSpec parse_root(toml::table& root, CaseSpec spec) {
       if (t == nullptr)
         throw root_error(root, slot->table,
                          fmt::format("missing table [{}] (radius and material)", slot->table));
-      read_sphere(*t, b);
+      if (slot->shape == Shape::kCylinder)
+        read_cylinder(*t, b);
+      else
+        read_sphere(*t, b);
     }
     spec.bodies.push_back(std::move(b));
   }

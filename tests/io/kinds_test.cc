@@ -12,7 +12,13 @@ namespace roundtrip::io {
 namespace {
 
 // A minimal body table for a slot's shape (invented values).
-std::string table_for(const BodySlot& s) {
+// Cylinders are built for perfect conductors only (solver/geometries/cylinder_plate.h), so a
+// kind with a cylinder gets perfect conductors throughout.
+std::string table_for(const BodySlot& s, bool pec = false) {
+  if (pec)
+    return "[" + s.table + "]\n" +
+           (s.shape == geometry::Shape::kPlate ? "" : "radius = \"2 um\"\n") +
+           "material = \"perfect-conductor\"\n";
   if (s.shape == geometry::Shape::kSphere)
     return "[" + s.table + "]\nradius = \"2 um\"\nmaterial = \"gold-drude\"\n";
   return "[" + s.table + "]\nmaterial = \"gold-drude\"\n";
@@ -20,8 +26,10 @@ std::string table_for(const BodySlot& s) {
 
 std::string minimal_case(const GeometryKind& k) {
   std::string text = "geometry = \"" + k.name + "\"\n";
+  const bool pec =
+      k.lower.shape == geometry::Shape::kCylinder || k.upper.shape == geometry::Shape::kCylinder;
   for (const BodySlot* s : {&k.lower, &k.upper})
-    if (s->defaults_to.empty()) text += table_for(*s);
+    if (s->defaults_to.empty()) text += table_for(*s, pec);
   return text +
          "[separations]\nvalues = [\"500 nm\"]\n[conditions]\ntemperature = \"0 K\"\n"
          "[numerics]\nrel_tol = 1e-3\n";

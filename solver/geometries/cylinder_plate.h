@@ -1,0 +1,47 @@
+#pragma once
+// A cylinder (infinitely long, radius R, axis parallel to a plate) above a planar body, per unit
+// length, by the scattering approach in the cylindrical-wave basis. Conventions: R radius, L
+// surface-to-surface gap, H = R + L axis-to-plate distance. Results per unit length of the axis
+// (ResultScale::kPerLength): s(xi) in 1/m, E/l in J/m, F/l in N/m, dF/dL per length in N/m^2.
+// Implementation and physics notes in cylinder_plate.cc.
+//
+// Built: perfect conductors (cylinder and plate), electromagnetic field and the scalar Dirichlet
+// and Neumann validation fields, in any non-conducting medium. Not built: real materials (a
+// dielectric or Drude cylinder, any plate other than a perfect conductor): validate() says so.
+#include <memory>
+#include <string>
+
+#include "solver/geometries/geometry.h"
+#include "solver/materials/material.h"
+#include "solver/planar/planar.h"
+#include "solver/scatterers/field.h"
+
+namespace roundtrip {
+
+struct CylinderPlateOptions {
+  double radius = 0.0;   ///< R (m), > 0
+  MaterialPtr cylinder;  ///< must be a perfect conductor for the electromagnetic field
+  PlanarPtr plate;       ///< must be a perfect conductor for the electromagnetic field
+  MaterialPtr medium;    ///< medium between the bodies (vacuum if null); a dielectric
+  FieldKind field = FieldKind::kElectromagnetic;
+  double rel_tol = 1e-5;  ///< target relative error: sets the m cut-off and the k_z rule
+  int m_max = 0;          ///< 0: automatic (from the decay of the diagonal, cylinder_plate.cc)
+  std::string validate() const;  ///< empty if valid, else a sentence naming the bad field
+};
+
+/// Throws std::invalid_argument with validate()'s message.
+std::shared_ptr<Geometry> make_cylinder_plate(const CylinderPlateOptions& options);
+
+/// log det(1 - N) of one channel at one p = sqrt(k_z^2 + kappa^2) (1/m), N_mm' =
+/// t_m(pR) K_{m+m'}(2pH), and its first two H-derivatives; m runs over |m| <= m_max (m_max = 0:
+/// automatic to relative accuracy rel_tol). Exposed for tests. `m_used` receives the cut-off.
+Spectral cylinder_plate_logdet(FieldKind channel, double p, double radius, double axis_height,
+                               DerivativeOrder order, double rel_tol, int m_max = 0,
+                               int* m_used = nullptr);
+
+/// PFA per length of a perfectly conducting cylinder over a perfectly conducting plate in
+/// vacuum, electromagnetic: E/l = -pi^3 hbar c sqrt(R) / (960 sqrt(2) L^(5/2)) (Bordag, PRD 73,
+/// 125018 (2006)), F/l = -dE/dL, dF/dL. Scalar channels are half of it each.
+PfaValues cylinder_plate_pfa_pec(double radius, double gap);
+
+}  // namespace roundtrip
