@@ -63,12 +63,14 @@ std::string to_string(Shape s) {
       return "plate";
     case Shape::kSphere:
       return "sphere";
+    case Shape::kAtom:
+      return "atom";
   }
   return "?";
 }
 
 std::string Body::validate() const {
-  if (shape == Shape::kPlate) return {};
+  if (shape == Shape::kPlate || shape == Shape::kAtom) return {};
   if (auto p = radius_problem(radius); !p.empty())
     return fmt::format("{}.radius = {} m: {}", name, radius, p);
   double total = 0.0;
