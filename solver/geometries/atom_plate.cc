@@ -6,6 +6,7 @@
 
 #include <algorithm>
 #include <boost/math/quadrature/exp_sinh.hpp>
+#include <boost/math/quadrature/tanh_sinh.hpp>
 #include <cmath>
 #include <limits>
 #include <stdexcept>
@@ -16,7 +17,7 @@
 namespace roundtrip {
 namespace {
 constexpr double kKRelTol = 1e-11;      // per component of the kappa integral
-constexpr double kNonRetardedK = 1e12;  // 1/m: "k -> inf" of C3 (atom_plate.h)
+constexpr double kNonRetardedK = 1e12;  // 1/m: least "k -> inf" of C3 (atom_plate.h)
 }  // namespace
 
 AtomPlate::AtomPlate(PolarizabilityPtr atom, PlanarPtr plate, MaterialPtr medium)
@@ -69,18 +70,25 @@ Spectral AtomPlate::at_frequency(double xi, double z, DerivativeOrder order) con
 }
 
 double AtomPlate::c3() const {
-  // (hbar/4pi) \int_0^inf dxi a(xi)/eps_m(xi) r_TM(xi, k -> inf), in xi = w t with w the atom's
-  // scale (or the plate's: a constant alpha then needs r_TM to fall, which real materials do).
+  // (hbar/4pi) \int_0^inf dxi a(xi)/eps_m(xi) r_TM(xi, k -> inf) with xi = w tan(theta): the
+  // integrand falls algebraically (alpha ~ 1/xi^2), so a finite interval in theta by the tanh-sinh
+  // rule (Takahasi & Mori 1974; Boost.Math). w is the atom's scale, or 1e16 rad/s (where eps(i xi)
+  // of ordinary matter falls towards 1) for a constant alpha.
   double w = atom_->characteristic_frequency();
-  if (!std::isfinite(w)) w = 1e16;  // rad/s: where eps(i xi) of ordinary matter falls towards 1
-  boost::math::quadrature::exp_sinh<double> rule;
+  if (!std::isfinite(w)) w = 1e16;
+  boost::math::quadrature::tanh_sinh<double> rule;
   const double integral = rule.integrate(
-      [&](double t) {
-        const double xi = w * t;
-        const double eps_m = medium_->epsilon(xi);
-        return atom_->alpha(xi) / eps_m * plate_->at(xi, *medium_)->reflect(kNonRetardedK).tm;
+      [&](double th) {
+        if (!(th < 0.5 * kPi)) return 0.0;
+        const double t = std::tan(th), xi = w * t;
+        const double eps_m = xi == 0.0 ? eps_m0_ : medium_->epsilon(xi);
+        // k -> inf: far beyond xi/c (retardation) and 1/pm (films); r_TM is then the top
+        // material's non-retarded (eps - eps_m)/(eps + eps_m).
+        const double k = std::max(kNonRetardedK, 1e6 * std::sqrt(eps_m) * xi / kSpeedOfLight);
+        const double r = plate_->at(xi, *medium_)->reflect(k).tm;
+        return atom_->alpha(xi) / eps_m * r * (1.0 + t * t);
       },
-      1e-9);
+      0.0, 0.5 * kPi, 1e-10);
   return kHbar / (4.0 * kPi) * w * integral;
 }
 

@@ -54,8 +54,8 @@ class AtomPlate final : public Geometry {
   std::string describe() const override;
 
   /// C3 = (hbar/4pi) \int dxi alpha(i xi)/eps_m r_TM(i xi, k -> inf) in J m^3, with r_TM taken at
-  /// k = 1e12 /m (1/pm: the top material's non-retarded reflection for films thicker than a
-  /// few pm).
+  /// k = max(1e12 /m, 1e6 sqrt(eps_m) xi/c): the top material's non-retarded reflection for
+  /// films thicker than a few pm.
   double c3() const;
   /// C4 = 3 hbar c alpha(0)/(8 pi) in J m^4 when the plate is a perfect conductor in vacuum
   /// (Casimir & Polder 1948); none otherwise.
