@@ -13,6 +13,7 @@ namespace {
 
 // A minimal body table for a slot's shape (invented values).
 std::string table_for(const BodySlot& s) {
+  if (s.shape == geometry::Shape::kAtom) return "[" + s.table + "]\nspecies = \"rubidium\"\n";
   if (s.shape == geometry::Shape::kSphere)
     return "[" + s.table + "]\nradius = \"2 um\"\nmaterial = \"gold-drude\"\n";
   return "[" + s.table + "]\nmaterial = \"gold-drude\"\n";
