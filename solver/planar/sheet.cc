@@ -48,6 +48,8 @@ class SheetAt final : public PlanarAtFrequency {
   Reflection reflect(double k) const override {
     if (pec_) return {-1.0, 1.0};
     if (static_) {
+      // No static TE response without a plasma-like sheet or substrate (also at k = 0).
+      if (static_te_sheet_ == 0.0 && ks2_ == 0.0) return {0.0, static_tm_};
       const double ks = std::sqrt(k * k + ks2_);
       return {(k - ks - static_te_sheet_) / (k + ks + static_te_sheet_), static_tm_};
     }

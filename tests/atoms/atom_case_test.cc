@@ -98,5 +98,46 @@ TEST(AtomCase, BadInputNamesFileLineKeyAndValue) {
             std::string::npos);
 }
 
+std::string with_sheet(const std::string& sheet, const std::string& extra = "") {
+  return "geometry = \"atom-plate\"\n"  // 1
+         "[plate]\n"                    // 2
+         "material = \"silica\"\n" +    // 3
+         extra +
+         "sheet = " + sheet + "\n" +  // 4 (5 with extra)
+         "[separations]\nvalues = [\"1 um\"]\n[conditions]\ntemperature = \"300 K\"\n"
+         "[atom]\nspecies = \"helium\"\n";
+}
+
+TEST(AtomCase, PlateSheetKeyBuildsASheetAndNamesBadValues) {
+  const CaseSpec c = parse_case(
+      with_sheet("{ model = \"drude\", density = \"1e13 cm^-2\", mass_ratio = 0.03, damping = "
+                 "\"5 meV\" }"),
+      "a.toml");
+  EXPECT_NE(c.body("plate").plate->describe().find("conducting sheet"), std::string::npos);
+  EXPECT_NE(c.body("plate").plate->describe().find("silica"), std::string::npos);
+  (void)parse_case(with_sheet("{ model = \"constant\", conductance = \"6.08e-5 S\" }"), "a.toml");
+  struct Bad {
+    std::string sheet, extra, expect;
+  };
+  const std::vector<Bad> bad{
+      {"{ model = \"drude\", density = \"-1 m^-2\", mass_ratio = 0.03, damping = \"5 meV\" }", "",
+       "a.toml:4: plate.sheet.density = \"-1 m^-2\": must be >= 0"},
+      {"{ model = \"drude\", density = \"1e17 m^-2\", mass_ratio = 0, damping = \"5 meV\" }", "",
+       "a.toml:4: plate.sheet.mass_ratio = 0: must be between"},
+      {"{ model = \"drude\", density = \"1e17 m^-3\", mass_ratio = 0.03, damping = \"5 meV\" }", "",
+       "plate.sheet.density = \"1e17 m^-3\": unknown unit"},
+      {"{ model = \"constant\", conductance = \"1e12 S\" }", "", "above 1e10 S"},
+      {"{ model = \"constant\" }", "", "plate.sheet.conductance: missing required key"},
+      {"{ model = \"graphene\" }", "", "a.toml:4: plate.sheet.model = \"graphene\": unknown"},
+      {"{ model = \"constant\", conductance = \"1 S\" }",
+       "layers = [{ material = \"gold-drude\", thickness = \"10 nm\" }]\n",
+       "a.toml:5: plate.sheet = { conductance = '1 S', model = 'constant' }: a sheet on layers"},
+  };
+  for (const auto& b : bad) {
+    const std::string m = error_of(with_sheet(b.sheet, b.extra));
+    EXPECT_NE(m.find(b.expect), std::string::npos) << m << "\n  expected: " << b.expect;
+  }
+}
+
 }  // namespace
 }  // namespace roundtrip::io
