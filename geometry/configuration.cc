@@ -65,12 +65,14 @@ std::string to_string(Shape s) {
       return "sphere";
     case Shape::kCylinder:
       return "cylinder";
+    case Shape::kAtom:
+      return "atom";
   }
   return "?";
 }
 
 std::string Body::validate() const {
-  if (shape == Shape::kPlate) return {};
+  if (shape == Shape::kPlate || shape == Shape::kAtom) return {};
   if (auto p = radius_problem(radius); !p.empty())
     return fmt::format("{}.radius = {} m: {}", name, radius, p);
   double total = 0.0;

@@ -23,8 +23,10 @@ std::string radius_problem(double radius);
 std::string thickness_problem(double thickness);
 
 /// The shapes a body can have. A plate is a half-space or a planar stack (its layers live in
-/// the solver's planar body); a sphere may carry concentric shells.
-enum class Shape { kPlate, kSphere, kCylinder };
+/// the solver's planar body); a sphere may carry concentric shells; a cylinder is infinite along
+/// y (drawn with a finite length); an atom is a point polarizability (no size; the gap is its
+/// distance from the facing surface).
+enum class Shape { kPlate, kSphere, kCylinder, kAtom };
 std::string to_string(Shape s);
 
 struct Body {

@@ -163,6 +163,19 @@ PreviewSummary export_gmsh(const Configuration& c, double gap, const std::filesy
                                   length_text(T / u)));
       return;
     }
+    if (b.shape == Shape::kAtom) {
+      // A point: drawn as a marker sphere of radius L/20 centred at the atom (not to scale).
+      const double r = L / 20.0;
+      const double za = lower ? 0.0 : L;
+      const int tag =
+          g.gmshModelOccAddSphere(0.0, 0.0, za, r, -1, -M_PI / 2, M_PI / 2, 2 * M_PI, &e);
+      check(e, "occ::addSphere");
+      volumes.emplace_back(tag, b.name);
+      fine = std::min(fine, 2.0 * M_PI * r / (4.0 * kElementsPerSize));
+      parts.push_back(fmt::format("{} at z = {} (marker sphere of radius {}, not to scale)", b.name,
+                                  length_text(za / u), length_text(r / u)));
+      return;
+    }
     const double R = b.radius * u;
     const double zc = lower ? -R : L + R;
     if (b.shape == Shape::kCylinder) {

@@ -11,6 +11,7 @@
 #include <set>
 #include <sstream>
 
+#include "io/atom_spec.h"
 #include "io/errors.h"
 #include "io/material_spec.h"
 #include "io/units.h"
@@ -272,6 +273,8 @@ std::string BodySpec::describe() const {
   std::string d;
   if (shape == Shape::kPlate) {
     d = plate ? plate->describe() : std::string("none (scalar field)");
+  } else if (shape == Shape::kAtom) {
+    d = atom ? atom->name() + ": " + atom->description() : std::string("none");
   } else {
     d = fmt::format("radius {:.6g} um", radius * 1e6);
     if (material) d += ", " + material->name();
@@ -504,6 +507,7 @@ std::vector<std::pair<std::string, std::string>> scan_targets(const std::string&
     if (kind == nullptr) return {{"plate", "material"}};  // parse_root names the bad kind
     for (const BodySlot* s : {&kind->lower, &kind->upper}) {
       if (key == "radius" && s->shape != Shape::kSphere) continue;
+      if (key == "material" && s->shape == Shape::kAtom) continue;
       if (!s->defaults_to.empty() && !root.contains(s->table)) continue;
       t.emplace_back(s->table, key);
     }
@@ -535,11 +539,11 @@ std::vector<ScanAxis> parse_scan_axes(const toml::table& root, const toml::table
         throw error_at(*n, field, fmt::format("expected {}.material = [...] inside [scan]", body));
       if (!kind_has(body))
         throw error_at(*n, field, fmt::format("no [{}] to scan ({})", body, kind_text()));
-      const bool sphere =
-          (kind->lower.table == body ? kind->lower : kind->upper).shape == Shape::kSphere;
+      const Shape shape = (kind->lower.table == body ? kind->lower : kind->upper).shape;
       check_keys(*t, field,
-                 sphere ? std::vector<std::string>{"material", "radius"}
-                        : std::vector<std::string>{"material"});
+                 shape == Shape::kSphere  ? std::vector<std::string>{"material", "radius"}
+                 : shape == Shape::kAtom ? std::vector<std::string>{}
+                                         : std::vector<std::string>{"material"});
     }
   bool any_sphere = false;
   if (kind)
@@ -710,7 +714,8 @@ std::vector<std::string> scan_keys(const GeometryKind* kind) {
   });
   for (const auto& s : slots)
     if (s.shape == Shape::kSphere) keys.push_back(s.table + ".radius");
-  for (const auto& s : slots) keys.push_back(s.table + ".material");
+  for (const auto& s : slots)
+    if (s.shape != Shape::kAtom) keys.push_back(s.table + ".material");
   return keys;
 }
 
@@ -891,6 +896,11 @@ CaseSpec parse_root(toml::table& root, CaseSpec spec) {
       } else {
         read_plate(*t, b);
       }
+    } else if (slot->shape == Shape::kAtom) {
+      if (t == nullptr)
+        throw root_error(root, slot->table,
+                         fmt::format("missing table [{}] (species or polarizability)", slot->table));
+      b.atom = atom_from_toml(*t, slot->table);
     } else {
       if (t == nullptr)
         throw root_error(root, slot->table,

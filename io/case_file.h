@@ -10,6 +10,7 @@
 
 #include "geometry/configuration.h"
 #include "io/kinds/kind.h"
+#include "solver/atoms/polarizability.h"
 #include "solver/frequency/frequency_rule.h"
 #include "solver/geometries/geometry.h"
 #include "solver/materials/material.h"
@@ -43,6 +44,7 @@ struct BodySpec {
   double radius = 0.0;            ///< spheres: outer radius (m)
   MaterialPtr material;           ///< spheres: core material (null for scalar fields)
   std::vector<ShellSpec> shells;  ///< spheres: outermost first
+  PolarizabilityPtr atom;         ///< atoms: the polarizability (io/atom_spec.h)
   /// The body's shape and sizes for geometry/ (validation, preview).
   geometry::Body geometry() const;
   /// The shells as the solver takes them (solver/scatterers/sphere_body.h).

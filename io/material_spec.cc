@@ -13,6 +13,7 @@
 
 #include "geometry/configuration.h"
 #include "io/errors.h"
+#include "io/sheet_spec.h"
 #include "io/units.h"
 #include "solver/materials/library.h"
 #include "solver/materials/models.h"
@@ -336,8 +337,15 @@ MaterialPtr material_at(const toml::table& t, const std::string& field,
 
 PlanarPtr planar_from_toml(const toml::table& plate, const std::string& field,
                            const MaterialResolver& materials) {
-  check_keys(plate, field, {"material", "layers", "nonlocal"});
+  check_keys(plate, field, {"material", "layers", "nonlocal", "sheet"});
   MaterialPtr substrate = material_at(plate, field, materials);
+  if (const toml::node* sn = plate.get("sheet")) {  // io/sheet_spec.h
+    if (plate.contains("layers") || plate.contains("nonlocal"))
+      throw error_at(*sn, field + ".sheet",
+                     "a sheet on layers or on a nonlocal metal is not built yet (a sheet sits "
+                     "on the plain half-space of `material`)");
+    return sheet_from_toml(*sn, field + ".sheet", substrate);
+  }
   const auto* ln = plate.get("layers");
   const auto* nn = plate.get("nonlocal");
   std::vector<Layer> layers;

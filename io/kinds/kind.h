@@ -57,5 +57,6 @@ GeometryKind plate_plate_kind();
 GeometryKind sphere_plate_kind();
 GeometryKind sphere_sphere_kind();
 GeometryKind cylinder_plate_kind();
+GeometryKind atom_plate_kind();
 
 }  // namespace roundtrip::io

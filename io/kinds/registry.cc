@@ -11,6 +11,7 @@ const std::vector<GeometryKind>& geometry_kinds() {
       sphere_plate_kind(),
       sphere_sphere_kind(),
       cylinder_plate_kind(),
+      atom_plate_kind(),
   };
   return kinds;
 }

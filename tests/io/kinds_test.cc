@@ -15,6 +15,7 @@ namespace {
 // Cylinders are built for perfect conductors only (solver/geometries/cylinder_plate.h), so a
 // kind with a cylinder gets perfect conductors throughout.
 std::string table_for(const BodySlot& s, bool pec = false) {
+  if (s.shape == geometry::Shape::kAtom) return "[" + s.table + "]\nspecies = \"rubidium\"\n";
   if (pec)
     return "[" + s.table + "]\n" +
            (s.shape == geometry::Shape::kPlate ? "" : "radius = \"2 um\"\n") +

@@ -1,0 +1,35 @@
+// geometry = "atom-plate": an atom at distance z above a plate, the Casimir-Polder free energy
+// (solver/geometries/atom_plate.h); total energy (J), force (N) and gradient (N/m) against z.
+#include "solver/geometries/atom_plate.h"
+
+#include <fmt/format.h>
+
+#include <stdexcept>
+
+#include "io/case_file.h"
+#include "io/errors.h"
+#include "io/kinds/kind.h"
+
+namespace roundtrip::io {
+
+GeometryKind atom_plate_kind() {
+  GeometryKind k;
+  k.name = "atom-plate";
+  k.summary = "a ground-state atom above a plate: Casimir-Polder free energy against z";
+  k.lower = {"plate", geometry::Shape::kPlate, ""};
+  k.upper = {"atom", geometry::Shape::kAtom, ""};
+  k.scale = ResultScale::kTotal;
+  k.scalar_fields = false;
+  k.build = [](const CaseSpec& spec) -> std::shared_ptr<Geometry> {
+    const BodySpec& plate = spec.body("plate");
+    const BodySpec& atom = spec.body("atom");
+    try {
+      return make_atom_plate(atom.atom, plate.plate, spec.medium);
+    } catch (const std::invalid_argument& e) {
+      throw CaseError(fmt::format("{}: {}", spec.path.string(), e.what()));
+    }
+  };
+  return k;
+}
+
+}  // namespace roundtrip::io
