@@ -128,7 +128,8 @@ Spectral GratingPlate::compute(double xi, double gap, DerivativeOrder order, dou
   const double half_bz = 0.5 * G;
   // k_y = sinh(t)/(2L) up to y = 2 L k_y where e^{-y} < 1e-3 tol (every order decays at least
   // as fast as e^{-2 k_y L}).
-  const double t_max = std::asinh(std::log(1e3 / tol) + 10.0);
+  const double y_max = std::log(1e3 / tol) + 10.0;
+  const double q2 = eps_m * (xi / kSpeedOfLight) * (xi / kSpeedOfLight);
   const long x_fine = pow3(kMaxXLevel);
   const long t_fine = 1L << kMaxTLevel;
 
@@ -136,14 +137,22 @@ Spectral GratingPlate::compute(double xi, double gap, DerivativeOrder order, dou
   // Integrand at finest-grid keys: x key p (odd multiples: k_x = p/(2 n_fine) G/2), t key q.
   const double nfine = kX0 * static_cast<double>(x_fine);
   auto node = [&](long p, long q) {
-    const double kx = (static_cast<double>(p) / (2.0 * nfine)) * half_bz;
+    // k_x = (G/2) w(u), w(u) = u - sin(2 pi u)/(2 pi), u = p/(2 n_fine) (Sidi's sin^2
+    // transformation, Sidi, Numer. Math. 9 (1993), from memory): w' vanishes at both ends, so the
+    // kink of the n = 0 order at k = 0 (xi = 0: |k|) is pushed to high order in u.
+    const double u = static_cast<double>(p) / (2.0 * nfine);
+    const double kx = half_bz * (u - std::sin(2.0 * kPi * u) / (2.0 * kPi));
+    const double wu = half_bz * (1.0 - std::cos(2.0 * kPi * u));
+    // k_y = a sinh(t), a = min(1/(2L), sqrt(k_x^2 + eps_m q0^2)): the n = 0 branch points
+    // k_y = +-i sqrt(k_x^2 + eps_m q0^2) stay a fixed distance from the real t axis.
+    const double a = std::min(0.5 / gap, std::sqrt(kx * kx + q2));
     const double t = q * (kH0 / t_fine);
-    const double ky = std::sinh(t) / (2.0 * gap);
+    const double ky = a * std::sinh(t);
     const MatrixXd rg = gf.reflect(kx, ky);
     const MatrixXd rp = planar_reflection_in_orders(*pat, xi, g_.period, N, kx, ky);
     const VectorXd kap = orders_decay(xi, eps_m, g_.period, N, kx, ky);
     Triple v = round_trip(rg, rp, kap, gap, n_comp);
-    const double jac = std::cosh(t) / (2.0 * gap);
+    const double jac = a * std::cosh(t) * wu;
     for (double& c : v) c *= jac;
     return v;
   };
@@ -153,9 +162,15 @@ Spectral GratingPlate::compute(double xi, double gap, DerivativeOrder order, dou
     const long xs = pow3(kMaxXLevel - a);
     const long ts = 1L << (kMaxTLevel - b);
     const double h = kH0 / (1 << b);
-    const long J = static_cast<long>(std::ceil(t_max / h));
-    for (long i = 0; i < nx; ++i)
-      for (long j = 0; j <= J; ++j) keys.emplace_back((2 * i + 1) * xs, j * ts);
+    for (long i = 0; i < nx; ++i) {
+      const long p = (2 * i + 1) * xs;
+      const double u = static_cast<double>(p) / (2.0 * nfine);
+      const double kx = half_bz * (u - std::sin(2.0 * kPi * u) / (2.0 * kPi));
+      const double a = std::min(0.5 / gap, std::sqrt(kx * kx + q2));
+      const double t_max = std::asinh(y_max / (2.0 * gap * a));
+      const long J = static_cast<long>(std::ceil(t_max / h));
+      for (long j = 0; j <= J; ++j) keys.emplace_back(p, j * ts);
+    }
     return keys;
   };
   auto ensure = [&](const std::vector<std::pair<long, long>>& keys) {
@@ -186,7 +201,7 @@ Spectral GratingPlate::compute(double xi, double gap, DerivativeOrder order, dou
     const auto keys = keys_of(a, b);
     ensure(keys);
     const long nx = kX0 * pow3(a);
-    const double wx = half_bz / nx;
+    const double wx = 1.0 / nx;  // du; the k_x Jacobian is in the node
     const double h = kH0 / (1 << b);
     const double pref = 4.0 / (4.0 * kPi * kPi);
     Triple s{}, ab{};

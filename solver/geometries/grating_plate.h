@@ -9,9 +9,12 @@
 //   d/dL ln det = -Tr[B M1],  d2/dL2 = -Tr[B M2] - Tr[(B M1)^2],
 //   M1 = -(R_g K D R_p D + M K),  M2 = R_g K^2 D R_p D + 2 R_g K D R_p K D + M K^2 (derived).
 // Bloch integral: the profile is even, so s is even in k_x and k_y and the integral runs over
-// k_x in [0, G/2] (midpoint rule, periodic analytic integrand; levels n_x -> 3 n_x nest) and
-// k_y = sinh(t)/(2L), t >= 0 (trapezoid, step halving, t = 0 weighted 1/2); each direction is
-// refined until its change is below bloch_rel_tol of \int |f| for every requested component.
+// k_x = (G/2) w(u), w(u) = u - sin(2 pi u)/(2 pi), u in [0, 1] (midpoint rule; levels n_x ->
+// 3 n_x nest; w' = 0 at both ends smooths the |k| kink of the specular order at k = 0) and
+// k_y = a sinh(t), a = min(1/(2L), sqrt(k_x^2 + eps_m xi^2/c^2)), t >= 0 (trapezoid, step
+// halving, t = 0 weighted 1/2); each direction is refined until its change is below
+// bloch_rel_tol of \int |f| for every requested component; the returned value adds both
+// refinements' corrections.
 // PFA (Bao et al., PRL 105, 250402 (2010)): E_PFA = f E_pp(L; ridge) + (1 - f) E_pp(L + h;
 // substrate), per area, with the same frequency rule.
 #include <memory>
