@@ -56,5 +56,6 @@ std::vector<std::string> body_table_names();
 GeometryKind plate_plate_kind();
 GeometryKind sphere_plate_kind();
 GeometryKind sphere_sphere_kind();
+GeometryKind grating_plate_kind();
 
 }  // namespace roundtrip::io

@@ -10,6 +10,7 @@ const std::vector<GeometryKind>& geometry_kinds() {
       plate_plate_kind(),
       sphere_plate_kind(),
       sphere_sphere_kind(),
+      grating_plate_kind(),
   };
   return kinds;
 }
