@@ -22,11 +22,18 @@ GeometryKind grating_plate_kind() {
   k.numerics_keys = {"orders"};
   k.build = [](const CaseSpec& spec) {
     const LamellarGrating& g = spec.body("grating").grating;
+    if (g.ridge->static_limit().is_conductor())
+      throw CaseError(fmt::format(
+          "{}: grating.material = \"{}\": gratings with conducting ridges are not built (the "
+          "modal method here is for dielectric ridges: a metal's huge eps makes its layer "
+          "operator singular in double at small xi; perfect conductors need their own modal "
+          "method)",
+          spec.path.string(), g.ridge->name()));
     for (const auto& [m, key] : {std::pair{g.ridge, "material"}, {g.substrate, "substrate"}}) {
       if (m->is_perfect_conductor())
         throw CaseError(fmt::format(
             "{}: grating.{} = \"{}\": perfectly conducting gratings need their own modal "
-            "method, which is not built (use a Drude or plasma metal)",
+            "method, which is not built",
             spec.path.string(), key, m->name()));
       if (m->static_limit().is_conductor() && spec.frequency.temperature_K > 0.0)
         throw CaseError(fmt::format(

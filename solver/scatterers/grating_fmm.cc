@@ -138,7 +138,14 @@ GratingAtFrequency::GratingAtFrequency(const LamellarGrating& g, double xi, cons
   q0_ = xi / kSpeedOfLight;
   ee_ = toeplitz(eps_r_, eps_m_, g.filling, m_);
   ai_ = toeplitz(1.0 / eps_r_, 1.0 / eps_m_, g.filling, m_).inverse();
-  ee_inv_ = ee_.inverse();
+  ai_ = 0.5 * (ai_ + ai_.transpose()).eval();
+  ee_llt_.compute(ee_);
+  if (ee_llt_.info() != Eigen::Success)
+    throw std::runtime_error(fmt::format(
+        "grating: the Toeplitz matrix of eps (ridge {:g}, groove {:g}) is not positive definite "
+        "in double precision",
+        eps_r_, eps_m_));
+  ee_inv_ = ee_llt_.solve(Eigen::MatrixXd::Identity(m_, m_));
 }
 
 Eigen::MatrixXd GratingAtFrequency::reflect(double kx, double ky) const {
@@ -162,7 +169,12 @@ Eigen::MatrixXd GratingAtFrequency::reflect(double kx, double ky) const {
       const auto K = k.asDiagonal();
       const MatrixXd id = MatrixXd::Identity(m_, m_);
       MatrixXd P(dim, dim), Q(dim, dim);
-      P << K * ee_inv_ * K + id, kyn * (K * ee_inv_), kyn * (ee_inv_ * K), kyn * kyn * ee_inv_ + id;
+      // P~ - 1 = B Ee^-1 B^T = (B C^-T)(B C^-T)^T with Ee = C C^T: a Gram matrix, positive
+      // semi-definite also in rounding (high-contrast Ee, e.g. metals at small xi).
+      MatrixXd B(dim, m_);
+      B << MatrixXd(K), kyn * id;
+      const MatrixXd Gt = ee_llt_.matrixL().solve(B.transpose());  // C^-1 B^T
+      P = Gt.transpose() * Gt + MatrixXd::Identity(dim, dim);
       MatrixXd kk = k.array().square().matrix().asDiagonal();
       Q << kyn * kyn * id + ai_, -kyn * MatrixXd(K), -kyn * MatrixXd(K), kk + ee_;
       const Eigen::LLT<MatrixXd> llt(P);

@@ -65,7 +65,8 @@ class GratingAtFrequency {
   LamellarGrating g_;
   double xi_, q0_, eps_m_, eps_r_, eps_s_;
   int n_, m_;
-  Eigen::MatrixXd ee_, ai_, ee_inv_;  // Toeplitz [[eps]], [[1/eps]]^-1, [[eps]]^-1 (M x M)
+  Eigen::MatrixXd ee_, ai_, ee_inv_;    // Toeplitz [[eps]], [[1/eps]]^-1, [[eps]]^-1 (M x M)
+  Eigen::LLT<Eigen::MatrixXd> ee_llt_;  // [[eps]] = C C^T
 };
 
 /// The same basis for a planar body (block-diagonal in n): at xi > 0 r_TE u u^T - r_TM v v^T

@@ -89,9 +89,13 @@ TEST(GratingCase, WhatIsNotBuiltIsAClearError) {
   EXPECT_NE(error_of(grating_case(g)).find("not built"), std::string::npos);
   std::string au = kGood;
   au.replace(au.find("\"silicon\""), 9, "\"gold-drude\"");
-  EXPECT_NE(error_of(grating_case(au, "300 K")).find("xi = 0 term of a conducting grating"),
+  EXPECT_NE(error_of(grating_case(au, "0 K")).find("conducting ridges are not built"),
             std::string::npos);
-  EXPECT_EQ(error_of(grating_case(au, "0 K")), "no error");
+  // A conducting substrate under dielectric ridges: T = 0 only (no xi = 0 term built).
+  const std::string on_gold = kGood + "substrate = \"gold-drude\"\n";
+  EXPECT_NE(error_of(grating_case(on_gold, "300 K")).find("xi = 0 term of a conducting grating"),
+            std::string::npos);
+  EXPECT_EQ(error_of(grating_case(on_gold, "0 K")), "no error");
 }
 
 TEST(GratingCase, FillingOneIsThePlatePlateEnergyAndItsPfa) {

@@ -89,6 +89,23 @@ TEST(GratingFmm, FillingZeroIsAVacuumGapAboveTheSubstrate) {
   }
 }
 
+TEST(GratingFmm, SmallFrequenciesKeepTheFilmToTheStatedConditioning) {
+  // Airy film (layered.h) at xi = 1e12 and 1e13 rad/s. The layer operator is a Gram matrix of
+  // size (k/q0)^2 plus 1 (q0 = xi/c), so rounding grows like (G/q0)^2 eps_machine: measured
+  // 1.3e-6 at 1e10, 6e-10 at 1e12, 2e-13 at 1e14 rad/s (period 400 nm, N = 4). Tolerance 1e-8
+  // at 1e12 (derived from that growth; README "Gratings" states the limit).
+  const auto vac = make_vacuum();
+  LamellarGrating g = silicon_like(1.0, 120e-9);
+  g.ridge = make_constant("film", 2.1);
+  const auto film = make_layered({{g.ridge, 120e-9}}, g.substrate);
+  for (double xi : {1e12, 1e13}) {
+    GratingAtFrequency gf(g, xi, *vac, 4);
+    EXPECT_LT(max_abs_diff(gf.reflect(1e6, 5e5), plate_operator(film, xi, g.period, 4, 1e6, 5e5)),
+              1e-8)
+        << "xi = " << xi;
+  }
+}
+
 TEST(GratingFmm, MirrorSymmetryOfAnEvenProfile) {
   // Derived: an even profile is invariant under x -> -x, which maps order n at k_x to order -n
   // at -k_x and E_x -> -E_x; likewise y -> -y maps k_y -> -k_y and E_y -> -E_y.

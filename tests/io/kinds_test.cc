@@ -18,7 +18,7 @@ std::string table_for(const BodySlot& s) {
   if (s.shape == geometry::Shape::kGrating)
     return "[" + s.table +
            "]\nperiod = \"400 nm\"\nprofile = \"lamellar\"\nfilling = 0.5\ndepth = \"100 nm\"\n"
-           "material = \"gold-drude\"\n";
+           "material = \"silicon\"\n";
   return "[" + s.table + "]\nmaterial = \"gold-drude\"\n";
 }
 
