@@ -67,12 +67,33 @@ std::string to_string(Shape s) {
       return "cylinder";
     case Shape::kAtom:
       return "atom";
+    case Shape::kGrating:
+      return "grating";
   }
   return "?";
 }
 
+std::string period_problem(double period) {
+  return positive_length_problem(period, "period", "a grating needs a period", kMinRadius,
+                                 "a shorter period is a few atoms, not a body with a "
+                                 "dielectric function");
+}
+std::string filling_problem(double filling) {
+  if (!(filling >= 0.0 && filling <= 1.0))
+    return "the filling factor (ridge fraction of the period) must lie in [0, 1]";
+  return {};
+}
 std::string Body::validate() const {
   if (shape == Shape::kPlate || shape == Shape::kAtom) return {};
+  if (shape == Shape::kGrating) {
+    if (auto p = period_problem(period); !p.empty())
+      return fmt::format("{}.period = {} m: {}", name, period, p);
+    if (auto p = filling_problem(filling); !p.empty())
+      return fmt::format("{}.filling = {}: {}", name, filling, p);
+    if (auto p = thickness_problem(depth); !p.empty())
+      return fmt::format("{}.depth = {} m: {}", name, depth, p);
+    return {};
+  }
   if (auto p = radius_problem(radius); !p.empty())
     return fmt::format("{}.radius = {} m: {}", name, radius, p);
   double total = 0.0;

@@ -22,11 +22,17 @@ std::string radius_problem(double radius);
 /// Layer or shell thickness (m): finite, within 1e-10 m ... 1 m.
 std::string thickness_problem(double thickness);
 
+/// Grating period Lambda (m): finite, within 1e-9 m ... 1 m.
+std::string period_problem(double period);
+/// Grating filling factor f: within [0, 1].
+std::string filling_problem(double filling);
+
 /// The shapes a body can have. A plate is a half-space or a planar stack (its layers live in
 /// the solver's planar body); a sphere may carry concentric shells; a cylinder is infinite along
 /// y (drawn with a finite length); an atom is a point polarizability (no size; the gap is its
-/// distance from the facing surface).
-enum class Shape { kPlate, kSphere, kCylinder, kAtom };
+/// distance from the facing surface); a grating is 1D-periodic (lamellar: ridges of width
+/// f Lambda and height `depth` on a substrate, ridge tops at z = 0).
+enum class Shape { kPlate, kSphere, kCylinder, kAtom, kGrating };
 std::string to_string(Shape s);
 
 struct Body {
@@ -34,6 +40,9 @@ struct Body {
   Shape shape = Shape::kPlate;
   double radius = 0.0;                    ///< spheres, cylinders: outer radius (m)
   std::vector<double> shell_thicknesses;  ///< spheres: shells, outermost first (m)
+  double period = 0.0;                    ///< gratings: period (m)
+  double filling = 0.0;                   ///< gratings: ridge fraction of the period
+  double depth = 0.0;                     ///< gratings: ridge height (m)
   /// Empty if valid, else a sentence naming the bad field and value.
   std::string validate() const;
 };

@@ -151,8 +151,15 @@ PreviewSummary export_gmsh(const Configuration& c, double gap, const std::filesy
   // radius (spheres present) or 20 L (plates only).
   double rmax = 0.0;
   for (const Body* b : {&c.lower, &c.upper})
-    if (b->shape != Shape::kPlate) rmax = std::max(rmax, b->radius * u);
-  const double W = rmax > 0.0 ? 4.0 * rmax : 20.0 * L, T = rmax > 0.0 ? rmax / 2.0 : W / 4.0;
+    if (b->shape == Shape::kSphere || b->shape == Shape::kCylinder)
+      rmax = std::max(rmax, b->radius * u);
+  // A grating shows a few periods: W = 5 periods (at least 20 L without spheres).
+  double period = 0.0;
+  for (const Body* b : {&c.lower, &c.upper})
+    if (b->shape == Shape::kGrating) period = std::max(period, b->period * u);
+  double W = rmax > 0.0 ? 4.0 * rmax : 20.0 * L;
+  if (period > 0.0 && rmax == 0.0) W = std::max(5.0 * period, std::min(W, 50.0 * period));
+  const double T = rmax > 0.0 ? rmax / 2.0 : W / 4.0;
   fine = coarse = W / kElementsPerSize;
   std::vector<std::string> parts;
   // The lower body below z = 0, the upper one from z = L up.
@@ -174,6 +181,23 @@ PreviewSummary export_gmsh(const Configuration& c, double gap, const std::filesy
       fine = std::min(fine, 2.0 * M_PI * r / (4.0 * kElementsPerSize));
       parts.push_back(fmt::format("{} at z = {} (marker sphere of radius {}, not to scale)", b.name,
                                   length_text(za / u), length_text(r / u)));
+      return;
+    }
+    if (b.shape == Shape::kGrating) {
+      // Ridges along y, centred at x = m period, tops at z = 0 (lower body) or z = L (upper),
+      // on a substrate slab; as many whole ridges as fit in W.
+      const double p = b.period * u, w = b.filling * p, h = b.depth * u;
+      const double zs = lower ? -h - T : L + h;
+      volumes.emplace_back(box(-W / 2, -W / 2, zs, W, W, T), b.name);
+      const int count = static_cast<int>(std::floor((W - w) / p)) + 1;
+      for (int i = 0; i < count && w > 0.0; ++i) {
+        const double x = -0.5 * (count - 1) * p + i * p;
+        volumes.emplace_back(box(x - w / 2, -W / 2, lower ? -h : L, w, W, h), b.name);
+      }
+      fine = std::min(fine, std::max(std::min(w, h), p / 20.0) / 2.0);
+      parts.push_back(fmt::format("{}: {} ridges of width {} and depth {} (period {}) on a slab",
+                                  b.name, count, length_text(w / u), length_text(h / u),
+                                  length_text(p / u)));
       return;
     }
     const double R = b.radius * u;

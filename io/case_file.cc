@@ -260,6 +260,9 @@ geometry::Body BodySpec::geometry() const {
   b.shape = shape;
   b.radius = radius;
   for (const auto& s : shells) b.shell_thicknesses.push_back(s.thickness);
+  b.period = grating.period;
+  b.filling = grating.filling;
+  b.depth = grating.depth;
   return b;
 }
 
@@ -275,6 +278,8 @@ std::string BodySpec::describe() const {
     d = plate ? plate->describe() : std::string("none (scalar field)");
   } else if (shape == Shape::kAtom) {
     d = atom ? atom->name() + ": " + atom->description() : std::string("none");
+  } else if (shape == Shape::kGrating) {
+    d = grating.describe();
   } else {
     d = fmt::format("radius {:.6g} um", radius * 1e6);
     if (material) d += ", " + material->name();
@@ -541,7 +546,7 @@ std::vector<ScanAxis> parse_scan_axes(const toml::table& root, const toml::table
         throw error_at(*n, field, fmt::format("no [{}] to scan ({})", body, kind_text()));
       const Shape shape = (kind->lower.table == body ? kind->lower : kind->upper).shape;
       check_keys(*t, field,
-                 shape == Shape::kSphere  ? std::vector<std::string>{"material", "radius"}
+                 shape == Shape::kSphere ? std::vector<std::string>{"material", "radius"}
                  : shape == Shape::kAtom ? std::vector<std::string>{}
                                          : std::vector<std::string>{"material"});
     }
@@ -874,6 +879,34 @@ CaseSpec parse_root(toml::table& root, CaseSpec spec) {
       throw table_error(s, tb + ".material", "missing required key (e.g. \"perfect-conductor\")");
     }
   };
+  // [grating]: period, profile = "lamellar" with filling and depth, material (ridges),
+  // substrate (default: the ridge material).
+  const auto read_grating = [&](const toml::table& t, BodySpec& b) {
+    const std::string& tb = b.table;
+    check_keys(t, tb, {"period", "profile", "filling", "depth", "material", "substrate"});
+    for (const char* key : {"period", "profile", "filling", "depth", "material"})
+      if (!t.contains(key))
+        throw table_error(t, tb + "." + key,
+                          "missing required key (a lamellar grating needs period, profile = "
+                          "\"lamellar\", filling, depth and material)");
+    const auto profile = optional_string(t, "profile", tb + ".profile");
+    if (*profile != "lamellar")
+      throw error_at(*t.get("profile"), tb + ".profile",
+                     fmt::format("profile \"{}\" is not built (only \"lamellar\" is)", *profile));
+    LamellarGrating& g = b.grating;
+    g.period = positive_length(*t.get("period"), tb + ".period", geometry::period_problem);
+    const toml::node& fn = *t.get("filling");
+    g.filling = parse_quantity(fn, Dimension::kDimensionless, tb + ".filling");
+    if (const std::string p = geometry::filling_problem(g.filling); !p.empty())
+      throw error_at(fn, tb + ".filling", p);
+    g.depth = positive_length(*t.get("depth"), tb + ".depth", geometry::thickness_problem);
+    g.ridge = material_at(t, "material", tb + ".material");
+    used.add(g.ridge);
+    g.substrate =
+        t.contains("substrate") ? material_at(t, "substrate", tb + ".substrate") : g.ridge;
+    used.add(g.substrate);
+    b.material = g.ridge;
+  };
   for (const BodySlot* slot : {&kind.lower, &kind.upper}) {
     BodySpec b;
     b.table = slot->table;
@@ -898,9 +931,17 @@ CaseSpec parse_root(toml::table& root, CaseSpec spec) {
       }
     } else if (slot->shape == Shape::kAtom) {
       if (t == nullptr)
-        throw root_error(root, slot->table,
-                         fmt::format("missing table [{}] (species or polarizability)", slot->table));
+        throw root_error(
+            root, slot->table,
+            fmt::format("missing table [{}] (species or polarizability)", slot->table));
       b.atom = atom_from_toml(*t, slot->table);
+    } else if (slot->shape == Shape::kGrating) {
+      if (t == nullptr)
+        throw root_error(root, slot->table,
+                         fmt::format("missing table [{}] (period, profile, filling, depth, "
+                                     "material)",
+                                     slot->table));
+      read_grating(*t, b);
     } else {
       if (t == nullptr)
         throw root_error(root, slot->table,
@@ -978,6 +1019,12 @@ CaseSpec parse_root(toml::table& root, CaseSpec spec) {
         throw error_at(*n->get("l_max"), "numerics.l_max",
                        fmt::format("must be 0 (automatic) or between 1 and {}", kMaxLMax));
       spec.l_max = static_cast<int>(*l);
+    }
+    if (const auto o = optional_integer(*n, "orders", "numerics.orders")) {
+      if (*o < 0 || *o > 500)
+        throw error_at(*n->get("orders"), "numerics.orders",
+                       "must be 0 (automatic) or between 1 and 500");
+      spec.orders = static_cast<int>(*o);
     }
   }
   if (const toml::table* o = optional_table(root, "output", "output")) {

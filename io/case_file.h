@@ -16,6 +16,7 @@
 #include "solver/materials/material.h"
 #include "solver/planar/planar.h"
 #include "solver/run.h"
+#include "solver/scatterers/grating_fmm.h"
 #include "solver/scatterers/sphere_body.h"
 
 namespace roundtrip::io {
@@ -45,6 +46,7 @@ struct BodySpec {
   MaterialPtr material;           ///< spheres: core material (null for scalar fields)
   std::vector<ShellSpec> shells;  ///< spheres: outermost first
   PolarizabilityPtr atom;         ///< atoms: the polarizability (io/atom_spec.h)
+  LamellarGrating grating;        ///< gratings: profile, ridge and substrate materials
   /// The body's shape and sizes for geometry/ (validation, preview).
   geometry::Body geometry() const;
   /// The shells as the solver takes them (solver/scatterers/sphere_body.h).
@@ -65,6 +67,7 @@ struct CaseSpec {
   FrequencyRuleOptions frequency;         ///< temperature_K and rel_tol
   Quantities quantities;
   int l_max = 0;             ///< kinds with spheres: multipole cut-off, 0 = automatic
+  int orders = 0;            ///< kinds with gratings: diffraction orders -N..N, 0 = automatic
   std::string output_file;   ///< [output] file, empty if not given
   std::string output_where;  ///< "file:line" of output.file, for messages
   /// Every material the case uses (plates, layers, sphere, medium), in order of first mention.

@@ -52,6 +52,10 @@ PointResult run_point(const Geometry& geometry, int index, double gap, const Run
   p.energy_error = p.frequencies.abs_error;
   p.pfa = geometry.pfa(gap, options.frequency);
   p.truncation = geometry.truncation(gap);
+  if (const std::string why = geometry.unverified_truncation(gap); !why.empty()) {
+    p.frequencies.converged = false;
+    p.frequencies.message += (p.frequencies.message.empty() ? "" : "; ") + why;
+  }
   p.wall_seconds = seconds_since(t0);
   return p;
 }

@@ -196,7 +196,18 @@ void print_results(const CaseSpec& spec, const RunResult& r, std::ostream& out) 
       << (u.phrase.empty() ? "" : "; values " + u.phrase) << "\n";
   out << "sign: E < 0 and F < 0 mean attraction; F = -dE/dL, F\u2032 = dF/dL\n\n";
   out << t.render();
-  if (any_unconverged) out << "! the frequency rule did not reach rel_tol at this gap\n";
+  if (any_unconverged) {
+    // Why each marked gap missed rel_tol (the frequency rule, or a truncation that is not verified
+    // against it, Geometry::unverified_truncation), each reason once.
+    std::vector<std::string> reasons;
+    for (const auto& p : r.points)
+      if (!p.frequencies.converged &&
+          std::find(reasons.begin(), reasons.end(), p.frequencies.message) == reasons.end())
+        reasons.push_back(p.frequencies.message);
+    out << "! rel_tol not reached or not verified at this gap";
+    if (reasons.size() == 1 && !reasons.front().empty()) out << ": " << reasons.front();
+    out << "\n";
+  }
 }
 
 }  // namespace

@@ -58,5 +58,6 @@ GeometryKind sphere_plate_kind();
 GeometryKind sphere_sphere_kind();
 GeometryKind cylinder_plate_kind();
 GeometryKind atom_plate_kind();
+GeometryKind grating_plate_kind();
 
 }  // namespace roundtrip::io

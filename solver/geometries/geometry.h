@@ -83,6 +83,11 @@ class Geometry {
   virtual std::optional<double> pfa_length() const { return std::nullopt; }
   /// Truncations used at gap L (e.g. "l_max", "m_max", "quadrature_nodes"), for reports and HDF5.
   virtual std::map<std::string, double> truncation(double /*gap*/) const { return {}; }
+  /// Non-empty when a truncation of this geometry at gap L is not verified against rel_tol (a
+  /// model cut-off without a convergence test): the run then marks the gap as not meeting
+  /// rel_tol (the table's "!", exit status 3) and stores this sentence, so that such a number is
+  /// never presented as converged. Default: every truncation is verified.
+  virtual std::string unverified_truncation(double /*gap*/) const { return {}; }
   /// True if at_frequency already runs in parallel (then callers do not add threads on top).
   virtual bool parallel_inside() const { return false; }
   /// The cost model of one frequency at gap L (solver/plan.h uses it for estimates, progress and

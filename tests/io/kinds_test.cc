@@ -22,6 +22,10 @@ std::string table_for(const BodySlot& s, bool pec = false) {
            "material = \"perfect-conductor\"\n";
   if (s.shape == geometry::Shape::kSphere)
     return "[" + s.table + "]\nradius = \"2 um\"\nmaterial = \"gold-drude\"\n";
+  if (s.shape == geometry::Shape::kGrating)
+    return "[" + s.table +
+           "]\nperiod = \"400 nm\"\nprofile = \"lamellar\"\nfilling = 0.5\ndepth = \"100 nm\"\n"
+           "material = \"silicon\"\n";
   return "[" + s.table + "]\nmaterial = \"gold-drude\"\n";
 }
 

@@ -1,0 +1,265 @@
+// Fourier modal method for a lamellar grating at imaginary frequency (conventions and sources in
+// grating_fmm.h).
+#include "solver/scatterers/grating_fmm.h"
+
+#include <fmt/format.h>
+
+#include <Eigen/Eigenvalues>
+#include <cmath>
+#include <stdexcept>
+
+#include "solver/constants.h"
+
+namespace roundtrip {
+namespace {
+
+using Eigen::MatrixXd;
+using Eigen::VectorXd;
+
+// Fourier coefficient p of a <-> b profile: a on |x| < f Lambda/2, b elsewhere (even profile):
+// c_0 = b + (a - b) f, c_p = (a - b) sin(pi p f)/(pi p) (standard).
+double lamellar_coefficient(double a, double b, double f, int p) {
+  if (p == 0) return b + (a - b) * f;
+  return (a - b) * std::sin(kPi * p * f) / (kPi * p);
+}
+
+MatrixXd toeplitz(double a, double b, double f, int m) {
+  MatrixXd t(m, m);
+  for (int i = 0; i < m; ++i)
+    for (int j = 0; j < m; ++j) t(i, j) = lamellar_coefficient(a, b, f, i - j);
+  return t;
+}
+
+// Modes of one region: e = W (up + down), h = V (down - up) (amplitudes of up-going modes
+// e^{-lambda z}, down-going e^{+lambda z}); lambda in the region's length unit.
+struct Modes {
+  MatrixXd w, v;
+  VectorXd lambda;
+};
+
+// Admittance recursion (derived; continuity of tangential e and h): Y maps e to h of the field
+// below an interface that holds no incoming wave from below. A layer of thickness d (in the
+// modes' length unit) on top of admittance Y has, at its top,
+//   R_b = (V + Y W)^-1 (V - Y W),  R = X R_b X,  X = e^{-lambda d},
+//   Y' = V (1 - R) [W (1 + R)]^-1;
+// only decaying exponentials appear.
+MatrixXd admittance_through(const Modes& md, double d, const MatrixXd& y) {
+  const VectorXd x = (-md.lambda * d).array().exp();
+  const MatrixXd yw = y * md.w;
+  MatrixXd rb = (md.v + yw).partialPivLu().solve(md.v - yw);
+  const MatrixXd r = x.asDiagonal() * rb * x.asDiagonal();
+  const MatrixXd id = MatrixXd::Identity(r.rows(), r.cols());
+  const MatrixXd f = md.w * (id + r);
+  const MatrixXd g = md.v * (id - r);
+  return f.transpose().partialPivLu().solve(g.transpose()).transpose();
+}
+
+// Reflection into the top medium (W = 1, admittance v0) from admittance y below: u = R d with
+// R = (V0 + Y)^-1 (V0 - Y) (derived as above).
+MatrixXd reflection_from(const MatrixXd& v0, const MatrixXd& y) {
+  return (v0 + y).partialPivLu().solve(v0 - y);
+}
+
+// Dynamic homogeneous region of permittivity eps (units of c/xi): W = 1, lambda = kappa (twice),
+// V = Q~ Lambda^-1 (Ee = Ai = eps; the h~ = (-h_y, h_x) representation of reflect).
+Modes homogeneous_dynamic(const VectorXd& k, double ky, double eps) {
+  const int m = static_cast<int>(k.size());
+  Modes md;
+  md.w = MatrixXd::Identity(2 * m, 2 * m);
+  md.lambda.resize(2 * m);
+  md.v = MatrixXd::Zero(2 * m, 2 * m);
+  for (int n = 0; n < m; ++n) {
+    const double kap = std::sqrt(k[n] * k[n] + ky * ky + eps);
+    md.lambda[n] = md.lambda[m + n] = kap;
+    // Q~ = [[ky^2 + eps, -ky k], [-ky k, k^2 + eps]] / kappa (h~ = (-h_y, h_x), see reflect)
+    md.v(n, n) = (ky * ky + eps) / kap;
+    md.v(n, m + n) = -ky * k[n] / kap;
+    md.v(m + n, n) = -ky * k[n] / kap;
+    md.v(m + n, m + n) = (k[n] * k[n] + eps) / kap;
+  }
+  return md;
+}
+
+Modes homogeneous_static(const VectorXd& k, double ky, double eps) {
+  const int m = static_cast<int>(k.size());
+  Modes md;
+  md.w = MatrixXd::Identity(m, m);
+  md.lambda.resize(m);
+  md.v = MatrixXd::Zero(m, m);
+  for (int n = 0; n < m; ++n) {
+    md.lambda[n] = std::sqrt(k[n] * k[n] + ky * ky);
+    md.v(n, n) = -eps * md.lambda[n];  // D_z = -eps d_z phi: up-going gives -V a (header)
+  }
+  return md;
+}
+
+double epsilon_at(const Material& m, double xi, const char* what) {
+  if (m.is_perfect_conductor())
+    throw std::invalid_argument(fmt::format(
+        "grating: {} '{}' is a perfect conductor; perfectly conducting gratings need their own "
+        "modal method, which is not built",
+        what, m.name()));
+  if (xi > 0.0) return m.epsilon(xi);
+  const StaticLimit s = m.static_limit();
+  if (s.is_conductor())
+    throw std::invalid_argument(fmt::format(
+        "grating: {} '{}' conducts at xi = 0; the static (n = 0) term of a conducting grating "
+        "is not built (use temperature = \"0 K\", which needs no xi = 0 term)",
+        what, m.name()));
+  return s.static_eps;
+}
+
+}  // namespace
+
+std::string LamellarGrating::describe() const {
+  return fmt::format("lamellar grating of {} (period {:g} m, filling {:g}, depth {:g} m) on {}",
+                     ridge ? ridge->name() : "?", period, filling, depth,
+                     substrate ? substrate->name() : "?");
+}
+
+GratingAtFrequency::GratingAtFrequency(const LamellarGrating& g, double xi, const Material& medium,
+                                       int orders)
+    : g_(g), xi_(xi), n_(orders), m_(2 * orders + 1) {
+  if (!(g.period > 0.0) || !std::isfinite(g.period))
+    throw std::invalid_argument(fmt::format("grating: period = {} m must be > 0", g.period));
+  if (!(g.filling >= 0.0 && g.filling <= 1.0))
+    throw std::invalid_argument(fmt::format("grating: filling = {} must lie in [0, 1]", g.filling));
+  if (!(g.depth >= 0.0) || !std::isfinite(g.depth))
+    throw std::invalid_argument(fmt::format("grating: depth = {} m must be >= 0", g.depth));
+  if (!g.ridge || !g.substrate)
+    throw std::invalid_argument("grating: ridge and substrate materials must be given");
+  if (orders < 0 || orders > 2000)
+    throw std::invalid_argument(fmt::format("grating: orders = {} must lie in 0..2000", orders));
+  if (!(xi >= 0.0) || !std::isfinite(xi))
+    throw std::invalid_argument(fmt::format("grating: xi = {} rad/s must be >= 0", xi));
+  eps_m_ = epsilon_at(medium, xi, "gap medium");
+  eps_r_ = epsilon_at(*g.ridge, xi, "ridge material");
+  eps_s_ = epsilon_at(*g.substrate, xi, "substrate");
+  q0_ = xi / kSpeedOfLight;
+  ee_ = toeplitz(eps_r_, eps_m_, g.filling, m_);
+  ai_ = toeplitz(1.0 / eps_r_, 1.0 / eps_m_, g.filling, m_).inverse();
+  ai_ = 0.5 * (ai_ + ai_.transpose()).eval();
+  ee_llt_.compute(ee_);
+  if (ee_llt_.info() != Eigen::Success)
+    throw std::runtime_error(fmt::format(
+        "grating: the Toeplitz matrix of eps (ridge {:g}, groove {:g}) is not positive definite "
+        "in double precision",
+        eps_r_, eps_m_));
+  ee_inv_ = ee_llt_.solve(Eigen::MatrixXd::Identity(m_, m_));
+}
+
+Eigen::MatrixXd GratingAtFrequency::reflect(double kx, double ky) const {
+  const double G = 2.0 * kPi / g_.period;
+  // Lengths in units of c/xi at xi > 0 (header); SI (1/m) at xi = 0.
+  const double unit = xi_ > 0.0 ? 1.0 / q0_ : 1.0;
+  VectorXd k(m_);
+  for (int i = 0; i < m_; ++i) k[i] = (kx + (i - n_) * G) * unit;
+  const double kyn = ky * unit;
+  const double d = g_.depth / unit;
+  const bool layer = g_.depth > 0.0;
+  const int dim = this->dim();
+  if (xi_ > 0.0) {
+    const Modes top = homogeneous_dynamic(k, kyn, eps_m_);
+    MatrixXd y = homogeneous_dynamic(k, kyn, eps_s_).v;  // substrate: down-going only
+    if (layer) {
+      // Symmetric form (derived): with h~ = (-h_y, h_x), d_z e = P~ h~, d_z h~ = Q~ e,
+      //   P~ = [K; k_y] Ee^-1 [K, k_y] + 1 (SPD),  Q~ = [[k_y^2 + Ai, -k_y K], [-k_y K, K^2 + Ee]]
+      // (symmetric), so P~ Q~ w = lambda^2 w is, with P~ = L L^T and w = L z, the symmetric
+      // problem (L^T Q~ L) z = lambda^2 z (no defective degenerate pairs).
+      const auto K = k.asDiagonal();
+      const MatrixXd id = MatrixXd::Identity(m_, m_);
+      MatrixXd P(dim, dim), Q(dim, dim);
+      // P~ - 1 = B Ee^-1 B^T = (B C^-T)(B C^-T)^T with Ee = C C^T: a Gram matrix, positive
+      // semi-definite also in rounding (high-contrast Ee, e.g. metals at small xi).
+      MatrixXd B(dim, m_);
+      B << MatrixXd(K), kyn * id;
+      const MatrixXd Gt = ee_llt_.matrixL().solve(B.transpose());  // C^-1 B^T
+      P = Gt.transpose() * Gt + MatrixXd::Identity(dim, dim);
+      MatrixXd kk = k.array().square().matrix().asDiagonal();
+      Q << kyn * kyn * id + ai_, -kyn * MatrixXd(K), -kyn * MatrixXd(K), kk + ee_;
+      const Eigen::LLT<MatrixXd> llt(P);
+      if (llt.info() != Eigen::Success)
+        throw std::runtime_error("grating: the layer operator P is not positive definite");
+      const MatrixXd L = llt.matrixL();
+      const MatrixXd C = L.transpose() * Q * L;
+      Eigen::SelfAdjointEigenSolver<MatrixXd> es(0.5 * (C + C.transpose()));
+      if (es.info() != Eigen::Success)
+        throw std::runtime_error("grating: the layer eigenproblem did not converge");
+      Modes md;
+      const VectorXd ev = es.eigenvalues();
+      if (!(ev.minCoeff() > 0.0))
+        throw std::runtime_error(
+            fmt::format("grating: layer mode lambda^2 = {} is not positive", ev.minCoeff()));
+      md.lambda = ev.cwiseSqrt();
+      md.w = L * es.eigenvectors();
+      md.v = Q * md.w * md.lambda.cwiseInverse().asDiagonal();
+      y = admittance_through(md, d, y);
+    }
+    return reflection_from(top.v, y);
+  }
+  // xi = 0: electrostatic TM (header).
+  const Modes top = homogeneous_static(k, kyn, eps_m_);
+  MatrixXd y = homogeneous_static(k, kyn, eps_s_).v;
+  if (layer) {
+    const auto K = k.asDiagonal();
+    const MatrixXd S = K * ai_ * K + kyn * kyn * ee_;
+    Eigen::GeneralizedSelfAdjointEigenSolver<MatrixXd> es(S, ee_);
+    if (es.info() != Eigen::Success)
+      throw std::runtime_error("grating: the static layer eigenproblem did not converge");
+    Modes md;
+    md.lambda = es.eigenvalues().cwiseMax(0.0).cwiseSqrt();
+    md.w = es.eigenvectors();
+    md.v = -ee_ * md.w * md.lambda.asDiagonal();
+    y = admittance_through(md, d, y);
+  }
+  (void)dim;
+  return reflection_from(top.v, y);
+}
+
+Eigen::MatrixXd planar_reflection_in_orders(const PlanarAtFrequency& p, double xi, double period,
+                                            int orders, double kx, double ky) {
+  const int m = 2 * orders + 1;
+  const double G = 2.0 * kPi / period;
+  if (xi == 0.0) {
+    MatrixXd r = MatrixXd::Zero(m, m);
+    for (int i = 0; i < m; ++i) {
+      const double kn = kx + (i - orders) * G;
+      r(i, i) = -p.reflect(std::hypot(kn, ky)).tm;
+    }
+    return r;
+  }
+  MatrixXd r = MatrixXd::Zero(2 * m, 2 * m);
+  for (int i = 0; i < m; ++i) {
+    const double kn = kx + (i - orders) * G;
+    const double kt = std::hypot(kn, ky);
+    const Reflection rf = p.reflect(kt);
+    double ux = 0.0, uy = 1.0, vx = 1.0, vy = 0.0;  // k = 0: r_TE = -r_TM, any directions
+    if (kt > 0.0) {
+      ux = -ky / kt;
+      uy = kn / kt;
+      vx = kn / kt;
+      vy = ky / kt;
+    }
+    r(i, i) = rf.te * ux * ux - rf.tm * vx * vx;
+    r(i, m + i) = rf.te * ux * uy - rf.tm * vx * vy;
+    r(m + i, i) = rf.te * uy * ux - rf.tm * vy * vx;
+    r(m + i, m + i) = rf.te * uy * uy - rf.tm * vy * vy;
+  }
+  return r;
+}
+
+Eigen::VectorXd orders_decay(double xi, double eps_m, double period, int orders, double kx,
+                             double ky) {
+  const int m = 2 * orders + 1;
+  const double G = 2.0 * kPi / period;
+  const double q2 = eps_m * (xi / kSpeedOfLight) * (xi / kSpeedOfLight);
+  VectorXd kap(xi > 0.0 ? 2 * m : m);
+  for (int i = 0; i < m; ++i) {
+    const double kn = kx + (i - orders) * G;
+    kap[i] = std::sqrt(kn * kn + ky * ky + q2);
+    if (xi > 0.0) kap[m + i] = kap[i];
+  }
+  return kap;
+}
+
+}  // namespace roundtrip

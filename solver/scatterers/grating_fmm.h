@@ -1,0 +1,82 @@
+#pragma once
+// Reflection operator of a lamellar (binary) 1D grating on a substrate at imaginary frequency,
+// in the Rayleigh basis of diffraction orders, by the Fourier modal method (FMM) with Li's
+// factorization rules (Li, JOSA A 13, 1870 (1996)) and a stable recursion of surface admittances
+// (only decaying exponentials e^{-lambda h} <= 1 appear; in the spirit of the S-matrix
+// recursion of Li, JOSA A 13, 1024 (1996)).
+//
+// Geometry and conventions (SI at the interface):
+//   grooves along y, period Lambda along x, z up towards the gap; the ridge tops are z = 0, the
+//   ridges (eps_r) occupy |x - m Lambda| < f Lambda / 2 for -h < z < 0 (an even profile), the
+//   grooves hold the gap medium (eps_m), the substrate (eps_s) fills z < -h; the medium fills
+//   z > 0. Imaginary frequency xi (rad/s); Bloch vector (k_x, k_y) (1/m); orders
+//   n = -N..N with k_n = k_x + n G, G = 2 pi / Lambda; kappa_n = sqrt(k_n^2 + k_y^2 +
+//   eps_m xi^2/c^2). Fields ~ e^{i(k_n x + k_y y)} e^{-omega t}, omega = i xi, so Maxwell's
+//   equations in the layer are real: with h = Z_0 H and lengths in units of c/xi,
+//     d_z (E_x, E_y) = P (h_x, h_y),   d_z (h_x, h_y) = Q (E_x, E_y),
+//     P = [[K Ee^-1 k_y, -(K Ee^-1 K + 1)], [k_y^2 Ee^-1 + 1, -k_y Ee^-1 K]],
+//     Q = [[-k_y K, K^2 + Ee], [-(k_y^2 + Ai), k_y K]],
+//   K = diag(k_n), Ee = [[eps]] (Toeplitz of the Fourier coefficients; Laurent's rule for the
+//   products eps E_y, eps E_z with E_y, E_z continuous across the ridge walls), Ai = [[1/eps]]^-1
+//   (inverse rule for eps E_x = D_x, continuous across the walls) (derived from Maxwell's
+//   equations with Li's rules). Modes: P Q w = lambda^2 w, lambda > 0, solved in the symmetric
+//   form of grating_fmm.cc (h~ = (-h_y, h_x), Cholesky of P~; Eigen's self-adjoint solver).
+//   Basis ("tangential E"): amplitudes of (E_x of orders -N..N, E_y of orders -N..N) at z = 0;
+//   down-going waves ~ e^{+kappa z}, up-going ~ e^{-kappa z}; R maps down-going to up-going.
+//   In this basis a planar body reflects order n as r_TE u u^T - r_TM v v^T, u = (-k_y, k_n)/k,
+//   v = (k_n, k_y)/k (planar.h sign convention: a perfect conductor gives -1).
+// xi = 0 (electrostatics; only dielectric ridges and substrate): TE does not see a dielectric
+//   (mu = 1, the grating's static TE reflection is 0); TM is the potential phi with
+//   d_z^2 phi = Ee^-1 (K Ai K + k_y^2 Ee) phi and continuity of phi and D_z = -Ee d_z phi (Li's
+//   rules as above; derived). Basis: potential amplitudes of orders -N..N; a planar body
+//   reflects the potential by -r_TM (its static limit).
+#include <Eigen/Dense>
+#include <memory>
+#include <string>
+
+#include "solver/materials/material.h"
+#include "solver/planar/planar.h"
+
+namespace roundtrip {
+
+struct LamellarGrating {
+  double period = 0.0;    ///< Lambda (m), > 0
+  double filling = 0.0;   ///< f in [0, 1]: fraction of the period occupied by ridges
+  double depth = 0.0;     ///< h (m), >= 0 (0: no layer, the substrate alone)
+  MaterialPtr ridge;      ///< eps_r of the ridges
+  MaterialPtr substrate;  ///< eps_s under the grooves and ridges
+  std::string describe() const;
+};
+
+/// A grating bound to one imaginary frequency xi >= 0 (rad/s), a gap medium and an order count
+/// N (orders -N..N). Throws std::invalid_argument for a perfect conductor (not built: it needs
+/// its own modal method) and, at xi = 0, for conducting ridges or substrate (not built).
+class GratingAtFrequency {
+ public:
+  GratingAtFrequency(const LamellarGrating& g, double xi, const Material& medium, int orders);
+  /// Dimension of the basis: 2(2N+1) at xi > 0, 2N+1 at xi = 0.
+  int dim() const { return xi_ > 0.0 ? 2 * m_ : m_; }
+  int orders() const { return n_; }
+  double xi() const { return xi_; }
+  /// The reflection operator at Bloch vector (k_x, k_y) (1/m); layout in the header comment.
+  Eigen::MatrixXd reflect(double kx, double ky) const;
+
+ private:
+  LamellarGrating g_;
+  double xi_, q0_, eps_m_, eps_r_, eps_s_;
+  int n_, m_;
+  Eigen::MatrixXd ee_, ai_, ee_inv_;    // Toeplitz [[eps]], [[1/eps]]^-1, [[eps]]^-1 (M x M)
+  Eigen::LLT<Eigen::MatrixXd> ee_llt_;  // [[eps]] = C C^T
+};
+
+/// The same basis for a planar body (block-diagonal in n): at xi > 0 r_TE u u^T - r_TM v v^T
+/// per order, at xi = 0 -r_TM (static). k = 0 exactly: r_TE times the identity.
+Eigen::MatrixXd planar_reflection_in_orders(const PlanarAtFrequency& p, double xi, double period,
+                                            int orders, double kx, double ky);
+
+/// kappa_n = sqrt(k_n^2 + k_y^2 + eps_m xi^2/c^2) (1/m) in the basis layout (repeated for the two
+/// components at xi > 0).
+Eigen::VectorXd orders_decay(double xi, double eps_m, double period, int orders, double kx,
+                             double ky);
+
+}  // namespace roundtrip

@@ -1,0 +1,128 @@
+// The [grating] table and geometry = "grating-plate" (io/case_file.cc, io/kinds/grating_plate.cc).
+#include <gtest/gtest.h>
+
+#include <cmath>
+#include <string>
+
+#include "io/case_file.h"
+#include "io/errors.h"
+#include "solver/frequency/frequency_rule.h"
+#include "solver/geometries/grating_plate.h"
+#include "solver/geometries/plate_plate.h"
+#include "solver/materials/library.h"
+
+namespace roundtrip::io {
+namespace {
+
+std::string grating_case(const std::string& grating_lines, const std::string& temperature = "0 K") {
+  return "geometry = \"grating-plate\"\n"  // line 1
+         "[plate]\n"                       // 2
+         "material = \"gold-drude\"\n"     // 3
+         "[separations]\n"                 // 4
+         "values = [\"200 nm\"]\n"         // 5
+         "[conditions]\n"                  // 6
+         "temperature = \"" +
+         temperature +
+         "\"\n"         // 7
+         "[grating]\n"  // 8
+         + grating_lines;
+}
+
+const std::string kGood =
+    "period = \"400 nm\"\n"      // 9
+    "profile = \"lamellar\"\n"   // 10
+    "filling = 0.5\n"            // 11
+    "depth = \"200 nm\"\n"       // 12
+    "material = \"silicon\"\n";  // 13
+
+std::string error_of(const std::string& text) {
+  try {
+    const CaseSpec s = parse_case(text, "g.toml");
+    (void)build_geometry(s);
+  } catch (const CaseError& e) {
+    return e.what();
+  }
+  return "no error";
+}
+
+TEST(GratingCase, ReadsALamellarGratingWithTheRidgeMaterialAsSubstrate) {
+  const CaseSpec s = parse_case(grating_case(kGood), "g.toml");
+  const LamellarGrating& g = s.body("grating").grating;
+  EXPECT_DOUBLE_EQ(g.period, 400e-9);
+  EXPECT_DOUBLE_EQ(g.filling, 0.5);
+  EXPECT_DOUBLE_EQ(g.depth, 200e-9);
+  EXPECT_EQ(g.ridge->name(), "silicon");
+  EXPECT_EQ(g.substrate, g.ridge);
+  const auto geo = build_geometry(s);
+  EXPECT_EQ(geo->kind(), "grating-plate");
+  EXPECT_EQ(geo->scale(), ResultScale::kPerArea);
+  const CaseSpec s2 = parse_case(grating_case(kGood + "substrate = \"silica\"\n"), "g.toml");
+  EXPECT_EQ(s2.body("grating").grating.substrate->name(), "silica");
+}
+
+TEST(GratingCase, BadValuesNameFileLineKeyAndValue) {
+  const auto with = [&](const std::string& from, const std::string& to) {
+    std::string g = kGood;
+    g.replace(g.find(from), from.size(), to);
+    return error_of(grating_case(g));
+  };
+  std::string m = with("filling = 0.5", "filling = 1.5");
+  EXPECT_NE(m.find("g.toml:11: grating.filling = 1.5"), std::string::npos) << m;
+  m = with("filling = 0.5", "filling = -0.1");
+  EXPECT_NE(m.find("g.toml:11: grating.filling = -0.1"), std::string::npos) << m;
+  m = with("depth = \"200 nm\"", "depth = \"0 nm\"");
+  EXPECT_NE(m.find("g.toml:12: grating.depth = \"0 nm\""), std::string::npos) << m;
+  m = with("depth = \"200 nm\"", "depth = \"-5 nm\"");
+  EXPECT_NE(m.find("g.toml:12: grating.depth = \"-5 nm\""), std::string::npos) << m;
+  m = with("period = \"400 nm\"", "period = \"0 nm\"");
+  EXPECT_NE(m.find("g.toml:9: grating.period = \"0 nm\""), std::string::npos) << m;
+  m = with("period = \"400 nm\"", "period = \"-400 nm\"");
+  EXPECT_NE(m.find("g.toml:9: grating.period = \"-400 nm\""), std::string::npos) << m;
+  m = with("\"lamellar\"", "\"sinusoidal\"");
+  EXPECT_NE(m.find("g.toml:10: grating.profile"), std::string::npos) << m;
+  EXPECT_NE(m.find("not built"), std::string::npos) << m;
+}
+
+TEST(GratingCase, WhatIsNotBuiltIsAClearError) {
+  std::string g = kGood;
+  g.replace(g.find("\"silicon\""), 9, "\"perfect-conductor\"");
+  EXPECT_NE(error_of(grating_case(g)).find("not built"), std::string::npos);
+  std::string au = kGood;
+  au.replace(au.find("\"silicon\""), 9, "\"gold-drude\"");
+  EXPECT_NE(error_of(grating_case(au, "0 K")).find("conducting ridges are not built"),
+            std::string::npos);
+  // A conducting substrate under dielectric ridges: T = 0 only (no xi = 0 term built).
+  const std::string on_gold = kGood + "substrate = \"gold-drude\"\n";
+  EXPECT_NE(error_of(grating_case(on_gold, "300 K")).find("xi = 0 term of a conducting grating"),
+            std::string::npos);
+  EXPECT_EQ(error_of(grating_case(on_gold, "0 K")), "no error");
+}
+
+TEST(GratingCase, FillingOneIsThePlatePlateEnergyAndItsPfa) {
+  // Lifshitz (1956) through PlatePlate, summed by the same frequency rule (300 K, rel_tol 1e-5):
+  // f = 1 is the ridge half-space at L; the grating PFA (Bao et al., PRL 105, 250402 (2010))
+  // is then the plate-plate value as well.
+  std::string g = kGood;
+  g.replace(g.find("filling = 0.5"), 13, "filling = 1.0");
+  const CaseSpec s =
+      parse_case(grating_case(g + "[numerics]\nrel_tol = 1e-5\norders = 3\n", "300 K"), "g.toml");
+  const auto geo = build_geometry(s);
+  const double L = 200e-9;
+  const FrequencySum e = sum_over_frequencies(
+      [&](double xi) { return geo->at_frequency(xi, L, DerivativeOrder::kForce); },
+      geo->frequency_scale(L), s.frequency);
+  const PlatePlate pp(make_half_space(builtin_material("silicon")),
+                      make_half_space(builtin_material("gold-drude")), nullptr);
+  const FrequencySum r = sum_over_frequencies(
+      [&](double xi) { return pp.at_frequency(xi, L, DerivativeOrder::kForce); },
+      pp.frequency_scale(L), s.frequency);
+  EXPECT_NEAR(e.total.value, r.total.value, 1e-5 * std::abs(r.total.value));
+  EXPECT_NEAR(e.total.d1, r.total.d1, 1e-5 * std::abs(r.total.d1));
+  const auto pfa = geo->pfa(L, s.frequency);
+  ASSERT_TRUE(pfa.has_value());
+  EXPECT_NEAR(pfa->energy, r.total.value, 1e-5 * std::abs(r.total.value));
+  EXPECT_NEAR(pfa->force, -r.total.d1, 1e-5 * std::abs(r.total.d1));
+}
+
+}  // namespace
+}  // namespace roundtrip::io
