@@ -63,12 +63,9 @@ class SpherePlate final : public Geometry {
     // of Dirichlet and Neumann is half of the electromagnetic perfect-conductor plate-plate
     // energy (r^2 = 1 per polarisation), at every temperature.
     if (o_.field == FieldKind::kElectromagnetic) {
-      // A coated sphere's partner is the same films on a half-space of the core (layered.h).
-      std::vector<Layer> films;
-      for (const SphereShell& s : o_.shells) films.push_back({s.material, s.thickness});
+      // A coated sphere's partner is the same films on a half-space of the core (pfa.h).
       pfa_plates_ = std::make_unique<PlatePlate>(
-          o_.plate, films.empty() ? make_half_space(o_.sphere) : make_layered(films, o_.sphere),
-          o_.medium);
+          o_.plate, sphere_pfa_partner(SphereBody{o_.radius, o_.sphere, o_.shells}), o_.medium);
       pfa_scale_ = 1.0;
     } else {
       const PlanarPtr pec = make_half_space(make_perfect_conductor());
@@ -100,10 +97,9 @@ class SpherePlate final : public Geometry {
   std::map<std::string, double> truncation(double gap) const override {
     // In double: beyond kMaxMultipoleOrder (guards.h) the values are reported as they are (the
     // plan refuses them) instead of wrapping around in int.
-    const double lmax =
-        o_.l_max > 0 ? o_.l_max
-                     : sphere_plate_lmax_required(o_.radius, gap, 1.0, o_.rel_tol,
-                                                  DerivativeOrder::kEnergy);
+    const double lmax = o_.l_max > 0 ? o_.l_max
+                                     : sphere_plate_lmax_required(o_.radius, gap, 1.0, o_.rel_tol,
+                                                                  DerivativeOrder::kEnergy);
     return {{"l_max", lmax},
             {"quadrature_nodes", momentum_node_count(lmax, o_.rel_tol, 1.0, o_.nodes_per_unit)}};
   }

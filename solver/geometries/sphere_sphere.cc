@@ -144,13 +144,9 @@ class SphereSphere final : public Geometry {
     // PFA partner: half-spaces of the two materials (Derjaguin 1934 with R_eff). Scalar fields:
     // half of the electromagnetic perfect-conductor plates, as for sphere-plate.
     if (em_) {
-      // A coated sphere's partner is the same films on a half-space of its core (layered.h).
-      const auto partner = [](const SphereBody& b) {
-        std::vector<Layer> films;
-        for (const SphereShell& s : b.shells) films.push_back({s.material, s.thickness});
-        return films.empty() ? make_half_space(b.core) : make_layered(films, b.core);
-      };
-      pfa_plates_ = std::make_unique<PlatePlate>(partner(body1_), partner(body2_), o_.medium);
+      // A coated sphere's partner is the same films on a half-space of its core (pfa.h).
+      pfa_plates_ = std::make_unique<PlatePlate>(sphere_pfa_partner(body1_),
+                                                 sphere_pfa_partner(body2_), o_.medium);
     } else {
       const PlanarPtr pec = make_half_space(make_perfect_conductor());
       pfa_plates_ = std::make_unique<PlatePlate>(pec, pec, o_.medium);

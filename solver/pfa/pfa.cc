@@ -5,8 +5,10 @@
 
 #include <cmath>
 #include <stdexcept>
+#include <vector>
 
 #include "solver/constants.h"
+#include "solver/planar/layered.h"
 
 namespace roundtrip {
 
@@ -30,6 +32,12 @@ double pfa_effective_radius(double r1, double r2) {
     throw std::invalid_argument(
         fmt::format("PFA: radii {} m and {} m must be finite and > 0", r1, r2));
   return r1 * r2 / (r1 + r2);
+}
+
+PlanarPtr sphere_pfa_partner(const SphereBody& sphere) {
+  std::vector<Layer> films;
+  for (const SphereShell& s : sphere.shells) films.push_back({s.material, s.thickness});
+  return films.empty() ? make_half_space(sphere.core) : make_layered(films, sphere.core);
 }
 
 }  // namespace roundtrip

@@ -12,6 +12,7 @@
 #include "solver/frequency/frequency_rule.h"
 #include "solver/geometries/geometry.h"
 #include "solver/geometries/plate_plate.h"
+#include "solver/scatterers/sphere_body.h"
 
 namespace roundtrip {
 
@@ -23,5 +24,10 @@ PfaValues sphere_plate_pfa(const PlatePlate& pp, double radius, double gap,
 
 /// Effective radius R1 R2 / (R1 + R2) of two spheres for sphere_plate_pfa (Derjaguin 1934).
 double pfa_effective_radius(double r1, double r2);
+
+/// The planar body that stands for a sphere in its PFA: a half-space of the sphere's material,
+/// or for a coated sphere the same films (outermost first) on a half-space of its core
+/// (solver/planar/layered.h). Derjaguin's local plate-plate picture (derived).
+PlanarPtr sphere_pfa_partner(const SphereBody& sphere);
 
 }  // namespace roundtrip

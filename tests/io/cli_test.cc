@@ -27,6 +27,12 @@ struct Outcome {
 
 using roundtrip::testing::slurp;
 
+struct BadCase {
+  const char* what;
+  std::string text;
+  std::vector<std::string> expected;  // fragments of the error message
+};
+
 // A scratch directory per test; the CLI runs with it as the current directory.
 class Cli : public roundtrip::testing::ScratchDirTest {
  protected:
@@ -44,6 +50,23 @@ class Cli : public roundtrip::testing::ScratchDirTest {
     for (const auto& e : fs::directory_iterator(dir_))
       if (e.path().string().find(".h5") != std::string::npos) return true;
     return false;
+  }
+  // `run` on the bad case exits 1 with "roundtrip: error: " and every expected fragment, prints
+  // nothing on stdout and writes no results file and no journal; `check` refuses it too.
+  void expect_refused(const BadCase& c) {
+    SCOPED_TRACE(c.what);
+    write("bad.toml", c.text);
+    const Outcome o = cli("run bad.toml --quiet");
+    EXPECT_EQ(o.status, 1) << o.err;
+    EXPECT_EQ(o.err.rfind("roundtrip: error: ", 0), 0u) << o.err;
+    for (const auto& e : c.expected) EXPECT_NE(o.err.find(e), std::string::npos) << o.err;
+    EXPECT_EQ(o.out, "");
+    EXPECT_FALSE(any_h5()) << "an output file was written";
+    EXPECT_FALSE(fs::exists(dir_ / "bad.h5.journal")) << "a journal was left";
+    const Outcome chk = cli("check bad.toml");
+    EXPECT_EQ(chk.status, 1) << chk.err;
+    EXPECT_NE(chk.err.find(c.expected.front()), std::string::npos) << chk.err;
+    EXPECT_FALSE(any_h5());
   }
 };
 
@@ -68,12 +91,6 @@ std::string replaced(std::string text, const std::string& from, const std::strin
   if (at != std::string::npos) text.replace(at, from.size(), to);
   return text;
 }
-
-struct BadCase {
-  const char* what;
-  std::string text;
-  std::vector<std::string> expected;  // fragments of the error message
-};
 
 TEST_F(Cli, EveryKindOfBadCaseFailsNamingTheFieldAndWritesNothing) {
   const std::vector<BadCase> cases = {
@@ -134,21 +151,7 @@ TEST_F(Cli, EveryKindOfBadCaseFailsNamingTheFieldAndWritesNothing) {
        replaced(kGoodCase, "\"out.h5\"", "\"no_such_dir/out.h5\""),
        {"bad.toml:12: output.file = \"no_such_dir/out.h5\"", "does not exist"}},
   };
-  for (const auto& c : cases) {
-    SCOPED_TRACE(c.what);
-    write("bad.toml", c.text);
-    const Outcome o = cli("run bad.toml --quiet");
-    EXPECT_EQ(o.status, 1) << o.err;
-    EXPECT_EQ(o.err.rfind("roundtrip: error: ", 0), 0u) << o.err;
-    for (const auto& e : c.expected) EXPECT_NE(o.err.find(e), std::string::npos) << o.err;
-    EXPECT_EQ(o.out, "");
-    EXPECT_FALSE(any_h5()) << "an output file was written";
-    // `check` refuses the same input.
-    const Outcome chk = cli("check bad.toml");
-    EXPECT_EQ(chk.status, 1) << chk.err;
-    EXPECT_NE(chk.err.find(c.expected.front()), std::string::npos) << chk.err;
-    EXPECT_FALSE(any_h5());
-  }
+  for (const auto& c : cases) expect_refused(c);
 }
 
 // A small sphere-plate case (invented numbers) for the bad-input cases that need a sphere or a
@@ -215,18 +218,7 @@ TEST_F(Cli, OverlapRadiusInfinityAndTableMistakesFailNamingTheFieldAndWriteNothi
        kSphereCase + "[scan]\nradius = [\"1 um\", \"-1 um\"]\n",
        {"bad.toml:12: scan.radius[1] = \"-1 um\": a radius must be > 0"}},
   };
-  for (const auto& c : cases) {
-    SCOPED_TRACE(c.what);
-    write("bad.toml", c.text);
-    const Outcome o = cli("run bad.toml --quiet");
-    EXPECT_EQ(o.status, 1) << o.err;
-    EXPECT_EQ(o.err.rfind("roundtrip: error: ", 0), 0u) << o.err;
-    for (const auto& e : c.expected) EXPECT_NE(o.err.find(e), std::string::npos) << o.err;
-    EXPECT_EQ(o.out, "");
-    EXPECT_FALSE(any_h5()) << "an output file was written";
-    const Outcome chk = cli("check bad.toml");
-    EXPECT_EQ(chk.status, 1) << chk.err;
-  }
+  for (const auto& c : cases) expect_refused(c);
 }
 
 // Two spheres (invented numbers): overlapping spheres, shells thicker than the radius, a zero or
@@ -273,19 +265,7 @@ TEST_F(Cli, BadTwoSphereAndShellCasesNameTheFieldAndWriteNothing) {
        kTwoSpheres + "[plate]\nmaterial = \"gold-drude\"\n",
        {"bad.toml:12: [plate] is not used by geometry = \"sphere-sphere\""}},
   };
-  for (const auto& c : cases) {
-    SCOPED_TRACE(c.what);
-    write("bad.toml", c.text);
-    const Outcome o = cli("run bad.toml --quiet");
-    EXPECT_EQ(o.status, 1) << o.err;
-    EXPECT_EQ(o.err.rfind("roundtrip: error: ", 0), 0u) << o.err;
-    for (const auto& e : c.expected) EXPECT_NE(o.err.find(e), std::string::npos) << o.err;
-    EXPECT_EQ(o.out, "");
-    EXPECT_FALSE(any_h5()) << "an output file was written";
-    EXPECT_FALSE(fs::exists(dir_ / "bad.h5.journal")) << "a journal was left";
-    const Outcome chk = cli("check bad.toml");
-    EXPECT_EQ(chk.status, 1) << chk.err;
-  }
+  for (const auto& c : cases) expect_refused(c);
   // The same two spheres without the mistakes run (T = 0, one gap, small R/L).
   write("good.toml", kTwoSpheres + "[numerics]\nrel_tol = 1e-3\n");
   const Outcome ok = cli("run good.toml --quiet");
