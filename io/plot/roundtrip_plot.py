@@ -6,7 +6,7 @@
 Writes, as PNG and SVG, into DIR (default: the directory of RESULT.h5), names prefixed with the
 file's stem:
   <stem>_pfa.*          E/E_PFA - 1 (and F, F') against L/R, with the theta fit's leading term
-                        theta L/R where the file has one (sphere-plate only)
+                        theta L/R where the file has one (kinds with a PFA length)
   <stem>_force.*        |F| and |F'| against L, with their PFA values where present
   <stem>_drude_plasma.* Drude/plasma ratio of F against L (scans over a material only)
   <stem>_spectrum.*     per-frequency contributions w_j s(xi_j) to E at up to four gaps
