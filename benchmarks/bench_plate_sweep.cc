@@ -1,5 +1,6 @@
 // How long does a 100-separation gold plate-plate sweep take?
-// Drude gold (omega_p = 9 eV, gamma = 35 meV; common practice, shared/REFERENCES.md), gaps
+// Drude gold (omega_p = 9 eV, gamma = 35 meV; common practice, Svetovoy et al.,
+// PRB 77, 035439 (2008)), gaps
 // 50 nm - 5 um log-spaced, rel_tol 1e-6, energy + force + gradient, at 300 K and at T = 0.
 // Run: build/benchmarks/roundtrip_bench_plate_sweep --benchmark_min_time=2
 // Measured 2026-12-01 (2 cores, Release, mean of 3): 300 K 106 ms (1 thread), 55 ms (2 threads),

@@ -10,10 +10,11 @@
 //        / [eps_T kappa + eps_m kappa_T + eps_m (eps_T-eps_b) k^2/(eps_b kappa_L)],
 //   r_TE = local Fresnel with eps_T (the longitudinal wave does not couple to TE).
 // Model as in Esquivel-Sirvent, Villarreal, Mochan, PRA 68, 052103 (2003); this form is derived
-// here for eps_b, eps_m != 1 and reduces to REFERENCES.md for eps_b = eps_m = 1. The nonlocal term
-// always lowers r_TM (weaker attraction at small gaps); beta -> 0 gives the local Fresnel result.
-// xi = 0 (exact): r_TM = (1 - eps_m k/(eps_b kappa_L0))/(1 + eps_m k/(eps_b kappa_L0)),
-// kappa_L0 = sqrt(k^2 + wp^2/(eps_b beta^2)) (Thomas-Fermi-like screening), r_TE as local.
+// here for eps_b, eps_m != 1 and reduces to the vacuum-bounded form of Esquivel-Sirvent et al.
+// (2003) for eps_b = eps_m = 1. The nonlocal term always lowers r_TM (weaker attraction at small
+// gaps); beta -> 0 gives the local Fresnel result. xi = 0 (exact): r_TM = (1 - eps_m k/(eps_b
+// kappa_L0))/(1 + eps_m k/(eps_b kappa_L0)), kappa_L0 = sqrt(k^2 + wp^2/(eps_b beta^2))
+// (Thomas-Fermi-like screening), r_TE as local.
 #include <string>
 
 #include "solver/materials/material.h"

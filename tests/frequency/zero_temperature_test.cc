@@ -22,7 +22,8 @@ namespace roundtrip {
 namespace {
 
 constexpr double kZeta4 = kPi * kPi * kPi * kPi / 90.0;  // standard
-const double kGoldOmegaP = 9.0 * kRadPerSecondPerEv;     // common practice (REFERENCES.md)
+const double kGoldOmegaP =
+    9.0 * kRadPerSecondPerEv;  // common practice; Svetovoy et al., PRB 77, 035439 (2008)
 const double kGoldGamma = 0.035 * kRadPerSecondPerEv;
 
 // s(xi) with a count of evaluations and a cache (the sphere-plate terms are not cheap).

@@ -74,7 +74,7 @@ TEST(MaterialLibrary, GoldDrudeAndPlasmaUseNineEvAnd35MeV) {
 
 TEST(MaterialLibrary, DielectricsMatchTheirCitedForms) {
   // Silicon: eps_inf + (eps_0 - eps_inf) w0^2/(w0^2 + xi^2), 11.87 / 1.035 / 6.6e15 rad/s
-  // (REFERENCES.md, from memory).
+  // (from memory; form used by Lambrecht and co-workers).
   const double xi = 3e15, w0 = 6.6e15;
   EXPECT_NEAR(builtin_material("silicon")->epsilon(xi),
               1.035 + (11.87 - 1.035) * w0 * w0 / (w0 * w0 + xi * xi), kRoundoff * 12);

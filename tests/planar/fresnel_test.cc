@@ -38,8 +38,8 @@ TEST(Fresnel, TmTendsToPlusOneAndTeToMinusOneAsEpsGrows) {
 }
 
 TEST(Fresnel, DrudeStaticTeVanishesAndTmIsOne) {
-  // Drude: xi^2 eps -> 0, so r_TE(0, k) = 0, r_TM(0, k) = 1 (REFERENCES.md, derived from the
-  // Lifshitz n = 0 term); the xi -> 0+ values approach them.
+  // Drude: xi^2 eps -> 0, so r_TE(0, k) = 0, r_TM(0, k) = 1 (derived from the Lifshitz
+  // n = 0 term; Lifshitz, Sov. Phys. JETP 2, 73 (1956)); the xi -> 0+ values approach them.
   const MaterialPtr au = builtin_material("gold-drude");
   for (double k : {1e5, 1e7, 1e9}) {
     const Reflection r0 = reflect(au, 0.0, k);
@@ -52,7 +52,8 @@ TEST(Fresnel, DrudeStaticTeVanishesAndTmIsOne) {
 }
 
 TEST(Fresnel, PlasmaStaticTeHasClosedForm) {
-  // r_TE(0, k) = (k - sqrt(k^2 + wp^2/c^2))/(k + sqrt(k^2 + wp^2/c^2)) (REFERENCES.md, derived).
+  // r_TE(0, k) = (k - sqrt(k^2 + wp^2/c^2))/(k + sqrt(k^2 + wp^2/c^2)) (derived from the
+  // plasma-model Fresnel coefficient).
   const double wp = 9.0 * kEv, kp = wp / kSpeedOfLight;
   const MaterialPtr au = builtin_material("gold-plasma");
   for (double k : {1e5, 1e7, 1e9}) {

@@ -17,7 +17,7 @@ namespace {
 
 constexpr double kEv = kRadPerSecondPerEv;
 constexpr double kRoundoff = 1e-14;
-// v_F(Au) = 1.40e6 m/s (REFERENCES.md, from memory), beta^2 = (3/5) v_F^2 (high frequency).
+// v_F(Au) = 1.40e6 m/s (from memory), beta^2 = (3/5) v_F^2 (high frequency).
 const double kBeta = hydrodynamic_beta(1.40e6, HydrodynamicRegime::kHighFrequency);
 const MaterialPtr kVacuum = make_vacuum();
 const MaterialPtr kGold = builtin_material("gold-drude");
@@ -69,7 +69,8 @@ TEST(Hydrodynamic, NonlocalityWeakensTmResponseMoreAtLargeK) {
 
 TEST(Hydrodynamic, ReducesToReferenceFormWithoutBackground) {
   // eps_b = eps_m = 1: r_TM = [eps kappa - kappa_T - (eps-1)k^2/kappa_L]/[... + ...],
-  // kappa_L = sqrt(k^2 + (wp^2 + xi(xi+gamma))/beta^2) (REFERENCES.md, form derived).
+  // kappa_L = sqrt(k^2 + (wp^2 + xi(xi+gamma))/beta^2) (Esquivel-Sirvent, Villarreal, Mochan, PRA
+  // 68, 052103 (2003); form derived).
   const double wp = 9.0 * kEv, g = 0.035 * kEv, c = kSpeedOfLight;
   for (double xi : {1e13, 1e15, 1e17})
     for (double k : {1e6, 1e8, 1e9}) {
@@ -101,7 +102,7 @@ TEST(Hydrodynamic, StaticLimitIsScreenedAndContinuous) {
 }
 
 TEST(Hydrodynamic, FilmOnNonlocalMetalFollowsAiryFormulaWithNonlocalSubstrate) {
-  // Airy formula (REFERENCES.md) with r23 the hydrodynamic r_TM seen from the film (eps_m = eps_2,
+  // Airy formula (standard) with r23 the hydrodynamic r_TM seen from the film (eps_m = eps_2,
   // eps_b = 1; form derived in hydrodynamic.h), computed here from the formula itself.
   const MaterialPtr silica = builtin_material("silica");
   const double wp = 9.0 * kEv, g = 0.035 * kEv, c = kSpeedOfLight, t = 3e-9;

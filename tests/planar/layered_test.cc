@@ -31,8 +31,8 @@ double kappa(const Material& m, double xi, double k) {
 }
 
 TEST(Layered, SingleFilmMatchesAiryFormula) {
-  // r = (r12 + r23 e^{-2 kappa_2 t})/(1 + r12 r23 e^{-2 kappa_2 t}) (REFERENCES.md, standard),
-  // evaluated here independently of the library's recursion.
+  // r = (r12 + r23 e^{-2 kappa_2 t})/(1 + r12 r23 e^{-2 kappa_2 t}) (Airy formula; standard, e.g.
+  // Born & Wolf, Principles of Optics), evaluated here independently of the library's recursion.
   const MaterialPtr au = builtin_material("gold-drude"), si = builtin_material("silicon");
   const double t = 20e-9;
   for (double xi : kXis)

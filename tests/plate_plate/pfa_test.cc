@@ -28,7 +28,7 @@ FrequencyRuleOptions rule(double temperature, double rel_tol) {
 TEST(Pfa, PecSphereEnergyMatchesDerjaguinWithCasimirEnergy) {
   // E_PFA = -pi^3 hbar c R/(720 L^2), F_PFA = 2 pi R E_pp = -pi^3 hbar c R/(360 L^3),
   // F'_PFA = -2 pi R P_pp = pi^3 hbar c R/(120 L^4) (Derjaguin, Kolloid Z. 69, 155 (1934) with
-  // Casimir 1948; REFERENCES.md, derived).
+  // Casimir 1948; derived).
   const PlatePlate pp = plates_of(make_perfect_conductor());
   const double R = 50e-6;
   constexpr double kTol = 1e-10;  // as for the plate-plate PEC check
@@ -71,7 +71,7 @@ TEST(Pfa, GoldEnergyIsTwoPiRTimesIntegralOfPlateEnergy) {
 }
 
 TEST(Pfa, TwoPecSpheresUseEffectiveRadius) {
-  // E = -pi^3 hbar c R1 R2/(720 (R1+R2) L^2) (Derjaguin 1934; REFERENCES.md).
+  // E = -pi^3 hbar c R1 R2/(720 (R1+R2) L^2) (Derjaguin, Kolloid Z. 69, 155 (1934); derived).
   const PlatePlate pp = plates_of(make_perfect_conductor());
   const double R1 = 10e-6, R2 = 30e-6, L = 200e-9;
   const PfaValues v = sphere_plate_pfa(pp, pfa_effective_radius(R1, R2), L, rule(0.0, 1e-12));

@@ -17,7 +17,7 @@
 namespace roundtrip {
 namespace {
 
-// Gold: omega_p = 9 eV, gamma = 35 meV (common practice; shared/REFERENCES.md, Svetovoy et al.,
+// Gold: omega_p = 9 eV, gamma = 35 meV (common practice; Svetovoy et al.,
 // PRB 77, 035439 (2008)).
 const double kGoldOmegaP = 9.0 * kRadPerSecondPerEv;
 const double kGoldGamma = 0.035 * kRadPerSecondPerEv;
@@ -44,8 +44,8 @@ double pec_pressure(double gap) { return -kPi * kPi * kHbarC / (240.0 * std::pow
 
 TEST(PlatePlate, PecEnergyAndPressureMatchCasimir1948) {
   // E/A = -pi^2 hbar c/(720 L^3), P = -pi^2 hbar c/(240 L^4) (Casimir, Proc. K. Ned. Akad. Wet.
-  // 51, 793 (1948); published); dP/dL = -4P/L (derived). REFERENCES.md: -4.3338e-10 J/m^2 and
-  // -1.30013e-3 Pa at 1 um.
+  // 51, 793 (1948); published); dP/dL = -4P/L (derived). At 1 um: -4.3338e-10 J/m^2 and
+  // -1.30013e-3 Pa (evaluated from the formula, 5 digits).
   const PlatePlate pp = plates_of(make_perfect_conductor());
   // Required accuracy 1e-10; the rule is asked for 1e-12 so that its estimate is well inside.
   constexpr double kTol = 1e-10;
@@ -56,7 +56,7 @@ TEST(PlatePlate, PecEnergyAndPressureMatchCasimir1948) {
     EXPECT_NEAR(-r.total.d2 / (-4.0 * pec_pressure(gap) / gap), 1.0, kTol) << "L = " << gap;
     EXPECT_LT(r.abs_error, kTol * std::abs(r.total.value));
   }
-  // The 5-digit values quoted in REFERENCES.md (their rounding: 5e-5 relative).
+  // The 5-digit values above (their rounding: 5e-5 relative).
   EXPECT_NEAR(lifshitz(pp, 1e-6, 0.0, 1e-8).total.value / -4.3338e-10, 1.0, 5e-5);
 }
 
@@ -102,7 +102,7 @@ TEST(PlatePlate, PecHighTemperatureLimitIsZeta3Law) {
 
 TEST(PlatePlate, DrudeHighTemperatureLimitIsHalfOfPec) {
   // r_TE(0, k) = 0 for a Drude metal, r_TM(0, k) = 1: exactly half the PEC n = 0 term (derived
-  // from the Lifshitz n = 0 term; REFERENCES.md).
+  // from the Lifshitz n = 0 term; Lifshitz 1956).
   const PlatePlate pp = plates_of(make_drude("gold-drude", kGoldOmegaP, kGoldGamma));
   const FrequencySum r = lifshitz(pp, kHighTGap, kHighT, 1e-12);
   const double kT = kBoltzmann * kHighT;
@@ -113,8 +113,8 @@ TEST(PlatePlate, DrudeHighTemperatureLimitIsHalfOfPec) {
 
 TEST(PlatePlate, PlasmaHighTemperatureLimitAddsStaticTeTerm) {
   // Plasma = Drude value + (k_B T/4 pi) \int k dk ln[1 - r_TE(0,k)^2 e^{-2kL}],
-  // r_TE(0,k) = (k - sqrt(k^2 + k_p^2))/(k + sqrt(k^2 + k_p^2)) (derived; REFERENCES.md). The
-  // integral by Boost.Math exp_sinh (independent of the solver's own k rule).
+  // r_TE(0,k) = (k - sqrt(k^2 + k_p^2))/(k + sqrt(k^2 + k_p^2)) (derived from the Lifshitz n = 0
+  // term). The integral by Boost.Math exp_sinh (independent of the solver's own k rule).
   const PlatePlate pp = plates_of(make_plasma("gold-plasma", kGoldOmegaP));
   const FrequencySum r = lifshitz(pp, kHighTGap, kHighT, 1e-12);
   const double kT = kBoltzmann * kHighT;
@@ -157,7 +157,7 @@ TEST(PlatePlate, PecLowTemperatureExpansionHolds) {
 TEST(PlatePlate, PlasmaZeroTemperatureFollowsSeriesInSkinDepth) {
   // eta_E = E/E_PEC = 1 - 4x + (72/5)x^2 - (320/7)(1 - pi^2/210)x^3 + (400/3)(1 - 163pi^2/7350)x^4,
   // eta_P = 1 - (16/3)x + 24x^2 - (640/7)(1 - pi^2/210)x^3 + (2800/9)(1 - 163pi^2/7350)x^4,
-  // x = c/(omega_p L) (from memory: Bezerra, Klimchitskaya, Mostepanenko; REFERENCES.md).
+  // x = c/(omega_p L) (from memory: Bezerra, Klimchitskaya, Mostepanenko).
   const PlatePlate pp = plates_of(make_plasma("gold-plasma", kGoldOmegaP));
   const double c3 = 1.0 - kPi * kPi / 210.0, c4 = 1.0 - 163.0 * kPi * kPi / 7350.0;
   double residual_e[2], residual_p[2], xs[2];

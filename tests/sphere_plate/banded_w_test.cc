@@ -46,7 +46,7 @@ void expect_same(SpherePlateOptions o, double ratio, double u, const char* what)
 SpherePlateOptions drude_gold() {
   SpherePlateOptions o;
   o.radius = 20e-6;
-  // Drude gold, common practice (REFERENCES.md)
+  // Drude gold, common practice; Svetovoy et al., PRB 77, 035439 (2008)
   o.sphere = make_drude("gold-drude", 9.0 * kRadPerSecondPerEv, 0.035 * kRadPerSecondPerEv);
   o.plate = make_half_space(o.sphere);
   o.rel_tol = 1e-4;

@@ -18,7 +18,8 @@ namespace roundtrip {
 namespace {
 
 constexpr double kR = 1e-6;  // 1 um sphere; only L/R matters for PEC and scalar fields
-const double kGoldOmegaP = 9.0 * kRadPerSecondPerEv;  // common practice (REFERENCES.md)
+const double kGoldOmegaP =
+    9.0 * kRadPerSecondPerEv;  // common practice; Svetovoy et al., PRB 77, 035439 (2008)
 const double kGoldGamma = 0.035 * kRadPerSecondPerEv;
 
 SpherePlateOptions pec(double tol) {
