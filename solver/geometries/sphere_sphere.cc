@@ -92,19 +92,7 @@ LogDetResult logdet_two_bodies(const LowRankBlock& b1, const LowRankBlock& b2,
   Eigen::MatrixXd A = -K;
   A.diagonal().array() += 1.0;
   const Eigen::PartialPivLU<Eigen::MatrixXd> lu(A);
-  const auto& LU = lu.matrixLU();
-  double ld = 0.0;
-  int negatives = 0;
-  for (Eigen::Index i = 0; i < q; ++i) {
-    ld += std::log(std::abs(LU(i, i)));
-    if (LU(i, i) < 0) ++negatives;
-  }
-  if (negatives % 2 != 0 || !std::isfinite(ld)) {
-    out.ok = false;
-    out.message = "det(1 - M) <= 0: truncation too small or unphysical input";
-    return out;
-  }
-  out.s.value = ld;
+  if (!positive_lu_log_det(lu, out)) return out;
   if (order == DerivativeOrder::kEnergy) return out;
   const Eigen::MatrixXd B = lu.inverse();
   const Eigen::VectorXd& f = b1.f1;

@@ -359,6 +359,23 @@ LowRankBlock with_zeros_outside_ranges(const LowRankBlock& b) {
 
 }  // namespace
 
+bool positive_lu_log_det(const Eigen::PartialPivLU<Eigen::MatrixXd>& lu, LogDetResult& out) {
+  const auto& LU = lu.matrixLU();
+  double ld = 0.0;
+  int negatives = 0;
+  for (Eigen::Index i = 0; i < LU.rows(); ++i) {
+    ld += std::log(std::abs(LU(i, i)));
+    if (LU(i, i) < 0) ++negatives;
+  }
+  if (negatives % 2 != 0 || !std::isfinite(ld)) {
+    out.ok = false;
+    out.message = "det(1 - M) <= 0: truncation too small or unphysical input";
+    return false;
+  }
+  out.s.value = ld;
+  return true;
+}
+
 LogDetResult logdet_one_minus(const LowRankBlock& b, DerivativeOrder order,
                               NodeSpaceSolver solver) {
   LogDetResult out;
@@ -417,19 +434,7 @@ LogDetResult logdet_one_minus(const LowRankBlock& b, DerivativeOrder order,
   } else {
     A.noalias() -= b.s.asDiagonal() * (b.W * b.c.asDiagonal()) * b.W.transpose();
     Eigen::PartialPivLU<Eigen::MatrixXd> lu(A);
-    const auto& LU = lu.matrixLU();
-    double ld = 0.0;
-    int negatives = 0;
-    for (Eigen::Index i = 0; i < n; ++i) {
-      ld += std::log(std::abs(LU(i, i)));
-      if (LU(i, i) < 0) ++negatives;
-    }
-    if (negatives % 2 != 0 || !std::isfinite(ld)) {
-      out.ok = false;
-      out.message = "det(1 - M) <= 0: truncation too small or unphysical input";
-      return out;
-    }
-    out.s.value = ld;
+    if (!positive_lu_log_det(lu, out)) return out;
     if (order == DerivativeOrder::kEnergy) return out;
     Z = lu.solve(b.s.asDiagonal() * b.W);
   }

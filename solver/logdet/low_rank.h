@@ -58,6 +58,10 @@ struct LogDetResult {
 /// force one (tests compare them).
 enum class NodeSpaceSolver { kAuto, kDense, kBanded };
 
+/// log det A from an LU factorisation of A when det A > 0 (an even number of negative pivots
+/// and a finite log); false otherwise, with `out` set to the failure every caller reports.
+bool positive_lu_log_det(const Eigen::PartialPivLU<Eigen::MatrixXd>& lu, LogDetResult& out);
+
 LogDetResult logdet_one_minus(const LowRankBlock& block, DerivativeOrder order,
                               NodeSpaceSolver solver = NodeSpaceSolver::kAuto);
 
