@@ -68,9 +68,8 @@ class SpherePlate final : public Geometry {
           o_.plate, sphere_pfa_partner(SphereBody{o_.radius, o_.sphere, o_.shells}), o_.medium);
       pfa_scale_ = 1.0;
     } else {
-      const PlanarPtr pec = make_half_space(make_perfect_conductor());
-      pfa_plates_ = std::make_unique<PlatePlate>(pec, pec, o_.medium);
-      pfa_scale_ = 0.5;
+      pfa_plates_ = scalar_field_pfa_plates(o_.medium);
+      pfa_scale_ = kScalarFieldPfaShare;
     }
   }
 

@@ -136,9 +136,8 @@ class SphereSphere final : public Geometry {
       pfa_plates_ = std::make_unique<PlatePlate>(sphere_pfa_partner(body1_),
                                                  sphere_pfa_partner(body2_), o_.medium);
     } else {
-      const PlanarPtr pec = make_half_space(make_perfect_conductor());
-      pfa_plates_ = std::make_unique<PlatePlate>(pec, pec, o_.medium);
-      pfa_scale_ = 0.5;
+      pfa_plates_ = scalar_field_pfa_plates(o_.medium);
+      pfa_scale_ = kScalarFieldPfaShare;
     }
   }
 

@@ -8,6 +8,7 @@
 #include <vector>
 
 #include "solver/constants.h"
+#include "solver/materials/models.h"
 #include "solver/planar/layered.h"
 
 namespace roundtrip {
@@ -38,6 +39,11 @@ PlanarPtr sphere_pfa_partner(const SphereBody& sphere) {
   std::vector<Layer> films;
   for (const SphereShell& s : sphere.shells) films.push_back({s.material, s.thickness});
   return films.empty() ? make_half_space(sphere.core) : make_layered(films, sphere.core);
+}
+
+std::unique_ptr<PlatePlate> scalar_field_pfa_plates(MaterialPtr medium) {
+  const PlanarPtr pec = make_half_space(make_perfect_conductor());
+  return std::make_unique<PlatePlate>(pec, pec, std::move(medium));
 }
 
 }  // namespace roundtrip

@@ -9,6 +9,8 @@
 // of the sphere's material facing the plate). The L-integral is done in closed form per
 // frequency (PlatePlate::integrated_at_frequency) and summed by the same frequency rule as the
 // exact result (same temperature and tolerance). Valid for L << R.
+#include <memory>
+
 #include "solver/frequency/frequency_rule.h"
 #include "solver/geometries/geometry.h"
 #include "solver/geometries/plate_plate.h"
@@ -29,5 +31,11 @@ double pfa_effective_radius(double r1, double r2);
 /// or for a coated sphere the same films (outermost first) on a half-space of its core
 /// (solver/planar/layered.h). Derjaguin's local plate-plate picture (derived).
 PlanarPtr sphere_pfa_partner(const SphereBody& sphere);
+
+/// PFA partner of the scalar test fields: Dirichlet and Neumann are each half of the
+/// electromagnetic perfect-conductor plate-plate energy (r^2 = 1 per polarisation, at every
+/// temperature; derived). Scale the PFA values of these plates by kScalarFieldPfaShare.
+inline constexpr double kScalarFieldPfaShare = 0.5;
+std::unique_ptr<PlatePlate> scalar_field_pfa_plates(MaterialPtr medium);
 
 }  // namespace roundtrip
