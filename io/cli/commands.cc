@@ -401,7 +401,14 @@ int run_command(const RunArgs& args, std::ostream& out, std::ostream& err) {
     writer_slot.emplace(where.path, where.field);  // fails now if the path is unwritable
     journal_slot.emplace(journal_path(where.path), journal_key(spec), args.restart);
   }
-  if (distributed) mpi->agree_setup(journal_hash(journal_key(spec)));  // every rank read it
+  if (distributed) {
+    try {
+      mpi->agree_setup(journal_hash(journal_key(spec)));  // every rank read the same case
+    } catch (const parallel::StopRun&) {
+      if (journal_slot && journal_slot->loaded() == 0) journal_slot->remove();  // made just now
+      throw;
+    }
+  }
   if (!lead) {  // a worker rank: compute tasks for rank 0, print and write nothing
     std::vector<parallel::SweepInput> inputs;
     for (std::size_t k = 0; k < points.size(); ++k) {

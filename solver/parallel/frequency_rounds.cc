@@ -7,7 +7,9 @@
 #include <bit>
 #include <chrono>
 #include <cmath>
+#include <cstdlib>
 #include <exception>
+#include <stdexcept>
 
 #include "solver/guards.h"
 
@@ -38,6 +40,16 @@ Spectral surrogate(double xi, double xi_scale, double gap,
 
 TaskValue compute_task(const std::vector<SweepInput>& inputs, const Task& task) {
   throw_if_cancelled();
+  // Fault injection for the tests (DEVELOPERS.md): the MPI rank named by
+  // ROUNDTRIP_FAULT_INJECT_RANK fails its tasks as a solver failure would.
+  static const int fail_rank = [] {
+    const char* f = std::getenv("ROUNDTRIP_FAULT_INJECT_RANK");
+    const char* r = std::getenv("OMPI_COMM_WORLD_RANK");
+    return f && *f && r && std::atoi(f) == std::atoi(r) ? std::atoi(f) : -1;
+  }();
+  if (fail_rank >= 0)
+    throw std::runtime_error(
+        "fault injected by ROUNDTRIP_FAULT_INJECT_RANK on this rank (a test of failure handling)");
   const SweepInput& in = inputs.at(task.point);
   const double gap = in.gaps.at(task.gap);
   const auto t0 = std::chrono::steady_clock::now();
@@ -178,8 +190,8 @@ std::vector<RunResult> SweepRounds::results(double wall_seconds) {
     out.push_back(std::move(r));
   }
   stats_.speculative = 0;
-  for (const auto& [k, v] : values_)
-    if (!used_.count(k)) ++stats_.speculative;
+  for (const auto& [k, v] : values_)  // only finished gaps know which values they did not use
+    if (!used_.count(k) && gaps_[std::get<0>(k)][std::get<1>(k)].finished) ++stats_.speculative;
   return out;
 }
 
