@@ -81,7 +81,7 @@ int Session::finish(int status, const std::string& error) {
   if (!error.empty()) std::cerr << "roundtrip: error: " << error << "\n";
   return status;
 }
-void Session::abort_all(const std::string& message, int status) {
+void Session::abort_all(const std::string& message, int status, bool) {
   std::cerr << "roundtrip: error: " << message << "\n";
   if (before_abort_) before_abort_();
   std::_Exit(status);
@@ -241,9 +241,10 @@ Session::~Session() {
   if (g_current == this) g_current = nullptr;
 }
 
-void Session::abort_all(const std::string& message, int status) {
-  std::cerr << "roundtrip: error: " << (distributed_ ? where(rank_) + ": " : std::string())
-            << message << (distributed_ ? "; stopping every rank" : "") << std::endl;
+void Session::abort_all(const std::string& message, int status, bool name_rank) {
+  std::cerr << "roundtrip: error: "
+            << (distributed_ && name_rank ? where(rank_) + ": " : std::string()) << message
+            << (distributed_ ? "; stopping every rank" : "") << std::endl;
   if (before_abort_) before_abort_();
   if (distributed_) MPI_Abort(MPI_COMM_WORLD, status);
   std::_Exit(status);

@@ -71,8 +71,9 @@ class Session {
   /// that owns it ("roundtrip: error: " + error). During the run an error ends all ranks
   /// (abort_all). Returns the exit status; finalises MPI.
   int finish(int status, const std::string& error);
-  /// Print "roundtrip: error: <rank>: message" and end every rank with `status` (MPI_Abort).
-  [[noreturn]] void abort_all(const std::string& message, int status);
+  /// Print "roundtrip: error: <this rank>: message" (without the rank if `name_rank` is false)
+  /// and end every rank with `status` (MPI_Abort).
+  [[noreturn]] void abort_all(const std::string& message, int status, bool name_rank = true);
   /// Called before MPI_Abort (e.g. remove the temporary results file).
   void set_before_abort(std::function<void()> f) { before_abort_ = std::move(f); }
 

@@ -229,7 +229,7 @@ TEST_F(MpiRun, ARankThatFailsDuringTheRunEndsEveryRankWithAClearMessage) {
   EXPECT_NE(rc, 0);
   EXPECT_LT(seconds, 60.0);  // no hang
   const std::string err = slurp(dir_ / "log.err");
-  EXPECT_NE(err.find("rank 1 of 3"), std::string::npos) << err;
+  EXPECT_NE(err.find("roundtrip: error: rank 1 of 3"), std::string::npos) << err;
   EXPECT_NE(err.find("the solver failed"), std::string::npos) << err;
   EXPECT_NE(err.find("stopping every rank"), std::string::npos) << err;
   EXPECT_FALSE(fs::exists(dir_ / "out.h5"));
