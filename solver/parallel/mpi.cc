@@ -440,8 +440,8 @@ std::vector<RunResult> run_sweeps_distributed(const std::vector<SweepInput>& inp
         MPI_Get_count(&st, MPI_CHAR, &n);
         std::string text(static_cast<std::size_t>(n), '\0');
         MPI_Recv(text.data(), n, MPI_CHAR, src, kFailed, MPI_COMM_WORLD, MPI_STATUS_IGNORE);
-        session->abort_all(
-            fmt::format("{} failed: the solver failed: {}", session->where(src), text), 4);
+        session->abort_all(fmt::format("{}: the solver failed: {}", session->where(src), text), 4,
+                           false);
       }
       case kCancelled:
         MPI_Recv(nullptr, 0, MPI_INT, src, kCancelled, MPI_COMM_WORLD, MPI_STATUS_IGNORE);
