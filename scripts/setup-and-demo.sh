@@ -2,13 +2,13 @@
 # Set up roundtrip from a fresh clone: install the Debian packages that are missing (only those),
 # configure and build in ./build (Release), then run the demo case cases/gold_plates.toml, which
 # prints a table and writes out/gold_plates.h5.
-#   scripts/setup-and-demo.sh               everything
+#   scripts/setup-and-demo.sh               everything (./build, and ./build-mpi with MPI)
 #   scripts/setup-and-demo.sh --build-only  packages and build, no demo (used by .ci/run)
 set -euo pipefail
 cd "$(dirname "$0")/.."
 
 packages=(cmake g++ make pkg-config libeigen3-dev libboost-dev libhdf5-dev hdf5-tools libgmsh-dev
-          libtomlplusplus-dev libgtest-dev libbenchmark-dev libcli11-dev libfmt-dev zlib1g-dev python3-h5py
+          libtomlplusplus-dev libgtest-dev libbenchmark-dev libcli11-dev libfmt-dev zlib1g-dev libopenmpi-dev openmpi-bin python3-h5py
           python3-matplotlib python3-scipy python3-mpmath)
 missing=()
 for p in "${packages[@]}"; do
@@ -28,6 +28,9 @@ fi
 
 cmake -S . -B build -DCMAKE_BUILD_TYPE=Release
 cmake --build build -j2
+# The MPI build (README "Clusters"): the same program, to be started by mpirun or srun.
+cmake -S . -B build-mpi -DCMAKE_BUILD_TYPE=Release -DROUNDTRIP_USE_MPI=ON -DROUNDTRIP_BUILD_BENCHMARKS=OFF
+cmake --build build-mpi -j2 --target roundtrip
 
 if [[ "${1:-}" == "--build-only" ]]; then exit 0; fi
 mkdir -p out

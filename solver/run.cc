@@ -43,24 +43,51 @@ PointResult run_point(const Geometry& geometry, int index, double gap, const Run
     if (options.frequency_progress) options.frequency_progress(index, ++evaluations);
     return v;
   };
-  p.frequencies = sum_over_frequencies(TolerantSpectralFunction(s), geometry.frequency_scale(gap),
-                                       options.frequency);
-  // Signs as in geometry.h: F = -dE/dL, dF/dL = -d2E/dL2.
-  p.energy = p.frequencies.total.value;
-  p.force = order >= DerivativeOrder::kForce ? -p.frequencies.total.d1 : 0.0;
-  p.gradient = order >= DerivativeOrder::kGradient ? -p.frequencies.total.d2 : 0.0;
-  p.energy_error = p.frequencies.abs_error;
-  p.pfa = geometry.pfa(gap, options.frequency);
-  p.truncation = geometry.truncation(gap);
-  if (const std::string why = geometry.unverified_truncation(gap); !why.empty()) {
-    p.frequencies.converged = false;
-    p.frequencies.message += (p.frequencies.message.empty() ? "" : "; ") + why;
-  }
+  FrequencySum sum = sum_over_frequencies(TolerantSpectralFunction(s),
+                                          geometry.frequency_scale(gap), options.frequency);
+  p = point_result(geometry, gap, order, std::move(sum), geometry.pfa(gap, options.frequency));
   p.wall_seconds = seconds_since(t0);
   return p;
 }
 
 }  // namespace
+
+PointResult point_result(const Geometry& geometry, double gap, DerivativeOrder order,
+                         FrequencySum frequencies, std::optional<PfaValues> pfa) {
+  PointResult p;
+  p.gap = gap;
+  p.frequencies = std::move(frequencies);
+  // Signs as in geometry.h: F = -dE/dL, dF/dL = -d2E/dL2.
+  p.energy = p.frequencies.total.value;
+  p.force = order >= DerivativeOrder::kForce ? -p.frequencies.total.d1 : 0.0;
+  p.gradient = order >= DerivativeOrder::kGradient ? -p.frequencies.total.d2 : 0.0;
+  p.energy_error = p.frequencies.abs_error;
+  p.pfa = pfa;
+  p.truncation = geometry.truncation(gap);
+  if (const std::string why = geometry.unverified_truncation(gap); !why.empty()) {
+    p.frequencies.converged = false;
+    p.frequencies.message += (p.frequencies.message.empty() ? "" : "; ") + why;
+  }
+  return p;
+}
+
+void fit_thetas(const Geometry& geometry, const RunOptions& options, RunResult& result) {
+  const auto R = geometry.pfa_length();
+  if (!R) return;
+  std::vector<double> x, re, rf, rg;
+  for (const auto& p : result.points) {
+    if (!p.complete || !p.pfa) continue;
+    x.push_back(p.gap / *R);
+    re.push_back(p.energy / p.pfa->energy);
+    rf.push_back(p.force / p.pfa->force);
+    rg.push_back(p.gradient / p.pfa->gradient);
+  }
+  const double tol = options.frequency.rel_tol;
+  result.theta_energy = fit_theta(x, re, tol);
+  if (options.quantities.force || options.quantities.gradient)
+    result.theta_force = fit_theta(x, rf, tol);
+  if (options.quantities.gradient) result.theta_gradient = fit_theta(x, rg, tol);
+}
 
 RunResult run_sweep(const Geometry& geometry, const std::vector<double>& gaps,
                     const RunOptions& options) {
@@ -112,21 +139,7 @@ RunResult run_sweep(const Geometry& geometry, const std::vector<double>& gaps,
   }
   if (failure) std::rethrow_exception(failure);
   result.cancelled = cancellation_requested();
-  if (const auto R = geometry.pfa_length()) {
-    std::vector<double> x, re, rf, rg;
-    for (const auto& p : result.points) {
-      if (!p.complete || !p.pfa) continue;
-      x.push_back(p.gap / *R);
-      re.push_back(p.energy / p.pfa->energy);
-      rf.push_back(p.force / p.pfa->force);
-      rg.push_back(p.gradient / p.pfa->gradient);
-    }
-    const double tol = options.frequency.rel_tol;
-    result.theta_energy = fit_theta(x, re, tol);
-    if (options.quantities.force || options.quantities.gradient)
-      result.theta_force = fit_theta(x, rf, tol);
-    if (options.quantities.gradient) result.theta_gradient = fit_theta(x, rg, tol);
-  }
+  fit_thetas(geometry, options, result);
   result.wall_seconds = seconds_since(t0);
   return result;
 }

@@ -90,4 +90,13 @@ struct RunResult {
 RunResult run_sweep(const Geometry& geometry, const std::vector<double>& gaps,
                     const RunOptions& options);
 
+/// A gap's result from its frequency sum and PFA values (energy, force, gradient with the signs
+/// of geometry.h, truncations, an unverified truncation marks it not converged); wall_seconds
+/// is left 0. run_sweep and the distributed run (solver/parallel) both build points with it.
+PointResult point_result(const Geometry& geometry, double gap, DerivativeOrder order,
+                         FrequencySum frequencies, std::optional<PfaValues> pfa);
+/// The theta fits of `result` over its complete points with a PFA (nothing if the geometry has
+/// no PFA length).
+void fit_thetas(const Geometry& geometry, const RunOptions& options, RunResult& result);
+
 }  // namespace roundtrip

@@ -14,6 +14,7 @@
 #include <cstdlib>
 #include <filesystem>
 #include <iostream>
+#include <optional>
 #include <thread>
 
 #include "geometry/gmsh_export.h"
@@ -28,6 +29,7 @@
 #include "solver/constants.h"
 #include "solver/guards.h"
 #include "solver/materials/library.h"
+#include "solver/parallel/mpi.h"
 #include "solver/plan.h"
 #include "solver/run.h"
 
@@ -389,8 +391,38 @@ int run_command(const RunArgs& args, std::ostream& out, std::ostream& err) {
     }
   }
   const OutputChoice where = choose_output(args, spec);
-  ResultsWriter writer(where.path, where.field);  // fails now if the path is unwritable
-  Journal journal(journal_path(where.path), journal_key(spec), args.restart);
+  // Under MPI (solver/parallel/mpi.h) rank 0 alone writes the results and the journal.
+  parallel::Session* const mpi = parallel::Session::current();
+  const bool distributed = mpi && mpi->distributed();
+  const bool lead = !distributed || mpi->lead();
+  std::optional<ResultsWriter> writer_slot;
+  std::optional<Journal> journal_slot;
+  if (lead) {
+    writer_slot.emplace(where.path, where.field);  // fails now if the path is unwritable
+    journal_slot.emplace(journal_path(where.path), journal_key(spec), args.restart);
+  }
+  if (distributed) {
+    try {
+      mpi->agree_setup(journal_hash(journal_key(spec)));  // every rank read the same case
+    } catch (const parallel::StopRun&) {
+      if (journal_slot && journal_slot->loaded() == 0) journal_slot->remove();  // made just now
+      throw;
+    }
+  }
+  if (!lead) {  // a worker rank: compute tasks for rank 0, print and write nothing
+    std::vector<parallel::SweepInput> inputs;
+    for (std::size_t k = 0; k < points.size(); ++k) {
+      parallel::SweepInput in{geometries[k].get(), points[k].spec.gaps, {}, {}};
+      in.options.frequency = points[k].spec.frequency;
+      in.options.quantities = points[k].spec.quantities;
+      in.options.cancel = &cancel_requested();
+      inputs.push_back(std::move(in));
+    }
+    (void)parallel::run_sweeps_distributed(inputs, args.threads);
+    return kExitOk;
+  }
+  ResultsWriter& writer = *writer_slot;
+  Journal& journal = *journal_slot;
   if (journal.loaded() > 0)
     err << fmt::format("roundtrip: resuming from {} ({} contributions saved{})\n",
                        journal.path().string(), journal.loaded(),
@@ -409,36 +441,70 @@ int run_command(const RunArgs& args, std::ostream& out, std::ostream& err) {
   const bool terminal = isatty(STDERR_FILENO) == 1;
   const bool show = !args.quiet && (terminal || args.progress);
 
+  std::vector<RunResult> distributed_results;
+  std::string team_text;  // "2 ranks x 1 thread" under MPI
+  if (distributed) {
+    std::vector<parallel::SweepInput> inputs;
+    for (std::size_t k = 0; k < points.size(); ++k) {
+      parallel::SweepInput in{geometries[k].get(), points[k].spec.gaps, {}, {}};
+      in.options.frequency = points[k].spec.frequency;
+      in.options.quantities = points[k].spec.quantities;
+      in.options.store = journal.store(static_cast<int>(k));
+      in.options.cancel = &cancel_requested();
+      for (const auto& gp : plans[k].gaps) in.gap_costs.push_back(gp.flops_per_frequency);
+      inputs.push_back(std::move(in));
+    }
+    parallel::DistributedStats ds;
+    distributed_results = parallel::run_sweeps_distributed(inputs, args.threads, &ds);
+    const int team = ds.slots_per_rank * ds.threads_per_slot;
+    team_text = fmt::format("{} rank{} x {} thread{}", ds.ranks, ds.ranks == 1 ? "" : "s", team,
+                            team == 1 ? "" : "s");
+    for (auto& r : distributed_results) r.threads = team;
+    if (!args.quiet) {
+      const auto [lo, hi] = std::minmax_element(ds.busy_seconds.begin(), ds.busy_seconds.end());
+      err << fmt::format(
+                 "roundtrip: {}: {} tasks in {} round{} ({} computed and not used), task time "
+                 "per rank {:.3g}-{:.3g} s, wall {:.3g} s\n",
+                 team_text, ds.rounds.tasks, ds.rounds.rounds, ds.rounds.rounds == 1 ? "" : "s",
+                 ds.rounds.speculative, *lo, *hi, ds.wall_seconds)
+          << std::flush;
+    }
+  }
+
   std::vector<ScanRunResult> runs;
   bool interrupted = false;
   for (std::size_t k = 0; k < points.size(); ++k) {
     const CaseSpec& ps = points[k].spec;
-    RunOptions opts;
-    opts.frequency = ps.frequency;
-    opts.quantities = ps.quantities;
-    opts.threads = args.threads;
-    opts.store = journal.store(static_cast<int>(k));
-    opts.cancel = &cancel_requested();
-    Progress progress(err, terminal, static_cast<int>(ps.gaps.size()),
-                      scan ? fmt::format("scan point {} of {}, ", k + 1, points.size()) : "");
-    if (show) {
-      // Relative cost per gap from the plan's model (no timing needed): small gaps cost more.
-      const Plan& plan = plans[k];
-      std::vector<int> freqs;
-      std::vector<double> cost;
-      for (const auto& gp : plan.gaps) {
-        freqs.push_back(gp.frequencies);
-        cost.push_back(gp.frequencies * gp.flops_per_frequency);
-      }
-      progress.set_plan(std::move(freqs), std::move(cost));
-      opts.progress = [&](int done, int total) { progress.gap_done(done, total); };
-      opts.gap_started = [&](int gap) { progress.gap_started(gap); };
-      opts.frequency_progress = [&](int gap, int n) { progress.frequency(gap, n); };
-    }
     ScanRunResult run;
-    run.result = run_sweep(*geometries[k], ps.gaps, opts);
-    progress.finish();
-    if (geometries[k]->parallel_inside()) run.result.threads = omp_get_max_threads();
+    if (distributed) {
+      run.result = std::move(distributed_results[k]);
+    } else {
+      RunOptions opts;
+      opts.frequency = ps.frequency;
+      opts.quantities = ps.quantities;
+      opts.threads = args.threads;
+      opts.store = journal.store(static_cast<int>(k));
+      opts.cancel = &cancel_requested();
+      Progress progress(err, terminal, static_cast<int>(ps.gaps.size()),
+                        scan ? fmt::format("scan point {} of {}, ", k + 1, points.size()) : "");
+      if (show) {
+        // Relative cost per gap from the plan's model (no timing needed): small gaps cost more.
+        const Plan& plan = plans[k];
+        std::vector<int> freqs;
+        std::vector<double> cost;
+        for (const auto& gp : plan.gaps) {
+          freqs.push_back(gp.frequencies);
+          cost.push_back(gp.frequencies * gp.flops_per_frequency);
+        }
+        progress.set_plan(std::move(freqs), std::move(cost));
+        opts.progress = [&](int done, int total) { progress.gap_done(done, total); };
+        opts.gap_started = [&](int gap) { progress.gap_started(gap); };
+        opts.frequency_progress = [&](int gap, int n) { progress.frequency(gap, n); };
+      }
+      run.result = run_sweep(*geometries[k], ps.gaps, opts);
+      progress.finish();
+      if (geometries[k]->parallel_inside()) run.result.threads = omp_get_max_threads();
+    }
     run.info = results_info(ps);
     run.info.frequency_rule = rules_used(ps, &run.result);
     run.parameters = points[k].parameters;
@@ -498,14 +564,15 @@ int run_command(const RunArgs& args, std::ostream& out, std::ostream& err) {
                        partial_results_path(where.path).string(), where.path.string());
   journal.remove();
   const int threads = runs.front().result.threads;
+  const std::string on =
+      distributed ? team_text : fmt::format("{} thread{}", threads, threads == 1 ? "" : "s");
+  if (distributed) wall = runs.front().result.wall_seconds;  // one sweep for every scan point
   if (scan)
-    out << fmt::format("\nresults: {} ({} scan points, {} gaps, {:.2f} s on {} thread{})\n",
-                       where.path.string(), points.size(), gaps_written, wall, threads,
-                       threads == 1 ? "" : "s");
+    out << fmt::format("\nresults: {} ({} scan points, {} gaps, {:.2f} s on {})\n",
+                       where.path.string(), points.size(), gaps_written, wall, on);
   else
-    out << fmt::format("\nresults: {} ({} gap{}, {:.2f} s on {} thread{})\n", where.path.string(),
-                       gaps_written, gaps_written == 1 ? "" : "s", wall, threads,
-                       threads == 1 ? "" : "s");
+    out << fmt::format("\nresults: {} ({} gap{}, {:.2f} s on {})\n", where.path.string(),
+                       gaps_written, gaps_written == 1 ? "" : "s", wall, on);
   if (!converged) {
     err << "roundtrip: warning: some gaps missed rel_tol (marked '!'; results/converged = 0)\n";
     return kExitNotConverged;

@@ -5,11 +5,13 @@
 #include <csignal>
 #include <exception>
 #include <iostream>
+#include <optional>
 #include <string>
 
 #include "io/cli/commands.h"
 #include "io/errors.h"
 #include "io/results_hdf5.h"
+#include "solver/parallel/mpi.h"
 
 namespace cli = roundtrip::io::cli;
 
@@ -111,22 +113,41 @@ int main(int argc, char** argv) {
     return 2;
   }
 
-  try {
-    if (*run) return cli::run_command(run_args, std::cout, std::cerr);
-    if (*check) return cli::check_command(check_args, std::cout, std::cerr);
-    if (*plot) return cli::plot_command(plot_path, plot_dir);
-    if (*preview) return cli::preview_command(preview_args, std::cout);
-    if (*list) return cli::materials_list_command(std::cout);
-    if (*eps) return cli::materials_eps_command(eps_args, std::cout);
-  } catch (const roundtrip::io::StorageError& e) {
-    std::cerr << "roundtrip: error: " << e.what() << "\n";
-    return cli::kExitWriteFailed;
-  } catch (const roundtrip::io::CaseError& e) {
-    std::cerr << "roundtrip: error: " << e.what() << "\n";
-    return cli::kExitInputError;
-  } catch (const std::exception& e) {
-    std::cerr << "roundtrip: error: the solver failed: " << e.what() << "\n";
-    return cli::kExitInternalError;
+  // `run` under mpirun or srun: one MPI session per process (solver/parallel/mpi.h).
+  namespace parallel = roundtrip::parallel;
+  std::optional<parallel::Session> mpi;
+  if (*run) {
+    if (!parallel::mpi_built() && parallel::launched_world_size() > 1) {
+      std::cerr << "roundtrip: error: started as one of " << parallel::launched_world_size()
+                << " MPI processes, but " << parallel::not_built_text() << "\n";
+      return cli::kExitInputError;
+    }
+    mpi.emplace(&argc, &argv);
+    mpi->set_before_abort([] { roundtrip::io::remove_pending_results_file(); });
   }
-  return 2;
+  int status = 2;
+  std::string error;  // printed as "roundtrip: error: <error>"
+  try {
+    if (*run) status = cli::run_command(run_args, std::cout, std::cerr);
+    if (*check) status = cli::check_command(check_args, std::cout, std::cerr);
+    if (*plot) status = cli::plot_command(plot_path, plot_dir);
+    if (*preview) status = cli::preview_command(preview_args, std::cout);
+    if (*list) status = cli::materials_list_command(std::cout);
+    if (*eps) status = cli::materials_eps_command(eps_args, std::cout);
+  } catch (const parallel::StopRun& stop) {  // another rank failed; its message is printed
+    status = stop.status;
+  } catch (const roundtrip::io::StorageError& e) {
+    error = e.what();
+    status = cli::kExitWriteFailed;
+  } catch (const roundtrip::io::CaseError& e) {
+    error = e.what();
+    status = cli::kExitInputError;
+  } catch (const std::exception& e) {
+    error = std::string("the solver failed: ") + e.what();
+    status = cli::kExitInternalError;
+  }
+  std::cout << std::flush;
+  if (mpi) return mpi->finish(status, error);
+  if (!error.empty()) std::cerr << "roundtrip: error: " << error << "\n";
+  return status;
 }

@@ -1,0 +1,233 @@
+// Sweeps in rounds of independent frequency tasks (frequency_rounds.h).
+#include "solver/parallel/frequency_rounds.h"
+
+#include <omp.h>
+
+#include <algorithm>
+#include <bit>
+#include <chrono>
+#include <cmath>
+#include <cstdlib>
+#include <exception>
+#include <stdexcept>
+
+#include "solver/guards.h"
+
+namespace roundtrip::parallel {
+namespace {
+
+std::uint64_t bits(double x) { return std::bit_cast<std::uint64_t>(x); }
+
+double seconds_since(std::chrono::steady_clock::time_point t0) {
+  return std::chrono::duration<double>(std::chrono::steady_clock::now() - t0).count();
+}
+
+// A stand-in for s(xi) not computed yet: the nearest known value of the gap scaled by
+// exp(-(xi - xi_n)/xi_scale) (every round trip decays like that at large xi), else the plan's
+// model -exp(-xi/xi_scale) with its gap derivatives (solver/plan.cc). Only steers which
+// frequencies a round asks for; never enters a result.
+Spectral surrogate(double xi, double xi_scale, double gap,
+                   const std::vector<std::pair<double, Spectral>>& known) {
+  const std::pair<double, Spectral>* near = nullptr;
+  for (const auto& k : known)
+    if (!near || std::abs(k.first - xi) < std::abs(near->first - xi)) near = &k;
+  if (near) return near->second * std::exp(-(xi - near->first) / xi_scale);
+  const double u = xi / xi_scale, e = -std::exp(-u);
+  return Spectral{e, e * (1.0 + u) / gap, e * (1.0 + u) * (1.0 + u) / (gap * gap)};
+}
+
+}  // namespace
+
+TaskValue compute_task(const std::vector<SweepInput>& inputs, const Task& task) {
+  throw_if_cancelled();
+  // Fault injection for the tests (DEVELOPERS.md): the MPI rank named by
+  // ROUNDTRIP_FAULT_INJECT_RANK fails its tasks as a solver failure would.
+  static const int fail_rank = [] {
+    const char* f = std::getenv("ROUNDTRIP_FAULT_INJECT_RANK");
+    const char* r = std::getenv("OMPI_COMM_WORLD_RANK");
+    return f && *f && r && std::atoi(f) == std::atoi(r) ? std::atoi(f) : -1;
+  }();
+  if (fail_rank >= 0)
+    throw std::runtime_error(
+        "fault injected by ROUNDTRIP_FAULT_INJECT_RANK on this rank (a test of failure handling)");
+  const SweepInput& in = inputs.at(task.point);
+  const double gap = in.gaps.at(task.gap);
+  const auto t0 = std::chrono::steady_clock::now();
+  TaskValue v;
+  if (task.kind == TaskKind::kFrequency) {
+    v.s =
+        in.geometry->at_frequency_within(task.xi, gap, in.options.quantities.order(), task.rel_tol);
+  } else {
+    const std::optional<PfaValues> p = in.geometry->pfa(gap, in.options.frequency);
+    v.present = p.has_value();
+    if (p) v.s = Spectral{p->energy, p->force, p->gradient};
+  }
+  v.seconds = seconds_since(t0);
+  return v;
+}
+
+SweepRounds::SweepRounds(const std::vector<SweepInput>& inputs) : inputs_(inputs) {
+  for (const auto& in : inputs_) gaps_.emplace_back(in.gaps.size());
+}
+
+bool SweepRounds::replay(int point, int gap, std::vector<Task>* tasks, std::set<Key>* asked_now) {
+  const SweepInput& in = inputs_[point];
+  const double L = in.gaps[gap];
+  const double xi_scale = in.geometry->frequency_scale(L);
+  const double cost = in.gap_costs.empty() ? 1.0 : in.gap_costs[gap];
+  std::vector<double> asked;
+  std::set<std::uint64_t> missed;
+  std::vector<std::pair<double, Spectral>> known;
+  std::vector<Key> used;
+  bool complete = true;
+  // The same calls run_point (solver/run.cc) makes, answered from what is known.
+  const auto s = [&](double xi, double rel_tol) -> Spectral {
+    const bool again = std::find(asked.begin(), asked.end(), xi) != asked.end();
+    asked.push_back(xi);
+    if (!again) {
+      const XiKey xk{point, gap, bits(xi)};
+      auto it = journal_.find(xk);
+      if (it == journal_.end()) {
+        Spectral v;
+        std::optional<Spectral> loaded;
+        if (in.options.store && in.options.store->lookup(gap, xi, v)) loaded = v;
+        it = journal_.emplace(xk, loaded).first;
+      }
+      if (it->second) {
+        known.emplace_back(xi, *it->second);
+        return *it->second;
+      }
+    }
+    const Key k{point, gap, bits(xi), bits(rel_tol)};
+    if (const auto it = values_.find(k); it != values_.end()) {
+      used.push_back(k);
+      known.emplace_back(xi, it->second);
+      return it->second;
+    }
+    complete = false;
+    // A re-ask of a value that is itself a stand-in waits for the real value (next round).
+    if (!missed.count(bits(xi)) && asked_now->insert(k).second)
+      tasks->push_back(Task{TaskKind::kFrequency, point, gap, xi, rel_tol, cost});
+    missed.insert(bits(xi));
+    return surrogate(xi, xi_scale, L, known);
+  };
+  FrequencySum sum;
+  try {
+    sum = sum_over_frequencies(TolerantSpectralFunction(s), xi_scale, in.options.frequency);
+  } catch (...) {
+    if (complete) throw;  // the serial run fails the same way
+    return false;         // a stand-in led the rule astray: the real values decide next round
+  }
+  if (!complete) return false;
+  GapState& st = gaps_[point][gap];
+  st.finished = true;
+  st.sum = std::move(sum);
+  used_.insert(used.begin(), used.end());
+  return true;
+}
+
+std::vector<Task> SweepRounds::next_round() {
+  std::vector<Task> tasks;
+  std::set<Key> asked_now;
+  for (int p = 0; p < static_cast<int>(inputs_.size()); ++p)
+    for (int g = 0; g < static_cast<int>(inputs_[p].gaps.size()); ++g) {
+      GapState& st = gaps_[p][g];
+      if (!st.pfa_done && stats_.rounds == 0)
+        tasks.push_back(Task{TaskKind::kPfa, p, g, 0.0, 0.0, 0.0});  // cheap: handed out last
+      if (!st.finished) replay(p, g, &tasks, &asked_now);
+    }
+  std::stable_sort(tasks.begin(), tasks.end(), [](const Task& a, const Task& b) {
+    if (a.cost != b.cost) return a.cost > b.cost;
+    if (a.kind != b.kind) return a.kind < b.kind;
+    if (a.xi != b.xi) return a.xi < b.xi;  // low frequencies need the larger truncations
+    return std::tie(a.point, a.gap) < std::tie(b.point, b.gap);
+  });
+  if (!tasks.empty()) ++stats_.rounds;
+  return tasks;
+}
+
+void SweepRounds::deliver(const Task& task, const TaskValue& value) {
+  ++stats_.tasks;
+  stats_.task_seconds += value.seconds;
+  GapState& st = gaps_[task.point][task.gap];
+  st.seconds += value.seconds;
+  if (task.kind == TaskKind::kPfa) {
+    st.pfa_done = true;
+    if (value.present) st.pfa = PfaValues{value.s.value, value.s.d1, value.s.d2};
+    return;
+  }
+  values_[Key{task.point, task.gap, bits(task.xi), bits(task.rel_tol)}] = value.s;
+  if (ContributionStore* store = inputs_[task.point].options.store)
+    store->record(task.gap, task.xi, value.s);
+}
+
+std::vector<RunResult> SweepRounds::results(double wall_seconds) {
+  std::vector<RunResult> out;
+  for (int p = 0; p < static_cast<int>(inputs_.size()); ++p) {
+    const SweepInput& in = inputs_[p];
+    const Geometry& g = *in.geometry;
+    RunResult r;
+    r.kind = g.kind();
+    r.description = g.describe();
+    r.scale = g.scale();
+    r.pfa_length = g.pfa_length().value_or(0.0);
+    for (int k = 0; k < static_cast<int>(in.gaps.size()); ++k) {
+      const GapState& st = gaps_[p][k];
+      if (st.finished && st.pfa_done) {
+        r.points.push_back(
+            point_result(g, in.gaps[k], in.options.quantities.order(), st.sum, st.pfa));
+        r.points.back().wall_seconds = st.seconds;  // task time (not wall time) of this gap
+      } else {
+        PointResult incomplete;
+        incomplete.gap = in.gaps[k];
+        incomplete.complete = false;
+        r.points.push_back(std::move(incomplete));
+        r.cancelled = true;
+      }
+    }
+    fit_thetas(g, in.options, r);
+    r.wall_seconds = wall_seconds;
+    out.push_back(std::move(r));
+  }
+  stats_.speculative = 0;
+  for (const auto& [k, v] : values_)  // only finished gaps know which values they did not use
+    if (!used_.count(k) && gaps_[std::get<0>(k)][std::get<1>(k)].finished) ++stats_.speculative;
+  return out;
+}
+
+std::vector<RunResult> run_sweeps_in_rounds(const std::vector<SweepInput>& inputs, int slots,
+                                            RoundStats* stats) {
+  const auto t0 = std::chrono::steady_clock::now();
+  std::optional<CancelScope> scope;
+  if (!inputs.empty() && inputs.front().options.cancel)
+    scope.emplace(inputs.front().options.cancel);
+  SweepRounds rounds(inputs);
+  for (;;) {
+    const std::vector<Task> tasks = rounds.next_round();
+    if (tasks.empty()) break;
+    const int n = static_cast<int>(tasks.size());
+    std::vector<TaskValue> values(n);
+    std::vector<char> done(n, 0);
+    std::exception_ptr failure;
+#pragma omp parallel for schedule(dynamic, 1) num_threads(std::max(1, slots))
+    for (int i = 0; i < n; ++i) {
+      try {
+        values[i] = compute_task(inputs, tasks[i]);
+        done[i] = 1;
+      } catch (const Cancelled&) {
+      } catch (...) {
+#pragma omp critical(roundtrip_rounds_failure)
+        if (!failure) failure = std::current_exception();
+      }
+    }
+    if (failure) std::rethrow_exception(failure);
+    for (int i = 0; i < n; ++i)
+      if (done[i]) rounds.deliver(tasks[i], values[i]);
+    if (cancellation_requested()) break;
+  }
+  std::vector<RunResult> out = rounds.results(seconds_since(t0));
+  if (stats) *stats = rounds.stats();
+  return out;
+}
+
+}  // namespace roundtrip::parallel
