@@ -51,6 +51,7 @@ PointResult run_point(const Geometry& geometry, int index, double gap, const Run
   p.gradient = order >= DerivativeOrder::kGradient ? -p.frequencies.total.d2 : 0.0;
   p.energy_error = p.frequencies.abs_error;
   p.pfa = geometry.pfa(gap, options.frequency);
+  p.extra = geometry.extra_quantities(gap, options.frequency);
   p.truncation = geometry.truncation(gap);
   if (const std::string why = geometry.unverified_truncation(gap); !why.empty()) {
     p.frequencies.converged = false;
