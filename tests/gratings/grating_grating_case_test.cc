@@ -91,7 +91,8 @@ TEST(GratingGratingCase, BadInputNamesFileLineKeyAndValue) {
   // [offsets] where the kind has none.
   const std::string plate =
       "geometry = \"plate-plate\"\n[plate]\nmaterial = \"silicon\"\n[separations]\n"
-      "values = [\"200 nm\"]\n[conditions]\ntemperature = \"0 K\"\n[offsets]\nvalues = [\"0 nm\"]\n";
+      "values = [\"200 nm\"]\n[conditions]\ntemperature = \"0 K\"\n[offsets]\nvalues = [\"0 "
+      "nm\"]\n";
   m = error_of(plate);
   EXPECT_NE(m.find("gg.toml:8: offsets: geometry = \"plate-plate\" has no lateral offsets"),
             std::string::npos)
