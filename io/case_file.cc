@@ -14,6 +14,7 @@
 #include "io/atom_spec.h"
 #include "io/errors.h"
 #include "io/material_spec.h"
+#include "io/offsets_spec.h"
 #include "io/units.h"
 #include "solver/materials/library.h"
 
@@ -251,6 +252,7 @@ std::vector<std::pair<std::string, double>> CaseSpec::body_lengths() const {
   std::vector<std::pair<std::string, double>> out;
   for (const auto& b : bodies)
     if (b.shape != Shape::kPlate) out.emplace_back(b.table + "_radius_m", b.radius);
+  if (kind && kind->offsets && offsets.size() == 1) out.emplace_back("offset_m", offsets.front());
   return out;
 }
 
@@ -733,6 +735,7 @@ CaseSpec parse_case(std::string text, const std::filesystem::path& path) {
   CaseSpec point = spec;
   spec = parse_point(pc, std::move(spec), nullptr);
   spec.scan = pc.axes;
+  if (spec.offsets.size() > 1) spec.scan.push_back(ScanAxis{"offset", spec.offset_texts});
   spec.text = std::move(text);
   // Every point must be a valid case (materials of the scan, combinations).
   if (!pc.axes.empty()) (void)expand(pc, point);
@@ -746,7 +749,19 @@ std::vector<ScanPoint> scan_points(const CaseSpec& spec) {
   CaseSpec base;
   base.path = spec.path;
   base.material_cache = spec.material_cache;
-  return expand(pc, base);
+  std::vector<ScanPoint> points = expand(pc, base);
+  if (spec.offsets.size() < 2) return points;
+  // Lateral offsets: the last, fastest scan axis "offset"; each point holds one offset.
+  std::vector<ScanPoint> out;
+  for (const auto& p : points)
+    for (std::size_t i = 0; i < spec.offsets.size(); ++i) {
+      ScanPoint q = p;
+      q.parameters.emplace_back("offset", spec.offset_texts[i]);
+      q.spec.offsets = {spec.offsets[i]};
+      q.spec.offset_texts = {spec.offset_texts[i]};
+      out.push_back(std::move(q));
+    }
+  return out;
 }
 
 namespace {
@@ -756,7 +771,7 @@ CaseSpec parse_root(toml::table& root, CaseSpec spec) {
   const std::string name = path.string();
   std::vector<std::string> top{"title",       "geometry",   "field",   "medium",
                                "separations", "conditions", "compute", "numerics",
-                               "output",      "materials",  "scan"};
+                               "output",      "materials",  "scan",    "offsets"};
   for (const auto& t : body_table_names()) top.push_back(t);
   check_keys(root, "", top);
 
@@ -968,6 +983,19 @@ CaseSpec parse_root(toml::table& root, CaseSpec spec) {
   spec.gaps =
       parse_separations(root, required_table(root, root, "separations", "separations",
                                              "values = [\"100 nm\", ...] or from/to/count"));
+
+  // Lateral offsets (kinds that read them; io/offsets_spec.h).
+  if (const toml::table* o = optional_table(root, "offsets", "offsets")) {
+    if (!kind.offsets)
+      throw table_error(*o, "offsets",
+                        fmt::format("geometry = \"{}\" has no lateral offsets", kind.name));
+    OffsetsSpec os = parse_offsets(*o);
+    spec.offsets = std::move(os.values);
+    spec.offset_texts = std::move(os.texts);
+  } else if (kind.offsets) {
+    spec.offsets = {0.0};
+    spec.offset_texts = {"0 nm"};
+  }
 
   // Conditions.
   const toml::table& cond =

@@ -64,6 +64,10 @@ struct CaseSpec {
   std::vector<BodySpec> bodies;           ///< the kind's lower and upper body, in that order
   MaterialPtr medium;                     ///< never null (vacuum by default)
   std::vector<double> gaps;               ///< m, each > 0, in the order given
+  /// Kinds with GeometryKind::offsets: lateral offsets b (m) from [offsets] (default {0}); a
+  /// scan point holds one. With more than one, `scan` ends with the axis "offset".
+  std::vector<double> offsets;
+  std::vector<std::string> offset_texts;  ///< each offset as written (io/offsets_spec.h)
   FrequencyRuleOptions frequency;         ///< temperature_K and rel_tol
   Quantities quantities;
   int l_max = 0;             ///< kinds with spheres: multipole cut-off, 0 = automatic

@@ -188,6 +188,18 @@ void write_run(H5::Group& file, const RunResult& r, const ResultsInfo& info) {
     }
   }
 
+  // Quantities a geometry adds (Geometry::extra_quantities, e.g. the lateral force), by name in
+  // the order of the first gap; NaN where a gap lacks one.
+  if (!r.points.empty())
+    for (const ExtraQuantity& x : r.points.front().extra) {
+      const auto v = column(r, [&](const PointResult& p) {
+        for (const auto& y : p.extra)
+          if (y.name == x.name) return y.value;
+        return std::numeric_limits<double>::quiet_NaN();
+      });
+      vector_dataset(res, x.name, v, x.units, x.description);
+    }
+
   write_theta(res, r);
 
   std::set<std::string> trunc_names;

@@ -64,6 +64,7 @@ struct PointResult {
   double gradient = 0.0;      ///< dF/dL = -d2E/dL2
   double energy_error = 0.0;  ///< estimated absolute error of energy
   std::optional<PfaValues> pfa;
+  std::vector<ExtraQuantity> extra;  ///< Geometry::extra_quantities (e.g. lateral force)
   FrequencySum frequencies;
   std::map<std::string, double> truncation;
   double wall_seconds = 0.0;

@@ -178,6 +178,9 @@ void print_results(const CaseSpec& spec, const RunResult& r, std::ostream& out) 
     if (force) head.push_back("F/F_PFA");
     if (q.gradient) head.push_back("F\u2032/F\u2032_PFA");
   }
+  const std::vector<ExtraQuantity> extra =
+      r.points.empty() ? std::vector<ExtraQuantity>{} : r.points.front().extra;
+  for (const auto& x : extra) head.push_back(fmt::format("{} [{}]", x.column, x.units));
   TextTable t(head);
   for (const auto& p : r.points) {
     std::vector<std::string> row{gap_text(p.gap, gu) + (p.frequencies.converged ? "" : " !")};
@@ -190,6 +193,8 @@ void print_results(const CaseSpec& spec, const RunResult& r, std::ostream& out) 
       if (force) row.push_back(ratio(p.force, p.pfa ? p.pfa->force : 1.0));
       if (q.gradient) row.push_back(ratio(p.gradient, p.pfa ? p.pfa->gradient : 1.0));
     }
+    for (std::size_t i = 0; i < extra.size(); ++i)
+      row.push_back(i < p.extra.size() ? sci(p.extra[i].value) : "-");
     t.add_row(std::move(row));
   }
   if (!spec.title.empty()) out << spec.title << "\n";

@@ -40,6 +40,7 @@ struct GeometryKind {
   ResultScale scale = ResultScale::kTotal;  ///< must equal the built Geometry's scale()
   bool scalar_fields = false;               ///< accepts field = "dirichlet" | "neumann"
   std::vector<std::string> numerics_keys;   ///< [numerics] keys beyond rel_tol, frequency_rule
+  bool offsets = false;  ///< reads [offsets] (lateral offsets of the upper body, offsets_spec.h)
   /// The solver object of a parsed case; throws CaseError for what it cannot compute.
   std::function<std::shared_ptr<Geometry>(const CaseSpec&)> build;
 };
@@ -59,5 +60,6 @@ GeometryKind sphere_sphere_kind();
 GeometryKind cylinder_plate_kind();
 GeometryKind atom_plate_kind();
 GeometryKind grating_plate_kind();
+GeometryKind grating_grating_kind();
 
 }  // namespace roundtrip::io

@@ -10,6 +10,8 @@ file's stem:
   <stem>_force.*        |F| and |F'| against L, with their PFA values where present
   <stem>_drude_plasma.* Drude/plasma ratio of F against L (scans over a material only)
   <stem>_spectrum.*     per-frequency contributions w_j s(xi_j) to E at up to four gaps
+  <stem>_lateral.*      lateral force per area F_b = -dE/db against the offset b, one curve per
+                        gap (and other scan parameters), with its PFA (kinds with [offsets])
 Scans draw one curve per scan point. Needs Debian's python3-matplotlib and python3-h5py.
 """
 import argparse
@@ -49,7 +51,9 @@ def unit_of(ds):
 
 
 def plot_pfa(f, out_dir, stem, written):
-    rs = [(lab, g) for lab, g in runs(f) if "results/energy_ratio" in g or "results/force_ratio" in g]
+    rs = [(lab, g) for lab, g in runs(f)
+          if ("results/energy_ratio" in g or "results/force_ratio" in g)
+          and any(k in g.attrs for k in ("pfa_length_m", "sphere_radius_m"))]
     if not rs:
         return
     fig, ax = plt.subplots(figsize=(6.4, 4.4))
@@ -172,6 +176,37 @@ def plot_spectrum(f, out_dir, stem, written):
     save(fig, out_dir, stem, "spectrum", written)
 
 
+def plot_lateral(f, out_dir, stem, written):
+    pts = [g for _, g in runs(f) if "results/lateral_force" in g and "offset_m" in g.attrs]
+    if not pts:
+        return
+    # One curve per gap and per combination of the other scan parameters.
+    def others(g):
+        return tuple((k, text(g.attrs[k])) for k in sorted(g.attrs)
+                     if k.startswith("scan.") and k != "scan.offset")
+    curves = {}
+    for g in pts:
+        gaps = g["results/gap"][:]
+        for i, L in enumerate(gaps):
+            pfa = g["results/lateral_force_pfa"][i] if "results/lateral_force_pfa" in g else np.nan
+            curves.setdefault((others(g), float(L)), []).append(
+                (float(g.attrs["offset_m"]), float(g["results/lateral_force"][i]), float(pfa)))
+    fig, ax = plt.subplots(figsize=(6.4, 4.4))
+    unit = unit_of(pts[0]["results/lateral_force"])
+    for (oth, L), rows in sorted(curves.items()):
+        rows.sort()
+        b = np.array([r[0] for r in rows]) * 1e9
+        lab = f"L = {L * 1e9:g} nm" + "".join(f", {k[5:]} = {v}" for k, v in oth)
+        line, = ax.plot(b, [r[1] for r in rows], "o-", label=lab)
+        ax.plot(b, [r[2] for r in rows], "--", color=line.get_color(), lw=1, label=lab + " (PFA)")
+    ax.axhline(0.0, color="0.6", lw=0.8)
+    ax.set_xlabel("offset b of the upper grating's ridges (nm)")
+    ax.set_ylabel(f"lateral force per area F_b = \u2212dE/db ({unit})")
+    ax.set_title("Lateral force against the offset (> 0 pushes towards +x)")
+    ax.legend(fontsize=8)
+    save(fig, out_dir, stem, "lateral", written)
+
+
 def main(argv):
     ap = argparse.ArgumentParser(description="Plots of a roundtrip results file (PNG and SVG).")
     ap.add_argument("result", help="results file written by `roundtrip run` (HDF5)")
@@ -195,6 +230,7 @@ def main(argv):
     plot_force(f, out_dir, stem, written)
     plot_drude_plasma(f, out_dir, stem, written)
     plot_spectrum(f, out_dir, stem, written)
+    plot_lateral(f, out_dir, stem, written)
     for p in written:
         print(p)
     return 0

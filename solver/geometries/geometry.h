@@ -28,6 +28,17 @@ struct PfaValues {
 
 struct FrequencyRuleOptions;  // solver/frequency/frequency_rule.h
 
+/// A per-gap result beyond E, F, F' that a geometry computes itself (e.g. the lateral force of
+/// two gratings), stored as /results/<name> and printed as a column.
+struct ExtraQuantity {
+  std::string name;         ///< HDF5 dataset name, e.g. "lateral_force"
+  std::string column;       ///< table column head without units, e.g. "F_b"
+  std::string units;        ///< SI unit string, e.g. "Pa"
+  std::string description;  ///< one sentence with its sign convention
+  double value = 0.0;
+  double abs_error = 0.0;  ///< estimated absolute error (frequency rule); 0 if not estimated
+};
+
 /// Model cost of one frequency of a geometry: its symmetry blocks (m, k_z or Bloch vector), each
 /// with a cost in model flops, and the peak working memory of one thread. Flops are
 /// "gemm-equivalent": seconds = flops x (seconds per flop of a large matrix product) x the
@@ -78,6 +89,12 @@ class Geometry {
   /// geometry has one distinct from the exact result (plates do not).
   virtual std::optional<PfaValues> pfa(double /*gap*/, const FrequencyRuleOptions& /*opts*/) const {
     return std::nullopt;
+  }
+  /// Quantities beyond E, F, F' at gap L (default none); each from the geometry's own frequency
+  /// sum with `opts`.
+  virtual std::vector<ExtraQuantity> extra_quantities(double /*gap*/,
+                                                      const FrequencyRuleOptions& /*opts*/) const {
+    return {};
   }
   /// The length R in the PFA expansion Q/Q_PFA = 1 + theta L/R + ... (sphere radius), if any.
   virtual std::optional<double> pfa_length() const { return std::nullopt; }
