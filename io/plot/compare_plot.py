@@ -17,6 +17,7 @@ import matplotlib
 
 matplotlib.use("Agg")  # files only, no display
 import matplotlib.pyplot as plt  # noqa: E402
+import matplotlib.ticker  # noqa: E402
 import numpy as np  # noqa: E402
 
 
@@ -71,6 +72,9 @@ def plot_comparison(f, name, out_dir, stem, written):
     axr.axhline(0.0, color="0.5", lw=0.8)
     if log_x:
         ax.set_xscale("log")
+        for a in (ax, axr):  # plain numbers (150, 200, ...) rather than 2x10^2
+            a.xaxis.set_major_formatter(matplotlib.ticker.ScalarFormatter())
+            a.xaxis.set_minor_formatter(matplotlib.ticker.FormatStrFormatter("%g"))
     if log_y:
         ax.set_yscale("log")
     sym = {"force": "F", "pressure": "P", "gradient": "F\u2032", "energy": "E"}[q]

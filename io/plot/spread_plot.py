@@ -85,10 +85,10 @@ def plot_optical_spread(f, out_dir, stem, written):
         ax.fill_between(L, rel.min(axis=0), rel.max(axis=0), color="tab:orange", alpha=0.3,
                         lw=0, label=f"optical data sets: min\u2013max ({len(tab)} sets; "
                                     f"width {100 * spread.min():.2g}\u2013{100 * spread.max():.2g} %)")
-        for (name, _), r in zip(sets["table"], rel):
-            ax.plot(L, r, "-", lw=0.7, color="tab:orange", alpha=0.9)
-            ax.annotate(name, (L[-1], r[-1]), fontsize=6, xytext=(3, 0),
-                        textcoords="offset points", va="center", color="tab:brown")
+        styles = ["-", ":", "--", "-."]
+        for i, ((name, _), r) in enumerate(zip(sets["table"], rel)):
+            ax.plot(L, r, styles[i % len(styles)], lw=0.8, color="tab:brown",
+                    label=f"optical data: {name}")
         for kind, style, color in (("drude", "--", "tab:blue"), ("plasma", "-.", "tab:red")):
             for name, v in sets[kind]:
                 ax.plot(L, v / ref, style, lw=1.4, color=color, label=f"{kind.capitalize()}: {name}")

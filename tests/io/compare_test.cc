@@ -243,3 +243,191 @@ TEST(OutputUnits, PrefixesRatiosAndThermalEnergy) {
 }
 
 }  // namespace
+
+namespace {
+
+// Through the program: a Drude/plasma scan of gold plates, "measured" values m_i (1 + 0.01 s_i)
+// with sigma_i = 0.01 |m_i| at the computed gaps of the Drude point, so that chi^2 = sum s_i^2
+// exactly (by hand: 1 + 0.25 + 4 + 0 + 2.25 + 1 + 0.01 + 0.64 = 9.15).
+class CompareCli : public roundtrip::testing::ScratchDirTest {
+ protected:
+  void SetUp() override {
+    ScratchDirTest::SetUp();
+    std::ofstream(dir_ / "scan.toml") << R"(geometry = "plate-plate"
+[plate]
+material = "gold-drude"
+[separations]
+from = "150 nm"
+to = "1 um"
+count = 8
+spacing = "log"
+[conditions]
+temperature = "300 K"
+[numerics]
+rel_tol = 1e-8
+[scan]
+material = ["gold-drude", "gold-plasma"]
+)";
+    ASSERT_EQ(sh(fmt::format("'{}' run scan.toml --quiet -o r.h5 > run.out 2>&1", ROUNDTRIP_CLI)),
+              0)
+        << slurp(dir_ / "run.out");
+    std::ofstream(dir_ / "dump.py")
+        << "import h5py\nf = h5py.File('r.h5')\ng = f['scan/0/results']\n"
+           "for L, P in zip(g['gap'][:], g['force'][:]): print(repr(L * 1e9), repr(P * 1e3))\n";
+    ASSERT_EQ(sh("/usr/bin/python3 dump.py > dump.txt"), 0);
+    std::istringstream in(slurp(dir_ / "dump.txt"));
+    const double s[] = {1.0, -0.5, 2.0, 0.0, -1.5, 1.0, 0.1, -0.8};
+    std::ostringstream csv, inner;
+    csv << "# invented measurement for a test\n\ngap [nm], pressure [mPa], stat_error [mPa], "
+           "syst_error [mPa]\n";
+    inner << "gap [nm], pressure [mPa], stat_error [mPa]\n";
+    for (int i = 0; i < 8; ++i) {
+      double L = 0, P = 0;
+      in >> L >> P;
+      // stat and syst 0.6 % and 0.8 %: sigma = 1 % (the 3-4-5 triangle).
+      csv << fmt::format("{:.17g}, {:.17g}, {:.17g}, {:.17g}\n", L, P * (1.0 + 0.01 * s[i]),
+                         0.006 * std::abs(P), 0.008 * std::abs(P));
+      if (i > 0 && i < 7)  // room for an offset inside the computed gaps
+        inner << fmt::format("{:.17g}, {:.17g}, {:.17g}\n", L, P * (1.0 + 0.01 * s[i]),
+                             0.01 * std::abs(P));
+    }
+    std::ofstream(dir_ / "data.csv") << csv.str();
+    std::ofstream(dir_ / "inner.csv") << inner.str();
+  }
+  int sh(const std::string& cmd) { return roundtrip::testing::run_in(dir_, cmd); }
+  std::string compare(const std::string& extra) {
+    const int rc =
+        sh(fmt::format("'{}' compare r.h5 data.csv {} > out.txt 2> err.txt", ROUNDTRIP_CLI, extra));
+    return fmt::format("{}\n{}{}", rc, slurp(dir_ / "out.txt"), slurp(dir_ / "err.txt"));
+  }
+};
+
+TEST_F(CompareCli, WritesTheComparisonGroupTheCsvFilesAndThePlot) {
+  const std::string before = slurp(dir_ / "r.h5");
+  const std::string out = compare("--csv cmp.csv --plot-dir .");
+  ASSERT_EQ(out.substr(0, 2), "0\n") << out;
+  EXPECT_NE(out.find("material = gold-drude"), std::string::npos) << out;
+  std::ofstream(dir_ / "check.py") << R"(import h5py, math
+f = h5py.File('r.h5')
+g = f['comparison/data']
+assert g.attrs['quantity'] == 'pressure', g.attrs['quantity']
+m = g['models/0']
+assert m.attrs['label'] == 'material = gold-drude'
+assert abs(m.attrs['chi2'] - 9.15) < 1e-6, m.attrs['chi2']
+assert m.attrs['dof'] == 8
+assert g['value'].attrs['units'] == 'Pa'
+assert len(g['models']) == 2
+assert f['scan/0/results/force'].shape == (8,)
+print('ok')
+)";
+  EXPECT_EQ(sh("/usr/bin/python3 check.py > check.out 2>&1"), 0) << slurp(dir_ / "check.out");
+  // chi^2 = 9.15 (hand sum above) to the printed digits; rounding of the 17-digit gaps moves it
+  // by < 1e-10.
+  EXPECT_NE(out.find("9.15"), std::string::npos) << out;
+  const std::string summary = slurp(dir_ / "cmp.csv");
+  EXPECT_EQ(summary.substr(0, summary.find('\n')),
+            "model,\u03c7\u00b2,dof,\u03c7\u00b2/dof,p-value,model error/\u03c3");
+  EXPECT_NE(slurp(dir_ / "cmp_residuals.csv").find("material = gold-plasma"), std::string::npos);
+  EXPECT_TRUE(fs::exists(dir_ / "r_compare_data.png")) << out;
+  EXPECT_TRUE(fs::exists(dir_ / "r_compare_data.svg")) << out;
+  EXPECT_NE(slurp(dir_ / "r.h5"), before);
+  // The same name again replaces the group; another name adds one.
+  ASSERT_EQ(sh(fmt::format("'{}' compare r.h5 inner.csv --name data --no-plot --offset-range "
+                           "'-2 nm, 2 nm' > o.txt 2>&1",
+                           ROUNDTRIP_CLI)),
+            0)
+      << slurp(dir_ / "o.txt");
+  ASSERT_EQ(compare("--no-plot --name second").substr(0, 2), "0\n");
+  std::ofstream(dir_ / "groups.py") << "import h5py\nf = h5py.File('r.h5')\n"
+                                       "print(sorted(f['comparison'].keys()), "
+                                       "f['comparison/data'].attrs['offset_fitted'])\n";
+  ASSERT_EQ(sh("/usr/bin/python3 groups.py > groups.out 2>&1"), 0);
+  EXPECT_EQ(slurp(dir_ / "groups.out"), "['data', 'second'] 1\n");
+  // Data gaps at computed gaps +- delta leave the computed range at the ends: refused.
+  const std::string wide = compare("--no-plot --offset-range '-20 nm, 20 nm'");
+  EXPECT_EQ(wide.substr(0, 2), "1\n") << wide;
+  EXPECT_NE(wide.find("leave the computed gaps"), std::string::npos) << wide;
+}
+
+TEST_F(CompareCli, BadInputIsAnErrorNamingFileLineAndColumnAndLeavesTheFileAlone) {
+  const std::string before = slurp(dir_ / "r.h5");
+  const std::pair<const char*, const char*> cases[] = {
+      {"gap [nm], pressure [mPa]\n100, 1\n", "data.csv:1: header"},
+      {"gap, pressure [mPa], stat_error [mPa]\n", "data.csv:1: column 1 = \"gap\": no unit"},
+      {"gap [nm], torque [mPa], stat_error [mPa]\n", "column 2 = \"torque\""},
+      {"gap [nm], pressure [furlong], stat_error [mPa]\n", "column 2 (pressure)"},
+      {"gap [nm], pressure [pN], stat_error [pN]\n", "not a pressure unit"},
+      {"gap [nm], pressure [mPa], stat_error [pN]\n", "column 3 (stat_error) = \"pN\""},
+      {"# c\ngap [nm], pressure [mPa], stat_error [mPa]\n200, -1, 0\n",
+       "data.csv:3: column 3 (stat_error) = \"0\": a statistical uncertainty must be > 0"},
+      {"gap [nm], pressure [mPa], stat_error [mPa]\n200, abc, 1\n",
+       "data.csv:2: column 2 (pressure) = \"abc\": not a finite number"},
+      {"gap [nm], pressure [mPa], stat_error [mPa]\n-5, -1, 1\n", "a gap must be > 0"},
+      {"gap [nm], pressure [mPa], stat_error [mPa]\n200, -1\n", "data.csv:2: 2 values"},
+      {"gap [nm], pressure [mPa], stat_error [mPa]\n", "no data rows"},
+      {"gap [nm], pressure [mPa], stat_error [mPa], syst_error [mPa]\n200, -1, 1, -1\n",
+       "a systematic uncertainty must be >= 0"},
+      {"gap [nm], pressure [mPa], stat_error [mPa]\n50, -1, 1\n", "outside the computed gaps"},
+      {"gap [nm], force [pN], stat_error [pN]\n200, -1, 1\n", "name the data column `pressure`"},
+      {"gap [nm], gradient [Pa/m], stat_error [Pa/m]\n200, -1, 1\n", "holds no gradient"},
+      {"gap [nm], pressure [nan], stat_error [mPa]\n200, -1, 1\n", "column 2 (pressure)"},
+  };
+  for (const auto& [text, fragment] : cases) {
+    std::ofstream(dir_ / "data.csv") << text;
+    const std::string out = compare("--no-plot");
+    EXPECT_EQ(out.substr(0, 2), "1\n") << text << out;
+    EXPECT_NE(out.find(fragment), std::string::npos) << text << "\n" << out;
+    EXPECT_EQ(slurp(dir_ / "r.h5"), before) << text;
+  }
+  // Options.
+  std::ofstream(dir_ / "data.csv") << "gap [nm], pressure [mPa], stat_error [mPa]\n200, -1, 1\n";
+  for (const auto& [opt, fragment] :
+       {std::pair<const char*, const char*>{"--offset-range '5 nm, -5 nm'", "first end"},
+        {"--offset-range '5 nm'", "expected two lengths"},
+        {"--name 'a/b'", "--name = \"a/b\""},
+        {"--units furlong", "--units = \"furlong\""},
+        {"--units pN", "\"pN\" is a unit of force"},
+        {"--csv /nonexistent/x.csv", "--csv = \"/nonexistent/x.csv\""}}) {
+    const std::string out = compare(std::string("--no-plot ") + opt);
+    EXPECT_EQ(out.substr(0, 2), "1\n") << opt << out;
+    EXPECT_NE(out.find(fragment), std::string::npos) << opt << "\n" << out;
+    EXPECT_EQ(slurp(dir_ / "r.h5"), before) << opt;
+  }
+  std::ofstream(dir_ / "x.h5") << "not hdf5";
+  const int rc = sh(fmt::format("'{}' compare x.h5 data.csv > o.txt 2>&1", ROUNDTRIP_CLI));
+  EXPECT_EQ(rc, 1);
+  EXPECT_NE(slurp(dir_ / "o.txt").find("not a roundtrip results file"), std::string::npos);
+}
+
+// `run --units` and `--csv`: the same numbers in other units (pN-scale factors are exact powers
+// of ten) and the CSV at full precision with the scan values first.
+TEST_F(CompareCli, RunUnitsAndCsvExport) {
+  ASSERT_EQ(sh(fmt::format("'{}' run scan.toml --quiet -o u.h5 --units 'um, mPa, nJ/m^2' --csv "
+                           "t.csv > u.out 2>&1",
+                           ROUNDTRIP_CLI)),
+            0)
+      << slurp(dir_ / "u.out");
+  const std::string out = slurp(dir_ / "u.out");
+  EXPECT_NE(out.find("gap [um]"), std::string::npos) << out;
+  EXPECT_NE(out.find("F [mPa]"), std::string::npos) << out;
+  EXPECT_NE(out.find("E [nJ/m^2]"), std::string::npos) << out;
+  const std::string csv = slurp(dir_ / "t.csv");
+  EXPECT_EQ(csv.substr(0, csv.find('\n')), "material,gap [um],E [nJ/m^2],F [mPa],converged");
+  EXPECT_EQ(std::count(csv.begin(), csv.end(), '\n'), 17);  // header + 2 x 8 gaps
+  // The first pressure equals the HDF5 value x 1e3 to the last digit printed.
+  std::ofstream(dir_ / "p.py") << "import h5py, csv\nf = h5py.File('u.h5')\n"
+                                  "r = list(csv.reader(open('t.csv')))\n"
+                                  "print(abs(float(r[1][3]) / (f['scan/0/results/force'][0] * 1e3)"
+                                  " - 1) < 1e-15, r[9][0])\n";
+  ASSERT_EQ(sh("/usr/bin/python3 p.py > p.out 2>&1"), 0) << slurp(dir_ / "p.out");
+  EXPECT_EQ(slurp(dir_ / "p.out"), "True gold-plasma\n");
+  // kBT needs T > 0 and a unit must fit a column.
+  EXPECT_EQ(
+      sh(fmt::format("'{}' run scan.toml --quiet -o v.h5 --units pN > v.out 2>&1", ROUNDTRIP_CLI)),
+      1);
+  EXPECT_NE(slurp(dir_ / "v.out").find("\"pN\" is a unit of force"), std::string::npos)
+      << slurp(dir_ / "v.out");
+  EXPECT_FALSE(fs::exists(dir_ / "v.h5"));
+}
+
+}  // namespace
