@@ -431,3 +431,40 @@ TEST_F(CompareCli, RunUnitsAndCsvExport) {
 }
 
 }  // namespace
+
+namespace {
+
+// cases/gold_optical_data_spread.toml prints what its opening comment shows (its first table),
+// and `roundtrip plot` draws the optical-data band (spread_plot.py) for it.
+TEST(OpticalSpread, CasePrintsItsOpeningCommentAndPlotsTheBand) {
+  const fs::path dir = roundtrip::testing::fresh_dir("optical_spread");
+  const fs::path src = fs::path(ROUNDTRIP_SOURCE_DIR) / "cases" / "gold_optical_data_spread.toml";
+  ASSERT_EQ(roundtrip::testing::run_in(
+                dir, fmt::format("'{0}' run '{1}' --quiet > run.out 2>&1 && '{0}' plot "
+                                 "gold_optical_data_spread.h5 -o . > plot.out 2>&1",
+                                 ROUNDTRIP_CLI, src.string())),
+            0)
+      << slurp(dir / "run.out") << slurp(dir / "plot.out");
+  // The comment's table: the lines after "the first one being:" up to "#   ...".
+  std::istringstream text(slurp(src));
+  std::string line, expected;
+  bool in = false;
+  while (std::getline(text, line)) {
+    if (in && line.rfind("#   ...", 0) == 0) break;
+    if (in) expected += (line.size() > 4 ? line.substr(4) : std::string()) + "\n";
+    if (line.find("the first one being:") != std::string::npos) in = true;
+  }
+  ASSERT_FALSE(expected.empty());
+  const std::string out = slurp(dir / "run.out");
+  EXPECT_EQ(out.substr(0, expected.size()), expected);
+  for (const char* f : {"gold_optical_data_spread_optical_spread.png",
+                        "gold_optical_data_spread_optical_spread.svg"}) {
+    const std::string data = slurp(dir / f);
+    EXPECT_GT(data.size(), 1000u) << f << slurp(dir / "plot.out");
+  }
+  EXPECT_EQ(slurp(dir / "gold_optical_data_spread_optical_spread.png").substr(0, 8),
+            std::string("\x89PNG\r\n\x1a\n", 8));
+  fs::remove_all(dir);
+}
+
+}  // namespace
