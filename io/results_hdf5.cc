@@ -575,7 +575,15 @@ void amend_results_file(const std::filesystem::path& path,
   }
   std::filesystem::path temp = path;
   temp += fmt::format(".tmp.{}", static_cast<long>(getpid()));
-  write_durably(temp, image, where);
+  try {
+    write_durably(temp, image, where);
+  } catch (const StorageError& e) {  // the run's wording (journal, resume) does not apply here
+    throw StorageError(
+        fmt::format("{}: writing the changed file failed: {}; the file is kept as "
+                    "it was",
+                    where, write_failure_reason(e.error_number(), directory_of(path).string())),
+        e.error_number());
+  }
   if (::rename(temp.c_str(), path.c_str()) != 0) {
     const int e = errno;
     std::error_code ec;

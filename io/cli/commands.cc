@@ -840,16 +840,20 @@ int materials_eps_command(const EpsArgs& a, std::ostream& out) {
     throw CaseError(fmt::format("--to = \"{}\": must be larger than --from", a.to));
   if (a.spacing != "log" && a.spacing != "linear")
     throw CaseError(fmt::format("--spacing = \"{}\": expected \"log\" or \"linear\"", a.spacing));
+  if (!a.csv.empty()) check_csv_path(a.csv, "--csv");
   out << m->name() << ": " << m->description() << "\n";
   out << "source: " << m->source() << "\n";
   out << "at xi = 0: " << static_text(m->static_limit()) << "\n\n";
   TextTable t({"\u03be [rad/s]", "\u0127\u03be [eV]", "\u03b5(i\u03be)"});
+  CsvTable csv({"\u03be [rad/s]", "\u0127\u03be [eV]", "\u03b5(i\u03be)"});
   for (int i = 0; i < a.count; ++i) {
     const double s = a.count == 1 ? 0.0 : static_cast<double>(i) / (a.count - 1);
     const double xi = a.spacing == "log" ? from * std::pow(to / from, s) : from + (to - from) * s;
     t.add_row({sci(xi, 6), sci(xi / kRadPerSecondPerEv, 6), sci(m->epsilon(xi), 8)});
+    csv.add_row({csv_number(xi), csv_number(xi / kRadPerSecondPerEv), csv_number(m->epsilon(xi))});
   }
   out << t.render();
+  if (!a.csv.empty()) write_text_file_atomically(a.csv, csv.render(), "--csv");
   return kExitOk;
 }
 

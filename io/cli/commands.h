@@ -67,6 +67,7 @@ struct EpsArgs {
   std::string to = "1e17 rad/s";
   int count = 20;
   std::string spacing = "log";  ///< "log" | "linear"
+  std::string csv;              ///< --csv FILE: the table as CSV as well
 };
 int materials_eps_command(const EpsArgs& args, std::ostream& out);
 

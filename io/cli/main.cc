@@ -133,6 +133,7 @@ int main(int argc, char** argv) {
       ->capture_default_str();
   eps->add_option("--count", eps_args.count, "Number of frequencies")->capture_default_str();
   eps->add_option("--spacing", eps_args.spacing, "log or linear")->capture_default_str();
+  eps->add_option("--csv", eps_args.csv, "Also write the table to this CSV file");
 
   try {
     app.parse(argc, argv);

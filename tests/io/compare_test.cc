@@ -428,6 +428,18 @@ TEST_F(CompareCli, RunUnitsAndCsvExport) {
   EXPECT_NE(slurp(dir_ / "v.out").find("\"pN\" is a unit of force"), std::string::npos)
       << slurp(dir_ / "v.out");
   EXPECT_FALSE(fs::exists(dir_ / "v.h5"));
+  // materials eps --csv: eps(i xi) of gold-drude = 1 + wp^2/(xi (xi + gamma)), wp = 9.0 eV,
+  // gamma = 35 meV (README, built-in materials), at 1e15 rad/s.
+  ASSERT_EQ(sh(fmt::format("'{}' materials eps gold-drude --from '1e15 rad/s' --count 1 --csv "
+                           "eps.csv > e.out 2>&1",
+                           ROUNDTRIP_CLI)),
+            0)
+      << slurp(dir_ / "e.out");
+  const std::string eps = slurp(dir_ / "eps.csv");
+  const double wp = 9.0 * 1.602176634e-19 / 1.054571817e-34, g = 0.035 * wp / 9.0;
+  const double xi = 1e15, expected = 1.0 + wp * wp / (xi * (xi + g));
+  const auto last = eps.substr(eps.rfind(',') + 1);
+  EXPECT_NEAR(std::stod(last), expected, 1e-12 * expected) << eps;
 }
 
 }  // namespace
