@@ -9,6 +9,7 @@ A material counts as Drude or plasma by its model in the case file (`model = "dr
 import tomllib
 
 import matplotlib.pyplot as plt
+import matplotlib.ticker
 import numpy as np
 
 
@@ -94,6 +95,8 @@ def plot_optical_spread(f, out_dir, stem, written):
                 ax.plot(L, v / ref, style, lw=1.4, color=color, label=f"{kind.capitalize()}: {name}")
         ax.axhline(1.0, color="0.6", lw=0.8)
         ax.set_xscale("log")
+        ax.xaxis.set_major_formatter(matplotlib.ticker.ScalarFormatter())  # 100, 1000
+        ax.xaxis.set_minor_formatter(matplotlib.ticker.FormatStrFormatter("%g"))
         ax.set_xlabel("gap L (nm)")
         ax.set_ylabel(f"{sym} / mean {sym} of the optical data sets (ratio)")
         ax.set_title("Spread of optical data" + (f" ({title})" if title else ""))
