@@ -560,4 +560,51 @@ CommitOutcome ResultsWriter::write(const std::function<void(H5::H5File&)>& fill,
   return outcome;
 }
 
+void amend_results_file(const std::filesystem::path& path,
+                        const std::function<void(H5::H5File&)>& modify, const std::string& field) {
+  const std::string where = fmt::format("{} = \"{}\"", field, path.string());
+  if (!read_existing_results(path).readable)
+    throw CaseError(where + ": not a roundtrip results file (or not readable)");
+  silence_hdf5();
+  std::vector<unsigned char> image;
+  try {
+    H5::FileAccPropList fapl;
+    fapl.setCore(std::size_t{1} << 20, false);  // the whole file in memory; the disk untouched
+    H5::H5File file(path.string(), H5F_ACC_RDWR, H5::FileCreatPropList::DEFAULT, fapl);
+    modify(file);
+    file.flush(H5F_SCOPE_GLOBAL);
+    const ssize_t n = H5Fget_file_image(file.getId(), nullptr, 0);
+    if (n <= 0) throw H5::FileIException("H5Fget_file_image", "no file image");
+    image.resize(static_cast<std::size_t>(n));
+    if (H5Fget_file_image(file.getId(), image.data(), image.size()) != n)
+      throw H5::FileIException("H5Fget_file_image", "file image changed size");
+    file.close();
+  } catch (const H5::Exception& e) {
+    throw StorageError(fmt::format("{}: changing the HDF5 file in memory failed: {}; the file is "
+                                   "kept as it was",
+                                   where, e.getDetailMsg()),
+                       EIO);
+  }
+  std::filesystem::path temp = path;
+  temp += fmt::format(".tmp.{}", static_cast<long>(getpid()));
+  try {
+    write_durably(temp, image, where);
+  } catch (const StorageError& e) {  // the run's wording (journal, resume) does not apply here
+    throw StorageError(
+        fmt::format("{}: writing the changed file failed: {}; the file is kept as "
+                    "it was",
+                    where, write_failure_reason(e.error_number(), directory_of(path).string())),
+        e.error_number());
+  }
+  if (::rename(temp.c_str(), path.c_str()) != 0) {
+    const int e = errno;
+    std::error_code ec;
+    std::filesystem::remove(temp, ec);
+    throw StorageError(fmt::format("{}: could not move the changed file into place: {}", where,
+                                   write_failure_reason(e, directory_of(path).string())),
+                       e);
+  }
+  sync_directory(directory_of(path));
+}
+
 }  // namespace roundtrip::io

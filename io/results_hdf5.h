@@ -97,6 +97,14 @@ class ResultsWriter {
   bool committed_ = false;
 };
 
+/// Change an existing results file atomically: its bytes are read into memory (HDF5 core driver,
+/// no backing store), `modify` edits that copy, and the new image goes through the same
+/// temporary file, fsync and rename as a run's results (the file at `path` is the old or the new
+/// one, never a mixture). Throws CaseError naming `field` if `path` is no readable roundtrip
+/// results file, StorageError if writing fails (the old file is kept).
+void amend_results_file(const std::filesystem::path& path,
+                        const std::function<void(H5::H5File&)>& modify, const std::string& field);
+
 /// Async-signal-safe: unlink the temporary file of the writer that is alive, if any. For SIGINT
 /// and SIGTERM handlers, so that an interrupted run leaves nothing behind.
 void remove_pending_results_file() noexcept;

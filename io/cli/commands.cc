@@ -19,8 +19,10 @@
 
 #include "geometry/gmsh_export.h"
 #include "io/case_file.h"
+#include "io/csv_export.h"
 #include "io/errors.h"
 #include "io/journal.h"
+#include "io/output_units.h"
 #include "io/progress.h"
 #include "io/results_hdf5.h"
 #include "io/table.h"
@@ -157,11 +159,32 @@ OutputChoice choose_output(const RunArgs& args, const CaseSpec& spec) {
   return {fs::path(spec.path).stem().string() + ".h5", "output file (default: <case name>.h5)"};
 }
 
-void print_results(const CaseSpec& spec, const RunResult& r, std::ostream& out) {
+// --units and --csv of `run`: units for this scan point (kBT at its temperature), the CSV table
+// all points go into, and this point's scan values (the CSV's first columns).
+struct TableExport {
+  std::vector<OutputUnit> units;
+  std::optional<CsvTable>* csv = nullptr;  ///< created by the first table, filled by all
+  std::vector<std::string> prefix_headers, prefix;
+};
+
+// A column's unit: the --units entry of its dimension, else SI.
+OutputUnit column_unit(const TableExport& ex, const std::string& si) {
+  if (const OutputUnit* u = unit_for(ex.units, si, "--units")) return *u;
+  return OutputUnit{si, 1.0, {}};
+}
+
+void print_results(const CaseSpec& spec, const RunResult& r, std::ostream& out,
+                   const TableExport& ex = {}) {
   std::vector<double> gaps;
   for (const auto& p : r.points) gaps.push_back(p.gap);
-  const DisplayUnit gu = length_display_unit(gaps);
-  const ScaleUnits u = scale_units(r.scale);
+  DisplayUnit gu = length_display_unit(gaps);
+  if (const OutputUnit* lu = unit_for(ex.units, "m", "--units")) gu = {lu->name, lu->factor};
+  ScaleUnits u = scale_units(r.scale);
+  const OutputUnit ue = column_unit(ex, u.energy), uf = column_unit(ex, u.force),
+                   ug = column_unit(ex, u.gradient);
+  u.energy = ue.name;
+  u.force = uf.name;
+  u.gradient = ug.name;
   const Quantities& q = spec.quantities;
   const bool force = q.force || q.gradient;
   bool any_pfa = false, any_unconverged = false;
@@ -182,20 +205,43 @@ void print_results(const CaseSpec& spec, const RunResult& r, std::ostream& out) 
       r.points.empty() ? std::vector<ExtraQuantity>{} : r.points.front().extra;
   for (const auto& x : extra) head.push_back(fmt::format("{} [{}]", x.column, x.units));
   TextTable t(head);
+  if (ex.csv) {
+    std::vector<std::string> ch = ex.prefix_headers;
+    ch.insert(ch.end(), head.begin(), head.end());
+    ch.push_back("converged");
+    if (!*ex.csv) ex.csv->emplace(ch);
+    if ((*ex.csv)->headers() != ch)
+      throw CaseError(
+          "--csv: the scan points' tables have different columns (e.g. PFA ratios at some "
+          "points only): one CSV file cannot hold them");
+  }
   for (const auto& p : r.points) {
     std::vector<std::string> row{gap_text(p.gap, gu) + (p.frequencies.converged ? "" : " !")};
-    if (q.energy) row.push_back(sci(p.energy));
-    if (force) row.push_back(sci(p.force));
-    if (q.gradient) row.push_back(sci(p.gradient));
+    std::vector<std::string> crow = ex.prefix;
+    crow.push_back(csv_number(p.gap / gu.factor));
+    if (q.energy) row.push_back(sci(p.energy / ue.factor));
+    if (force) row.push_back(sci(p.force / uf.factor));
+    if (q.gradient) row.push_back(sci(p.gradient / ug.factor));
+    if (q.energy) crow.push_back(csv_number(p.energy / ue.factor));
+    if (force) crow.push_back(csv_number(p.force / uf.factor));
+    if (q.gradient) crow.push_back(csv_number(p.gradient / ug.factor));
     if (any_pfa) {
       const auto ratio = [&](double a, double b) { return p.pfa ? fixed(a / b, 6) : "-"; };
       if (q.energy) row.push_back(ratio(p.energy, p.pfa ? p.pfa->energy : 1.0));
       if (force) row.push_back(ratio(p.force, p.pfa ? p.pfa->force : 1.0));
       if (q.gradient) row.push_back(ratio(p.gradient, p.pfa ? p.pfa->gradient : 1.0));
+      const auto cratio = [&](double a, double b) { return p.pfa ? csv_number(a / b) : ""; };
+      if (q.energy) crow.push_back(cratio(p.energy, p.pfa ? p.pfa->energy : 1.0));
+      if (force) crow.push_back(cratio(p.force, p.pfa ? p.pfa->force : 1.0));
+      if (q.gradient) crow.push_back(cratio(p.gradient, p.pfa ? p.pfa->gradient : 1.0));
     }
-    for (std::size_t i = 0; i < extra.size(); ++i)
+    for (std::size_t i = 0; i < extra.size(); ++i) {
       row.push_back(i < p.extra.size() ? sci(p.extra[i].value) : "-");
+      crow.push_back(i < p.extra.size() ? csv_number(p.extra[i].value) : "");
+    }
+    crow.push_back(p.frequencies.converged ? "1" : "0");
     t.add_row(std::move(row));
+    if (ex.csv) (*ex.csv)->add_row(std::move(crow));
   }
   if (!spec.title.empty()) out << spec.title << "\n";
   out << r.description << "\n";
@@ -395,6 +441,30 @@ int run_command(const RunArgs& args, std::ostream& out, std::ostream& err) {
       err << "roundtrip: warning: " << where << m << "; running anyway (--force)\n" << std::flush;
     }
   }
+  // --units (each must name a column of every point's table; kBT at the point's temperature)
+  // and --csv, checked before anything is written.
+  std::vector<std::vector<OutputUnit>> point_units(points.size());
+  if (!args.units.empty())
+    for (std::size_t k = 0; k < points.size(); ++k) {
+      const double T = points[k].spec.frequency.temperature_K;
+      point_units[k] = parse_unit_list(args.units, "--units", T);
+      const ScaleUnits su = scale_units(geometries[k]->scale());
+      for (const auto& unit : point_units[k]) {
+        bool used = false;
+        for (const std::string& si : {std::string("m"), su.energy, su.force, su.gradient})
+          used = used || unit_for({unit}, si, "--units") != nullptr;
+        if (!used)
+          throw CaseError(fmt::format(
+              "--units = \"{}\": \"{}\" is a unit of {}; the table's columns are in m, {}, {} "
+              "and {}",
+              args.units, unit.name, dimension_text(unit.dim), su.energy, su.force, su.gradient));
+      }
+    }
+  if (!args.csv.empty()) check_csv_path(args.csv, "--csv");
+  std::optional<CsvTable> csv_table;
+  std::vector<std::string> scan_headers;
+  for (const auto& [key, value] : points.front().parameters) scan_headers.push_back(key);
+
   const OutputChoice where = choose_output(args, spec);
   // Under MPI (solver/parallel/mpi.h) rank 0 alone writes the results and the journal.
   parallel::Session* const mpi = parallel::Session::current();
@@ -525,7 +595,14 @@ int run_command(const RunArgs& args, std::ostream& out, std::ostream& err) {
       if (scan)
         out << fmt::format("{}scan point {} of {}: {}\n", k == 0 ? "" : "\n", k + 1, points.size(),
                            parameters_text(run.parameters));
-      print_results(ps, run.result, out);
+      TableExport ex;
+      ex.units = point_units[k];
+      if (!args.csv.empty()) {
+        ex.csv = &csv_table;
+        ex.prefix_headers = scan_headers;
+        for (const auto& [key, value] : run.parameters) ex.prefix.push_back(value);
+      }
+      print_results(ps, run.result, out, ex);
       print_theta(run.result, out);
       out << std::flush;
     }
@@ -539,6 +616,7 @@ int run_command(const RunArgs& args, std::ostream& out, std::ostream& err) {
   const CommitOutcome written =
       scan ? writer.commit_scan(runs, results_info(spec), static_cast<int>(points.size()))
            : writer.commit(runs.front().result, runs.front().info);
+  if (csv_table) write_text_file_atomically(args.csv, csv_table->render(), "--csv");
   std::size_t gaps_written = 0, gaps_planned = 0;
   double wall = 0.0;
   bool converged = true;
@@ -835,16 +913,20 @@ int materials_eps_command(const EpsArgs& a, std::ostream& out) {
     throw CaseError(fmt::format("--to = \"{}\": must be larger than --from", a.to));
   if (a.spacing != "log" && a.spacing != "linear")
     throw CaseError(fmt::format("--spacing = \"{}\": expected \"log\" or \"linear\"", a.spacing));
+  if (!a.csv.empty()) check_csv_path(a.csv, "--csv");
   out << m->name() << ": " << m->description() << "\n";
   out << "source: " << m->source() << "\n";
   out << "at xi = 0: " << static_text(m->static_limit()) << "\n\n";
   TextTable t({"\u03be [rad/s]", "\u0127\u03be [eV]", "\u03b5(i\u03be)"});
+  CsvTable csv({"\u03be [rad/s]", "\u0127\u03be [eV]", "\u03b5(i\u03be)"});
   for (int i = 0; i < a.count; ++i) {
     const double s = a.count == 1 ? 0.0 : static_cast<double>(i) / (a.count - 1);
     const double xi = a.spacing == "log" ? from * std::pow(to / from, s) : from + (to - from) * s;
     t.add_row({sci(xi, 6), sci(xi / kRadPerSecondPerEv, 6), sci(m->epsilon(xi), 8)});
+    csv.add_row({csv_number(xi), csv_number(xi / kRadPerSecondPerEv), csv_number(m->epsilon(xi))});
   }
   out << t.render();
+  if (!a.csv.empty()) write_text_file_atomically(a.csv, csv.render(), "--csv");
   return kExitOk;
 }
 

@@ -32,6 +32,8 @@ struct RunArgs {
   bool restart = false;    ///< discard a checkpoint journal instead of resuming from it
   std::string max_memory;  ///< --max-memory, e.g. "8 GiB"; empty: the machine's available memory
   bool force = false;      ///< run even if the plan's memory exceeds the limit
+  std::string units;       ///< --units "pN, pN/nm, kBT": units of the printed table and CSV
+  std::string csv;         ///< --csv FILE: the table(s) as CSV (scan values as first columns)
 };
 /// Refuses (io::CaseError, exit 1, nothing written) before anything runs when a truncation is
 /// beyond what the code can index, or, unless `force`, when the plan's peak memory exceeds the
@@ -65,6 +67,7 @@ struct EpsArgs {
   std::string to = "1e17 rad/s";
   int count = 20;
   std::string spacing = "log";  ///< "log" | "linear"
+  std::string csv;              ///< --csv FILE: the table as CSV as well
 };
 int materials_eps_command(const EpsArgs& args, std::ostream& out);
 

@@ -9,6 +9,7 @@
 #include <string>
 
 #include "io/cli/commands.h"
+#include "io/cli/compare.h"
 #include "io/errors.h"
 #include "io/results_hdf5.h"
 #include "solver/parallel/mpi.h"
@@ -61,6 +62,12 @@ int main(int argc, char** argv) {
   run->add_flag("--quiet", run_args.quiet, "No progress messages on stderr");
   run->add_flag("--progress", run_args.progress,
                 "Progress and ETA on stderr even when it is not a terminal");
+  run->add_option("--units", run_args.units,
+                  "Units of the table and CSV, one per kind of column, e.g. \"nm, pN, pN/nm\", "
+                  "\"mPa\", \"kBT\" (default: SI)");
+  run->add_option("--csv", run_args.csv,
+                  "Also write the table(s) to this CSV file (scan points stacked, scan values "
+                  "first)");
   run->add_flag("--restart", run_args.restart,
                 "Discard the checkpoint journal of an earlier run instead of resuming it");
 
@@ -80,6 +87,31 @@ int main(int argc, char** argv) {
       ->required();
   plot->add_option("-o,--output-dir", plot_dir,
                    "Directory for the plots (default: beside the results file)");
+
+  cli::CompareArgs compare_args;
+  CLI::App* compare = app.add_subcommand(
+      "compare", "Compare every model of a results file with measured data (chi^2, offset)");
+  compare
+      ->add_option("RESULTS", compare_args.results,
+                   "Results file (HDF5); the comparison is added as /comparison/<name>")
+      ->required();
+  compare
+      ->add_option("DATA", compare_args.data,
+                   "Measured data (CSV: gap, force|gradient|pressure|energy, stat_error, "
+                   "optional syst_error; units in the header)")
+      ->required();
+  compare->add_option("--offset-range", compare_args.offset_range,
+                      "Fit L_theory = L_measured + delta within this range, e.g. \"-5 nm, 5 nm\"");
+  compare->add_option("--name", compare_args.name,
+                      "Name of the comparison group (default: the data file's stem)");
+  compare->add_option("--units", compare_args.units,
+                      "Units of the printed tables and CSV, e.g. \"nm, pN\" (default: the data's)");
+  compare->add_option("--csv", compare_args.csv,
+                      "Also write the summary table to this CSV file and every model's "
+                      "residuals to <stem>_residuals.csv");
+  compare->add_option("--plot-dir", compare_args.plot_dir,
+                      "Directory for the plot (default: beside the results file)");
+  compare->add_flag("--no-plot", compare_args.no_plot, "Draw no plot");
 
   cli::PreviewArgs preview_args;
   CLI::App* preview = app.add_subcommand(
@@ -103,6 +135,7 @@ int main(int argc, char** argv) {
       ->capture_default_str();
   eps->add_option("--count", eps_args.count, "Number of frequencies")->capture_default_str();
   eps->add_option("--spacing", eps_args.spacing, "log or linear")->capture_default_str();
+  eps->add_option("--csv", eps_args.csv, "Also write the table to this CSV file");
 
   try {
     app.parse(argc, argv);
@@ -131,6 +164,7 @@ int main(int argc, char** argv) {
     if (*run) status = cli::run_command(run_args, std::cout, std::cerr);
     if (*check) status = cli::check_command(check_args, std::cout, std::cerr);
     if (*plot) status = cli::plot_command(plot_path, plot_dir);
+    if (*compare) status = cli::compare_command(compare_args, std::cout, std::cerr);
     if (*preview) status = cli::preview_command(preview_args, std::cout);
     if (*list) status = cli::materials_list_command(std::cout);
     if (*eps) status = cli::materials_eps_command(eps_args, std::cout);

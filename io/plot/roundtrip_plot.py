@@ -12,6 +12,9 @@ file's stem:
   <stem>_spectrum.*     per-frequency contributions w_j s(xi_j) to E at up to four gaps
   <stem>_lateral.*      lateral force per area F_b = -dE/db against the offset b, one curve per
                         gap (and other scan parameters), with its PFA (kinds with [offsets])
+  <stem>_optical_spread.*  scans over several tabulated data sets of one material: their band
+                        (min-max, each set a thin line) beside Drude and plasma (spread_plot.py)
+  <stem>_compare_<name>.*  comparisons with measured data (roundtrip compare; compare_plot.py)
 Scans draw one curve per scan point. Needs Debian's python3-matplotlib and python3-h5py.
 """
 import argparse
@@ -231,6 +234,12 @@ def main(argv):
     plot_drude_plasma(f, out_dir, stem, written)
     plot_spectrum(f, out_dir, stem, written)
     plot_lateral(f, out_dir, stem, written)
+    # Drawn by their own modules beside this file (io/plot/): the optical-data band of a
+    # material scan and the comparisons with measured data (`roundtrip compare`).
+    import compare_plot  # noqa: E402
+    import spread_plot  # noqa: E402
+    spread_plot.plot_optical_spread(f, out_dir, stem, written)
+    compare_plot.plot_all(f, out_dir, stem, written)
     for p in written:
         print(p)
     return 0
