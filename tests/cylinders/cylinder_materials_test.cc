@@ -4,7 +4,11 @@
 
 #include <boost/math/special_functions/bessel.hpp>
 #include <cmath>
+#include <filesystem>
+#include <fstream>
+#include <sstream>
 
+#include "io/case_file.h"
 #include "solver/constants.h"
 #include "solver/frequency/frequency_rule.h"
 #include "solver/geometries/cylinder_plate.h"
@@ -192,6 +196,34 @@ TEST(CylinderMaterials, StaticTermDrudeIsDirichletAndPlasmaTendsToPerfectConduct
     prev = gap;
   }
   EXPECT_LT(prev, 0.01);
+}
+
+// The reduced demo: cases/gold_wire_over_silicon.toml at its largest gap (1 um). Checks that the
+// case parses and builds, that the frequency sum converges and that the wire attracts (both
+// bodies are polarisable: the Casimir-Lifshitz interaction attracts, common practice); the
+// exact-to-PFA ratio is printed, not checked (no published value for this pair).
+TEST(CylinderMaterials, ReducedDemoCaseRuns) {
+  std::ifstream in(std::filesystem::path(ROUNDTRIP_SOURCE_DIR) /
+                   "cases/gold_wire_over_silicon.toml");
+  std::stringstream ss;
+  ss << in.rdbuf();
+  std::string text = ss.str();
+  const std::string from = "values = [\"0.25 um\", \"0.5 um\", \"1 um\"]";
+  ASSERT_NE(text.find(from), std::string::npos);
+  text.replace(text.find(from), from.size(), "values = [\"1 um\"]");
+  const io::CaseSpec spec = io::parse_case(text, "gold_wire_over_silicon.toml");
+  const auto g = io::build_geometry(spec);
+  const double L = spec.gaps.at(0);
+  const FrequencySum s = sum_over_frequencies(
+      [&](double xi) { return g->at_frequency(xi, L, DerivativeOrder::kEnergy); },
+      g->frequency_scale(L), spec.frequency);
+  ASSERT_TRUE(s.converged);
+  const auto pfa = g->pfa(L, spec.frequency);
+  ASSERT_TRUE(pfa.has_value());
+  std::printf("E/l = %.6e J/m, PFA %.6e J/m, ratio %.4f, %zu frequencies\n", s.total.value,
+              pfa->energy, s.total.value / pfa->energy, s.terms.size());
+  EXPECT_LT(s.total.value, 0.0);
+  EXPECT_LT(pfa->energy, 0.0);
 }
 
 }  // namespace
