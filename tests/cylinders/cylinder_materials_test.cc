@@ -226,5 +226,27 @@ TEST(CylinderMaterials, ReducedDemoCaseRuns) {
   EXPECT_LT(pfa->energy, 0.0);
 }
 
+// Convergence in m (vector path): the automatic cut-off against twice as many orders (derived
+// from the tail bound: the difference must be below rel_tol of |log det|, 10 rel_tol for d/dL
+// which weighs high orders more). Drude gold cylinder over silicon-like eps = 11.7.
+TEST(CylinderMaterials, VectorPathOrderCutOffMeetsItsTolerance) {
+  const double R = 5e-6, L = 0.5e-6;
+  const auto vac = make_vacuum();
+  const auto cyl = drude_gold();
+  const auto plate = make_half_space(make_constant("si-like", 11.7));
+  const double tol = 1e-6;
+  for (double xi : {0.0, 6e14})
+    for (double kzL : {0.05, 1.0}) {
+      const auto at = plate->at(xi, *vac);
+      int m = 0;
+      const Spectral a = cylinder_plate_vector_logdet(*cyl, *at, *vac, xi, kzL / L, R, R + L,
+                                                      DerivativeOrder::kForce, tol, 0, &m);
+      const Spectral b = cylinder_plate_vector_logdet(*cyl, *at, *vac, xi, kzL / L, R, R + L,
+                                                      DerivativeOrder::kForce, tol, 2 * m);
+      EXPECT_NEAR(a.value / b.value, 1.0, tol) << "m = " << m << " xi = " << xi;
+      EXPECT_NEAR(a.d1 / b.d1, 1.0, 10 * tol) << "m = " << m;
+    }
+}
+
 }  // namespace
 }  // namespace roundtrip
