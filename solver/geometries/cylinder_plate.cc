@@ -335,53 +335,69 @@ Spectral cylinder_plate_vector_logdet(const Material& cyl, const PlanarAtFrequen
     h *= 0.5;
   }
 
-  // 1 - T U = 1 + tau V, V^{ab}_{mm'} = sqrt(t_m t_m') K_{m+m'}(z) <R_ab>_{m+m'}; index
-  // (m, pol) -> 2 (m + M) + pol.
-  const int dim = 2 * (2 * M + 1);
-  Eigen::MatrixXd A = Eigen::MatrixXd::Identity(dim, dim), A1, A2;
-  if (ord >= 1) A1 = Eigen::MatrixXd::Zero(dim, dim);
-  if (ord >= 2) A2 = Eigen::MatrixXd::Zero(dim, dim);
-  for (int m = -M; m <= M; ++m) {
-    cylinder::Tau tm = tau[std::abs(m)];
-    if (m < 0) tm[1] = -tm[1], tm[2] = -tm[2];
-    for (int mp = -M; mp <= M; ++mp) {
-      const int n = m + mp;
-      const auto& s = acc[n + N];
-      const double scale =
-          std::exp(0.5 * (lt[std::abs(m)] + lt[std::abs(mp)]) + ky[std::abs(n)]) / s[0];
-      for (int al = 0; al < 2; ++al)
-        for (int be = 0; be < 2; ++be) {
-          double v0 = 0.0, v1 = 0.0, v2 = 0.0;
+  // 1 - T U = 1 + tau V, V^{ab}_{mm'} = sqrt(t_m t_m') K_{m+m'}(z) <R_ab>_{m+m'}. The parity
+  // P: (E_m, H_m) -> (E_-m, -H_-m) commutes with it (tau_-m and <R>_-n flip only their cross
+  // entries), so it splits into the blocks P = sigma = +-1 on the basis (x_m + sigma s_a
+  // x_-m)/sqrt2 (m > 0; s_E = 1, s_H = -1) and x_0 where sigma s_a = 1 (derived); block entries
+  //   delta + f_mm' [(tau V)(m, m') + sigma s_b (tau V)(m, -m')],  f = 2 c_m c_m',
+  // c_0 = 1/2, c_m = 1/sqrt2. Each block has dimension 2M + 1.
+  Spectral out;
+  for (int sigma : {1, -1}) {
+    std::vector<std::pair<int, int>> idx;  // (m, pol)
+    for (int m = 0; m <= M; ++m)
+      for (int al = 0; al < 2; ++al) {
+        const int s_al = al == 0 ? 1 : -1;
+        if (m == 0 && sigma * s_al != 1) continue;
+        idx.push_back({m, al});
+      }
+    const int dim = static_cast<int>(idx.size());
+    Eigen::MatrixXd A = Eigen::MatrixXd::Identity(dim, dim), A1, A2;
+    if (ord >= 1) A1 = Eigen::MatrixXd::Zero(dim, dim);
+    if (ord >= 2) A2 = Eigen::MatrixXd::Zero(dim, dim);
+    for (int i = 0; i < dim; ++i) {
+      const auto [m, al] = idx[i];
+      const cylinder::Tau& tm = tau[m];
+      for (int k = 0; k < dim; ++k) {
+        const auto [mp, be] = idx[k];
+        const double f = 2.0 * (m == 0 ? 0.5 : M_SQRT1_2) * (mp == 0 ? 0.5 : M_SQRT1_2);
+        const double s_be = be == 0 ? 1.0 : -1.0;
+        double v0 = 0.0, v1 = 0.0, v2 = 0.0;
+        for (int term = 0; term < 2; ++term) {
+          const int n = term == 0 ? m + mp : m - mp;
+          const double w = term == 0 ? 1.0 : sigma * s_be;
+          const auto& s = acc[n + N];
+          const double scale = w * f * std::exp(0.5 * (lt[m] + lt[mp]) + ky[std::abs(n)]) / s[0];
           for (int ga = 0; ga < 2; ++ga) {
-            const double tg = tm[2 * al + ga];
+            const double tg = tm[2 * al + ga] * scale;
             v0 += tg * s[1 + 2 * ga + be];
             if (ord >= 1) v1 += tg * s[5 + 2 * ga + be];
             if (ord >= 2) v2 += tg * s[9 + 2 * ga + be];
           }
-          const int i = 2 * (m + M) + al, k = 2 * (mp + M) + be;
-          A(i, k) += scale * v0;
-          if (ord >= 1) A1(i, k) = scale * v1;
-          if (ord >= 2) A2(i, k) = scale * v2;
         }
+        A(i, k) += v0;
+        if (ord >= 1) A1(i, k) = v1;
+        if (ord >= 2) A2(i, k) = v2;
+      }
     }
-  }
-  Eigen::PartialPivLU<Eigen::MatrixXd> lu(A);
-  const Eigen::MatrixXd& LU = lu.matrixLU();
-  Spectral out;
-  double sign = lu.permutationP().determinant();
-  for (int i = 0; i < dim; ++i) {
-    sign *= LU(i, i) < 0.0 ? -1.0 : 1.0;
-    out.value += std::log(std::abs(LU(i, i)));
-  }
-  if (!(sign > 0.0) || !std::isfinite(out.value))
-    throw std::runtime_error(fmt::format(
-        "cylinder-plate: det(1 - T U) is not positive at xi = {:.6g} rad/s, k_z = {:.6g} 1/m "
-        "(R = {:.6g} m, H = {:.6g} m, m_max = {})",
-        xi, kz, radius, axis_height, M));
-  if (ord >= 1) {
-    const Eigen::MatrixXd X = lu.solve(A1);
-    out.d1 = X.trace();
-    if (ord >= 2) out.d2 = lu.solve(A2).trace() - (X.cwiseProduct(X.transpose())).sum();
+    Eigen::PartialPivLU<Eigen::MatrixXd> lu(A);
+    const Eigen::MatrixXd& LU = lu.matrixLU();
+    double sign = lu.permutationP().determinant();
+    double value = 0.0;
+    for (int i = 0; i < dim; ++i) {
+      sign *= LU(i, i) < 0.0 ? -1.0 : 1.0;
+      value += std::log(std::abs(LU(i, i)));
+    }
+    if (!(sign > 0.0) || !std::isfinite(value))
+      throw std::runtime_error(fmt::format(
+          "cylinder-plate: det(1 - T U) is not positive at xi = {:.6g} rad/s, k_z = {:.6g} 1/m "
+          "(R = {:.6g} m, H = {:.6g} m, m_max = {}, parity {})",
+          xi, kz, radius, axis_height, M, sigma));
+    out.value += value;
+    if (ord >= 1) {
+      const Eigen::MatrixXd X = lu.solve(A1);
+      out.d1 += X.trace();
+      if (ord >= 2) out.d2 += lu.solve(A2).trace() - (X.cwiseProduct(X.transpose())).sum();
+    }
   }
   return out;
 }
