@@ -1,6 +1,7 @@
 // geometry = "cylinder-plate": an infinitely long cylinder with its axis parallel to a planar
-// body, results per unit length. Built for perfect conductors (and the scalar fields); other
-// materials are refused by CylinderPlateOptions::validate (solver/geometries/cylinder_plate.h).
+// body, results per unit length. Any cylinder material and plate (real materials through the
+// TE/TM-mixing vector path; perfect conductors and the scalar fields through the scalar path),
+// solver/geometries/cylinder_plate.h.
 #include "solver/geometries/cylinder_plate.h"
 
 #include <fmt/format.h>
@@ -16,8 +17,7 @@ namespace roundtrip::io {
 GeometryKind cylinder_plate_kind() {
   GeometryKind k;
   k.name = "cylinder-plate";
-  k.summary =
-      "an infinite cylinder parallel to a planar body, per unit length (perfect conductors)";
+  k.summary = "an infinite cylinder parallel to a planar body, per unit length";
   k.lower = {"plate", geometry::Shape::kPlate, ""};
   k.upper = {"cylinder", geometry::Shape::kCylinder, ""};
   k.scale = ResultScale::kPerLength;

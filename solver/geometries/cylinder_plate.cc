@@ -57,7 +57,7 @@
 #include "solver/guards.h"
 #include "solver/materials/models.h"
 #include "solver/planar/planar.h"
-#include "solver/special/bessel_i_log.h"
+#include "solver/scatterers/cylinder_t.h"
 
 namespace roundtrip {
 namespace {
@@ -74,55 +74,8 @@ double log_add(double a, double b) {
   return m + std::log1p(std::exp(std::min(a, b) - m));
 }
 
-// log K_0(z), log K_1(z), z > 0.
-void log_k01(double z, double& k0, double& k1) {
-  if (z < 600.0) {
-    k0 = std::log(boost::math::cyl_bessel_k(0, z));
-    k1 = std::log(boost::math::cyl_bessel_k(1, z));
-    return;
-  }
-  // DLMF 10.40.2: K_nu(z) ~ sqrt(pi/2z) e^-z sum_k a_k(nu)/z^k, a_k = prod_{j<=k}(4nu^2 -
-  // (2j-1)^2)/(k! 8^k); at z >= 600 twelve terms are far below rounding.
-  const auto series = [z](double nu) {
-    double term = 1.0, sum = 1.0;
-    for (int k = 1; k <= 12; ++k) {
-      term *= (4.0 * nu * nu - (2.0 * k - 1.0) * (2.0 * k - 1.0)) / (k * 8.0 * z);
-      sum += term;
-    }
-    return sum;
-  };
-  const double base = 0.5 * std::log(kPi / (2.0 * z)) - z;
-  k0 = base + std::log(series(0.0));
-  k1 = base + std::log(series(1.0));
-}
-
-// out[n] = log K_n(z), n = 0..n_max.
-void log_k_range(double z, int n_max, std::vector<double>& out) {
-  out.resize(n_max + 1);
-  double k0, k1;
-  log_k01(z, k0, k1);
-  out[0] = k0;
-  if (n_max >= 1) out[1] = k1;
-  double ratio = std::exp(k1 - k0);  // K_1/K_0
-  for (int n = 1; n < n_max; ++n) {
-    ratio = 1.0 / ratio + 2.0 * n / z;  // K_{n+1}/K_n
-    out[n + 1] = out[n] + std::log(ratio);
-  }
-}
-
-// out[m] = log I_m(x), m = 0..m_max.
-void log_i_range(double x, int m_max, std::vector<double>& out) {
-  out.resize(m_max + 1);
-  const int top = m_max + static_cast<int>(6.0 * std::sqrt(x)) + 20;
-  std::vector<double> r(m_max + 1);
-  double rk = 0.0;  // I_{k+1}/I_k, from above
-  for (int k = top; k >= 0; --k) {
-    rk = 1.0 / (2.0 * (k + 1) / x + rk);
-    if (k <= m_max) r[k] = rk;
-  }
-  out[0] = special::log_bessel_i0(x);
-  for (int m = 0; m < m_max; ++m) out[m + 1] = out[m] + std::log(r[m]);
-}
+using cylinder::log_i_range;
+using cylinder::log_k_range;
 
 // Half the log of t_m, m = 0..m_max, for one channel at x = pR.
 void log_sqrt_t(FieldKind channel, double x, int m_max, std::vector<double>& out,
@@ -245,6 +198,210 @@ Spectral cylinder_plate_logdet(FieldKind channel, double p, double radius, doubl
   return out;
 }
 
+// The vector round trip (real materials). Conventions: cylinder_t.h for T_m in the basis
+// (E_z, eta_0 H_z). The plate: an outgoing wave K_|m|(p rho) e^{i m phi} below the axis is
+// (1/2) \int dk_x/q e^{i k_x x + q y} [-i(k_x + q)/p]^m (from K_0's plane-wave form and the
+// raising operator d_x + i d_y; derived), q = sqrt(k_x^2 + p^2), k_x = p sinh t; a plane wave
+// e^{i k_x x - q y} is sum_m I_m(p rho) [i(k_x + q)/p]^m e^{i m phi} (generating function, DLMF
+// 10.35.1). After the diagonal similarity i^m the plate round trip is, per polarisation pair,
+//   U^{ab}_{m m'} = (1/2) \int dt e^{-2pH cosh t + (m + m') t} R_ab(t),
+// with the plate's reflection in the longitudinal basis (derived from the plate's TE/TM
+// amplitudes of a plane wave with k = sqrt(k_x^2 + k_z^2), r_TE, r_TM of planar.h):
+//   R_EE = (kappa^2 k_x^2 r_TE - k_z^2 q^2 r_TM)/(p^2 k^2),
+//   R_HH = (kappa^2 k_x^2 r_TM - k_z^2 q^2 r_TE)/(p^2 k^2),
+//   R_EH = -k_x k_z k_0 q (r_TE + r_TM)/(p^2 k^2),  R_HE = eps_m k_x k_z k_0 q (r_TE + r_TM)/(p^2
+//   k^2)
+// (a perfect conductor gives diag(-1, 1): Dirichlet E_z, Neumann H_z, as in the scalar path;
+// at xi = 0 diag(-r_TM, -r_TE)). |R_ab| <= 1 entrywise for |r| <= 1.
+// Quadrature: R has poles at k^2 = 0, i.e. k_x = +-i k_z, so t is mapped by k_x = a sinh v,
+// a = max(k_z, 1e-9 p) (the poles, the branch points of q and of r(k) sit at Im v = pi/2; below
+// a = 1e-9 p the unresolved pole carries a relative weight ~k_z/p < 1e-9), trapezoid in v with
+// step h <= 0.3 (error ~e^{-pi^2/h} < 1e-14) and h <= 0.7 (z^2 + n_max^2)^{-1/4} (the Gaussian
+// width of the narrowest peak e^{-z cosh t + n t}). Each U_n is formed as K_n(z) times the
+// quadrature ratio sum(w R)/sum(w), and sum(w)/(2 K_n(z)) - 1 is the check of the rule (halved
+// until below kVecQuadratureCheck for every n).
+namespace {
+constexpr double kVecQuadratureCheck = 1e-11;
+constexpr double kNegligibleExponent = -46.0;  // e^-46 ~ 1e-20 of the largest weight
+}  // namespace
+
+Spectral cylinder_plate_vector_logdet(const Material& cyl, const PlanarAtFrequency& plate,
+                                      const Material& medium, double xi, double kz, double radius,
+                                      double axis_height, DerivativeOrder order, double rel_tol,
+                                      int m_fixed, int* m_used) {
+  const bool stat = !(xi > 0.0);
+  const double eps_m = stat ? medium.static_limit().static_eps : medium.epsilon(xi);
+  const double k0 = stat ? 0.0 : xi / kSpeedOfLight;
+  const double kappa2 = eps_m * k0 * k0;
+  const double p = std::sqrt(kz * kz + kappa2);
+  const double z = 2.0 * p * axis_height;
+  std::vector<double> lt, ky;
+  std::vector<cylinder::Tau> tau;
+  const auto norm = [](const cylinder::Tau& t) {
+    return std::max(std::abs(t[0]) + std::abs(t[1]), std::abs(t[2]) + std::abs(t[3]));
+  };
+  // Orders: as the scalar path, on the bound |diag| <= t_m K_2m(z) max row sum |tau_m|.
+  int M = m_fixed > 0 ? m_fixed : 16;
+  for (;;) {
+    cylinder::cylinder_t(cyl, medium, radius, xi, kz, M, lt, tau);
+    log_k_range(z, 2 * M + 2, ky);
+    if (m_fixed > 0) break;
+    std::vector<double> diag(M + 1);
+    double trace = 0.0;
+    for (int m = 0; m <= M; ++m) {
+      diag[m] = (m == 0 ? 1.0 : 2.0) * std::exp(lt[m] + ky[2 * m]) * norm(tau[m]);
+      trace += diag[m];
+    }
+    const double target = kMTailShare * rel_tol * trace;
+    if (diag[M] + diag[M - 1] < 1e-2 * target || trace == 0.0) {
+      double tail = 0.0;
+      int cut = M;
+      while (cut > 1 && tail + diag[cut] <= target) tail += diag[cut--];
+      M = std::max(cut, 2);
+      cylinder::cylinder_t(cyl, medium, radius, xi, kz, M, lt, tau);
+      log_k_range(z, 2 * M + 2, ky);
+      break;
+    }
+    if (M >= kMaxOrder)
+      throw std::runtime_error(fmt::format(
+          "cylinder-plate: no m cut-off below {} at p = {:.6g} 1/m (R = {:.6g} m, H = {:.6g} m)",
+          kMaxOrder, p, radius, axis_height));
+    M = std::min(2 * M, kMaxOrder);
+  }
+  if (m_used) *m_used = M;
+  const int ord = static_cast<int>(order);
+  const int N = 2 * M;  // n = m + m' in [-N, N]
+
+  // Plate round trip U^{ab}_n / K_n(z) = <R_ab>_n and its H-derivative factors.
+  const double a = std::max(kz, 1e-9 * p);
+  double t_max = std::asinh(N / z);
+  {
+    const auto g = [&](double t) { return -z * std::cosh(t) + N * t; };
+    const double g0 = g(t_max);
+    double d = 0.05;
+    while (g(t_max + d) > g0 + kNegligibleExponent) d *= 1.3;
+    t_max += d;
+  }
+  const double v_max = std::asinh(p * std::sinh(t_max) / a);
+  double h = std::min(0.3, 0.7 * std::pow(z * z + double(N) * N, -0.25));
+  // acc[n + N][c]: c = 0 weight, 1..4 R (EE, EH, HE, HH), 5..8 R (-2p cosh t), 9..12 R 4p^2cosh^2
+  std::vector<std::array<double, 13>> acc;
+  for (int attempt = 0;; ++attempt) {
+    acc.assign(2 * N + 1, {});
+    const int J = static_cast<int>(std::ceil(v_max / h));
+    for (int j = -J; j <= J; ++j) {
+      if ((j & 63) == 0) throw_if_cancelled();
+      const double v = j * h;
+      const double kx = a * std::sinh(v);
+      const double q = std::hypot(kx, p);
+      const double ch = q / p, t = std::asinh(kx / p);
+      const double k2 = kx * kx + kz * kz;
+      const Reflection r = plate.reflect(std::sqrt(k2));
+      const double den = p * p * k2;
+      const double R[4] = {(kappa2 * kx * kx * r.te - kz * kz * q * q * r.tm) / den,
+                           -kx * kz * k0 * q * (r.te + r.tm) / den,
+                           eps_m * kx * kz * k0 * q * (r.te + r.tm) / den,
+                           (kappa2 * kx * kx * r.tm - kz * kz * q * q * r.te) / den};
+      const double base = std::log(0.5 * h * a * std::cosh(v) / q) - z * ch;
+      const double f1 = -2.0 * p * ch, f2 = 4.0 * p * p * ch * ch;
+      const auto add = [&](int n) {
+        const double e = base + n * t - ky[std::abs(n)];
+        if (e < kNegligibleExponent) return false;
+        const double w = std::exp(e);
+        auto& s = acc[n + N];
+        s[0] += w;
+        for (int c = 0; c < 4; ++c) {
+          s[1 + c] += w * R[c];
+          if (ord >= 1) s[5 + c] += w * R[c] * f1;
+          if (ord >= 2) s[9 + c] += w * R[c] * f2;
+        }
+        return true;
+      };
+      // The exponent is concave in n (log K_n is convex): scan out from its peak n ~ z sinh t.
+      const int peak = std::clamp(static_cast<int>(std::lround(z * std::sinh(t))), -N, N);
+      for (int n = peak; n <= N && add(n); ++n) {
+      }
+      for (int n = peak - 1; n >= -N && add(n); --n) {
+      }
+    }
+    double worst = 0.0;
+    for (const auto& s : acc) worst = std::max(worst, std::abs(s[0] - 1.0));
+    if (worst <= kVecQuadratureCheck) break;
+    if (attempt >= 4)
+      throw std::runtime_error(fmt::format(
+          "cylinder-plate: plate round-trip quadrature misses its check ({:.3g}) at p = {:.6g} "
+          "1/m, k_z = {:.6g} 1/m",
+          worst, p, kz));
+    h *= 0.5;
+  }
+
+  // 1 - T U = 1 + tau V, V^{ab}_{mm'} = sqrt(t_m t_m') K_{m+m'}(z) <R_ab>_{m+m'}. The parity
+  // P: (E_m, H_m) -> (E_-m, -H_-m) commutes with it (tau_-m and <R>_-n flip only their cross
+  // entries), so it splits into the blocks P = sigma = +-1 on the basis (x_m + sigma s_a
+  // x_-m)/sqrt2 (m > 0; s_E = 1, s_H = -1) and x_0 where sigma s_a = 1 (derived); block entries
+  //   delta + f_mm' [(tau V)(m, m') + sigma s_b (tau V)(m, -m')],  f = 2 c_m c_m',
+  // c_0 = 1/2, c_m = 1/sqrt2. Each block has dimension 2M + 1.
+  Spectral out;
+  for (int sigma : {1, -1}) {
+    std::vector<std::pair<int, int>> idx;  // (m, pol)
+    for (int m = 0; m <= M; ++m)
+      for (int al = 0; al < 2; ++al) {
+        const int s_al = al == 0 ? 1 : -1;
+        if (m == 0 && sigma * s_al != 1) continue;
+        idx.push_back({m, al});
+      }
+    const int dim = static_cast<int>(idx.size());
+    Eigen::MatrixXd A = Eigen::MatrixXd::Identity(dim, dim), A1, A2;
+    if (ord >= 1) A1 = Eigen::MatrixXd::Zero(dim, dim);
+    if (ord >= 2) A2 = Eigen::MatrixXd::Zero(dim, dim);
+    for (int i = 0; i < dim; ++i) {
+      const auto [m, al] = idx[i];
+      const cylinder::Tau& tm = tau[m];
+      for (int k = 0; k < dim; ++k) {
+        const auto [mp, be] = idx[k];
+        const double f = 2.0 * (m == 0 ? 0.5 : M_SQRT1_2) * (mp == 0 ? 0.5 : M_SQRT1_2);
+        const double s_be = be == 0 ? 1.0 : -1.0;
+        double v0 = 0.0, v1 = 0.0, v2 = 0.0;
+        for (int term = 0; term < 2; ++term) {
+          const int n = term == 0 ? m + mp : m - mp;
+          const double w = term == 0 ? 1.0 : sigma * s_be;
+          const auto& s = acc[n + N];
+          const double scale = w * f * std::exp(0.5 * (lt[m] + lt[mp]) + ky[std::abs(n)]) / s[0];
+          for (int ga = 0; ga < 2; ++ga) {
+            const double tg = tm[2 * al + ga] * scale;
+            v0 += tg * s[1 + 2 * ga + be];
+            if (ord >= 1) v1 += tg * s[5 + 2 * ga + be];
+            if (ord >= 2) v2 += tg * s[9 + 2 * ga + be];
+          }
+        }
+        A(i, k) += v0;
+        if (ord >= 1) A1(i, k) = v1;
+        if (ord >= 2) A2(i, k) = v2;
+      }
+    }
+    Eigen::PartialPivLU<Eigen::MatrixXd> lu(A);
+    const Eigen::MatrixXd& LU = lu.matrixLU();
+    double sign = lu.permutationP().determinant();
+    double value = 0.0;
+    for (int i = 0; i < dim; ++i) {
+      sign *= LU(i, i) < 0.0 ? -1.0 : 1.0;
+      value += std::log(std::abs(LU(i, i)));
+    }
+    if (!(sign > 0.0) || !std::isfinite(value))
+      throw std::runtime_error(fmt::format(
+          "cylinder-plate: det(1 - T U) is not positive at xi = {:.6g} rad/s, k_z = {:.6g} 1/m "
+          "(R = {:.6g} m, H = {:.6g} m, m_max = {}, parity {})",
+          xi, kz, radius, axis_height, M, sigma));
+    out.value += value;
+    if (ord >= 1) {
+      const Eigen::MatrixXd X = lu.solve(A1);
+      out.d1 += X.trace();
+      if (ord >= 2) out.d2 += lu.solve(A2).trace() - (X.cwiseProduct(X.transpose())).sum();
+    }
+  }
+  return out;
+}
+
 namespace {
 
 // Vector-valued DE trapezoid over u in (0, inf) of f(u) (decaying like e^{-u} or faster, or
@@ -317,6 +474,10 @@ class CylinderPlate final : public Geometry {
     pec_plates_ =
         std::make_unique<PlatePlate>(make_half_space(make_perfect_conductor()),
                                      make_half_space(make_perfect_conductor()), o_.medium);
+    vector_ = o_.field == FieldKind::kElectromagnetic &&
+              !(o_.cylinder->is_perfect_conductor() && o_.plate->is_perfect_conductor());
+    if (o_.field == FieldKind::kElectromagnetic)
+      pfa_plates_ = std::make_unique<PlatePlate>(make_half_space(o_.cylinder), o_.plate, o_.medium);
   }
 
   Spectral at_frequency(double xi, double gap, DerivativeOrder order) const override {
@@ -345,12 +506,13 @@ class CylinderPlate final : public Geometry {
     // h = L + x^2/(2R), x = sqrt(2R) u; derived), per frequency with the same rule, so a medium
     // (and the temperature) enters as in the exact result. Scalar channels: half of EM.
     const double sl = std::sqrt(gap);
+    const PlatePlate& plates = pfa_plates_ ? *pfa_plates_ : *pec_plates_;
     const FrequencySum sum = sum_over_frequencies(
         [&](double xi) {
           return de_integrate(
                      [&](double v) {
-                       return pec_plates_->at_frequency(xi, gap * (1.0 + v * v),
-                                                        DerivativeOrder::kGradient);
+                       return plates.at_frequency(xi, gap * (1.0 + v * v),
+                                                  DerivativeOrder::kGradient);
                      },
                      1e-10, nullptr, nullptr, 2) *
                  sl;
@@ -380,6 +542,15 @@ class CylinderPlate final : public Geometry {
     const double channels = o_.field == FieldKind::kElectromagnetic ? 2.0 : 1.0;
     const double per = 2.0 * M * M * M * (1.0 / 3.0 + 2.0 * static_cast<int>(order));
     FrequencyCost c;
+    if (vector_) {
+      // Vector path: two parity blocks of 2M + 1 per k_z node, LU (2/3) n^3 and the derivative
+      // solves 2 n^3 each.
+      const double n = 2.0 * M + 1.0;
+      c.blocks = 80.0;
+      c.block_flops.assign(80, n * n * n * (2.0 / 3.0 + 2.0 * static_cast<int>(order)));
+      c.memory_bytes = 3.0 * 8.0 * n * n + 13.0 * 8.0 * (4.0 * M + 1.0);
+      return c;
+    }
     c.blocks = 40.0 * channels;
     c.block_flops.assign(static_cast<std::size_t>(c.blocks), per);
     c.memory_bytes = 3.0 * 8.0 * (M + 1.0) * (M + 1.0) + 64.0 * M;
@@ -395,6 +566,21 @@ class CylinderPlate final : public Geometry {
   KzSum kz_sum(double xi, double gap, DerivativeOrder order, double rel_tol) const {
     const double kappa = xi > 0.0 ? std::sqrt(o_.medium->epsilon(xi)) * xi / kSpeedOfLight : 0.0;
     const double H = o_.radius + gap;
+    if (vector_) {
+      const auto plate = o_.plate->at(xi, *o_.medium);
+      KzSum out;
+      const auto f = [&](double u) {
+        int m = 0;
+        const Spectral s =
+            cylinder_plate_vector_logdet(*o_.cylinder, *plate, *o_.medium, xi, u / (2.0 * gap),
+                                         o_.radius, H, order, rel_tol, o_.m_max, &m);
+        out.m_max = std::max(out.m_max, m);
+        return s;
+      };
+      out.total =
+          de_integrate(f, kKzShare * rel_tol, &out.nodes, nullptr) * (1.0 / (2.0 * kPi * gap));
+      return out;
+    }
     std::vector<FieldKind> channels;
     if (o_.field != FieldKind::kNeumann) channels.push_back(FieldKind::kDirichlet);
     if (o_.field != FieldKind::kDirichlet) channels.push_back(FieldKind::kNeumann);
@@ -418,6 +604,8 @@ class CylinderPlate final : public Geometry {
 
   CylinderPlateOptions o_;
   std::unique_ptr<PlatePlate> pec_plates_;
+  std::unique_ptr<PlatePlate> pfa_plates_;  // half-space of the cylinder's material and the plate
+  bool vector_ = false;                     // real materials: the TE/TM-mixing path
 };
 
 }  // namespace
@@ -439,16 +627,7 @@ std::string CylinderPlateOptions::validate() const {
     return fmt::format("medium = \"{}\": the medium must be a dielectric", medium->name());
   if (field == FieldKind::kElectromagnetic) {
     if (!cylinder) return "the electromagnetic field needs the cylinder's material";
-    if (!cylinder->is_perfect_conductor())
-      return fmt::format(
-          "cylinder.material = \"{}\": cylinder materials other than perfect-conductor are not "
-          "built yet",
-          cylinder->name());
-    if (!plate || !plate->is_perfect_conductor())
-      return fmt::format(
-          "plate = \"{}\": plates other than a perfect-conductor half-space are not built yet for "
-          "cylinders",
-          plate ? plate->describe() : std::string("none"));
+    if (!plate) return "the electromagnetic field needs the plate";
   }
   return {};
 }

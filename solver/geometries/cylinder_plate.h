@@ -5,9 +5,11 @@
 // (ResultScale::kPerLength): s(xi) in 1/m, E/l in J/m, F/l in N/m, dF/dL per length in N/m^2.
 // Implementation and physics notes in cylinder_plate.cc.
 //
-// Built: perfect conductors (cylinder and plate), electromagnetic field and the scalar Dirichlet
-// and Neumann validation fields, in any non-conducting medium. Not built: real materials (a
-// dielectric or Drude cylinder, any plate other than a perfect conductor): validate() says so.
+// Built: a homogeneous cylinder of any material (dielectric, Drude, plasma, tabulated, perfect
+// conductor) over any planar body, electromagnetic field, T >= 0, in any non-conducting medium;
+// the scalar Dirichlet and Neumann validation fields. Perfect conductors on both sides take the
+// scalar (TM/TE decoupled, symmetric) path; anything else the vector path with TE/TM mixing
+// (cylinder_plate_vector_logdet). Not built: shells on cylinders.
 #include <memory>
 #include <string>
 
@@ -20,8 +22,8 @@ namespace roundtrip {
 
 struct CylinderPlateOptions {
   double radius = 0.0;   ///< R (m), > 0
-  MaterialPtr cylinder;  ///< must be a perfect conductor for the electromagnetic field
-  PlanarPtr plate;       ///< must be a perfect conductor for the electromagnetic field
+  MaterialPtr cylinder;  ///< any material (needed for the electromagnetic field)
+  PlanarPtr plate;       ///< any planar body (needed for the electromagnetic field)
   MaterialPtr medium;    ///< medium between the bodies (vacuum if null); a dielectric
   FieldKind field = FieldKind::kElectromagnetic;
   double rel_tol = 1e-5;  ///< target relative error: sets the m cut-off and the k_z rule
@@ -38,6 +40,15 @@ std::shared_ptr<Geometry> make_cylinder_plate(const CylinderPlateOptions& option
 Spectral cylinder_plate_logdet(FieldKind channel, double p, double radius, double axis_height,
                                DerivativeOrder order, double rel_tol, int m_max = 0,
                                int* m_used = nullptr);
+
+/// log det(1 - T U) of the electromagnetic round trip at one (xi, k_z) for any cylinder material
+/// and plate (bound to xi), and its first two H-derivatives (H = R + L the axis height). T from
+/// solver/scatterers/cylinder_t.h, U and the conventions in cylinder_plate.cc. m_max = 0:
+/// automatic. Exposed for tests.
+Spectral cylinder_plate_vector_logdet(const Material& cylinder, const PlanarAtFrequency& plate,
+                                      const Material& medium, double xi, double kz, double radius,
+                                      double axis_height, DerivativeOrder order, double rel_tol,
+                                      int m_max = 0, int* m_used = nullptr);
 
 /// PFA per length of a perfectly conducting cylinder over a perfectly conducting plate in
 /// vacuum, electromagnetic: E/l = -pi^3 hbar c sqrt(R) / (960 sqrt(2) L^(5/2)) (Bordag, PRD 73,
