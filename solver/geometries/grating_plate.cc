@@ -181,7 +181,7 @@ GratingStudy GratingPlate::run_study(double gap) const {
     } else {
       const int n_s = 4;
       double d_prev = 0.0;
-      for (int S = 8;; S *= 2) {
+      for (int S = 4;; S *= 2) {
         const auto [lo, hi] = pair_at({n_s, S / 2}, {n_s, S});
         const double d = hi - lo, p = observed_rate(S / 4, S / 2, S, d_prev, d);
         st.slices = S;

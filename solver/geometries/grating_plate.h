@@ -37,16 +37,18 @@ struct GratingPlateOptions {
 };
 
 /// The cut-offs of one gap, chosen by convergence tests at xi* = frequency_scale(L) (c/2L in
-/// vacuum). Orders: N_k = N_0 2^k; with d_k = s(N_k) - s(N_{k-1}) (both on the same Bloch
-/// nodes), the observed algebraic rate p_k = log2(d_{k-1}/d_k) and Richardson's extrapolation
-/// R_k = s(N_k) + d_k/(2^p_k - 1) (Richardson, Phil. Trans. R. Soc. A 210, 307 (1911)).
-/// Accepted at the first k where either the plain value's error estimate
-/// 1.25 |d_k|/(2^p_k - 1) (Roache's grid convergence index with safety factor 1.25, Roache,
-/// J. Fluids Eng. 116, 405 (1994)) is <= 0.3 rel_tol |s|, or two successive extrapolations agree,
-/// |R_k - R_{k-1}| <= 0.3 rel_tol |R_k| with |p_k - p_{k-1}| <= 0.5; in the second case every
-/// frequency is computed at N_{k-1} and N_k on the same Bloch nodes and extrapolated with p_k.
-/// Slices (non-lamellar profiles, at N = 4 before the orders): S = 4, 8, ... with the plain
-/// criterion at 0.2 rel_tol (no extrapolation in S).
+/// vacuum). Orders: N = N_0, then factors ~sqrt(2) (4, 6, 8, 11, 16, 23, ...); each level is
+/// evaluated together with the previous one on the same Bloch nodes, d_k = s(N_k) - s(N_{k-1});
+/// the observed algebraic rate p_k solves d_{k-1}/d_k = (N_{k-2}^-p - N_{k-1}^-p)/(N_{k-1}^-p -
+/// N_k^-p) (s = s_inf + a N^-p), and Richardson's extrapolation is R_k = s(N_k) + d_k/(r^p_k - 1),
+/// r = N_k/N_{k-1} (Richardson, Phil. Trans. R. Soc. A 210, 307 (1911)). Accepted at the first k
+/// where either the plain value's error estimate 1.25 |d_k|/(r^p_k - 1) (Roache's grid
+/// convergence index with safety factor 1.25, Roache, J. Fluids Eng. 116, 405 (1994)) is
+/// <= 0.3 rel_tol |s|, or two successive extrapolations agree, |R_k - R_{k-1}| <= 0.3 rel_tol |R_k|
+/// with |p_k - p_{k-1}| <= 0.5; in the second case every frequency is computed at N_{k-1} and N_k
+/// on the same Bloch nodes and extrapolated with p_k. Slices (non-lamellar profiles, at N = 4
+/// before the orders): S = 4, 8, 16, ... with the plain criterion at 0.2 rel_tol (no
+/// extrapolation in S). Relative errors are those of s(xi*), taken to hold for E.
 struct GratingStudy {
   int orders = 0;      ///< N used (the finer of the pair when extrapolating)
   int orders_low = 0;  ///< the coarser N of the pair (0: no extrapolation)
