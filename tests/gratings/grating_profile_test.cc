@@ -123,7 +123,7 @@ TEST(GratingProfiles, StaircaseConvergesInSlices) {
   EXPECT_GT(std::log2(d2 / d3), 1.5);
 }
 
-TEST(GratingProfiles, ShallowSinusoidIsThePlateAtTheMeanHeightToSecondOrder) {
+TEST(GratingProfiles, ShallowSinusoidApproachesThePlateAtTheMeanHeightFasterThanLinearly) {
   // Derived (perturbation theory in the amplitude, e.g. Emig et al., PRL 87, 260402 (2001)): to
   // first order in A the energy of a corrugation is that of the flat surface at the mean height,
   // so s(A) - s_pp(L + A) = O(A^2) for the exact operator. At finite N the FMM's truncation adds
@@ -139,7 +139,7 @@ TEST(GratingProfiles, ShallowSinusoidIsThePlateAtTheMeanHeightToSecondOrder) {
     g.slices = 16;
     GratingPlateOptions o;
     o.orders = 6;
-    o.bloch_rel_tol = 1e-9;
+    o.bloch_rel_tol = 1e-7;
     const GratingPlate gp(g, make_half_space(gold_like()), nullptr, o);
     const double s = gp.at_frequency(xi, L, DerivativeOrder::kEnergy).value;
     const double ref = pp.at_frequency(xi, L + A, DerivativeOrder::kEnergy).value;
