@@ -13,6 +13,7 @@
 
 #include "io/atom_spec.h"
 #include "io/errors.h"
+#include "io/grating_spec.h"
 #include "io/material_spec.h"
 #include "io/offsets_spec.h"
 #include "io/units.h"
@@ -894,33 +895,14 @@ CaseSpec parse_root(toml::table& root, CaseSpec spec) {
       throw table_error(s, tb + ".material", "missing required key (e.g. \"perfect-conductor\")");
     }
   };
-  // [grating]: period, profile = "lamellar" with filling and depth, material (ridges),
-  // substrate (default: the ridge material).
+  // [grating]: io/grating_spec.h.
   const auto read_grating = [&](const toml::table& t, BodySpec& b) {
-    const std::string& tb = b.table;
-    check_keys(t, tb, {"period", "profile", "filling", "depth", "material", "substrate"});
-    for (const char* key : {"period", "profile", "filling", "depth", "material"})
-      if (!t.contains(key))
-        throw table_error(t, tb + "." + key,
-                          "missing required key (a lamellar grating needs period, profile = "
-                          "\"lamellar\", filling, depth and material)");
-    const auto profile = optional_string(t, "profile", tb + ".profile");
-    if (*profile != "lamellar")
-      throw error_at(*t.get("profile"), tb + ".profile",
-                     fmt::format("profile \"{}\" is not built (only \"lamellar\" is)", *profile));
-    LamellarGrating& g = b.grating;
-    g.period = positive_length(*t.get("period"), tb + ".period", geometry::period_problem);
-    const toml::node& fn = *t.get("filling");
-    g.filling = parse_quantity(fn, Dimension::kDimensionless, tb + ".filling");
-    if (const std::string p = geometry::filling_problem(g.filling); !p.empty())
-      throw error_at(fn, tb + ".filling", p);
-    g.depth = positive_length(*t.get("depth"), tb + ".depth", geometry::thickness_problem);
-    g.ridge = material_at(t, "material", tb + ".material");
-    used.add(g.ridge);
-    g.substrate =
-        t.contains("substrate") ? material_at(t, "substrate", tb + ".substrate") : g.ridge;
-    used.add(g.substrate);
-    b.material = g.ridge;
+    b.grating =
+        grating_from_toml(t, b.table, material_at,
+                          path.has_parent_path() ? path.parent_path() : std::filesystem::path("."));
+    used.add(b.grating.ridge);
+    used.add(b.grating.substrate);
+    b.material = b.grating.ridge;
   };
   for (const BodySlot* slot : {&kind.lower, &kind.upper}) {
     BodySpec b;

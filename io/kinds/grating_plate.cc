@@ -1,4 +1,4 @@
-// geometry = "grating-plate": a lamellar grating below a planar body, per unit area (Fourier
+// geometry = "grating-plate": a grating below a planar body, per unit area (Fourier
 // modal method, solver/geometries/grating_plate.h).
 #include "solver/geometries/grating_plate.h"
 
@@ -15,7 +15,9 @@ namespace roundtrip::io {
 GeometryKind grating_plate_kind() {
   GeometryKind k;
   k.name = "grating-plate";
-  k.summary = "a lamellar grating below a planar body (Fourier modal method), per unit area";
+  k.summary =
+      "a grating (lamellar, sinusoidal, triangular or table profile) below a planar body "
+      "(Fourier modal method), per unit area";
   k.lower = {"grating", geometry::Shape::kGrating, ""};
   k.upper = {"plate", geometry::Shape::kPlate, ""};
   k.scale = ResultScale::kPerArea;
@@ -44,6 +46,7 @@ GeometryKind grating_plate_kind() {
     GratingPlateOptions o;
     o.orders = spec.orders;
     o.bloch_rel_tol = std::clamp(0.3 * spec.frequency.rel_tol, 1e-12, 1e-2);
+    o.rel_tol = spec.frequency.rel_tol;
     return std::make_shared<GratingPlate>(g, spec.body("plate").plate, spec.medium, o);
   };
   return k;

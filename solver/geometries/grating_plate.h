@@ -17,7 +17,11 @@
 // refinements' corrections.
 // PFA (Bao et al., PRL 105, 250402 (2010)): E_PFA = f E_pp(L; ridge) + (1 - f) E_pp(L + h;
 // substrate), per area, with the same frequency rule.
+#include <map>
 #include <memory>
+#include <mutex>
+#include <utility>
+#include <vector>
 
 #include "solver/geometries/geometry.h"
 #include "solver/scatterers/grating_fmm.h"
@@ -25,8 +29,36 @@
 namespace roundtrip {
 
 struct GratingPlateOptions {
-  int orders = 0;               ///< N (orders -N..N); 0 = automatic (grating_plate.cc)
+  int orders = 0;               ///< N (orders -N..N); 0 = chosen by a convergence test
   double bloch_rel_tol = 1e-6;  ///< relative accuracy of the Bloch integral per frequency
+  double rel_tol = 1e-4;        ///< target of the convergence tests in orders and slices
+  int max_orders = 64;          ///< the order study stops here (unverified beyond)
+  int max_slices = 128;         ///< the slice study stops here (unverified beyond)
+};
+
+/// The cut-offs of one gap, chosen by convergence tests at xi* = frequency_scale(L) (c/2L in
+/// vacuum). Orders: N = N_0, then factors ~sqrt(2) (4, 6, 8, 11, 16, 23, ...); each level is
+/// evaluated together with the previous one on the same Bloch nodes, d_k = s(N_k) - s(N_{k-1});
+/// the observed algebraic rate p_k solves d_{k-1}/d_k = (N_{k-2}^-p - N_{k-1}^-p)/(N_{k-1}^-p -
+/// N_k^-p) (s = s_inf + a N^-p), and Richardson's extrapolation is R_k = s(N_k) + d_k/(r^p_k - 1),
+/// r = N_k/N_{k-1} (Richardson, Phil. Trans. R. Soc. A 210, 307 (1911)). Accepted at the first k
+/// where either the plain value's error estimate 1.25 |d_k|/(r^p_k - 1) (Roache's grid
+/// convergence index with safety factor 1.25, Roache, J. Fluids Eng. 116, 405 (1994)) is
+/// <= 0.3 rel_tol |s|, or two successive extrapolations agree, |R_k - R_{k-1}| <= 0.3 rel_tol |R_k|
+/// with |p_k - p_{k-1}| <= 0.5; in the second case every frequency is computed at N_{k-1} and N_k
+/// on the same Bloch nodes and extrapolated with p_k. Slices (non-lamellar profiles, at N = 4
+/// before the orders): S = 4, 8, 16, ... with the plain criterion at 0.2 rel_tol (no
+/// extrapolation in S). Relative errors are those of s(xi*), taken to hold for E.
+struct GratingStudy {
+  int orders = 0;      ///< N used (the finer of the pair when extrapolating)
+  int orders_low = 0;  ///< the coarser N of the pair (0: no extrapolation)
+  double rate = 0.0;   ///< observed algebraic rate p in N (0: not observed)
+  double error = 0.0;  ///< estimated relative truncation error in orders (of E at xi*)
+  int slices = 0;      ///< staircase slices (0: lamellar)
+  double slice_rate = 0.0;
+  double slice_error = 0.0;
+  bool verified = false;                       ///< both estimates within their share of rel_tol
+  std::vector<std::pair<int, double>> levels;  ///< (N, s(xi*)) of the order study
 };
 
 class GratingPlate final : public Geometry {
@@ -41,23 +73,44 @@ class GratingPlate final : public Geometry {
   std::string kind() const override { return "grating-plate"; }
   std::string describe() const override;
   std::optional<PfaValues> pfa(double gap, const FrequencyRuleOptions& opts) const override;
+  /// "orders", "orders_low", "order_rate", "order_error", "slices", "slice_rate",
+  /// "slice_error", "bloch_rel_tol" (after the study of that gap; before it, the planned values).
   std::map<std::string, double> truncation(double gap) const override;
-  /// The number of diffraction orders is a model (orders_at), not a convergence test: measured
-  /// truncation errors of ~7e-4 of E at N = 8 (period 400 nm, gap 200 nm; N^-1.7 convergence),
-  /// so every grating result is marked as not verified against rel_tol.
+  /// Empty when the convergence tests met rel_tol; else why not (orders set by hand, or the
+  /// study ended at max_orders / max_slices), with the estimate.
   std::string unverified_truncation(double gap) const override;
   bool parallel_inside() const override { return true; }
-  /// The order count N used at gap L.
+  /// Bloch nodes x layers x levels of the plane-wave round trip (model, geometry.h).
+  FrequencyCost cost(double gap, DerivativeOrder order, double rel_tol) const override;
+  /// The order count N used at gap L (runs the study if needed).
   int orders_at(double gap) const;
+  /// The convergence study of gap L (cached; runs it on first use). With orders set by hand:
+  /// that N, no study.
+  GratingStudy study(double gap) const;
   /// Bloch nodes used by the last call on this thread (for tests and benchmarks).
   static int last_node_count();
 
+  /// One cut-off level: orders N and slices S.
+  struct Level {
+    int orders;
+    int slices;
+  };
+  /// s at xi for several levels on the same Bloch nodes (chosen for sum_i w_i s_i to tol):
+  /// returns sum_i w_i s_i first, then each s_i (for the studies and tests).
+  std::vector<Spectral> levels_at(double xi, double gap, DerivativeOrder order, double tol,
+                                  const std::vector<Level>& levels,
+                                  const std::vector<double>& weights) const;
+
  private:
   Spectral compute(double xi, double gap, DerivativeOrder order, double tol) const;
+  GratingStudy run_study(double gap) const;
+  int model_orders(double gap) const;
   LamellarGrating g_;
   PlanarPtr plate_;
   MaterialPtr medium_;
   GratingPlateOptions opts_;
+  mutable std::mutex mu_;
+  mutable std::map<double, GratingStudy> studies_;
 };
 
 }  // namespace roundtrip

@@ -5,8 +5,11 @@
 #include <fmt/format.h>
 
 #include <Eigen/Eigenvalues>
+#include <algorithm>
 #include <cmath>
 #include <stdexcept>
+#include <utility>
+#include <vector>
 
 #include "solver/constants.h"
 
@@ -16,17 +19,27 @@ namespace {
 using Eigen::MatrixXd;
 using Eigen::VectorXd;
 
-// Fourier coefficient p of a <-> b profile: a on |x| < f Lambda/2, b elsewhere (even profile):
-// c_0 = b + (a - b) f, c_p = (a - b) sin(pi p f)/(pi p) (standard).
-double lamellar_coefficient(double a, double b, double f, int p) {
-  if (p == 0) return b + (a - b) * f;
-  return (a - b) * std::sin(kPi * p * f) / (kPi * p);
+// Fourier coefficient p of a profile that is a on the ridge set (intervals [a_i, b_i] in units
+// of the period, symmetric about 0) and b elsewhere: c_0 = b + (a - b) sum (b_i - a_i),
+// c_p = (a - b) sum (sin 2 pi p b_i - sin 2 pi p a_i)/(2 pi p) (standard; the imaginary parts
+// cancel for an even set). One interval [-f/2, f/2]: (a - b) sin(pi p f)/(pi p).
+double set_coefficient(double a, double b, const std::vector<std::pair<double, double>>& set,
+                       int p) {
+  double c = 0.0;
+  if (p == 0) {
+    for (const auto& [lo, hi] : set) c += hi - lo;
+    return b + (a - b) * c;
+  }
+  for (const auto& [lo, hi] : set) c += std::sin(2.0 * kPi * p * hi) - std::sin(2.0 * kPi * p * lo);
+  return (a - b) * c / (2.0 * kPi * p);
 }
 
-MatrixXd toeplitz(double a, double b, double f, int m) {
+MatrixXd toeplitz(double a, double b, const std::vector<std::pair<double, double>>& set, int m) {
+  std::vector<double> c(2 * m - 1);
+  for (int p = -(m - 1); p <= m - 1; ++p) c[p + m - 1] = set_coefficient(a, b, set, p);
   MatrixXd t(m, m);
   for (int i = 0; i < m; ++i)
-    for (int j = 0; j < m; ++j) t(i, j) = lamellar_coefficient(a, b, f, i - j);
+    for (int j = 0; j < m; ++j) t(i, j) = c[i - j + m - 1];
   return t;
 }
 
@@ -112,9 +125,129 @@ double epsilon_at(const Material& m, double xi, const char* what) {
 }  // namespace
 
 std::string LamellarGrating::describe() const {
-  return fmt::format("lamellar grating of {} (period {:g} m, filling {:g}, depth {:g} m) on {}",
-                     ridge ? ridge->name() : "?", period, filling, depth,
-                     substrate ? substrate->name() : "?");
+  const std::string r = ridge ? ridge->name() : "?", sub = substrate ? substrate->name() : "?";
+  switch (profile) {
+    case GratingProfile::kSinusoidal:
+      return fmt::format("sinusoidal grating of {} (period {:g} m, amplitude {:g} m) on {}", r,
+                         period, amplitude, sub);
+    case GratingProfile::kTriangular:
+      return fmt::format("triangular grating of {} (period {:g} m, depth {:g} m) on {}", r, period,
+                         depth, sub);
+    case GratingProfile::kTable:
+      return fmt::format(
+          "table-profile grating of {} (period {:g} m, {} points, depth {:g} m) on {}", r, period,
+          table.size(), depth, sub);
+    case GratingProfile::kLamellar:
+      break;
+  }
+  return fmt::format("lamellar grating of {} (period {:g} m, filling {:g}, depth {:g} m) on {}", r,
+                     period, filling, depth, sub);
+}
+
+double LamellarGrating::height() const {
+  return profile == GratingProfile::kSinusoidal ? 2.0 * amplitude : depth;
+}
+
+double LamellarGrating::height_at(double x) const {
+  // Reduce to u = |x|/Lambda in [0, 1/2].
+  double u = std::abs(std::remainder(x / period, 1.0));
+  switch (profile) {
+    case GratingProfile::kLamellar:
+      return u < 0.5 * filling ? depth : 0.0;
+    case GratingProfile::kSinusoidal:
+      return amplitude * (1.0 + std::cos(2.0 * kPi * u));
+    case GratingProfile::kTriangular:
+      return depth * (1.0 - 2.0 * u);
+    case GratingProfile::kTable: {
+      const double xa = u * period;
+      for (std::size_t i = 1; i < table.size(); ++i) {
+        const auto& [x0, h0] = table[i - 1];
+        const auto& [x1, h1] = table[i];
+        if (xa <= x1) return x1 > x0 ? h0 + (h1 - h0) * (xa - x0) / (x1 - x0) : h1;
+      }
+      return table.back().second;
+    }
+  }
+  return 0.0;
+}
+
+std::vector<std::pair<double, double>> LamellarGrating::ridge_set(double z) const {
+  std::vector<std::pair<double, double>> s;
+  const auto sym = [&](double half) {
+    if (half > 0.0) s.emplace_back(-std::min(half, 0.5), std::min(half, 0.5));
+  };
+  switch (profile) {
+    case GratingProfile::kLamellar:
+      if (z < depth) sym(0.5 * filling);
+      return s;
+    case GratingProfile::kSinusoidal:  // A (1 + cos 2 pi u) > z  <=>  |u| < acos(z/A - 1)/(2 pi)
+      if (z < 2.0 * amplitude)
+        sym(std::acos(std::clamp(z / amplitude - 1.0, -1.0, 1.0)) / (2 * kPi));
+      return s;
+    case GratingProfile::kTriangular:  // H (1 - 2|u|) > z  <=>  |u| < (1 - z/H)/2
+      if (z < depth) sym(0.5 * (1.0 - z / depth));
+      return s;
+    case GratingProfile::kTable: {
+      // Linear pieces: the part of each segment above z, merged where they touch.
+      for (std::size_t i = 1; i < table.size(); ++i) {
+        const auto& [x0, h0] = table[i - 1];
+        const auto& [x1, h1] = table[i];
+        double a = x0, b = x1;
+        if (h0 <= z && h1 <= z) continue;
+        if (h0 <= z) a = x0 + (x1 - x0) * (z - h0) / (h1 - h0);
+        if (h1 <= z) b = x0 + (x1 - x0) * (z - h0) / (h1 - h0);
+        a /= period;
+        b /= period;
+        if (!s.empty() && a <= s.back().second + 1e-15)
+          s.back().second = b;
+        else if (b > a)
+          s.emplace_back(a, b);
+      }
+      return s;
+    }
+  }
+  return s;
+}
+
+std::vector<std::pair<double, std::vector<std::pair<double, double>>>> LamellarGrating::layers()
+    const {
+  std::vector<std::pair<double, std::vector<std::pair<double, double>>>> out;
+  if (profile == GratingProfile::kLamellar) {
+    if (depth > 0.0) out.push_back({depth, ridge_set(0.0)});
+    return out;
+  }
+  const double H = height();
+  if (!(H > 0.0)) return out;
+  if (slices < 1)
+    throw std::invalid_argument(
+        "grating: the staircase slice count of a non-lamellar profile "
+        "must be set (>= 1)");
+  // Area-preserving staircase: each slice's interval ends are the means of the profile's
+  // level-set ends over the slice (midpoint rule with kSamples sub-levels), so the staircase
+  // holds the profile's material per slice (its mean height is exact up to the sub-sampling;
+  // a plain mid-height level set misses it by O(S^-1.5) where the ends move like a square
+  // root, at the crest and trough of a sinusoid). Where the number of intervals changes
+  // inside a slice, the mid-height level set.
+  constexpr int kSamples = 64;
+  const double t = H / slices;
+  for (int j = slices - 1; j >= 0; --j) {
+    auto mid = ridge_set((j + 0.5) * t);
+    std::vector<std::pair<double, double>> mean(mid.size(), {0.0, 0.0});
+    bool same = true;
+    for (int k = 0; k < kSamples && same; ++k) {
+      const auto r = ridge_set((j + (k + 0.5) / kSamples) * t);
+      if (r.size() != mid.size()) {
+        same = false;
+        break;
+      }
+      for (std::size_t i = 0; i < r.size(); ++i) {
+        mean[i].first += r[i].first / kSamples;
+        mean[i].second += r[i].second / kSamples;
+      }
+    }
+    out.push_back({t, same ? mean : mid});
+  }
+  return out;
 }
 
 GratingAtFrequency::GratingAtFrequency(const LamellarGrating& g, double xi, const Material& medium,
@@ -136,16 +269,20 @@ GratingAtFrequency::GratingAtFrequency(const LamellarGrating& g, double xi, cons
   eps_r_ = epsilon_at(*g.ridge, xi, "ridge material");
   eps_s_ = epsilon_at(*g.substrate, xi, "substrate");
   q0_ = xi / kSpeedOfLight;
-  ee_ = toeplitz(eps_r_, eps_m_, g.filling, m_);
-  ai_ = toeplitz(1.0 / eps_r_, 1.0 / eps_m_, g.filling, m_).inverse();
-  ai_ = 0.5 * (ai_ + ai_.transpose()).eval();
-  ee_llt_.compute(ee_);
-  if (ee_llt_.info() != Eigen::Success)
-    throw std::runtime_error(fmt::format(
-        "grating: the Toeplitz matrix of eps (ridge {:g}, groove {:g}) is not positive definite "
-        "in double precision",
-        eps_r_, eps_m_));
-  ee_inv_ = ee_llt_.solve(Eigen::MatrixXd::Identity(m_, m_));
+  for (const auto& [thickness, set] : g.layers()) {
+    Layer l;
+    l.thickness = thickness;
+    l.ee = toeplitz(eps_r_, eps_m_, set, m_);
+    l.ai = toeplitz(1.0 / eps_r_, 1.0 / eps_m_, set, m_).inverse();
+    l.ai = 0.5 * (l.ai + l.ai.transpose()).eval();
+    l.ee_llt.compute(l.ee);
+    if (l.ee_llt.info() != Eigen::Success)
+      throw std::runtime_error(fmt::format(
+          "grating: the Toeplitz matrix of eps (ridge {:g}, groove {:g}) is not positive "
+          "definite in double precision",
+          eps_r_, eps_m_));
+    layers_.push_back(std::move(l));
+  }
 }
 
 Eigen::MatrixXd GratingAtFrequency::reflect(double kx, double ky) const {
@@ -155,13 +292,13 @@ Eigen::MatrixXd GratingAtFrequency::reflect(double kx, double ky) const {
   VectorXd k(m_);
   for (int i = 0; i < m_; ++i) k[i] = (kx + (i - n_) * G) * unit;
   const double kyn = ky * unit;
-  const double d = g_.depth / unit;
-  const bool layer = g_.depth > 0.0;
   const int dim = this->dim();
   if (xi_ > 0.0) {
     const Modes top = homogeneous_dynamic(k, kyn, eps_m_);
     MatrixXd y = homogeneous_dynamic(k, kyn, eps_s_).v;  // substrate: down-going only
-    if (layer) {
+    // Layers from the bottom up (layers_ is top first).
+    for (auto it = layers_.rbegin(); it != layers_.rend(); ++it) {
+      const Layer& ly = *it;
       // Symmetric form (derived): with h~ = (-h_y, h_x), d_z e = P~ h~, d_z h~ = Q~ e,
       //   P~ = [K; k_y] Ee^-1 [K, k_y] + 1 (SPD),  Q~ = [[k_y^2 + Ai, -k_y K], [-k_y K, K^2 + Ee]]
       // (symmetric), so P~ Q~ w = lambda^2 w is, with P~ = L L^T and w = L z, the symmetric
@@ -173,10 +310,10 @@ Eigen::MatrixXd GratingAtFrequency::reflect(double kx, double ky) const {
       // semi-definite also in rounding (high-contrast Ee, e.g. metals at small xi).
       MatrixXd B(dim, m_);
       B << MatrixXd(K), kyn * id;
-      const MatrixXd Gt = ee_llt_.matrixL().solve(B.transpose());  // C^-1 B^T
+      const MatrixXd Gt = ly.ee_llt.matrixL().solve(B.transpose());  // C^-1 B^T
       P = Gt.transpose() * Gt + MatrixXd::Identity(dim, dim);
       MatrixXd kk = k.array().square().matrix().asDiagonal();
-      Q << kyn * kyn * id + ai_, -kyn * MatrixXd(K), -kyn * MatrixXd(K), kk + ee_;
+      Q << kyn * kyn * id + ly.ai, -kyn * MatrixXd(K), -kyn * MatrixXd(K), kk + ly.ee;
       const Eigen::LLT<MatrixXd> llt(P);
       if (llt.info() != Eigen::Success)
         throw std::runtime_error("grating: the layer operator P is not positive definite");
@@ -193,26 +330,26 @@ Eigen::MatrixXd GratingAtFrequency::reflect(double kx, double ky) const {
       md.lambda = ev.cwiseSqrt();
       md.w = L * es.eigenvectors();
       md.v = Q * md.w * md.lambda.cwiseInverse().asDiagonal();
-      y = admittance_through(md, d, y);
+      y = admittance_through(md, ly.thickness / unit, y);
     }
     return reflection_from(top.v, y);
   }
   // xi = 0: electrostatic TM (header).
   const Modes top = homogeneous_static(k, kyn, eps_m_);
   MatrixXd y = homogeneous_static(k, kyn, eps_s_).v;
-  if (layer) {
+  for (auto it = layers_.rbegin(); it != layers_.rend(); ++it) {
+    const Layer& ly = *it;
     const auto K = k.asDiagonal();
-    const MatrixXd S = K * ai_ * K + kyn * kyn * ee_;
-    Eigen::GeneralizedSelfAdjointEigenSolver<MatrixXd> es(S, ee_);
+    const MatrixXd S = K * ly.ai * K + kyn * kyn * ly.ee;
+    Eigen::GeneralizedSelfAdjointEigenSolver<MatrixXd> es(S, ly.ee);
     if (es.info() != Eigen::Success)
       throw std::runtime_error("grating: the static layer eigenproblem did not converge");
     Modes md;
     md.lambda = es.eigenvalues().cwiseMax(0.0).cwiseSqrt();
     md.w = es.eigenvectors();
-    md.v = -ee_ * md.w * md.lambda.asDiagonal();
-    y = admittance_through(md, d, y);
+    md.v = -ly.ee * md.w * md.lambda.asDiagonal();
+    y = admittance_through(md, ly.thickness / unit, y);
   }
-  (void)dim;
   return reflection_from(top.v, y);
 }
 

@@ -33,11 +33,22 @@
 #include <Eigen/Dense>
 #include <memory>
 #include <string>
+#include <utility>
+#include <vector>
 
 #include "solver/materials/material.h"
 #include "solver/planar/planar.h"
 
 namespace roundtrip {
+
+/// Profile of the grating's ridges over one period (heights above the lowest point of the
+/// profile; x from the crest, the profile is even in x).
+enum class GratingProfile {
+  kLamellar,    ///< ridges of width f Lambda and height `depth` (rectangular)
+  kSinusoidal,  ///< h(x) = A (1 + cos(2 pi x / Lambda)), A = `amplitude`, crest to trough 2A
+  kTriangular,  ///< h(x) = H (1 - 2|x|/Lambda), H = `depth` (symmetric, apex at x = 0)
+  kTable,       ///< piecewise-linear h(x) through `table` (x in [-Lambda/2, Lambda/2], even)
+};
 
 struct LamellarGrating {
   double period = 0.0;    ///< Lambda (m), > 0
@@ -46,6 +57,26 @@ struct LamellarGrating {
   MaterialPtr ridge;      ///< eps_r of the ridges
   MaterialPtr substrate;  ///< eps_s under the grooves and ridges
   std::string describe() const;
+  // Non-lamellar profiles (additive; lamellar gratings leave these at their defaults).
+  GratingProfile profile = GratingProfile::kLamellar;
+  double amplitude = 0.0;  ///< sinusoidal: A (m)
+  /// table: (x, h) points (m), x increasing over [-Lambda/2, Lambda/2], h(-x) = h(x), min h = 0
+  std::vector<std::pair<double, double>> table;
+  /// Staircase slices for non-lamellar profiles (equal thickness, ridge set at the slice's
+  /// mid-height); 0 = not set (the geometry chooses it by a convergence test).
+  int slices = 0;
+  /// Crest-to-trough height (m): depth (lamellar, triangular, table), 2A (sinusoidal).
+  double height() const;
+  /// Height of the profile at x (m), x in m from the crest, any x (periodic).
+  double height_at(double x) const;
+  /// The ridge set {x : h(x) > z} in one period as intervals [a, b] in units of the period,
+  /// within [-1/2, 1/2] and symmetric about 0 (exact for every profile kind).
+  std::vector<std::pair<double, double>> ridge_set(double z) const;
+  /// The lamellar layers the FMM stacks, top first: (thickness m, ridge set). Lamellar: one
+  /// layer; other profiles: `slices` layers of equal thickness (a staircase, Moharam & Gaylord,
+  /// JOSA 72, 1385 (1982) for the slicing of surface-relief profiles), each holding the
+  /// profile's mean level set over the slice (area-preserving; grating_fmm.cc).
+  std::vector<std::pair<double, std::vector<std::pair<double, double>>>> layers() const;
 };
 
 /// A grating bound to one imaginary frequency xi >= 0 (rad/s), a gap medium and an order count
@@ -62,11 +93,15 @@ class GratingAtFrequency {
   Eigen::MatrixXd reflect(double kx, double ky) const;
 
  private:
+  struct Layer {
+    double thickness;                    // m
+    Eigen::MatrixXd ee, ai;              // Toeplitz [[eps]], [[1/eps]]^-1 (M x M)
+    Eigen::LLT<Eigen::MatrixXd> ee_llt;  // [[eps]] = C C^T
+  };
   LamellarGrating g_;
   double xi_, q0_, eps_m_, eps_r_, eps_s_;
   int n_, m_;
-  Eigen::MatrixXd ee_, ai_, ee_inv_;    // Toeplitz [[eps]], [[1/eps]]^-1, [[eps]]^-1 (M x M)
-  Eigen::LLT<Eigen::MatrixXd> ee_llt_;  // [[eps]] = C C^T
+  std::vector<Layer> layers_;  // top first
 };
 
 /// The same basis for a planar body (block-diagonal in n): at xi > 0 r_TE u u^T - r_TM v v^T

@@ -2,6 +2,8 @@
 #include <gtest/gtest.h>
 
 #include <cmath>
+#include <filesystem>
+#include <fstream>
 #include <string>
 
 #include "io/case_file.h"
@@ -79,8 +81,10 @@ TEST(GratingCase, BadValuesNameFileLineKeyAndValue) {
   m = with("period = \"400 nm\"", "period = \"-400 nm\"");
   EXPECT_NE(m.find("g.toml:9: grating.period = \"-400 nm\""), std::string::npos) << m;
   m = with("\"lamellar\"", "\"sinusoidal\"");
-  EXPECT_NE(m.find("g.toml:10: grating.profile"), std::string::npos) << m;
-  EXPECT_NE(m.find("not built"), std::string::npos) << m;
+  EXPECT_NE(m.find("g.toml:8: grating.amplitude: missing required key"), std::string::npos) << m;
+  m = with("\"lamellar\"", "\"wavy\"");
+  EXPECT_NE(m.find("g.toml:10: grating.profile = \"wavy\": unknown profile"), std::string::npos)
+      << m;
 }
 
 TEST(GratingCase, WhatIsNotBuiltIsAClearError) {
@@ -122,6 +126,60 @@ TEST(GratingCase, FillingOneIsThePlatePlateEnergyAndItsPfa) {
   ASSERT_TRUE(pfa.has_value());
   EXPECT_NEAR(pfa->energy, r.total.value, 1e-5 * std::abs(r.total.value));
   EXPECT_NEAR(pfa->force, -r.total.d1, 1e-5 * std::abs(r.total.d1));
+}
+
+TEST(GratingCase, ReadsSinusoidalTriangularAndTableProfiles) {
+  const auto read = [&](const std::string& lines) {
+    return parse_case(grating_case(lines), "g.toml").body("grating").grating;
+  };
+  const auto sin = read(
+      "period = \"500 nm\"\nprofile = \"sinusoidal\"\namplitude = \"40 nm\"\n"
+      "material = \"silicon\"\n");
+  EXPECT_EQ(sin.profile, GratingProfile::kSinusoidal);
+  EXPECT_DOUBLE_EQ(sin.amplitude, 40e-9);
+  EXPECT_DOUBLE_EQ(sin.height(), 80e-9);
+  const auto tri = read(
+      "period = \"500 nm\"\nprofile = \"triangular\"\ndepth = \"60 nm\"\n"
+      "material = \"silicon\"\n");
+  EXPECT_EQ(tri.profile, GratingProfile::kTriangular);
+  // A table of one period, symmetric about its middle, starting anywhere (shifted to the crest).
+  const auto dir = std::filesystem::temp_directory_path() / "roundtrip_grating_case_test";
+  std::filesystem::create_directories(dir);
+  const auto write = [&](const std::string& name, const std::string& text) {
+    std::ofstream(dir / name) << text;
+    return (dir / name).string();
+  };
+  const std::string good =
+      write("good.csv", "x, height\n100, 0\n250, 90\n300, 100\n350, 90\n500, 0\n");
+  const auto tab = read("period = \"400 nm\"\nprofile = \"table\"\ntable = \"" + good +
+                        "\"\ntable_unit = \"nm\"\nmaterial = \"silicon\"\n");
+  EXPECT_EQ(tab.profile, GratingProfile::kTable);
+  EXPECT_NEAR(tab.depth, 100e-9, 1e-18);
+  EXPECT_NEAR(tab.height_at(0.0), 100e-9, 1e-18);    // the crest moved to x = 0
+  EXPECT_NEAR(tab.height_at(200e-9), 0.0, 1e-18);    // the trough at half a period
+  EXPECT_NEAR(tab.height_at(-50e-9), 90e-9, 1e-18);  // even
+  const auto table_error = [&](const std::string& csv, const std::string& period = "400 nm") {
+    return error_of(grating_case("period = \"" + period + "\"\nprofile = \"table\"\ntable = \"" +
+                                 csv + "\"\ntable_unit = \"nm\"\nmaterial = \"silicon\"\n"));
+  };
+  // Not single-valued (x goes back), not periodic, not one period, asymmetric: file:line or the
+  // case's line 11 (table = ...), with the key.
+  std::string m = table_error(write("back.csv", "0, 0\n200, 50\n150, 60\n400, 0\n"));
+  EXPECT_NE(m.find("back.csv:3: grating.table: x = 150 does not increase"), std::string::npos) << m;
+  m = table_error(write("open.csv", "0, 0\n200, 50\n400, 10\n"));
+  EXPECT_NE(m.find("g.toml:11: grating.table"), std::string::npos) << m;
+  EXPECT_NE(m.find("not periodic"), std::string::npos) << m;
+  m = table_error(good, "300 nm");
+  EXPECT_NE(m.find("not one period"), std::string::npos) << m;
+  m = table_error(write("skew.csv", "0, 0\n100, 80\n150, 0\n400, 0\n"));
+  EXPECT_NE(m.find("not symmetric"), std::string::npos) << m;
+  m =
+      error_of(grating_case("period = \"500 nm\"\nprofile = \"sinusoidal\"\namplitude = \"40 nm\"\n"
+                            "filling = 0.5\nmaterial = \"silicon\"\n"));
+  EXPECT_NE(m.find("g.toml:12: grating.filling = 0.5: not a key of profile = \"sinusoidal\""),
+            std::string::npos)
+      << m;
+  std::filesystem::remove_all(dir);
 }
 
 }  // namespace

@@ -1,0 +1,36 @@
+#pragma once
+// The [grating] table -> a LamellarGrating (solver/scatterers/grating_fmm.h). One place for the
+// reading of a grating's shape (as io/atom_spec.cc is for [atom]):
+//   period = "400 nm"                        > 0
+//   profile = "lamellar"   filling = 0.5, depth = "200 nm"  (ridges of width f period)
+//           | "sinusoidal" amplitude = "50 nm"               (h = A (1 + cos 2 pi x/period))
+//           | "triangular" depth = "100 nm"                  (symmetric, apex at x = 0)
+//           | "table"      table = "profile.csv", table_unit = "nm"  (x, height per line)
+//   material = "silicon"                     the ridges
+//   substrate = "silica"                     optional; default: the ridge material
+// Table profiles: one period of (x, height) points, x strictly increasing (single-valued),
+// last x - first x = period, first height = last height (periodic), symmetric about the first
+// point or the middle of the period (an asymmetric profile has complex Fourier coefficients,
+// not built). Lines starting with '#' and a header line of non-numbers are skipped.
+#include <toml++/toml.h>
+
+#include <filesystem>
+#include <functional>
+#include <string>
+#include <string_view>
+
+#include "solver/scatterers/grating_fmm.h"
+
+namespace roundtrip::io {
+
+/// Looks a material up by the string at t[key] (error messages name `field`).
+using MaterialLookup = std::function<MaterialPtr(const toml::table& t, std::string_view key,
+                                                 const std::string& field)>;
+
+/// Throws CaseError "file:line: <table>.<key> = <value>: what is wrong". `base` is the directory
+/// that relative table paths are read from (the case file's).
+LamellarGrating grating_from_toml(const toml::table& t, const std::string& table,
+                                  const MaterialLookup& material_at,
+                                  const std::filesystem::path& base);
+
+}  // namespace roundtrip::io
