@@ -29,6 +29,7 @@
 #include "solver/guards.h"
 #include "solver/materials/library.h"
 #include "solver/plan.h"
+#include "solver/plan_timing.h"
 #include "solver/run.h"
 
 namespace roundtrip::io::cli {
@@ -601,10 +602,14 @@ int check_command(const CheckArgs& args, std::ostream& out, std::ostream& err) {
       // whose truncation is beyond the limit: it falls back to the matrix-product rate).
       const std::string beyond =
           truncation_problem(*g, make_plan(*g, ps.gaps, opts, PlanCalibration{}));
-      PlanCalibration cal;
+      Plan plan;
       try {
         throw_if_cancelled();
-        cal = calibrate_plan(*g, ps.gaps, ps.frequency, ps.quantities.order());
+        // Beyond what can run: nothing is timed (the plan is printed with model times).
+        plan = beyond.empty()
+                   ? timed_plan(*g, ps.gaps, opts)
+                   : make_plan(*g, ps.gaps, opts,
+                               calibrate_plan(*g, ps.gaps, ps.frequency, ps.quantities.order()));
       } catch (const Cancelled&) {
         out << std::flush;
         err << "roundtrip: interrupted during `check` (its calibration times real frequencies); "
@@ -612,7 +617,6 @@ int check_command(const CheckArgs& args, std::ostream& out, std::ostream& err) {
             << std::flush;
         return kExitInterrupted;
       }
-      const Plan plan = make_plan(*g, ps.gaps, opts, cal);
       if (!beyond.empty()) {
         heading();
         print_plan(plan, out);
@@ -621,7 +625,7 @@ int check_command(const CheckArgs& args, std::ostream& out, std::ostream& err) {
       }
       total += plan.seconds;
       memory = std::max(memory, plan.memory_bytes);
-      how = cal.how;
+      how = plan.calibration.how;
       if (const std::string m = memory_problem(plan, limit); !m.empty() && memory_warning.empty())
         memory_warning = where + memory_refusal(m);
       heading();
