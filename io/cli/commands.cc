@@ -84,8 +84,8 @@ std::string rule_sentence(const CaseSpec& spec, const RunResult* r = nullptr) {
         ++matsubara;
       }
     }
-  const std::string poles =
-      lo == hi ? fmt::format("{} poles", lo) : fmt::format("{}\u2013{} poles", lo, hi);
+  const std::string poles = lo == hi ? Progress::count_text(lo, "pole", "poles")
+                                     : fmt::format("{}\u2013{} poles", lo, hi);
   if (tail > 0)  // low temperature (frequency_rule.h)
     return fmt::format("T = {} K, Matsubara terms with an integral tail{}", T,
                        tail == static_cast<int>(r->points.size())
@@ -393,8 +393,8 @@ int run_command(const RunArgs& args, std::ostream& out, std::ostream& err) {
   ResultsWriter writer(where.path, where.field);  // fails now if the path is unwritable
   Journal journal(journal_path(where.path), journal_key(spec), args.restart);
   if (journal.loaded() > 0)
-    err << fmt::format("roundtrip: resuming from {} ({} contributions saved{})\n",
-                       journal.path().string(), journal.loaded(),
+    err << fmt::format("roundtrip: resuming from {} ({} saved{})\n", journal.path().string(),
+                       Progress::count_text(journal.loaded(), "contribution", "contributions"),
                        journal.had_crlf() ? "; CRLF line endings accepted" : "")
         << std::flush;
   if (const auto& bad = journal.damaged_lines(); !bad.empty()) {
@@ -412,6 +412,14 @@ int run_command(const RunArgs& args, std::ostream& out, std::ostream& err) {
 
   std::vector<ScanRunResult> runs;
   bool interrupted = false;
+  // Planned cost of the scan points before point k (the progress ETA is that of the whole scan).
+  const auto scan_start = std::chrono::steady_clock::now();
+  const auto scan_cost_before = [&](std::size_t k) {
+    double c = 0.0;
+    for (std::size_t j = 0; j < k && j < plans.size(); ++j)
+      for (const auto& gp : plans[j].gaps) c += gp.frequencies * gp.flops_per_frequency;
+    return c;
+  };
   for (std::size_t k = 0; k < points.size(); ++k) {
     const CaseSpec& ps = points[k].spec;
     RunOptions opts;
@@ -432,6 +440,7 @@ int run_command(const RunArgs& args, std::ostream& out, std::ostream& err) {
         cost.push_back(gp.frequencies * gp.flops_per_frequency);
       }
       progress.set_plan(std::move(freqs), std::move(cost));
+      if (scan) progress.set_scan(scan_start, scan_cost_before(k), scan_cost_before(points.size()));
       opts.progress = [&](int done, int total) { progress.gap_done(done, total); };
       opts.gap_started = [&](int gap) { progress.gap_started(gap); };
       opts.frequency_progress = [&](int gap, int n) { progress.frequency(gap, n); };
@@ -463,7 +472,8 @@ int run_command(const RunArgs& args, std::ostream& out, std::ostream& err) {
     if (interrupted) break;
   }
   if (journal.reused() > 0)
-    err << fmt::format("roundtrip: resumed: {} contributions reused from {}\n", journal.reused(),
+    err << fmt::format("roundtrip: resumed: {} reused from {}\n",
+                       Progress::count_text(journal.reused(), "contribution", "contributions"),
                        journal.path().string());
 
   const CommitOutcome written =
@@ -500,8 +510,9 @@ int run_command(const RunArgs& args, std::ostream& out, std::ostream& err) {
   journal.remove();
   const int threads = runs.front().result.threads;
   if (scan)
-    out << fmt::format("\nresults: {} ({} scan points, {} gaps, {:.2f} s on {} thread{})\n",
-                       where.path.string(), points.size(), gaps_written, wall, threads,
+    out << fmt::format("\nresults: {} ({}, {}, {:.2f} s on {} thread{})\n", where.path.string(),
+                       Progress::count_text(points.size(), "scan point", "scan points"),
+                       Progress::count_text(gaps_written, "gap", "gaps"), wall, threads,
                        threads == 1 ? "" : "s");
   else
     out << fmt::format("\nresults: {} ({} gap{}, {:.2f} s on {} thread{})\n", where.path.string(),
@@ -519,6 +530,9 @@ int check_command(const std::string& case_path, std::ostream& out) {
   args.case_path = case_path;
   return check_command(args, out, std::cerr);
 }
+
+// Seconds `check` spends timing frequencies (split over the scan points; solver/plan_timing.h).
+constexpr double kCheckBudgetSeconds = 2.0;
 
 int check_command(const CheckArgs& args, std::ostream& out, std::ostream& err) {
   if (args.threads < 0)
@@ -574,8 +588,10 @@ int check_command(const CheckArgs& args, std::ostream& out, std::ostream& err) {
     if (!spec.scan.empty()) {
       std::string axes;
       for (const auto& a : spec.scan)
-        axes += fmt::format("{}{} ({} values)", axes.empty() ? "" : " x ", a.key, a.values.size());
-      row("scan", fmt::format("{} points: {}", points.size(), axes));
+        axes += fmt::format("{}{} ({})", axes.empty() ? "" : " x ", a.key,
+                            Progress::count_text(a.values.size(), "value", "values"));
+      row("scan",
+          fmt::format("{}: {}", Progress::count_text(points.size(), "point", "points"), axes));
     }
     double total = 0.0, memory = 0.0;
     std::string how, memory_warning;
@@ -607,7 +623,7 @@ int check_command(const CheckArgs& args, std::ostream& out, std::ostream& err) {
         throw_if_cancelled();
         // Beyond what can run: nothing is timed (the plan is printed with model times).
         plan = beyond.empty()
-                   ? timed_plan(*g, ps.gaps, opts)
+                   ? timed_plan(*g, ps.gaps, opts, kCheckBudgetSeconds / points.size())
                    : make_plan(*g, ps.gaps, opts,
                                calibrate_plan(*g, ps.gaps, ps.frequency, ps.quantities.order()));
       } catch (const Cancelled&) {
