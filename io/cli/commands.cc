@@ -257,8 +257,9 @@ void print_theta(const RunResult& r, std::ostream& out) {
     if (!fit->valid) continue;
     out << fmt::format(
         "\u03b8 fit: {0}/{0}_PFA = {1}: \u03b8 = {2:.4f} \u00b1 {3:.4f} ({4} gaps, "
-        "L/R from {5:.3g} to {6:.3g})\n",
-        q, fit->model, fit->theta, fit->uncertainty, fit->points, fit->x_min, fit->x_max);
+        "L/R from {5:.3g} to {6:.3g}){7}\n",
+        q, fit->model, fit->theta, fit->uncertainty, fit->points, fit->x_min, fit->x_max,
+        fit->note.empty() ? std::string() : "; " + fit->note);
   }
 }
 
