@@ -107,8 +107,8 @@ int main(int argc, char** argv) {
       cases.insert(cases.end(), found.begin(), found.end());
     }
   }
-  const fs::path program = fs::read_symlink("/proc/self/exe").parent_path().parent_path() /
-                           "roundtrip";
+  const fs::path program =
+      fs::read_symlink("/proc/self/exe").parent_path().parent_path() / "roundtrip";
   const fs::path tmp = fs::temp_directory_path() / fmt::format("rt_check_bench_{}", getpid());
   fs::create_directories(tmp);
   std::string load;
@@ -125,8 +125,8 @@ int main(int argc, char** argv) {
              "check 2", "spread", "check", "run", "process", "cpu/thr", "est/run", "est/cpu");
   int within = 0, total = 0;
   for (const auto& c : cases) {
-    const std::string check_cmd = fmt::format("{} check {}", shell_quote(program.string()),
-                                              shell_quote(c.string()));
+    const std::string check_cmd =
+        fmt::format("{} check {}", shell_quote(program.string()), shell_quote(c.string()));
     const Output c1 = run_program(check_cmd), c2 = run_program(check_cmd);
     const double e1 = check_estimate(c1.text), e2 = check_estimate(c2.text);
     const double spread = std::abs(e1 - e2) / std::min(e1, e2);
@@ -136,8 +136,7 @@ int main(int argc, char** argv) {
       const fs::path out = tmp / (c.stem().string() + ".h5");
       const Output r = run_program(fmt::format("{} run {} -o {} --quiet --restart",
                                                shell_quote(program.string()),
-                                               shell_quote(c.string()),
-                                               shell_quote(out.string())));
+                                               shell_quote(c.string()), shell_quote(out.string())));
       const auto [actual, threads] = run_seconds(r.text);
       if (actual > 0.0) {
         const double mean = 0.5 * (e1 + e2);
@@ -159,9 +158,10 @@ int main(int argc, char** argv) {
                wall_text, cpu_text, ratio_text, cpu_ratio_text);
     std::fflush(stdout);
   }
-  fmt::print("{} of {} runs within a factor of 2 of the estimate (mean of the two checks, against "
-             "the run's own time)\n",
-             within, total);
+  fmt::print(
+      "{} of {} runs within a factor of 2 of the estimate (mean of the two checks, against "
+      "the run's own time)\n",
+      within, total);
   if (FILE* f = fopen("/proc/loadavg", "r")) {
     char b[128] = {};
     if (fgets(b, sizeof b, f)) fmt::print("load average at the end: {}", b);

@@ -90,11 +90,11 @@ double cpu_seconds() {
   return static_cast<double>(ts.tv_sec) + 1e-9 * static_cast<double>(ts.tv_nsec);
 }
 
-// One call of s(xi) timed as the run would see it on an otherwise idle machine: the wall time,
-// unless the process got less CPU than that (other programs running: a loaded 2-core machine
-// stretched wall times 5-10x while the CPU time stayed put), then its CPU time spread over at
-// most the threads the call may use. So repeat calls agree under changing load, and the
-// estimate is that of a machine the run has to itself.
+// One call of s(xi) timed as the run would see it on a machine it has to itself: the wall time
+// when the call ran in parallel (wall < CPU time: it had the cores), else its CPU time over the
+// threads it may use (one thread, or other programs held the cores: a loaded 2-core machine
+// stretched wall times 5-10x while the CPU time stayed put). So repeat calls agree under
+// changing load; under load the parallel speed-up is taken as ideal.
 class Timer {
  public:
   Timer(const Geometry& g, DerivativeOrder order, int threads)
@@ -107,7 +107,7 @@ class Timer {
     const double wall = since(t0), cpu = cpu_seconds() - c0;
     spent += wall;
     ++calls;
-    return std::max(cpu / threads_, std::min(wall, cpu));
+    return wall < cpu ? wall : cpu / threads_;
   }
   double spent = 0.0;
   int calls = 0;
@@ -119,8 +119,7 @@ class Timer {
 };
 
 Sample measure_gap(const Geometry& g, double gap, const GapModel& m, const RunOptions& options,
-                   double budget, double gemm_rate, const std::vector<Sample>& done,
-                   Timer& timer) {
+                   double budget, double gemm_rate, const std::vector<Sample>& done, Timer& timer) {
   const DerivativeOrder order = options.quantities.order();
   const double rel_tol = options.frequency.rel_tol;
   Sample s;
@@ -150,8 +149,7 @@ Sample measure_gap(const Geometry& g, double gap, const GapModel& m, const RunOp
   const Sample* near = nullptr;
   for (const Sample& d : done)
     if (!near || std::abs(std::log(d.gap / gap)) < std::abs(std::log(near->gap / gap))) near = &d;
-  const double predicted =
-      near ? near->t_middle * s.flops / near->flops : s.flops * gemm_rate;
+  const double predicted = near ? near->t_middle * s.flops / near->flops : s.flops * gemm_rate;
   Sample anchor;
   if (modelled && groups > 0 && !near && predicted > budget) {
     // Nothing timed yet: an anchor at a larger gap that the model puts well inside the budget.
@@ -305,16 +303,16 @@ Plan timed_plan(const Geometry& g, const std::vector<double>& gaps, const RunOpt
     const double per_flop = std::exp(interpolate(samples, gaps[i], [](const Sample& s) {
       return std::log(std::max(s.per_frequency, 1e-12) / std::max(s.flops, 1.0));
     }));
-    const double positive = static_cast<double>(std::count_if(
-        m.xi.begin(), m.xi.end(), [](double xi) { return xi > 0.0; }));
+    const double positive = static_cast<double>(
+        std::count_if(m.xi.begin(), m.xi.end(), [](double xi) { return xi > 0.0; }));
     const bool has_static = positive < static_cast<double>(m.xi.size());
     p.frequencies = static_cast<int>(m.xi.size());
-    p.seconds = m.rule_seconds + positive * per_flop * flops +
-                (has_static ? interpolate(samples, gaps[i],
-                                          [](const Sample& s) { return s.static_term; })
-                            : 0.0) +
-                interpolate(samples, gaps[i], [](const Sample& s) { return s.set_up; }) +
-                interpolate(samples, gaps[i], [](const Sample& s) { return s.pfa; });
+    p.seconds =
+        m.rule_seconds + positive * per_flop * flops +
+        (has_static ? interpolate(samples, gaps[i], [](const Sample& s) { return s.static_term; })
+                    : 0.0) +
+        interpolate(samples, gaps[i], [](const Sample& s) { return s.set_up; }) +
+        interpolate(samples, gaps[i], [](const Sample& s) { return s.pfa; });
     serial += p.seconds;
     gap_seconds.push_back(p.seconds);
   }
