@@ -4,6 +4,7 @@
 #include <fmt/ostream.h>
 #include <omp.h>
 #include <sys/wait.h>
+#include <toml++/toml.h>
 #include <unistd.h>
 
 #include <algorithm>
@@ -211,6 +212,35 @@ void print_results(const CaseSpec& spec, const RunResult& r, std::ostream& out) 
   }
 }
 
+// A `[scan] material = [...]` replaces the material of every body; if the case gave its bodies
+// different materials (the tutorial's silicon plate under a gold sphere), say which were
+// replaced (empty otherwise).
+std::string scan_material_warning(const CaseSpec& spec) {
+  if (std::none_of(spec.scan.begin(), spec.scan.end(),
+                   [](const ScanAxis& a) { return a.key == "material"; }))
+    return {};
+  std::vector<std::pair<std::string, std::string>> written;
+  try {
+    const toml::table t = toml::parse(spec.text);
+    for (const auto& b : spec.bodies)
+      if (b.defaulted_from.empty())
+        if (const auto m = t[b.table]["material"].value<std::string>())
+          written.emplace_back(b.table, *m);
+  } catch (const std::exception&) {
+    return {};
+  }
+  bool differ = false;
+  for (const auto& w : written) differ = differ || w.second != written.front().second;
+  if (!differ) return {};
+  std::string list;
+  for (const auto& [table, m] : written)
+    list += fmt::format("{}{}.material = \"{}\"", list.empty() ? "" : ", ", table, m);
+  return fmt::format(
+      "scan.material replaces the material of every body ({}): every scan point has the same "
+      "material everywhere; to scan one body use {}.material = [...]",
+      list, written.back().first);
+}
+
 }  // namespace
 
 std::string version_line() { return fmt::format("roundtrip {} (git {})", kVersion, kGitCommit); }
@@ -390,6 +420,8 @@ int run_command(const RunArgs& args, std::ostream& out, std::ostream& err) {
       err << "roundtrip: warning: " << where << m << "; running anyway (--force)\n" << std::flush;
     }
   }
+  if (const std::string w = scan_material_warning(spec); !w.empty())
+    err << "roundtrip: warning: " << w << "\n" << std::flush;
   const OutputChoice where = choose_output(args, spec);
   ResultsWriter writer(where.path, where.field);  // fails now if the path is unwritable
   Journal journal(journal_path(where.path), journal_key(spec), args.restart);
@@ -591,6 +623,7 @@ int check_command(const CheckArgs& args, std::ostream& out, std::ostream& err) {
       for (const auto& a : spec.scan)
         axes += fmt::format("{}{} ({})", axes.empty() ? "" : " x ", a.key,
                             Progress::count_text(a.values.size(), "value", "values"));
+      if (const std::string w = scan_material_warning(spec); !w.empty()) row("warning", w);
       row("scan",
           fmt::format("{}: {}", Progress::count_text(points.size(), "point", "points"), axes));
     }
