@@ -687,8 +687,8 @@ int check_command(const CheckArgs& args, std::ostream& out, std::ostream& err) {
           out << fmt::format("warning: gap {} m: {}\n", gap, why);
     }
     out << "\n";
-    row("estimate", fmt::format("about {} on {} thread{}, peak working memory {} (rough: a "
-                                "factor of 3 either way)",
+    row("estimate", fmt::format("about {} on {} thread{}, peak working memory {} (on a machine "
+                                "the run has to itself)",
                                 Progress::duration_text(total), omp_get_max_threads(),
                                 omp_get_max_threads() == 1 ? "" : "s", bytes_text(memory)));
     row("time from", how);
