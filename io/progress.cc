@@ -8,7 +8,7 @@ namespace roundtrip::io {
 namespace {
 constexpr double kTerminalInterval = 0.1;  // s between redraws: readable, cheap
 constexpr double kLineInterval = 5.0;      // s between lines on long gaps when not a terminal
-constexpr double kRunningCap = 0.95;       // a running gap never counts as finished
+constexpr double kRunningCap = 0.95;       // without a plan: a running gap never counts as done
 }  // namespace
 
 Progress::Progress(std::ostream& err, bool terminal, int total_gaps, std::string prefix)
@@ -30,6 +30,18 @@ std::string Progress::duration_text(double s) {
   return fmt::format("{:.1f} h", s / 3600.0);
 }
 
+std::string Progress::count_text(long n, const std::string& one, const std::string& many) {
+  return fmt::format("{} {}", n, n == 1 ? one : many);
+}
+
+void Progress::set_scan(std::chrono::steady_clock::time_point start, double before, double total) {
+  std::lock_guard<std::mutex> lock(mutex_);
+  scan_ = true;
+  scan_start_ = start;
+  scan_before_ = before;
+  scan_total_ = total;
+}
+
 void Progress::set_plan(std::vector<int> frequencies, std::vector<double> cost) {
   std::lock_guard<std::mutex> lock(mutex_);
   if (frequencies.size() != cost.size() || static_cast<int>(cost.size()) != total_) return;
@@ -38,16 +50,18 @@ void Progress::set_plan(std::vector<int> frequencies, std::vector<double> cost) 
 }
 
 std::string Progress::status(double now) const {
-  long running_evals = 0;
-  for (const auto& [gap, n] : running_) running_evals += n;
   double work = 0.0, total_work = 0.0;
+  const auto planned = [&](int gap) {
+    return gap >= 0 && gap < static_cast<int>(planned_frequencies_.size()) &&
+           planned_frequencies_[gap] > 0;
+  };
   if (!planned_cost_.empty()) {
     for (double c : planned_cost_) total_work += c;
     work = finished_cost_;
     for (const auto& [gap, n] : running_)
-      if (gap >= 0 && gap < static_cast<int>(planned_cost_.size()) && planned_frequencies_[gap] > 0)
-        work += planned_cost_[gap] *
-                std::min(static_cast<double>(n) / planned_frequencies_[gap], kRunningCap);
+      if (planned(gap))
+        work += planned_cost_[gap] * static_cast<double>(n) /
+                std::max(planned_frequencies_[gap], n + 1);
   } else {
     total_work = total_;
     work = done_;
@@ -55,22 +69,28 @@ std::string Progress::status(double now) const {
     for (const auto& [gap, n] : running_)
       if (mean > 0.0) work += std::min(n / mean, kRunningCap);
   }
+  // A scan: the whole run's elapsed time and work (its earlier points are finished).
+  double elapsed_all = now;
+  if (scan_ && !planned_cost_.empty()) {
+    elapsed_all =
+        std::chrono::duration<double>(std::chrono::steady_clock::now() - scan_start_).count();
+    work += scan_before_;
+    total_work = std::max(scan_total_, total_work);
+  }
   std::string eta = "ETA unknown";
-  if (work > 0.0 && done_ < total_)
-    eta = "ETA " + duration_text(now * std::max(total_work - work, 0.0) / work);
-  if (done_ == total_) eta = "done";
+  if (work > 0.0 && (done_ < total_ || work < total_work))
+    eta = "ETA " + duration_text(elapsed_all * std::max(total_work - work, 0.0) / work);
+  if (done_ == total_ && !(scan_ && work < total_work)) eta = "done";
   std::string freq;
-  if (running_.size() == 1) {
-    const int gap = running_.begin()->first;
-    const bool planned = gap >= 0 && gap < static_cast<int>(planned_frequencies_.size()) &&
-                         planned_frequencies_[gap] > 0;
-    freq = planned ? fmt::format(", {} of ~{} frequencies at gap {}", running_evals,
-                                 planned_frequencies_[gap], gap + 1)
-                   : fmt::format(", {} frequencies at gap {}", running_evals, gap + 1);
-  } else if (!running_.empty())
-    freq = fmt::format(", {} frequencies on {} gaps", running_evals, running_.size());
+  for (const auto& [gap, n] : running_) {
+    freq += freq.empty() ? ", " : "; ";
+    freq +=
+        planned(gap)
+            ? fmt::format("{} of ~{} frequencies at gap {}", n, planned_frequencies_[gap], gap + 1)
+            : fmt::format("{} at gap {}", count_text(n, "frequency", "frequencies"), gap + 1);
+  }
   return fmt::format("roundtrip: {}gap {} of {} done{} ({}, {})", prefix_, done_, total_, freq,
-                     duration_text(now), eta);
+                     duration_text(elapsed_all), eta);
 }
 
 void Progress::emit(const std::string& line, bool force) {

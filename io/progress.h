@@ -3,10 +3,14 @@
 // (carriage return) at most ten times a second; elsewhere (--progress with stderr redirected)
 // plain lines: one when the first gap starts ("starting gap 1 of N, frequency 1 of ~M"), one
 // per finished gap and, on long gaps, one per finished frequency at most every 5 s.
-//   ETA = elapsed * (remaining work / work done). Without a plan, work is counted in gaps and a
-//   running gap counts as (frequencies so far) / (mean frequencies of the finished gaps); with
-//   a plan (set_plan: expected frequencies and relative cost per gap, solver/plan.h) each gap
-//   weighs its planned cost and counts as (frequencies so far) / (expected), capped below 1.
+//   ETA = elapsed * (remaining work / work done), for the whole run: with a scan (set_scan) the
+//   elapsed time and the work of the earlier points count too, so the ETA does not restart at
+//   each point. Without a plan, work is counted in gaps and a running gap counts as
+//   (frequencies so far) / (mean frequencies of the finished gaps); with a plan (set_plan:
+//   expected frequencies and relative cost per gap, solver/plan.h) each gap weighs its planned
+//   cost and counts as n / max(expected, n + 1) after n frequencies: a gap that needs more
+//   frequencies than planned is taken to need at least one more, so the last frequency's ETA is
+//   about one frequency's time, not a fixed share of the whole gap.
 // The plan is itself an estimate, so the ETA is a guide, not a promise.
 #include <chrono>
 #include <map>
@@ -23,6 +27,9 @@ class Progress {
   Progress(std::ostream& err, bool terminal, int total_gaps, std::string prefix = "");
   /// Expected frequencies and relative cost (any unit) of each gap, from the run's plan.
   void set_plan(std::vector<int> frequencies, std::vector<double> cost);
+  /// Part of a scan: the run started at `start`, the points before this one cost `before` and
+  /// all points `total` (units of set_plan's cost). The ETA is then that of the whole scan.
+  void set_scan(std::chrono::steady_clock::time_point start, double before, double total);
   /// Gap `gap` (0-based) starts: its first frequency is being computed.
   void gap_started(int gap);
   /// One frequency evaluated at gap `gap` (0-based), `evaluations` so far there.
@@ -34,6 +41,8 @@ class Progress {
 
   /// "12 s", "3.4 min", "1.2 h".
   static std::string duration_text(double seconds);
+  /// "1 frequency", "2 frequencies": n and the singular or plural noun.
+  static std::string count_text(long n, const std::string& one, const std::string& many);
 
  private:
   double elapsed() const;
@@ -52,6 +61,9 @@ class Progress {
   std::vector<int> planned_frequencies_;
   std::vector<double> planned_cost_;
   double finished_cost_ = 0.0;
+  bool scan_ = false;
+  std::chrono::steady_clock::time_point scan_start_;
+  double scan_before_ = 0.0, scan_total_ = 0.0;
   double last_emit_;  // s since start_; lines wait kLineInterval from the start
   bool dirty_ = false;
   bool started_ = false;  // a gap has started (the first start is always shown)

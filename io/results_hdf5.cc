@@ -105,6 +105,7 @@ void write_theta(H5::Group& res, const RunResult& r) {
     attr(f, "x_min", fit->x_min);
     attr(f, "x_max", fit->x_max);
     attr(f, "model", fit->model);
+    if (!fit->note.empty()) attr(f, "note", fit->note);
   }
 }
 

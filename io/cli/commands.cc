@@ -4,6 +4,7 @@
 #include <fmt/ostream.h>
 #include <omp.h>
 #include <sys/wait.h>
+#include <toml++/toml.h>
 #include <unistd.h>
 
 #include <algorithm>
@@ -33,6 +34,7 @@
 #include "solver/materials/library.h"
 #include "solver/parallel/mpi.h"
 #include "solver/plan.h"
+#include "solver/plan_timing.h"
 #include "solver/run.h"
 
 namespace roundtrip::io::cli {
@@ -87,8 +89,8 @@ std::string rule_sentence(const CaseSpec& spec, const RunResult* r = nullptr) {
         ++matsubara;
       }
     }
-  const std::string poles =
-      lo == hi ? fmt::format("{} poles", lo) : fmt::format("{}\u2013{} poles", lo, hi);
+  const std::string poles = lo == hi ? Progress::count_text(lo, "pole", "poles")
+                                     : fmt::format("{}\u2013{} poles", lo, hi);
   if (tail > 0)  // low temperature (frequency_rule.h)
     return fmt::format("T = {} K, Matsubara terms with an integral tail{}", T,
                        tail == static_cast<int>(r->points.size())
@@ -263,6 +265,35 @@ void print_results(const CaseSpec& spec, const RunResult& r, std::ostream& out,
   }
 }
 
+// A `[scan] material = [...]` replaces the material of every body; if the case gave its bodies
+// different materials (the tutorial's silicon plate under a gold sphere), say which were
+// replaced (empty otherwise).
+std::string scan_material_warning(const CaseSpec& spec) {
+  if (std::none_of(spec.scan.begin(), spec.scan.end(),
+                   [](const ScanAxis& a) { return a.key == "material"; }))
+    return {};
+  std::vector<std::pair<std::string, std::string>> written;
+  try {
+    const toml::table t = toml::parse(spec.text);
+    for (const auto& b : spec.bodies)
+      if (b.defaulted_from.empty())
+        if (const auto m = t[b.table]["material"].value<std::string>())
+          written.emplace_back(b.table, *m);
+  } catch (const std::exception&) {
+    return {};
+  }
+  bool differ = false;
+  for (const auto& w : written) differ = differ || w.second != written.front().second;
+  if (!differ) return {};
+  std::string list;
+  for (const auto& [table, m] : written)
+    list += fmt::format("{}{}.material = \"{}\"", list.empty() ? "" : ", ", table, m);
+  return fmt::format(
+      "scan.material replaces the material of every body ({}): every scan point has the same "
+      "material everywhere; to scan one body use {}.material = [...]",
+      list, written.back().first);
+}
+
 }  // namespace
 
 std::string version_line() { return fmt::format("roundtrip {} (git {})", kVersion, kGitCommit); }
@@ -309,8 +340,9 @@ void print_theta(const RunResult& r, std::ostream& out) {
     if (!fit->valid) continue;
     out << fmt::format(
         "\u03b8 fit: {0}/{0}_PFA = {1}: \u03b8 = {2:.4f} \u00b1 {3:.4f} ({4} gaps, "
-        "L/R from {5:.3g} to {6:.3g})\n",
-        q, fit->model, fit->theta, fit->uncertainty, fit->points, fit->x_min, fit->x_max);
+        "L/R from {5:.3g} to {6:.3g}){7}\n",
+        q, fit->model, fit->theta, fit->uncertainty, fit->points, fit->x_min, fit->x_max,
+        fit->note.empty() ? std::string() : "; " + fit->note);
   }
 }
 
@@ -465,6 +497,8 @@ int run_command(const RunArgs& args, std::ostream& out, std::ostream& err) {
   std::vector<std::string> scan_headers;
   for (const auto& [key, value] : points.front().parameters) scan_headers.push_back(key);
 
+  if (const std::string w = scan_material_warning(spec); !w.empty())
+    err << "roundtrip: warning: " << w << "\n" << std::flush;
   const OutputChoice where = choose_output(args, spec);
   // Under MPI (solver/parallel/mpi.h) rank 0 alone writes the results and the journal.
   parallel::Session* const mpi = parallel::Session::current();
@@ -499,8 +533,8 @@ int run_command(const RunArgs& args, std::ostream& out, std::ostream& err) {
   ResultsWriter& writer = *writer_slot;
   Journal& journal = *journal_slot;
   if (journal.loaded() > 0)
-    err << fmt::format("roundtrip: resuming from {} ({} contributions saved{})\n",
-                       journal.path().string(), journal.loaded(),
+    err << fmt::format("roundtrip: resuming from {} ({} saved{})\n", journal.path().string(),
+                       Progress::count_text(journal.loaded(), "contribution", "contributions"),
                        journal.had_crlf() ? "; CRLF line endings accepted" : "")
         << std::flush;
   if (const auto& bad = journal.damaged_lines(); !bad.empty()) {
@@ -548,6 +582,14 @@ int run_command(const RunArgs& args, std::ostream& out, std::ostream& err) {
 
   std::vector<ScanRunResult> runs;
   bool interrupted = false;
+  // Planned cost of the scan points before point k (the progress ETA is that of the whole scan).
+  const auto scan_start = std::chrono::steady_clock::now();
+  const auto scan_cost_before = [&](std::size_t k) {
+    double c = 0.0;
+    for (std::size_t j = 0; j < k && j < plans.size(); ++j)
+      for (const auto& gp : plans[j].gaps) c += gp.frequencies * gp.flops_per_frequency;
+    return c;
+  };
   for (std::size_t k = 0; k < points.size(); ++k) {
     const CaseSpec& ps = points[k].spec;
     ScanRunResult run;
@@ -572,6 +614,8 @@ int run_command(const RunArgs& args, std::ostream& out, std::ostream& err) {
           cost.push_back(gp.frequencies * gp.flops_per_frequency);
         }
         progress.set_plan(std::move(freqs), std::move(cost));
+        if (scan)
+          progress.set_scan(scan_start, scan_cost_before(k), scan_cost_before(points.size()));
         opts.progress = [&](int done, int total) { progress.gap_done(done, total); };
         opts.gap_started = [&](int gap) { progress.gap_started(gap); };
         opts.frequency_progress = [&](int gap, int n) { progress.frequency(gap, n); };
@@ -610,7 +654,8 @@ int run_command(const RunArgs& args, std::ostream& out, std::ostream& err) {
     if (interrupted) break;
   }
   if (journal.reused() > 0)
-    err << fmt::format("roundtrip: resumed: {} contributions reused from {}\n", journal.reused(),
+    err << fmt::format("roundtrip: resumed: {} reused from {}\n",
+                       Progress::count_text(journal.reused(), "contribution", "contributions"),
                        journal.path().string());
 
   const CommitOutcome written =
@@ -651,8 +696,9 @@ int run_command(const RunArgs& args, std::ostream& out, std::ostream& err) {
       distributed ? team_text : fmt::format("{} thread{}", threads, threads == 1 ? "" : "s");
   if (distributed) wall = runs.front().result.wall_seconds;  // one sweep for every scan point
   if (scan)
-    out << fmt::format("\nresults: {} ({} scan points, {} gaps, {:.2f} s on {})\n",
-                       where.path.string(), points.size(), gaps_written, wall, on);
+    out << fmt::format("\nresults: {} ({}, {}, {:.2f} s on {})\n", where.path.string(),
+                       Progress::count_text(points.size(), "scan point", "scan points"),
+                       Progress::count_text(gaps_written, "gap", "gaps"), wall, on);
   else
     out << fmt::format("\nresults: {} ({} gap{}, {:.2f} s on {})\n", where.path.string(),
                        gaps_written, gaps_written == 1 ? "" : "s", wall, on);
@@ -668,6 +714,9 @@ int check_command(const std::string& case_path, std::ostream& out) {
   args.case_path = case_path;
   return check_command(args, out, std::cerr);
 }
+
+// Seconds `check` spends timing frequencies (split over the scan points; solver/plan_timing.h).
+constexpr double kCheckBudgetSeconds = 2.0;
 
 int check_command(const CheckArgs& args, std::ostream& out, std::ostream& err) {
   if (args.threads < 0)
@@ -723,8 +772,11 @@ int check_command(const CheckArgs& args, std::ostream& out, std::ostream& err) {
     if (!spec.scan.empty()) {
       std::string axes;
       for (const auto& a : spec.scan)
-        axes += fmt::format("{}{} ({} values)", axes.empty() ? "" : " x ", a.key, a.values.size());
-      row("scan", fmt::format("{} points: {}", points.size(), axes));
+        axes += fmt::format("{}{} ({})", axes.empty() ? "" : " x ", a.key,
+                            Progress::count_text(a.values.size(), "value", "values"));
+      if (const std::string w = scan_material_warning(spec); !w.empty()) row("warning", w);
+      row("scan",
+          fmt::format("{}: {}", Progress::count_text(points.size(), "point", "points"), axes));
     }
     double total = 0.0, memory = 0.0;
     std::string how, memory_warning;
@@ -751,10 +803,14 @@ int check_command(const CheckArgs& args, std::ostream& out, std::ostream& err) {
       // whose truncation is beyond the limit: it falls back to the matrix-product rate).
       const std::string beyond =
           truncation_problem(*g, make_plan(*g, ps.gaps, opts, PlanCalibration{}));
-      PlanCalibration cal;
+      Plan plan;
       try {
         throw_if_cancelled();
-        cal = calibrate_plan(*g, ps.gaps, ps.frequency, ps.quantities.order());
+        // Beyond what can run: nothing is timed (the plan is printed with model times).
+        plan = beyond.empty()
+                   ? timed_plan(*g, ps.gaps, opts, kCheckBudgetSeconds / points.size())
+                   : make_plan(*g, ps.gaps, opts,
+                               calibrate_plan(*g, ps.gaps, ps.frequency, ps.quantities.order()));
       } catch (const Cancelled&) {
         out << std::flush;
         err << "roundtrip: interrupted during `check` (its calibration times real frequencies); "
@@ -762,7 +818,6 @@ int check_command(const CheckArgs& args, std::ostream& out, std::ostream& err) {
             << std::flush;
         return kExitInterrupted;
       }
-      const Plan plan = make_plan(*g, ps.gaps, opts, cal);
       if (!beyond.empty()) {
         heading();
         print_plan(plan, out);
@@ -771,7 +826,7 @@ int check_command(const CheckArgs& args, std::ostream& out, std::ostream& err) {
       }
       total += plan.seconds;
       memory = std::max(memory, plan.memory_bytes);
-      how = cal.how;
+      how = plan.calibration.how;
       if (const std::string m = memory_problem(plan, limit); !m.empty() && memory_warning.empty())
         memory_warning = where + memory_refusal(m);
       heading();
@@ -783,8 +838,8 @@ int check_command(const CheckArgs& args, std::ostream& out, std::ostream& err) {
           out << fmt::format("warning: gap {} m: {}\n", gap, why);
     }
     out << "\n";
-    row("estimate", fmt::format("about {} on {} thread{}, peak working memory {} (rough: a "
-                                "factor of 3 either way)",
+    row("estimate", fmt::format("about {} on {} thread{}, peak working memory {} (on a machine "
+                                "the run has to itself)",
                                 Progress::duration_text(total), omp_get_max_threads(),
                                 omp_get_max_threads() == 1 ? "" : "s", bytes_text(memory)));
     row("time from", how);

@@ -5,11 +5,12 @@
 
 Writes, as PNG and SVG, into DIR (default: the directory of RESULT.h5), names prefixed with the
 file's stem:
-  <stem>_pfa.*          E/E_PFA - 1 (and F, F') against L/R, with the theta fit's leading term
-                        theta L/R where the file has one (kinds with a PFA length)
+  <stem>_pfa.*          E/E_PFA - 1 (and F, F') against L/R, with the whole theta fit
+                        theta x + theta2 x^2 + theta3 x^3 where the file has one
   <stem>_force.*        |F| and |F'| against L, with their PFA values where present
   <stem>_drude_plasma.* Drude/plasma ratio of F against L (scans over a material only)
-  <stem>_spectrum.*     per-frequency contributions w_j s(xi_j) to E at up to four gaps
+  <stem>_spectrum.*     per-frequency contributions |w_j s(xi_j)| to E at up to four gaps, one
+                        panel per scan point (log-log)
   <stem>_lateral.*      lateral force per area F_b = -dE/db against the offset b, one curve per
                         gap (and other scan parameters), with its PFA (kinds with [offsets])
   <stem>_optical_spread.*  scans over several tabulated data sets of one material: their band
@@ -41,7 +42,44 @@ def runs(f):
     return [("", f)]
 
 
+DESCRIPTIONS = {}  # name -> axes as drawn (for --axes-json: tests read scales, labels, ticks back)
+
+
+def describe(fig):
+    fig.canvas.draw()
+    out = []
+    for ax in fig.axes:
+        def ticks(axis, lim):
+            lo, hi = sorted(lim)
+            return [t.get_text() for t, v in zip(axis.get_ticklabels(), axis.get_ticklocs())
+                    if t.get_text() and lo * (1 - 1e-9) <= v <= hi * (1 + 1e-9)]
+        leg = ax.get_legend()
+        out.append({"xscale": ax.get_xscale(), "yscale": ax.get_yscale(),
+                    "xlabel": ax.get_xlabel(), "ylabel": ax.get_ylabel(), "title": ax.get_title(),
+                    "xticks": ticks(ax.xaxis, ax.get_xlim()), "yticks": ticks(ax.yaxis, ax.get_ylim()),
+                    "legend": [t.get_text() for t in leg.get_texts()] if leg else [],
+                    "lines": [{"label": l.get_label(), "x": [float(v) for v in l.get_xdata()],
+                               "y": [float(v) for v in l.get_ydata()]} for l in ax.get_lines()]})
+    return out
+
+
+def readable_log_ticks(ax, axis="x"):
+    """A log axis spanning less than four decades gets labels at 1, 2, 5 (or 1, 3) x 10^k in plain
+    numbers (matplotlib's default labels only the powers of ten: a 200-2000 nm axis had one)."""
+    from matplotlib.ticker import FuncFormatter, LogLocator, NullFormatter
+    a = ax.xaxis if axis == "x" else ax.yaxis
+    lo, hi = sorted(ax.get_xlim() if axis == "x" else ax.get_ylim())
+    if lo <= 0 or hi / lo > 1e4:
+        return
+    subs = ((1.0, 3.0) if hi / lo > 300 else (1.0, 2.0, 5.0) if hi / lo > 8
+            else (1.0, 1.5, 2.0, 3.0, 4.0, 5.0, 6.0, 7.0, 8.0, 9.0))
+    a.set_major_locator(LogLocator(base=10, subs=subs))
+    a.set_major_formatter(FuncFormatter(lambda v, _: f"{v:g}"))
+    a.set_minor_formatter(NullFormatter())
+
+
 def save(fig, out_dir, stem, name, written):
+    DESCRIPTIONS[name] = describe(fig)
     for ext in ("png", "svg"):
         path = os.path.join(out_dir, f"{stem}_{name}.{ext}")
         fig.savefig(path, dpi=150 if ext == "png" else None, bbox_inches="tight")
@@ -72,20 +110,24 @@ def plot_pfa(f, out_dir, stem, written):
             if f"results/{q}_ratio" not in g:
                 continue
             y = g[f"results/{q}_ratio"][:] - 1.0
-            line, = ax.plot(x, y, markers[q], label=f"{names[q]}/{names[q]}_PFA \u2212 1 {lab}".strip())
+            line, = ax.plot(x, y, markers[q], label=f"{names[q]}/{names[q]}_PFA \u2212 1" +
+                            (f" ({lab})" if lab else ""))
             fit = f"results/pfa_theta/{q}"
             if fit in g:
+                # The whole fitted model Q/Q_PFA - 1 = theta x + theta2 x^2 + theta3 x^3 (the
+                # coefficients the file stores; solver/pfa/theta_fit.h), not its first term only.
                 a = g[fit].attrs
+                c = [float(a[k]) for k in ("theta", "theta2", "theta3") if k in a]
                 xs = np.linspace(0.0, float(np.max(x)), 100)
-                ax.plot(xs, float(a["theta"]) * xs, "-", color=line.get_color(), lw=1,
-                        label=f"\u03b8 L/R, \u03b8 = {float(a['theta']):.3f} \u00b1 "
-                              f"{float(a['uncertainty']):.3f}")
+                ys = sum(ck * xs ** (k + 1) for k, ck in enumerate(c))
+                ax.plot(xs, ys, "-", color=line.get_color(), lw=1,
+                        label=f"fit: \u03b8 = {c[0]:.3f} \u00b1 {float(a['uncertainty']):.3f}")
     ax.axhline(0.0, color="0.6", lw=0.8)
     ax.set_xlabel("L/R (gap over the PFA length: sphere radius, or R_eff of two spheres)")
-    ax.set_ylabel("Q/Q_PFA \u2212 1 (1)")
+    ax.set_ylabel("Q/Q_PFA \u2212 1 (ratio)")
     ax.set_title("Departure from the proximity force approximation")
     ax.set_xlim(left=0.0)
-    ax.legend(fontsize=7)
+    ax.legend(fontsize=8, framealpha=0.85)
     save(fig, out_dir, stem, "pfa", written)
 
 
@@ -107,14 +149,16 @@ def plot_force(f, out_dir, stem, written):
             L = g["results/gap"][:]
             units = unit_of(g[f"results/{q}"])
             line, = ax.loglog(L * 1e9, np.abs(g[f"results/{q}"][:]), "o-", ms=3,
-                              label=f"|{sym}| {lab}".strip())
+                              label=f"|{sym}|" + (f" ({lab})" if lab else ""))
             if f"results/{q}_pfa" in g:
                 ax.loglog(L * 1e9, np.abs(g[f"results/{q}_pfa"][:]), "--", color=line.get_color(),
-                          label=f"|{sym}_PFA| {lab}".strip())
+                          label=f"|{sym}_PFA|" + (f" ({lab})" if lab else ""))
         ax.set_xlabel("gap L (nm)")
         ax.set_ylabel(f"|{sym}| ({units})")
         ax.set_title("Force" if q == "force" else "Force gradient")
-        ax.legend(fontsize=7)
+        readable_log_ticks(ax, "x")
+        readable_log_ticks(ax, "y")
+        ax.legend(fontsize=8, framealpha=0.85)
     save(fig, out_dir, stem, "force", written)
 
 
@@ -139,43 +183,54 @@ def plot_drude_plasma(f, out_dir, stem, written):
     sym = "F" if q == "force" else "E"
     for o, d, p in pairs:
         L = d["results/gap"][:]
-        lab = ", ".join(f"{k[5:]} = {v}" for k, v in o) or "all"
+        lab = ", ".join(f"{k[5:]} = {v}" for k, v in o) or (
+            f"{text(d.attrs[key])} / {text(p.attrs[key])}")
         ax.semilogx(L * 1e9, d[f"results/{q}"][:] / p[f"results/{q}"][:], "o-", ms=3, label=lab)
     ax.set_xlabel("gap L (nm)")
-    ax.set_ylabel(f"{sym}_Drude / {sym}_plasma (1)")
+    ax.set_ylabel(f"{sym}_Drude / {sym}_plasma (ratio)")
     ax.set_title(f"Drude against plasma model ({key[5:]})")
-    ax.legend(fontsize=7)
+    readable_log_ticks(ax, "x")
+    ax.legend(fontsize=8, framealpha=0.85)
     save(fig, out_dir, stem, "drude_plasma", written)
 
 
 def plot_spectrum(f, out_dir, stem, written):
-    lab, g = runs(f)[0]
-    if "frequencies" not in g:
+    """|w_j s(xi_j)| on log-log axes (the terms span decades and are negative for attraction),
+    up to four gaps per scan point, one panel per scan point."""
+    rs = [(lab, g) for lab, g in runs(f) if "frequencies" in g and len(g["frequencies"].keys())]
+    if not rs:
         return
-    keys = sorted(g["frequencies"].keys(), key=int)
-    if not keys:
-        return
-    pick = sorted({keys[int(round(i))] for i in np.linspace(0, len(keys) - 1, min(4, len(keys)))},
-                  key=int)
-    e_units = unit_of(g["results/energy"]) if "results/energy" in g else ("J/m^2" if int(g.attrs["per_area"]) else "J")
-    fig, ax = plt.subplots(figsize=(6.4, 4.4))
-    for k in pick:
-        fr = g["frequencies"][k]
-        xi, w, s = fr["xi"][:], fr["weight"][:], fr["s"][:]
-        c = w * s
-        gap = float(fr.attrs["gap"])
-        pos = xi > 0
-        label = f"L = {gap * 1e9:.4g} nm"
-        if not pos.all():
-            label += f" (\u03be = 0 term: {c[~pos].sum():.3g} {e_units})"
-        ax.semilogx(xi[pos], c[pos], ".-", ms=3, lw=0.8, label=label)
-    rule = text(g.attrs.get("frequency_rule", ""))
-    ax.set_xlabel("imaginary frequency \u03be (rad/s)")
-    ax.set_ylabel(f"contribution w_j s(\u03be_j) to E ({e_units})")
-    ax.set_title("Contributions per frequency" + (f" ({lab})" if lab else "") +
-                 ({"matsubara": ": Matsubara terms", "pade-spectrum": ": Pade poles"}.get(
-                     rule, ": frequency nodes")))
-    ax.legend(fontsize=7)
+    n = len(rs)
+    cols = min(n, 2)
+    rows = (n + cols - 1) // cols
+    fig, axes = plt.subplots(rows, cols, figsize=(6.4 * cols, 4.4 * rows), squeeze=False)
+    for i, (lab, g) in enumerate(rs):
+        ax = axes[i // cols][i % cols]
+        keys = sorted(g["frequencies"].keys(), key=int)
+        pick = sorted({keys[int(round(j))] for j in np.linspace(0, len(keys) - 1, min(4, len(keys)))},
+                      key=int)
+        e_units = unit_of(g["results/energy"]) if "results/energy" in g else (
+            "J/m^2" if int(g.attrs["per_area"]) else "J")
+        for k in pick:
+            fr = g["frequencies"][k]
+            xi, w, sv = fr["xi"][:], fr["weight"][:], fr["s"][:]
+            c = w * sv
+            gap = float(fr.attrs["gap"])
+            pos = (xi > 0) & (c != 0)
+            label = f"L = {gap * 1e9:.4g} nm"
+            if not (xi > 0).all():
+                label += f" (\u03be = 0: {c[xi == 0].sum():.3g} {e_units})"
+            ax.loglog(xi[pos], np.abs(c[pos]), ".-", ms=3, lw=0.8, label=label)
+        rule = text(g.attrs.get("frequency_rule", ""))
+        ax.set_xlabel("imaginary frequency \u03be (rad/s)")
+        ax.set_ylabel(f"|w_j s(\u03be_j)|, share of E ({e_units})")
+        ax.set_title(("Contributions per frequency" + (f"\n{lab}" if lab else "")) +
+                     {"matsubara": " (Matsubara terms)", "pade-spectrum": " (Pade poles)"}.get(
+                         rule, " (frequency nodes)"), fontsize=10)
+        readable_log_ticks(ax, "x")
+        ax.legend(fontsize=8, framealpha=0.85)
+    for j in range(n, rows * cols):
+        axes[j // cols][j % cols].set_visible(False)
     save(fig, out_dir, stem, "spectrum", written)
 
 
@@ -214,6 +269,9 @@ def main(argv):
     ap = argparse.ArgumentParser(description="Plots of a roundtrip results file (PNG and SVG).")
     ap.add_argument("result", help="results file written by `roundtrip run` (HDF5)")
     ap.add_argument("-o", "--output-dir", default=None, help="directory for the plots")
+    ap.add_argument("--axes-json", default=None,
+                    help="also write the axes as drawn (scales, labels, tick labels, legends) to "
+                         "this JSON file")
     a = ap.parse_args(argv)
     try:
         f = h5py.File(a.result, "r")
@@ -240,6 +298,10 @@ def main(argv):
     import spread_plot  # noqa: E402
     spread_plot.plot_optical_spread(f, out_dir, stem, written)
     compare_plot.plot_all(f, out_dir, stem, written)
+    if a.axes_json:
+        import json
+        with open(a.axes_json, "w") as fh:
+            json.dump(DESCRIPTIONS, fh, indent=1)
     for p in written:
         print(p)
     return 0

@@ -41,19 +41,19 @@ ThetaFit fit_theta(const std::vector<double>& x, const std::vector<double>& rati
   }
   f.x_min = *std::min_element(xs.begin(), xs.end());
   f.x_max = *std::max_element(xs.begin(), xs.end());
-  // Central model: y = theta + theta2 x (+ theta3 x^2 with >= 5 points). Alternatives for the
-  // systematic estimate: the other polynomial order, and y = theta + a sqrt(x) + b x (an
-  // x^{3/2} term in Q/Q_PFA), each when the points leave at least one degree of freedom.
-  const bool quadratic = f.points >= 5;
+  // One model for any number of gaps: y = theta + theta2 x, i.e. Q/Q_PFA = 1 + theta x +
+  // theta2 x^2 (a cubic term with 5 or more gaps only made theta jump with the gap count).
+  // Alternatives for the systematic estimate: y = theta + theta2 x + theta3 x^2, and
+  // y = theta + a sqrt(x) + b x (an x^{3/2} term in Q/Q_PFA), each when the points leave at
+  // least one degree of freedom.
   Eigen::VectorXd c;
   Eigen::MatrixXd v;
-  fit_powers(xs, ys, quadratic ? std::vector<double>{0, 1, 2} : std::vector<double>{0, 1}, c, v);
+  fit_powers(xs, ys, std::vector<double>{0, 1}, c, v);
   f.theta = c[0];
   f.theta2 = c[1];
-  f.model = quadratic ? "1 + theta x + theta2 x^2 + theta3 x^3" : "1 + theta x + theta2 x^2";
+  f.model = "1 + theta x + theta2 x^2";
   double sys = 0.0;
-  std::vector<std::vector<double>> alternatives{{0, 0.5, 1}};
-  alternatives.push_back(quadratic ? std::vector<double>{0, 1} : std::vector<double>{0, 1, 2});
+  const std::vector<std::vector<double>> alternatives{{0, 0.5, 1}, {0, 1, 2}};
   for (const auto& powers : alternatives) {
     if (f.points < static_cast<int>(powers.size()) + 1) continue;
     Eigen::VectorXd ca;
@@ -66,6 +66,11 @@ ThetaFit fit_theta(const std::vector<double>& x, const std::vector<double>& rati
   f.uncertainty = std::sqrt(stat2 + num * num + sys * sys);
   f.valid = std::isfinite(f.theta) && std::isfinite(f.uncertainty);
   if (!f.valid) f.message = "fit is not finite";
+  if (f.valid && f.uncertainty > kThetaMeaningful * std::abs(f.theta))
+    f.note = "too few gaps for a meaningful theta (uncertain by " +
+             std::to_string(static_cast<int>(
+                 std::lround(100.0 * f.uncertainty / std::max(std::abs(f.theta), 1e-300)))) +
+             " %): add gaps at smaller L/R";
   return f;
 }
 

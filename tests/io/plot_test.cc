@@ -25,6 +25,18 @@ class Plot : public roundtrip::testing::ScratchDirTest {
     ScratchDirTest::SetUp();
     fs::create_directories(dir_ / "plots");
   }
+  // Renders again with --axes-json and reads back what was drawn (tests/io/plot_axes_check.py:
+  // log axes for quantities over decades, >= 3 tick labels, ratios named as such, legends, the
+  // whole theta model, one spectrum panel per scan point).
+  void expect_readable_axes(const std::string& result) {
+    const fs::path src(ROUNDTRIP_SOURCE_DIR);
+    EXPECT_EQ(sh(fmt::format("/usr/bin/python3 '{}' {} -o plots --axes-json axes.json > axes.out "
+                             "2>&1 && /usr/bin/python3 '{}' axes.json {} >> axes.out 2>&1",
+                             (src / "io" / "plot" / "roundtrip_plot.py").string(), result,
+                             (src / "tests" / "io" / "plot_axes_check.py").string(), result)),
+              0)
+        << slurp(dir_ / "axes.out");
+  }
   void expect_valid(const std::string& name) {
     const fs::path p = dir_ / "plots" / name;
     ASSERT_TRUE(fs::exists(p)) << name << "\n" << slurp(dir_ / "plot.out");
@@ -66,6 +78,7 @@ l_max = 30
   for (const char* stem : {"sp_pfa", "sp_force", "sp_spectrum"})
     for (const char* ext : {".png", ".svg"}) expect_valid(std::string(stem) + ext);
   EXPECT_FALSE(fs::exists(dir_ / "plots" / "sp_drude_plasma.png")) << "no material scan here";
+  expect_readable_axes("sp.h5");
 }
 
 TEST_F(Plot, MaterialScanGivesTheDrudePlasmaPlot) {
@@ -79,6 +92,7 @@ TEST_F(Plot, MaterialScanGivesTheDrudePlasmaPlot) {
   for (const char* f :
        {"scan_drude_plasma.png", "scan_drude_plasma.svg", "scan_force.png", "scan_spectrum.svg"})
     expect_valid(f);
+  expect_readable_axes("scan.h5");
 }
 
 TEST_F(Plot, MissingOrForeignFilesAreErrors) {

@@ -1,0 +1,359 @@
+// Measured time estimate of a run plan (plan_timing.h).
+#include "solver/plan_timing.h"
+
+#include <fmt/format.h>
+#include <omp.h>
+
+#include <Eigen/Dense>
+#include <algorithm>
+#include <chrono>
+#include <cmath>
+#include <ctime>
+
+#include "solver/guards.h"
+
+namespace roundtrip {
+namespace {
+
+using Clock = std::chrono::steady_clock;
+double since(Clock::time_point t0) {
+  return std::chrono::duration<double>(Clock::now() - t0).count();
+}
+
+double median(std::vector<double> v) {
+  if (v.empty()) return 0.0;
+  std::sort(v.begin(), v.end());
+  const std::size_t n = v.size();
+  return n % 2 ? v[n / 2] : 0.5 * (v[n / 2 - 1] + v[n / 2]);
+}
+
+// Seconds per "gemm-equivalent" model flop (geometry.h): the best of three 384 x 384 products.
+double gemm_seconds_per_flop() {
+  constexpr int kN = 384;
+  const Eigen::MatrixXd a = Eigen::MatrixXd::Random(kN, kN), b = Eigen::MatrixXd::Random(kN, kN);
+  Eigen::MatrixXd c(kN, kN);
+  double best = 1e300;
+  for (int rep = 0; rep < 3; ++rep) {
+    const auto t0 = Clock::now();
+    c.noalias() = a * b;
+    best = std::min(best, since(t0));
+  }
+  volatile double sink = c(0, 0);
+  (void)sink;
+  return best / (2.0 * kN * kN * kN);
+}
+
+double cpu_seconds();
+
+// Wall time of single-threaded work, or its CPU time if the process got less (Timer below).
+template <class F>
+double single_thread_seconds(F f) {
+  const double c0 = cpu_seconds();
+  const auto t0 = Clock::now();
+  f();
+  return std::min(since(t0), cpu_seconds() - c0);
+}
+
+// The frequencies (and per-term accuracies) the rule asks for at `gap`, from the model spectrum
+// s = -exp(-xi/xi_c) of plan.h, and the time the rule itself takes.
+struct GapModel {
+  std::vector<double> xi, tol;
+  double rule_seconds = 0.0;
+};
+GapModel model_nodes(const Geometry& g, double gap, const FrequencyRuleOptions& f) {
+  GapModel m;
+  const double xc = g.frequency_scale(gap);
+  const TolerantSpectralFunction model = [&](double xi, double tol) {
+    m.xi.push_back(xi);
+    m.tol.push_back(tol);
+    const double u = xi / xc, e = -std::exp(-u);
+    return Spectral{e, e * (1.0 + u) / gap, e * (1.0 + u) * (1.0 + u) / (gap * gap)};
+  };
+  m.rule_seconds = single_thread_seconds([&] { (void)sum_over_frequencies(model, xc, f); });
+  return m;
+}
+
+// What was measured at one gap (seconds; per_frequency is the mean over its xi > 0 frequencies).
+struct Sample {
+  double gap = 0.0, flops = 1.0;
+  double per_frequency = 0.0, static_term = 0.0, set_up = 0.0, pfa = 0.0;
+  double t_middle = 0.0;       // the middle group's frequency (the one a ladder follows)
+  double middle_ratio = 1.0;   // per_frequency / t_middle
+  double surrogate_gap = 0.0;  // > 0: extrapolated from there as flops^alpha
+  double alpha = 1.0;
+  int calls = 0, repeats = 0;
+};
+
+double cpu_seconds() {
+  timespec ts{};
+  clock_gettime(CLOCK_PROCESS_CPUTIME_ID, &ts);
+  return static_cast<double>(ts.tv_sec) + 1e-9 * static_cast<double>(ts.tv_nsec);
+}
+
+// One call of s(xi) timed as the run would see it on a machine it has to itself: the wall time
+// when the call ran in parallel (wall < CPU time: it had the cores), else its CPU time over the
+// threads it may use (one thread, or other programs held the cores: a loaded 2-core machine
+// stretched wall times 5-10x while the CPU time stayed put). So repeat calls agree under
+// changing load; under load the parallel speed-up is taken as ideal.
+class Timer {
+ public:
+  Timer(const Geometry& g, DerivativeOrder order, int threads)
+      : g_(g), order_(order), threads_(std::max(threads, 1)) {}
+  double call(double xi, double gap, double tol) {
+    throw_if_cancelled();
+    const double c0 = cpu_seconds();
+    const auto t0 = Clock::now();
+    (void)g_.at_frequency_within(xi, gap, order_, tol);
+    const double wall = since(t0), cpu = cpu_seconds() - c0;
+    spent += wall;
+    ++calls;
+    return wall < cpu ? wall : cpu / threads_;
+  }
+  double spent = 0.0;
+  int calls = 0;
+
+ private:
+  const Geometry& g_;
+  DerivativeOrder order_;
+  int threads_;
+};
+
+Sample measure_gap(const Geometry& g, double gap, const GapModel& m, const RunOptions& options,
+                   double budget, double gemm_rate, const std::vector<Sample>& done, Timer& timer) {
+  const DerivativeOrder order = options.quantities.order();
+  const double rel_tol = options.frequency.rel_tol;
+  Sample s;
+  s.gap = gap;
+  s.flops = g.cost(gap, order, rel_tol).flops();
+  std::vector<std::size_t> positive;
+  std::size_t static_index = m.xi.size();
+  for (std::size_t i = 0; i < m.xi.size(); ++i)
+    (m.xi[i] > 0.0 ? positive.push_back(i) : void(static_index = i));
+  const bool has_static = static_index < m.xi.size();
+  const int groups = std::min<int>(kSampleGroups, static_cast<int>(positive.size()));
+  // The middle frequency of each equal-count group, and the group's size.
+  std::vector<std::size_t> rep;
+  std::vector<double> count;
+  for (int k = 0; k < groups; ++k) {
+    const std::size_t lo = positive.size() * k / groups, hi = positive.size() * (k + 1) / groups;
+    rep.push_back(positive[(lo + hi) / 2]);
+    count.push_back(static_cast<double>(hi - lo));
+  }
+  const int middle = groups / 2;
+  const int items = groups + (has_static ? 1 : 0);
+  if (items == 0) return s;
+
+  // Too long to time here? Predicted from the nearest gap timed so far (time ~ model flops) or,
+  // before any, from the model flops at the matrix-product rate.
+  const bool modelled = s.flops > 1.0;
+  const Sample* near = nullptr;
+  for (const Sample& d : done)
+    if (!near || std::abs(std::log(d.gap / gap)) < std::abs(std::log(near->gap / gap))) near = &d;
+  const double predicted = near ? near->t_middle * s.flops / near->flops : s.flops * gemm_rate;
+  Sample anchor;
+  if (modelled && groups > 0 && !near && predicted > budget) {
+    // Nothing timed yet: an anchor at a larger gap that the model puts well inside the budget.
+    double la = gap, fa = s.flops;
+    for (int k = 0; k < 60 && fa * gemm_rate > budget / 16.0; ++k) {
+      la *= 1.5;
+      fa = g.cost(la, order, rel_tol).flops();
+    }
+    const std::size_t j = rep[middle];
+    const double xi = m.xi[j] * g.frequency_scale(la) / g.frequency_scale(gap);
+    const double cold = timer.call(xi, la, m.tol[j]);
+    std::vector<double> t;
+    for (int r = 0; r < kRepeats; ++r) t.push_back(timer.call(xi, la, m.tol[j]));
+    anchor.gap = la;
+    anchor.flops = fa;
+    anchor.t_middle = median(t);
+    anchor.set_up = std::max(0.0, cold - anchor.t_middle);
+    if (has_static) anchor.static_term = timer.call(0.0, la, m.tol[static_index]);
+    near = &anchor;
+  }
+  if (modelled && groups > 0 && near &&
+      (near == &anchor || near->t_middle * s.flops / near->flops > budget)) {
+    // A ladder of gaps from the nearest timed one towards this one (geometric steps, the middle
+    // frequency scaled with Geometry::frequency_scale), each timed (median of kRepeats after a
+    // warm-up) while the next step is predicted affordable; from the last step the time is
+    // extrapolated as flops^alpha with alpha measured between the last two steps.
+    const std::size_t j = rep[middle];
+    double prev_gap = near->gap, prev_t = near->t_middle, prev_f = near->flops, alpha = 1.0;
+    double cold_share = near->t_middle > 0.0 ? near->set_up / near->t_middle : 0.0;
+    double static_share = near->t_middle > 0.0 ? near->static_term / near->t_middle : 0.0;
+    constexpr int kSteps = 6;
+    bool reached = false;
+    for (int k = 1; k <= kSteps; ++k) {
+      const double lk = near->gap * std::pow(gap / near->gap, static_cast<double>(k) / kSteps);
+      const double fk = g.cost(lk, order, rel_tol).flops();
+      if (prev_t * std::pow(fk / prev_f, alpha) * (kRepeats + 1) > budget) break;
+      const double xi = m.xi[j] * g.frequency_scale(lk) / g.frequency_scale(gap);
+      const double cold = timer.call(xi, lk, m.tol[j]);
+      std::vector<double> t;
+      for (int r = 0; r < kRepeats; ++r) t.push_back(timer.call(xi, lk, m.tol[j]));
+      const double tk = median(t);
+      if (fk > 1.2 * prev_f && tk > 0.0 && prev_t > 0.0)
+        alpha = std::clamp(std::log(tk / prev_t) / std::log(fk / prev_f), 0.2, 2.0);
+      cold_share = std::max(0.0, cold - tk) / tk;
+      if (has_static) static_share = timer.call(0.0, lk, m.tol[static_index]) / tk;
+      prev_gap = lk;
+      prev_t = tk;
+      prev_f = fk;
+      reached = k == kSteps;
+    }
+    s.t_middle = prev_t * std::pow(s.flops / prev_f, alpha);
+    s.per_frequency = s.t_middle * near->middle_ratio;
+    s.middle_ratio = near->middle_ratio;
+    s.set_up = cold_share * s.t_middle;
+    s.static_term = static_share * s.t_middle;
+    if (!reached) s.surrogate_gap = prev_gap;
+    s.alpha = alpha;
+    s.pfa = single_thread_seconds([&] { (void)g.pfa(gap, options.frequency); });
+    s.calls = timer.calls;
+    s.repeats = kRepeats;
+    return s;
+  }
+
+  // The first call at this gap: its set-up (quadrature, multipole tables) is in it. Then each
+  // group (and xi = 0) as often as the budget allows, at least once; if not even that, the
+  // middle group alone stands for all.
+  const std::size_t jm = groups > 0 ? rep[middle] : static_index;
+  const double cold = timer.call(m.xi[jm], gap, m.tol[jm]);
+  const int affordable = static_cast<int>((budget - cold) / std::max(cold, 1e-6));
+  const bool all_groups = affordable >= items;
+  const int repeats = all_groups ? std::clamp(affordable / items, 1, kRepeats) : 1;
+  s.repeats = repeats;
+  std::vector<double> t_group(groups, 0.0);
+  for (int k = 0; k < groups; ++k) {
+    if (!all_groups && k != middle) continue;
+    std::vector<double> t;
+    for (int r = 0; r < repeats; ++r) t.push_back(timer.call(m.xi[rep[k]], gap, m.tol[rep[k]]));
+    t_group[k] = median(t);
+  }
+  if (!all_groups)
+    for (int k = 0; k < groups; ++k) t_group[k] = t_group[middle];
+  if (has_static) {
+    std::vector<double> t;
+    for (int r = 0; r < (all_groups ? repeats : 1); ++r)
+      t.push_back(timer.call(0.0, gap, m.tol[static_index]));
+    s.static_term = median(t);
+  }
+  double sum = 0.0, n = 0.0;
+  for (int k = 0; k < groups; ++k) {
+    sum += count[k] * t_group[k];
+    n += count[k];
+  }
+  s.per_frequency = n > 0.0 ? sum / n : 0.0;
+  const double warm_middle = groups > 0 ? t_group[middle] : s.static_term;
+  s.set_up = std::max(0.0, cold - warm_middle);
+  s.t_middle = groups > 0 ? t_group[middle] : s.static_term;
+  s.middle_ratio = s.t_middle > 0.0 ? s.per_frequency / s.t_middle : 1.0;
+  s.pfa = single_thread_seconds([&] { (void)g.pfa(gap, options.frequency); });
+  s.calls = timer.calls;
+  return s;
+}
+
+// Linear interpolation of y in log(gap) between the samples (sorted by gap), clamped outside.
+template <class F>
+double interpolate(const std::vector<Sample>& s, double gap, F y) {
+  if (s.size() == 1 || gap <= s.front().gap) return y(s.front());
+  if (gap >= s.back().gap) return y(s.back());
+  std::size_t k = 1;
+  while (s[k].gap < gap) ++k;
+  const double w = std::log(gap / s[k - 1].gap) / std::log(s[k].gap / s[k - 1].gap);
+  return (1.0 - w) * y(s[k - 1]) + w * y(s[k]);
+}
+
+}  // namespace
+
+Plan timed_plan(const Geometry& g, const std::vector<double>& gaps, const RunOptions& options,
+                double budget_seconds) {
+  Plan plan = make_plan(g, gaps, options, PlanCalibration{});
+  if (gaps.empty()) return plan;
+  const DerivativeOrder order = options.quantities.order();
+  std::vector<GapModel> models;
+  for (double gap : gaps) models.push_back(model_nodes(g, gap, options.frequency));
+
+  // Sampled gaps: the largest (cheapest, first: it fixes the flop rate), the smallest, the median.
+  std::vector<std::size_t> by_gap(gaps.size());
+  for (std::size_t i = 0; i < by_gap.size(); ++i) by_gap[i] = i;
+  std::sort(by_gap.begin(), by_gap.end(), [&](auto a, auto b) { return gaps[a] < gaps[b]; });
+  std::vector<std::size_t> chosen{by_gap.back(), by_gap.front(), by_gap[by_gap.size() / 2]};
+  std::vector<std::size_t> sample_index;
+  for (std::size_t i : chosen)
+    if (std::find(sample_index.begin(), sample_index.end(), i) == sample_index.end() &&
+        static_cast<int>(sample_index.size()) < kSampleGaps)
+      sample_index.push_back(i);
+
+  const double gemm_rate = gemm_seconds_per_flop();
+  Timer timer(g, order, g.parallel_inside() ? omp_get_max_threads() : 1);
+  std::vector<Sample> samples;
+  for (std::size_t i : sample_index)
+    samples.push_back(measure_gap(g, gaps[i], models[i], options,
+                                  budget_seconds / static_cast<double>(sample_index.size()),
+                                  gemm_rate, samples, timer));
+  std::sort(samples.begin(), samples.end(),
+            [](const Sample& a, const Sample& b) { return a.gap < b.gap; });
+
+  double serial = 0.0;
+  std::vector<double> gap_seconds;
+  for (std::size_t i = 0; i < gaps.size(); ++i) {
+    GapPlan& p = plan.gaps[i];
+    const GapModel& m = models[i];
+    const double flops = std::max(p.flops_per_frequency, 1.0);
+    const double per_flop = std::exp(interpolate(samples, gaps[i], [](const Sample& s) {
+      return std::log(std::max(s.per_frequency, 1e-12) / std::max(s.flops, 1.0));
+    }));
+    const double positive = static_cast<double>(
+        std::count_if(m.xi.begin(), m.xi.end(), [](double xi) { return xi > 0.0; }));
+    const bool has_static = positive < static_cast<double>(m.xi.size());
+    p.frequencies = static_cast<int>(m.xi.size());
+    p.seconds =
+        m.rule_seconds + positive * per_flop * flops +
+        (has_static ? interpolate(samples, gaps[i], [](const Sample& s) { return s.static_term; })
+                    : 0.0) +
+        interpolate(samples, gaps[i], [](const Sample& s) { return s.set_up; }) +
+        interpolate(samples, gaps[i], [](const Sample& s) { return s.pfa; });
+    serial += p.seconds;
+    gap_seconds.push_back(p.seconds);
+  }
+  if (g.parallel_inside()) {
+    plan.seconds = serial;
+  } else {
+    // run_sweep: schedule(dynamic, 1) over the gaps in order, one gap per thread.
+    std::vector<double> free_at(std::max(plan.threads, 1), 0.0);
+    for (double t : gap_seconds) *std::min_element(free_at.begin(), free_at.end()) += t;
+    plan.seconds = *std::max_element(free_at.begin(), free_at.end());
+  }
+
+  bool surrogate = false;
+  int repeats = kRepeats;
+  double alpha = 1.0;
+  std::string surrogate_text;
+  for (const Sample& s : samples) {
+    if (s.surrogate_gap > 0.0) {
+      surrogate = true;
+      alpha = s.alpha;
+      surrogate_text += fmt::format("{}L = {:.4g} m", surrogate_text.empty() ? "" : ", ", s.gap);
+    }
+    repeats = std::min(repeats, s.repeats);
+  }
+  std::string where;
+  for (const Sample& s : samples)
+    where += fmt::format("{}{:.4g}", where.empty() ? "" : ", ", s.gap);
+  PlanCalibration& c = plan.calibration;
+  c.per_gap_seconds = 0.0;
+  c.how = fmt::format(
+      "{} timed calls of this case's frequencies ({:.2g} s) at L = {} m (the frequencies the "
+      "rule asks for, in {} groups, median of {} after a warm-up; the xi = 0 term, first-call "
+      "set-up and PFA apart){}{}, interpolated between those gaps by the cost model; the "
+      "frequency rule timed at every gap",
+      timer.calls, timer.spent, where, kSampleGroups, repeats,
+      surrogate ? fmt::format("; {} too long to time, extrapolated from a ladder of larger gaps as "
+                              "flops^{:.2f}",
+                              surrogate_text, alpha)
+                : "",
+      g.parallel_inside() ? fmt::format(", on {} threads", omp_get_max_threads()) : "");
+  return plan;
+}
+
+}  // namespace roundtrip
