@@ -10,7 +10,7 @@
 //   (TE and TM), q = 2 N plane-wave columns (N = quadrature_nodes, both polarisations);
 //   flops(m) in node space (q < n): the banded Gram, the column assembly, and the banded
 //   factorisation of the q x q node matrix (band nb ~ 100: q nb^2, more for the derivatives,
-//   4 q^2 nb for the gradient); otherwise 4 n^2 q + n^3 / 3 (+ 2 n q^2 for the gradient) in
+//   2 q^2 nb for the gradient); otherwise 4 n^2 q + n^3 / 3 (+ 2 n q^2 for the gradient) in
 //   multipole space. Exact constants in plan_flops_per_frequency.
 //   memory per thread = 8 bytes (n q + 3 q^2): W and three q x q work matrices.
 //   m_est = min(l_max, 8 ceil(sqrt(R/L) ln(10/rel_tol) / 16)) : the m sum is cut when its

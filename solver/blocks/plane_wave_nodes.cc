@@ -1,7 +1,10 @@
 #include "solver/blocks/plane_wave_nodes.h"
-#include "solver/guards.h"
-#include <stdexcept>
+
 #include <fmt/format.h>
+
+#include <stdexcept>
+
+#include "solver/guards.h"
 
 #if defined(__GLIBC__)
 #include <malloc.h>
@@ -56,8 +59,7 @@ int nodes_per_unit_for(double tol, double u, int fixed_per_unit) {
 
 double momentum_node_count(double lmax, double tol, double u, int fixed_per_unit) {
   if (lmax <= kMaxMultipoleOrder)
-    return double(
-        momentum_rule_for(static_cast<int>(lmax), tol, u, fixed_per_unit).nodes.size());
+    return double(momentum_rule_for(static_cast<int>(lmax), tol, u, fixed_per_unit).nodes.size());
   // The node count of momentum_rule (solver/special/momentum_rule.cc: panels of 10
   // Gauss-Legendre nodes, nodes_per_unit per unit of sqrt(t), up to sqrt(2 l_max + 1/2) + 8),
   // without building a rule that large.
@@ -69,10 +71,10 @@ int sphere_plate_lmax_model(double radius, double gap, double u, double tol,
                             DerivativeOrder order) {
   const double lmax = sphere_plate_lmax_required(radius, gap, u, tol, order);
   if (!(lmax <= kMaxMultipoleOrder))
-    throw std::runtime_error(fmt::format(
-        "a sphere of R = {:.6g} m at L = {:.6g} m (R/L = {:.3g}) needs l_max = {:.3g} "
-        "multipoles, beyond the {:.0e} this program can handle",
-        radius, gap, radius / gap, lmax, kMaxMultipoleOrder));
+    throw std::runtime_error(
+        fmt::format("a sphere of R = {:.6g} m at L = {:.6g} m (R/L = {:.3g}) needs l_max = {:.3g} "
+                    "multipoles, beyond the {:.0e} this program can handle",
+                    radius, gap, radius / gap, lmax, kMaxMultipoleOrder));
   return static_cast<int>(lmax);
 }
 
@@ -124,6 +126,26 @@ void BandedWriter::put_column(int col, int row0, int group, const Eigen::ArrayXd
     // element (scalar std::exp), which would make the last bits depend on the buffer address.
     values_ = logs.segment(first, last - first).exp();
     dst.segment(first, last - first) = values_.matrix();
+    int& lo = b_.col_lo[col * groups_ + group];
+    int& hi = b_.col_hi[col * groups_ + group];
+    lo = std::min<int>(lo, row0 + static_cast<int>(first));
+    hi = std::max<int>(hi, row0 + static_cast<int>(last));
+  }
+}
+
+void BandedWriter::put_values(int col, int row0, int group, const Eigen::ArrayXd& v) {
+  static const double kNegligible = std::exp(kLogNegligible);
+  const Eigen::Index n = v.size();
+  Eigen::Index first = 0, last = n;
+  while (first < n && !(v[first] > kNegligible)) ++first;
+  while (last > first && !(v[last - 1] > kNegligible)) --last;
+  auto dst = b_.W.col(col).segment(row0, n);
+  if (write_zeros_) {
+    dst.head(first).setZero();
+    dst.tail(n - last).setZero();
+  }
+  if (last > first) {
+    dst.segment(first, last - first) = v.segment(first, last - first).matrix();
     int& lo = b_.col_lo[col * groups_ + group];
     int& hi = b_.col_hi[col * groups_ + group];
     lo = std::min<int>(lo, row0 + static_cast<int>(first));

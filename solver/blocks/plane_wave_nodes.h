@@ -13,9 +13,9 @@
 #include <limits>
 #include <vector>
 
-#include "solver/spectral.h"
 #include "solver/logdet/low_rank.h"
 #include "solver/special/gauss_laguerre.h"
+#include "solver/spectral.h"
 
 namespace roundtrip::blocks {
 
@@ -98,6 +98,9 @@ class BandedWriter {
   /// Rows row0 .. row0 + logs.size() - 1 of column col from their logs; the negligible ones
   /// at either end are set to zero and fall outside the recorded band.
   void put_column(int col, int row0, int group, const Eigen::ArrayXd& logs);
+  /// The same from the values themselves (not their logs): entries not above e^{-41} at
+  /// either end are dropped.
+  void put_values(int col, int row0, int group, const Eigen::ArrayXd& values);
 
  private:
   LowRankBlock& b_;

@@ -2,7 +2,6 @@
 // Moved unchanged from sphere_plate.cc (the physics is documented there and in DEVELOPERS.md,
 // "Sphere-plate round trip"); the only parameters added are the field kind and, for xi = 0, the
 // sphere radius and the path length of the round trip.
-#include "solver/guards.h"
 #include "solver/blocks/sphere_block.h"
 
 #include <fmt/format.h>
@@ -12,6 +11,7 @@
 #include <limits>
 #include <vector>
 
+#include "solver/guards.h"
 #include "solver/special/legendre.h"
 
 namespace roundtrip::blocks {
@@ -202,8 +202,14 @@ LowRankBlock sphere_dynamic_block(FieldKind field, int m, int lmax, const NodeSe
       auto P = pm.head(n);
       auto P1 = pm1.head(n);
       auto LT = lt.head(n), LP = lp.head(n);
-      if (em) {
+      // The band check reads only the two rows at each end; the angular logs of the rows in
+      // between are needed for m = 0 only (m > 0 puts the entries from P and P1 directly).
+      if (em && (m == 0 || n < 4)) {
         angular_logs(m, x, log_s, P, P1, LT, LP);
+      } else if (em) {
+        angular_logs(m, x, log_s, P.head(2), P1.head(2), lt.head(2), lp.head(2));
+        angular_logs(m, x, log_s, P.segment(n - 2, 2), P1.segment(n - 2, 2), lt.segment(n - 2, 2),
+                     lp.segment(n - 2, 2));
       }
       // Are all columns negligible and falling outwards at both ends of the rows?
       bool ok_lo = true, ok_hi = true;
@@ -243,8 +249,37 @@ LowRankBlock sphere_dynamic_block(FieldKind field, int m, int lmax, const NodeSe
       col.head(n) = h0.segment(lo, n) + hw + f;
       w.put_column(c, row0 + lo, group, col.head(n));
     };
+    // m > 0 from the values: with rho = Pt^{m+1}/Pt^m, p = (m/s) Pt^m and t = (m x/s + rho) Pt^m,
+    // the four columns are E_TE (m x/s + rho), E_TM m/s, E_TE m/s, E_TM (m x/s + rho) with
+    // E = a_l sqrt|T_l| sqrt(Omega_j) Pt^m: three exponentials per row instead of an exp and a
+    // log for t and four exponentials (the same entries up to rounding; E stays in range:
+    // entries above e^-41 need E > e^-41 / (m x/s + rho), and rho is at most ~ l^2).
+    auto put_values = [&](int c, int group, const Eigen::ArrayXd& v) {
+      const int row0 = group == 0 ? 0 : nl;
+      auto dst = b.W.col(c).segment(row0, nl);
+      if (write_zeros) {
+        dst.head(lo).setZero();
+        dst.tail(nl - hi).setZero();
+      }
+      w.put_values(c, row0 + lo, group, v);
+    };
     if (!em) {
       put(j, 0, hte, pm.head(n));
+    } else if (m > 0 && n >= 4) {
+      const double inv_s = std::exp(-log_s), pf = m * inv_s, tf = m * x * inv_s;
+      thread_local Eigen::ArrayXd ete, etm, rho, v;
+      for (auto* a : {&ete, &etm, &rho, &v}) a->resize(n);
+      ete = (hte.segment(lo, n) + hw + pm.head(n)).exp();
+      etm = (htm.segment(lo, n) + hw + pm.head(n)).exp();
+      rho = (pm1.head(n) - pm.head(n)).exp() + tf;  // m x/s + rho
+      v = ete * rho;
+      put_values(j, 0, v);  // u_j, TE rows
+      v = etm * pf;
+      put_values(j, 1, v);  // u_j, TM rows
+      v = ete * pf;
+      put_values(N + j, 0, v);  // v_j, TE rows
+      v = etm * rho;
+      put_values(N + j, 1, v);  // v_j, TM rows
     } else {
       put(j, 0, hte, lt.head(n));      // u_j, TE rows
       put(j, 1, htm, lp.head(n));      // u_j, TM rows

@@ -47,7 +47,8 @@ FrequencyCost Geometry::cost(double gap, DerivativeOrder order, double rel_tol) 
   // The node-space matrix is banded (nodes couple to nodes within a fixed distance in sqrt(t);
   // so the Gram pairs each column only with ~nb others over its band of rows; measured
   // half-width ~50-100, kNodeBand): banded Cholesky q nb^2, selected inversion for the force
-  // ~4 q nb^2, two block-bidiagonal solves 4 q^2 nb for the gradient. The columns (Legendre
+  // ~4 q nb^2, two block-bidiagonal solves for the gradient, each only over the blocks it
+  // needs (from the band's first row down, or down to the diagonal block): 2 q^2 nb. The columns (Legendre
   // recurrences and exp) are computed over their bands only: ~50 flops per entry.
   // Two spheres ("l_max1", "l_max2") are costed as one sphere of the larger l_max: the mirror
   // path of equal spheres factorises twice, unequal ones once in LU (sphere_sphere.cc).
@@ -64,7 +65,7 @@ FrequencyCost Geometry::cost(double gap, DerivativeOrder order, double rel_tol) 
     if (q < n) {
       double f = band * n * q * nb + q * nb * nb + 50.0 * band * n * q;
       if (order != DerivativeOrder::kEnergy) f += 4.0 * q * nb * nb;
-      if (order == DerivativeOrder::kGradient) f += 4.0 * q * q * nb;
+      if (order == DerivativeOrder::kGradient) f += 2.0 * q * q * nb;
       flops = kNodeSpaceInefficiency * f;
     } else {
       flops = 4.0 * n * n * q + n * n * n / 3.0;

@@ -88,6 +88,42 @@ TEST(NodeMatrixLogDet, AutoPicksBandedOnlyForNarrowBands) {
   }
 }
 
+// The derivatives against the textbook formulas with an explicit inverse (Jacobi's formula,
+// standard): d log det(1 - K)/dL = -Tr[B dK], d2/dL2 = -Tr[B d2K] - Tr[(B dK)^2], B = (1 - K)^{-1},
+// here with K_ij = G_ij sqrt(c_i c_j) e^{-(a_i + a_j) L / 2}, so dK_ij = -(a_i + a_j)/2 K_ij and
+// d2K_ij = (a_i + a_j)^2/4 K_ij. Sizes that are not multiples of the solvers' column blocks
+// (64 dense; the band width banded), bands from narrow to a third of q: the partial solves of
+// both paths (only the rows and blocks that are needed) must give the full result.
+// Tolerance: rounding of a q x q inverse with condition ~20 (1e-11 relative).
+TEST(NodeMatrixLogDet, DerivativesEqualTheExplicitInverseFormulas) {
+  for (int q : {37, 130, 257}) {
+    for (int w : {3, 17, q / 3}) {
+      const Case k = make_case(q, w);
+      const double L = 0.15;
+      const Eigen::VectorXd f1 = -k.a, f2 = k.a.cwiseAbs2();
+      const Eigen::MatrixXd A = one_minus_k(k, L);
+      const Eigen::MatrixXd K = Eigen::MatrixXd::Identity(q, q) - A;
+      Eigen::MatrixXd dK(q, q), d2K(q, q);
+      for (int i = 0; i < q; ++i)
+        for (int j = 0; j < q; ++j) {
+          const double s = 0.5 * (k.a[i] + k.a[j]);
+          dK(i, j) = -s * K(i, j);
+          d2K(i, j) = s * s * K(i, j);
+        }
+      const Eigen::MatrixXd B = A.partialPivLu().inverse();
+      const double d1 = -(B * dK).trace();
+      const Eigen::MatrixXd BdK = B * dK;
+      const double d2 = -(B * d2K).trace() - (BdK * BdK).trace();
+      for (auto solver : {NodeSpaceSolver::kDense, NodeSpaceSolver::kBanded}) {
+        const LogDetResult r = logdet_node_matrix(A, f1, f2, DerivativeOrder::kGradient, solver);
+        ASSERT_TRUE(r.ok) << q << " " << w;
+        EXPECT_NEAR(r.s.d1, d1, 1e-11 * std::abs(d1)) << q << " " << w;
+        EXPECT_NEAR(r.s.d2, d2, 1e-11 * std::abs(d2)) << q << " " << w;
+      }
+    }
+  }
+}
+
 TEST(NodeMatrixLogDet, NotPositiveDefiniteIsReported) {
   Case k = make_case(100, 10);
   k.G *= 1.2 * 1.05;  // largest eigenvalue of K now above 1
