@@ -337,8 +337,25 @@ MaterialPtr material_at(const toml::table& t, const std::string& field,
 
 PlanarPtr planar_from_toml(const toml::table& plate, const std::string& field,
                            const MaterialResolver& materials) {
-  check_keys(plate, field, {"material", "layers", "nonlocal", "sheet"});
+  check_keys(plate, field,
+             {"material", "layers", "nonlocal", "sheet", "screening", "d_parameters"});
   MaterialPtr substrate = material_at(plate, field, materials);
+  if (const toml::node* dn = plate.get("d_parameters")) {  // io/sheet_spec.h
+    for (const char* other : {"layers", "nonlocal", "sheet", "screening"})
+      if (plate.contains(other))
+        throw error_at(*dn, field + ".d_parameters",
+                       fmt::format("d_parameters with {} is not built yet (they correct the plain "
+                                   "half-space of `material`)",
+                                   other));
+    return d_parameters_from_toml(*dn, field + ".d_parameters", substrate);
+  }
+  if (const toml::node* sn = plate.get("screening")) {  // io/sheet_spec.h
+    if (plate.contains("layers") || plate.contains("nonlocal") || plate.contains("sheet"))
+      throw error_at(*sn, field + ".screening",
+                     "screening with layers, nonlocal or sheet is not built yet (it screens the "
+                     "plain half-space of `material`)");
+    return screening_from_toml(*sn, field + ".screening", substrate);
+  }
   if (const toml::node* sn = plate.get("sheet")) {  // io/sheet_spec.h
     if (plate.contains("layers") || plate.contains("nonlocal"))
       throw error_at(*sn, field + ".sheet",
