@@ -547,9 +547,10 @@ std::vector<ScanAxis> parse_scan_axes(const toml::table& root, const toml::table
         throw error_at(*n, field, fmt::format("no [{}] to scan ({})", body, kind_text()));
       const Shape shape = (kind->lower.table == body ? kind->lower : kind->upper).shape;
       check_keys(*t, field,
-                 shape == Shape::kSphere ? std::vector<std::string>{"material", "radius"}
-                 : shape == Shape::kAtom ? std::vector<std::string>{}
-                                         : std::vector<std::string>{"material"});
+                 shape == Shape::kSphere  ? std::vector<std::string>{"material", "radius"}
+                 : shape == Shape::kAtom  ? std::vector<std::string>{}
+                 : shape == Shape::kPlate ? std::vector<std::string>{"material", "surface"}
+                                          : std::vector<std::string>{"material"});
     }
   bool any_sphere = false;
   if (kind)
@@ -722,6 +723,9 @@ std::vector<std::string> scan_keys(const GeometryKind* kind) {
     if (s.shape == Shape::kSphere) keys.push_back(s.table + ".radius");
   for (const auto& s : slots)
     if (s.shape != Shape::kAtom) keys.push_back(s.table + ".material");
+  // A plate's named surface models (io/material_spec.h: surface = "NAME", [plate.surfaces.NAME]).
+  for (const auto& s : slots)
+    if (s.shape == Shape::kPlate) keys.push_back(s.table + ".surface");
   return keys;
 }
 

@@ -338,7 +338,50 @@ MaterialPtr material_at(const toml::table& t, const std::string& field,
 PlanarPtr planar_from_toml(const toml::table& plate, const std::string& field,
                            const MaterialResolver& materials) {
   check_keys(plate, field,
-             {"material", "layers", "nonlocal", "sheet", "screening", "d_parameters"});
+             {"material", "layers", "nonlocal", "sheet", "screening", "d_parameters", "surface",
+              "surfaces"});
+  // Named surface models of one plate, chosen by `surface` (a [scan] axis `plate.surface`
+  // compares them): each [<plate>.surfaces.NAME] holds plate keys that replace or add to the
+  // plate's own. Every variant is built, so a bad one is reported whichever is chosen.
+  if (const toml::node* sv = plate.get("surface")) {
+    const std::string name = get_string(*sv, field + ".surface");
+    const toml::node* an = plate.get("surfaces");
+    const auto* all = an ? an->as_table() : nullptr;
+    if (all == nullptr || all->empty())
+      throw error_at(an ? *an : *sv, an ? field + ".surfaces" : field + ".surface",
+                     fmt::format("expected tables [{}.surfaces.NAME] with the plate keys of each "
+                                 "surface model (e.g. nonlocal, screening, d_parameters)",
+                                 field));
+    PlanarPtr chosen;
+    std::string names;
+    for (const auto& [key, node] : *all) {
+      const std::string vf = fmt::format("{}.surfaces.{}", field, key.str());
+      const auto* vt = node.as_table();
+      if (vt == nullptr)
+        throw error_at(node, vf, "expected a table of plate keys, e.g. { nonlocal = { ... } }");
+      if (vt->contains("surface") || vt->contains("surfaces"))
+        throw error_at(node, vf, "a surface model cannot hold surface or surfaces");
+      toml::table merged = plate;
+      merged.erase("surface");
+      merged.erase("surfaces");
+      // A variant that sets one of the exclusive forms replaces the plate's others.
+      for (const char* k : {"layers", "nonlocal", "sheet", "screening", "d_parameters"})
+        if (vt->contains(k))
+          for (const char* other : {"layers", "nonlocal", "sheet", "screening", "d_parameters"})
+            if (!vt->contains(other)) merged.erase(other);
+      for (const auto& [k, v] : *vt) merged.insert_or_assign(k, v);
+      PlanarPtr p = planar_from_toml(merged, vf, materials);
+      if (key.str() == name) chosen = p;
+      names += (names.empty() ? "\"" : ", \"") + std::string(key.str()) + "\"";
+    }
+    if (!chosen)
+      throw error_at(*sv, field + ".surface",
+                     fmt::format("unknown surface model (defined: {})", names));
+    return chosen;
+  }
+  if (const toml::node* an = plate.get("surfaces"))
+    throw error_at(*an, field + ".surfaces",
+                   "give surface = \"NAME\" to choose one of these surface models");
   MaterialPtr substrate = material_at(plate, field, materials);
   if (const toml::node* dn = plate.get("d_parameters")) {  // io/sheet_spec.h
     for (const char* other : {"layers", "nonlocal", "sheet", "screening"})
