@@ -1126,10 +1126,11 @@ std::vector<std::pair<std::string, std::string>> case_key_fields(const CaseSpec&
   // A body's own table file (atom polarizability tables): its contents fix the numbers too.
   for (const auto& [name, def] : root)
     if (const auto* t = def.as_table())
-      if (const auto* p = t->get_as<toml::table>("polarizability"))
-        if (const auto* f = p->get_as<std::string>("file"))
-          out.emplace_back(fmt::format("{}.polarizability.file (contents)", name.str()),
-                           file_digest(dir / f->get()));
+      for (const char* sub : {"polarizability", "sheet"})  // atom and sheet tables
+        if (const auto* p = t->get_as<toml::table>(sub))
+          if (const auto* f = p->get_as<std::string>("file"))
+            out.emplace_back(fmt::format("{}.{}.file (contents)", name.str(), sub),
+                             file_digest(dir / f->get()));
   return out;
 }
 

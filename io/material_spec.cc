@@ -333,18 +333,25 @@ MaterialPtr material_at(const toml::table& t, const std::string& field,
   }
 }
 
-}  // namespace
-
-PlanarPtr planar_from_toml(const toml::table& plate, const std::string& field,
-                           const MaterialResolver& materials) {
+// `parent`: the plate table of a named surface model (its `material` is the default here).
+PlanarPtr planar_impl(const toml::table& plate, const std::string& field,
+                      const MaterialResolver& materials, const toml::table* parent,
+                      const std::string& parent_field) {
   check_keys(plate, field,
              {"material", "layers", "nonlocal", "sheet", "screening", "d_parameters", "surface",
               "surfaces"});
   // Named surface models of one plate, chosen by `surface` (a [scan] axis `plate.surface`
-  // compares them): each [<plate>.surfaces.NAME] holds plate keys that replace or add to the
-  // plate's own. Every variant is built, so a bad one is reported whichever is chosen.
+  // compares them): each [<plate>.surfaces.NAME] is a plate table of its own whose `material`
+  // defaults to the plate's. The nodes are read where they are written (a copy would lose their
+  // lines). Every model is built, so a bad one is reported whichever is chosen.
   if (const toml::node* sv = plate.get("surface")) {
     const std::string name = get_string(*sv, field + ".surface");
+    for (const char* other : {"layers", "nonlocal", "sheet", "screening", "d_parameters"})
+      if (const toml::node* o = plate.get(other))
+        throw error_at(*o, field + "." + other,
+                       "with surface = \"...\" the plate's structure goes into its surface "
+                       "models ([" +
+                           field + ".surfaces.NAME])");
     const toml::node* an = plate.get("surfaces");
     const auto* all = an ? an->as_table() : nullptr;
     if (all == nullptr || all->empty())
@@ -359,18 +366,9 @@ PlanarPtr planar_from_toml(const toml::table& plate, const std::string& field,
       const auto* vt = node.as_table();
       if (vt == nullptr)
         throw error_at(node, vf, "expected a table of plate keys, e.g. { nonlocal = { ... } }");
-      if (vt->contains("surface") || vt->contains("surfaces"))
-        throw error_at(node, vf, "a surface model cannot hold surface or surfaces");
-      toml::table merged = plate;
-      merged.erase("surface");
-      merged.erase("surfaces");
-      // A variant that sets one of the exclusive forms replaces the plate's others.
-      for (const char* k : {"layers", "nonlocal", "sheet", "screening", "d_parameters"})
-        if (vt->contains(k))
-          for (const char* other : {"layers", "nonlocal", "sheet", "screening", "d_parameters"})
-            if (!vt->contains(other)) merged.erase(other);
-      for (const auto& [k, v] : *vt) merged.insert_or_assign(k, v);
-      PlanarPtr p = planar_from_toml(merged, vf, materials);
+      if (const toml::node* inner = vt->get("surface") ? vt->get("surface") : vt->get("surfaces"))
+        throw error_at(*inner, vf, "a surface model cannot hold surface or surfaces");
+      PlanarPtr p = planar_impl(*vt, vf, materials, &plate, field);
       if (key.str() == name) chosen = p;
       names += (names.empty() ? "\"" : ", \"") + std::string(key.str()) + "\"";
     }
@@ -382,7 +380,9 @@ PlanarPtr planar_from_toml(const toml::table& plate, const std::string& field,
   if (const toml::node* an = plate.get("surfaces"))
     throw error_at(*an, field + ".surfaces",
                    "give surface = \"NAME\" to choose one of these surface models");
-  MaterialPtr substrate = material_at(plate, field, materials);
+  MaterialPtr substrate = parent != nullptr && !plate.contains("material")
+                              ? material_at(*parent, parent_field, materials)
+                              : material_at(plate, field, materials);
   if (const toml::node* dn = plate.get("d_parameters")) {  // io/sheet_spec.h
     for (const char* other : {"layers", "nonlocal", "sheet", "screening"})
       if (plate.contains(other))
@@ -404,7 +404,7 @@ PlanarPtr planar_from_toml(const toml::table& plate, const std::string& field,
       throw error_at(*sn, field + ".sheet",
                      "a sheet on layers or on a nonlocal metal is not built yet (a sheet sits "
                      "on the plain half-space of `material`)");
-    return sheet_from_toml(*sn, field + ".sheet", substrate);
+    return sheet_from_toml(*sn, field + ".sheet", substrate, materials.directory());
   }
   const auto* ln = plate.get("layers");
   const auto* nn = plate.get("nonlocal");
@@ -469,6 +469,13 @@ PlanarPtr planar_from_toml(const toml::table& plate, const std::string& field,
     }
   }
   return make_half_space(substrate);
+}
+
+}  // namespace
+
+PlanarPtr planar_from_toml(const toml::table& plate, const std::string& field,
+                           const MaterialResolver& materials) {
+  return planar_impl(plate, field, materials, nullptr, {});
 }
 
 }  // namespace roundtrip::io

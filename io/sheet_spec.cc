@@ -10,6 +10,7 @@
 
 #include "io/errors.h"
 #include "io/units.h"
+#include "solver/input_error.h"
 #include "solver/planar/feibelman.h"
 #include "solver/planar/screened.h"
 #include "solver/planar/sheet.h"
@@ -63,7 +64,8 @@ const toml::node& need(const toml::table& t, const std::string& key, const std::
 
 }  // namespace
 
-PlanarPtr sheet_from_toml(const toml::node& node, const std::string& field, MaterialPtr substrate) {
+PlanarPtr sheet_from_toml(const toml::node& node, const std::string& field, MaterialPtr substrate,
+                          const std::filesystem::path& case_dir) {
   const auto* t = node.as_table();
   if (t == nullptr)
     throw error_at(node, field,
@@ -99,10 +101,21 @@ PlanarPtr sheet_from_toml(const toml::node& node, const std::string& field, Mate
       throw error_at(cn, field + ".conductance",
                      "above 1e10 S: use material = \"perfect-conductor\" for an ideal mirror");
   } else if (model == "table") {
-    throw error_at(mn, field + ".model",
-                   "\"table\" is not built yet (use \"drude\" or \"constant\")");
+    check_keys(*t, field, {"model", "file"});
+    const toml::node& fn = need(*t, "file", field, "\"sigma.csv\"");
+    const auto* fs = fn.as_string();
+    if (fs == nullptr) throw error_at(fn, field + ".file", "expected a file name in double quotes");
+    const std::filesystem::path path = case_dir / fs->get();
+    if (!std::filesystem::exists(path))
+      throw error_at(fn, field + ".file", fmt::format("no such file: {}", path.string()));
+    try {
+      s.table = std::make_shared<SheetTable>(read_sheet_conductivity_csv(path));
+    } catch (const InputError& e) {  // the table's file:line, column and value
+      throw error_at(fn, field + ".file", e.what());
+    }
   } else {
-    throw error_at(mn, field + ".model", "unknown sheet model (use \"drude\" or \"constant\")");
+    throw error_at(mn, field + ".model",
+                   "unknown sheet model (use \"drude\", \"constant\" or \"table\")");
   }
   return make_sheet(s, std::move(substrate));
 }

@@ -6,6 +6,7 @@
 //   { model = "constant", conductance = "6.08e-5 S" }   sigma(i xi) = sigma_0 (S) at every xi.
 #include <toml++/toml.h>
 
+#include <filesystem>
 #include <string>
 
 #include "solver/planar/planar.h"
@@ -13,7 +14,9 @@
 namespace roundtrip::io {
 
 /// Throws CaseError "file:line: <field>.<key> = <value>: what is wrong".
-PlanarPtr sheet_from_toml(const toml::node& sheet, const std::string& field, MaterialPtr substrate);
+/// `case_dir` anchors the path of a { model = "table", file = "..." } sheet.
+PlanarPtr sheet_from_toml(const toml::node& sheet, const std::string& field, MaterialPtr substrate,
+                          const std::filesystem::path& case_dir = ".");
 
 /// plate.screening = { carrier_density = "1e18 cm^-3" } or { debye_length = "4 nm" }: the
 /// Debye-Hueckel screened static TM reflection of a dielectric plate (solver/planar/screened.h);

@@ -1,5 +1,6 @@
 // Named surface models of one plate (surface = "NAME", [plate.surfaces.NAME]) compared through
-// [scan] plate.surface: each point builds the chosen variant, bad variants are named, and in the
+// [scan] plate.surface: each point builds the chosen variant, bad variants are named with their
+// line (the variants are read where written, not from copies), and in the
 // doped-silicon demo case screening changes the zero-frequency term only.
 #include <H5Cpp.h>
 #include <gtest/gtest.h>
@@ -64,10 +65,12 @@ TEST(SurfaceModels, BadVariantsAreNamed) {
        "a.toml:4: plate.surface = \"rough\": unknown surface model (defined: \"gold\", \"plain\", "
        "\"screened\")"},
       {"debye_length = \"50 nm\"", "debye_length = \"-5 nm\"",
-       "plate.surfaces.screened.screening.debye_length"},
+       "a.toml:7: plate.surfaces.screened.screening.debye_length = \"-5 nm\""},
       {"surface = \"plain\"\n", "", "give surface = \"NAME\" to choose"},
       {"[plate.surfaces.gold]\nmaterial = \"gold-drude\"", "[plate.surfaces.gold]\ncolour = 1",
-       "plate.surfaces.gold.colour"},
+       "a.toml:9: plate.surfaces.gold.colour = 1"},
+      {"surface = \"plain\"\n", "surface = \"plain\"\nlayers = []\n",
+       "a.toml:5: plate.layers = []: with surface"},
   };
   for (const auto& b : bad) {
     std::string text = kCase;
