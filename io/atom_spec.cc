@@ -11,6 +11,7 @@
 
 #include "io/errors.h"
 #include "io/units.h"
+#include "solver/input_error.h"
 
 namespace roundtrip::io {
 namespace {
@@ -91,7 +92,8 @@ double parse_polarizability_volume(const toml::node& n, const std::string& field
   return v * scale;
 }
 
-PolarizabilityPtr atom_from_toml(const toml::table& t, const std::string& table) {
+PolarizabilityPtr atom_from_toml(const toml::table& t, const std::string& table,
+                                 const std::filesystem::path& case_dir) {
   check_keys(t, table, {"species", "polarizability"});
   const toml::node* sp = t.get("species");
   const toml::node* pol = t.get("polarizability");
@@ -121,7 +123,8 @@ PolarizabilityPtr atom_from_toml(const toml::table& t, const std::string& table)
                    "\"oscillators\", oscillators = [...] }");
   const toml::node* m = p->get("model");
   if (m == nullptr || !m->is_string())
-    throw missing(*p, field + ".model", "missing: model = \"constant\" or \"oscillators\"");
+    throw missing(*p, field + ".model",
+                  "missing: model = \"constant\", \"oscillators\" or \"table\"");
   const std::string model = m->as_string()->get();
   if (model == "constant") {
     check_keys(*p, field, {"model", "alpha"});
@@ -168,10 +171,25 @@ PolarizabilityPtr atom_from_toml(const toml::table& t, const std::string& table)
       throw error_at(*o, field + ".oscillators", "the strengths add up to 0 (no polarizability)");
     return make_oscillator_polarizability(std::move(list));
   }
-  if (model == "table")
-    throw error_at(*m, field + ".model",
-                   "\"table\" is not built yet (use \"constant\" or \"oscillators\")");
-  throw error_at(*m, field + ".model", "unknown model (use \"constant\" or \"oscillators\")");
+  if (model == "table") {
+    check_keys(*p, field, {"model", "file"});
+    const toml::node* f = p->get("file");
+    if (f == nullptr)
+      throw missing(*p, field + ".file",
+                    "missing (a CSV file with the header 'xi_eV, alpha_au' and rows from xi = 0)");
+    const auto* fs = f->as_string();
+    if (fs == nullptr) throw error_at(*f, field + ".file", "expected a file name in double quotes");
+    const std::filesystem::path path = case_dir / fs->get();
+    if (!std::filesystem::exists(path))
+      throw error_at(*f, field + ".file", fmt::format("no such file: {}", path.string()));
+    try {
+      return make_table_polarizability(read_polarizability_csv(path));
+    } catch (const InputError& e) {  // the table's file:line, column and value
+      throw error_at(*f, field + ".file", e.what());
+    }
+  }
+  throw error_at(*m, field + ".model",
+                 "unknown model (use \"constant\", \"oscillators\" or \"table\")");
 }
 
 }  // namespace roundtrip::io

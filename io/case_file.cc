@@ -252,7 +252,8 @@ const BodySpec& CaseSpec::body(std::string_view table) const {
 std::vector<std::pair<std::string, double>> CaseSpec::body_lengths() const {
   std::vector<std::pair<std::string, double>> out;
   for (const auto& b : bodies)
-    if (b.shape != Shape::kPlate) out.emplace_back(b.table + "_radius_m", b.radius);
+    if (b.shape != Shape::kPlate && b.shape != Shape::kAtom)  // an atom has no size
+      out.emplace_back(b.table + "_radius_m", b.radius);
   if (kind && kind->offsets && offsets.size() == 1) out.emplace_back("offset_m", offsets.front());
   return out;
 }
@@ -549,9 +550,10 @@ std::vector<ScanAxis> parse_scan_axes(const toml::table& root, const toml::table
         throw error_at(*n, field, fmt::format("no [{}] to scan ({})", body, kind_text()));
       const Shape shape = (kind->lower.table == body ? kind->lower : kind->upper).shape;
       check_keys(*t, field,
-                 shape == Shape::kSphere ? std::vector<std::string>{"material", "radius"}
-                 : shape == Shape::kAtom ? std::vector<std::string>{}
-                                         : std::vector<std::string>{"material"});
+                 shape == Shape::kSphere  ? std::vector<std::string>{"material", "radius"}
+                 : shape == Shape::kAtom  ? std::vector<std::string>{}
+                 : shape == Shape::kPlate ? std::vector<std::string>{"material", "surface"}
+                                          : std::vector<std::string>{"material"});
     }
   bool any_sphere = false;
   if (kind)
@@ -724,6 +726,9 @@ std::vector<std::string> scan_keys(const GeometryKind* kind) {
     if (s.shape == Shape::kSphere) keys.push_back(s.table + ".radius");
   for (const auto& s : slots)
     if (s.shape != Shape::kAtom) keys.push_back(s.table + ".material");
+  // A plate's named surface models (io/material_spec.h: surface = "NAME", [plate.surfaces.NAME]).
+  for (const auto& s : slots)
+    if (s.shape == Shape::kPlate) keys.push_back(s.table + ".surface");
   return keys;
 }
 
@@ -931,7 +936,9 @@ CaseSpec parse_root(toml::table& root, CaseSpec spec) {
         throw root_error(
             root, slot->table,
             fmt::format("missing table [{}] (species or polarizability)", slot->table));
-      b.atom = atom_from_toml(*t, slot->table);
+      b.atom =
+          atom_from_toml(*t, slot->table,
+                         path.has_parent_path() ? path.parent_path() : std::filesystem::path("."));
     } else if (slot->shape == Shape::kGrating) {
       if (t == nullptr)
         throw root_error(root, slot->table,
@@ -1126,11 +1133,29 @@ std::vector<std::pair<std::string, std::string>> case_key_fields(const CaseSpec&
         if (const auto* f = t->get_as<std::string>("file"))
           out.emplace_back(fmt::format("materials.{}.file (contents)", name.str()),
                            file_digest(dir / f->get()));
+  // A body's own table file (atom polarizability tables): its contents fix the numbers too.
+  for (const auto& [name, def] : root)
+    if (const auto* t = def.as_table())
+      for (const char* sub : {"polarizability", "sheet"})  // atom and sheet tables
+        if (const auto* p = t->get_as<toml::table>(sub))
+          if (const auto* f = p->get_as<std::string>("file"))
+            out.emplace_back(fmt::format("{}.{}.file (contents)", name.str(), sub),
+                             file_digest(dir / f->get()));
   return out;
 }
 
 std::shared_ptr<Geometry> build_geometry(const CaseSpec& spec) {
   if (spec.kind == nullptr) throw CaseError(spec.path.string() + ": geometry: not parsed");
+  // Plates whose response depends on the temperature (screened.h) are bound to this case's T.
+  for (std::size_t i = 0; i < spec.bodies.size(); ++i)
+    if (spec.bodies[i].plate)
+      if (spec.bodies[i].plate->with_temperature(spec.frequency.temperature_K)) {
+        CaseSpec bound = spec;
+        for (auto& b : bound.bodies)
+          if (b.plate)
+            if (auto p = b.plate->with_temperature(spec.frequency.temperature_K)) b.plate = p;
+        return spec.kind->build(bound);
+      }
   return spec.kind->build(spec);
 }
 

@@ -333,18 +333,78 @@ MaterialPtr material_at(const toml::table& t, const std::string& field,
   }
 }
 
-}  // namespace
-
-PlanarPtr planar_from_toml(const toml::table& plate, const std::string& field,
-                           const MaterialResolver& materials) {
-  check_keys(plate, field, {"material", "layers", "nonlocal", "sheet"});
-  MaterialPtr substrate = material_at(plate, field, materials);
+// `parent`: the plate table of a named surface model (its `material` is the default here).
+PlanarPtr planar_impl(const toml::table& plate, const std::string& field,
+                      const MaterialResolver& materials, const toml::table* parent,
+                      const std::string& parent_field) {
+  check_keys(plate, field,
+             {"material", "layers", "nonlocal", "sheet", "screening", "d_parameters", "surface",
+              "surfaces"});
+  // Named surface models of one plate, chosen by `surface` (a [scan] axis `plate.surface`
+  // compares them): each [<plate>.surfaces.NAME] is a plate table of its own whose `material`
+  // defaults to the plate's. The nodes are read where they are written (a copy would lose their
+  // lines). Every model is built, so a bad one is reported whichever is chosen.
+  if (const toml::node* sv = plate.get("surface")) {
+    const std::string name = get_string(*sv, field + ".surface");
+    for (const char* other : {"layers", "nonlocal", "sheet", "screening", "d_parameters"})
+      if (const toml::node* o = plate.get(other))
+        throw error_at(*o, field + "." + other,
+                       "with surface = \"...\" the plate's structure goes into its surface "
+                       "models ([" +
+                           field + ".surfaces.NAME])");
+    const toml::node* an = plate.get("surfaces");
+    const auto* all = an ? an->as_table() : nullptr;
+    if (all == nullptr || all->empty())
+      throw error_at(an ? *an : *sv, an ? field + ".surfaces" : field + ".surface",
+                     fmt::format("expected tables [{}.surfaces.NAME] with the plate keys of each "
+                                 "surface model (e.g. nonlocal, screening, d_parameters)",
+                                 field));
+    PlanarPtr chosen;
+    std::string names;
+    for (const auto& [key, node] : *all) {
+      const std::string vf = fmt::format("{}.surfaces.{}", field, key.str());
+      const auto* vt = node.as_table();
+      if (vt == nullptr)
+        throw error_at(node, vf, "expected a table of plate keys, e.g. { nonlocal = { ... } }");
+      if (const toml::node* inner = vt->get("surface") ? vt->get("surface") : vt->get("surfaces"))
+        throw error_at(*inner, vf, "a surface model cannot hold surface or surfaces");
+      PlanarPtr p = planar_impl(*vt, vf, materials, &plate, field);
+      if (key.str() == name) chosen = p;
+      names += (names.empty() ? "\"" : ", \"") + std::string(key.str()) + "\"";
+    }
+    if (!chosen)
+      throw error_at(*sv, field + ".surface",
+                     fmt::format("unknown surface model (defined: {})", names));
+    return chosen;
+  }
+  if (const toml::node* an = plate.get("surfaces"))
+    throw error_at(*an, field + ".surfaces",
+                   "give surface = \"NAME\" to choose one of these surface models");
+  MaterialPtr substrate = parent != nullptr && !plate.contains("material")
+                              ? material_at(*parent, parent_field, materials)
+                              : material_at(plate, field, materials);
+  if (const toml::node* dn = plate.get("d_parameters")) {  // io/sheet_spec.h
+    for (const char* other : {"layers", "nonlocal", "sheet", "screening"})
+      if (plate.contains(other))
+        throw error_at(*dn, field + ".d_parameters",
+                       fmt::format("d_parameters with {} is not built yet (they correct the plain "
+                                   "half-space of `material`)",
+                                   other));
+    return d_parameters_from_toml(*dn, field + ".d_parameters", substrate);
+  }
+  if (const toml::node* sn = plate.get("screening")) {  // io/sheet_spec.h
+    if (plate.contains("layers") || plate.contains("nonlocal") || plate.contains("sheet"))
+      throw error_at(*sn, field + ".screening",
+                     "screening with layers, nonlocal or sheet is not built yet (it screens the "
+                     "plain half-space of `material`)");
+    return screening_from_toml(*sn, field + ".screening", substrate);
+  }
   if (const toml::node* sn = plate.get("sheet")) {  // io/sheet_spec.h
     if (plate.contains("layers") || plate.contains("nonlocal"))
       throw error_at(*sn, field + ".sheet",
                      "a sheet on layers or on a nonlocal metal is not built yet (a sheet sits "
                      "on the plain half-space of `material`)");
-    return sheet_from_toml(*sn, field + ".sheet", substrate);
+    return sheet_from_toml(*sn, field + ".sheet", substrate, materials.directory());
   }
   const auto* ln = plate.get("layers");
   const auto* nn = plate.get("nonlocal");
@@ -409,6 +469,13 @@ PlanarPtr planar_from_toml(const toml::table& plate, const std::string& field,
     }
   }
   return make_half_space(substrate);
+}
+
+}  // namespace
+
+PlanarPtr planar_from_toml(const toml::table& plate, const std::string& field,
+                           const MaterialResolver& materials) {
+  return planar_impl(plate, field, materials, nullptr, {});
 }
 
 }  // namespace roundtrip::io

@@ -64,6 +64,8 @@ class MaterialResolver {
   /// `user` may be null (no [materials] table). `case_dir` anchors relative table paths. Every
   /// user material is built here, so errors in unused definitions surface too (CaseError).
   MaterialResolver(const toml::table* user, std::filesystem::path case_dir);
+  /// The case file's directory (anchors relative table paths).
+  const std::filesystem::path& directory() const { return dir_; }
   /// Throws CaseError (io/errors.h) naming `field` and the unknown or malformed value.
   MaterialPtr get(const std::string& name, const std::string& field) const;
 

@@ -121,6 +121,8 @@ void write_run(H5::Group& file, const RunResult& r, const ResultsInfo& info) {
   attr(file, "result_scale", to_string(r.scale));
   attr(file, "per_area", r.scale == ResultScale::kPerArea ? 1 : 0);  // kept for older readers
   for (const auto& [name, metres] : info.body_lengths) attr(file, name, metres);
+  for (const auto& [name, text] : info.body_texts) attr(file, name, text);
+  for (const auto& [name, value] : info.body_numbers) attr(file, name, value);
   if (r.pfa_length > 0.0) attr(file, "pfa_length_m", r.pfa_length);
   attr(file, "temperature_K", info.temperature_K);
   attr(file, "rel_tol", info.rel_tol);
@@ -137,6 +139,11 @@ void write_run(H5::Group& file, const RunResult& r, const ResultsInfo& info) {
                    "energy (T = 0) or free energy (T > 0); < 0 is attraction");
     vector_dataset(res, "energy_error", column(r, [](auto& p) { return p.energy_error; }), u.energy,
                    "estimated absolute error of energy");
+    for (const int power : info.energy_gap_powers)
+      vector_dataset(res, fmt::format("energy_gap{}", power),
+                     column(r, [&](auto& p) { return std::pow(p.gap, power) * p.energy; }),
+                     fmt::format("{} m^{}", u.energy, power),
+                     fmt::format("gap^{} times energy (atom-plate: z^{} U(z))", power, power));
   }
   if (q.force || q.gradient)
     vector_dataset(res, "force", column(r, [](auto& p) { return p.force; }), u.force,

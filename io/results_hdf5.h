@@ -38,6 +38,11 @@ struct ResultsInfo {
   /// Body lengths as file attributes, named with their unit, e.g. {"sphere_radius_m", R}
   /// (the geometry kind says which; solver/ and io/kinds).
   std::vector<std::pair<std::string, double>> body_lengths;
+  /// Further body attributes from the kind (io/kinds/kind.h): text and numbers (named with unit).
+  std::vector<std::pair<std::string, std::string>> body_texts;
+  std::vector<std::pair<std::string, double>> body_numbers;
+  /// results/energy_gap<p> = L^p E for each p (the kind's energy_gap_powers).
+  std::vector<int> energy_gap_powers;
 };
 
 /// One point of a [scan] with its parameters (scan key, value as written).

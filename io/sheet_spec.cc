@@ -10,6 +10,9 @@
 
 #include "io/errors.h"
 #include "io/units.h"
+#include "solver/input_error.h"
+#include "solver/planar/feibelman.h"
+#include "solver/planar/screened.h"
 #include "solver/planar/sheet.h"
 
 namespace roundtrip::io {
@@ -61,7 +64,8 @@ const toml::node& need(const toml::table& t, const std::string& key, const std::
 
 }  // namespace
 
-PlanarPtr sheet_from_toml(const toml::node& node, const std::string& field, MaterialPtr substrate) {
+PlanarPtr sheet_from_toml(const toml::node& node, const std::string& field, MaterialPtr substrate,
+                          const std::filesystem::path& case_dir) {
   const auto* t = node.as_table();
   if (t == nullptr)
     throw error_at(node, field,
@@ -97,12 +101,105 @@ PlanarPtr sheet_from_toml(const toml::node& node, const std::string& field, Mate
       throw error_at(cn, field + ".conductance",
                      "above 1e10 S: use material = \"perfect-conductor\" for an ideal mirror");
   } else if (model == "table") {
-    throw error_at(mn, field + ".model",
-                   "\"table\" is not built yet (use \"drude\" or \"constant\")");
+    check_keys(*t, field, {"model", "file"});
+    const toml::node& fn = need(*t, "file", field, "\"sigma.csv\"");
+    const auto* fs = fn.as_string();
+    if (fs == nullptr) throw error_at(fn, field + ".file", "expected a file name in double quotes");
+    const std::filesystem::path path = case_dir / fs->get();
+    if (!std::filesystem::exists(path))
+      throw error_at(fn, field + ".file", fmt::format("no such file: {}", path.string()));
+    try {
+      s.table = std::make_shared<SheetTable>(read_sheet_conductivity_csv(path));
+    } catch (const InputError& e) {  // the table's file:line, column and value
+      throw error_at(fn, field + ".file", e.what());
+    }
   } else {
-    throw error_at(mn, field + ".model", "unknown sheet model (use \"drude\" or \"constant\")");
+    throw error_at(mn, field + ".model",
+                   "unknown sheet model (use \"drude\", \"constant\" or \"table\")");
   }
   return make_sheet(s, std::move(substrate));
+}
+
+PlanarPtr screening_from_toml(const toml::node& node, const std::string& field,
+                              MaterialPtr substrate) {
+  const auto* t = node.as_table();
+  if (t == nullptr)
+    throw error_at(node, field,
+                   "expected { carrier_density = \"1e18 cm^-3\" } or { debye_length = \"4 nm\" }");
+  check_keys(*t, field, {"carrier_density", "debye_length"});
+  const toml::node* nn = t->get("carrier_density");
+  const toml::node* ln = t->get("debye_length");
+  if ((nn == nullptr) == (ln == nullptr))
+    throw error_at(node, field, "give exactly one of carrier_density and debye_length");
+  Screening s;
+  if (nn != nullptr) {
+    s.carrier_density = number_with_unit(*nn, field + ".carrier_density",
+                                         {{"m^-3", 1.0}, {"cm^-3", 1e6}}, "\"1e18 cm^-3\"");
+    // 1e30 m^-3 = 1e24 cm^-3: above the atom density of any solid (~1e29 m^-3).
+    if (!(s.carrier_density > 0.0) || s.carrier_density > 1e30)
+      throw error_at(*nn, field + ".carrier_density",
+                     "must be > 0 and at most 1e30 m^-3 (above any solid's atom density)");
+  } else {
+    const double l = parse_quantity(*ln, Dimension::kLength, field + ".debye_length");
+    if (!(l > 0.0) || !std::isfinite(l))
+      throw error_at(*ln, field + ".debye_length", "must be > 0");
+    s.debye_length = l;
+  }
+  try {
+    return make_screened_half_space(std::move(substrate), s);
+  } catch (const std::invalid_argument& e) {
+    throw error_at(node, field, e.what());
+  }
+}
+
+namespace {
+// A signed length for a d-parameter, |d| <= 10 nm (beyond, k d ~ 1 at the wave numbers of any
+// gap where a surface correction matters: the first order is meaningless).
+double d_length(const toml::node& n, const std::string& field) {
+  const double d = parse_quantity(n, Dimension::kLength, field);
+  if (!std::isfinite(d) || std::abs(d) > 1e-8)
+    throw error_at(n, field,
+                   "|d| must be at most 10 nm (d-parameters are of the order of 0.1 nm; the first "
+                   "order in k d is meaningless beyond)");
+  return d;
+}
+
+SurfaceParameter surface_parameter(const toml::node& n, const std::string& field) {
+  SurfaceParameter p;
+  if (const auto* t = n.as_table()) {
+    check_keys(*t, field, {"static", "high_frequency", "frequency"});
+    p.static_value = d_length(need(*t, "static", field, "\"-0.1 nm\""), field + ".static");
+    p.high_frequency =
+        d_length(need(*t, "high_frequency", field, "\"0.1 nm\""), field + ".high_frequency");
+    const toml::node& fn = need(*t, "frequency", field, "\"5 eV\"");
+    p.pole = parse_quantity(fn, Dimension::kFrequency, field + ".frequency");
+    if (!(p.pole > 0.0) || !std::isfinite(p.pole))
+      throw error_at(fn, field + ".frequency", "must be > 0");
+    return p;
+  }
+  p.static_value = p.high_frequency = d_length(n, field);
+  return p;
+}
+}  // namespace
+
+PlanarPtr d_parameters_from_toml(const toml::node& node, const std::string& field,
+                                 MaterialPtr substrate) {
+  const auto* t = node.as_table();
+  if (t == nullptr)
+    throw error_at(node, field,
+                   "expected { perpendicular = \"0.1 nm\", parallel = \"0 nm\" } (lengths, "
+                   "positive towards the gap)");
+  check_keys(*t, field, {"perpendicular", "parallel"});
+  FeibelmanParameters d;
+  d.perpendicular =
+      surface_parameter(need(*t, "perpendicular", field, "\"0.1 nm\""), field + ".perpendicular");
+  d.parallel = t->contains("parallel") ? surface_parameter(*t->get("parallel"), field + ".parallel")
+                                       : SurfaceParameter{};
+  try {
+    return make_feibelman_half_space(std::move(substrate), d);
+  } catch (const std::invalid_argument& e) {
+    throw error_at(node, field, e.what());
+  }
 }
 
 }  // namespace roundtrip::io

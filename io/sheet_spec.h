@@ -6,6 +6,7 @@
 //   { model = "constant", conductance = "6.08e-5 S" }   sigma(i xi) = sigma_0 (S) at every xi.
 #include <toml++/toml.h>
 
+#include <filesystem>
 #include <string>
 
 #include "solver/planar/planar.h"
@@ -13,6 +14,22 @@
 namespace roundtrip::io {
 
 /// Throws CaseError "file:line: <field>.<key> = <value>: what is wrong".
-PlanarPtr sheet_from_toml(const toml::node& sheet, const std::string& field, MaterialPtr substrate);
+/// `case_dir` anchors the path of a { model = "table", file = "..." } sheet.
+PlanarPtr sheet_from_toml(const toml::node& sheet, const std::string& field, MaterialPtr substrate,
+                          const std::filesystem::path& case_dir = ".");
+
+/// plate.screening = { carrier_density = "1e18 cm^-3" } or { debye_length = "4 nm" }: the
+/// Debye-Hueckel screened static TM reflection of a dielectric plate (solver/planar/screened.h);
+/// the temperature comes from [conditions] when the geometry is built. carrier_density in m^-3
+/// or cm^-3 (> 0, at most 1e30 m^-3); throws CaseError naming file:line, key and value.
+PlanarPtr screening_from_toml(const toml::node& screening, const std::string& field,
+                              MaterialPtr substrate);
+
+/// plate.d_parameters = { perpendicular = "0.1 nm", parallel = "0 nm" }: Feibelman d-parameters
+/// on the half-space of `material` (solver/planar/feibelman.h), each a length (constant, sign:
+/// positive towards the gap) or { static = "...", high_frequency = "...", frequency = "5 eV" }
+/// (one pole); |d| at most 10 nm. Throws CaseError naming file:line, key and value.
+PlanarPtr d_parameters_from_toml(const toml::node& node, const std::string& field,
+                                 MaterialPtr substrate);
 
 }  // namespace roundtrip::io

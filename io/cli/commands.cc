@@ -175,6 +175,13 @@ OutputUnit column_unit(const TableExport& ex, const std::string& si) {
   return OutputUnit{si, 1.0, {}};
 }
 
+// "³" for 3: a small power as a superscript (table headers).
+std::string superscript(int p) {
+  static const char* const kDigits[] = {"\u2070", "\u00b9", "\u00b2", "\u00b3", "\u2074",
+                                        "\u2075", "\u2076", "\u2077", "\u2078", "\u2079"};
+  return p >= 0 && p <= 9 ? kDigits[p] : fmt::format("^{}", p);
+}
+
 void print_results(const CaseSpec& spec, const RunResult& r, std::ostream& out,
                    const TableExport& ex = {}) {
   std::vector<double> gaps;
@@ -196,6 +203,9 @@ void print_results(const CaseSpec& spec, const RunResult& r, std::ostream& out,
   }
   std::vector<std::string> head{fmt::format("gap [{}]", gu.name)};
   if (q.energy) head.push_back(fmt::format("E [{}]", u.energy));
+  const std::vector<int> powers = q.energy ? spec.kind->energy_gap_powers : std::vector<int>{};
+  for (const int p : powers)
+    head.push_back(fmt::format("L{0}E [{1} m{0}]", superscript(p), u.energy));
   if (force) head.push_back(fmt::format("F [{}]", u.force));
   if (q.gradient) head.push_back(fmt::format("F\u2032 [{}]", u.gradient));
   if (any_pfa) {
@@ -222,9 +232,11 @@ void print_results(const CaseSpec& spec, const RunResult& r, std::ostream& out,
     std::vector<std::string> crow = ex.prefix;
     crow.push_back(csv_number(p.gap / gu.factor));
     if (q.energy) row.push_back(sci(p.energy / ue.factor));
+    for (const int power : powers) row.push_back(sci(std::pow(p.gap, power) * p.energy / ue.factor));
     if (force) row.push_back(sci(p.force / uf.factor));
     if (q.gradient) row.push_back(sci(p.gradient / ug.factor));
     if (q.energy) crow.push_back(csv_number(p.energy / ue.factor));
+    for (const int power : powers) crow.push_back(csv_number(std::pow(p.gap, power) * p.energy / ue.factor));
     if (force) crow.push_back(csv_number(p.force / uf.factor));
     if (q.gradient) crow.push_back(csv_number(p.gradient / ug.factor));
     if (any_pfa) {
@@ -329,6 +341,9 @@ ResultsInfo results_info(const CaseSpec& spec) {
   info.quantities = spec.quantities;
   info.gaps_planned = static_cast<int>(spec.gaps.size());
   info.body_lengths = spec.body_lengths();
+  if (spec.kind->body_texts) info.body_texts = spec.kind->body_texts(spec);
+  if (spec.kind->body_numbers) info.body_numbers = spec.kind->body_numbers(spec);
+  if (spec.quantities.energy) info.energy_gap_powers = spec.kind->energy_gap_powers;
   return info;
 }
 

@@ -5,6 +5,9 @@
 #include <fmt/format.h>
 
 #include <stdexcept>
+#include <string>
+#include <utility>
+#include <vector>
 
 #include "io/case_file.h"
 #include "io/errors.h"
@@ -20,6 +23,19 @@ GeometryKind atom_plate_kind() {
   k.upper = {"atom", geometry::Shape::kAtom, ""};
   k.scale = ResultScale::kTotal;
   k.scalar_fields = false;
+  k.energy_gap_powers = {3, 4};  // z^3 U -> -C3 (non-retarded), z^4 U -> -C4 (retarded, T = 0)
+  k.body_texts = [](const CaseSpec& spec) {
+    const Polarizability& a = *spec.body("atom").atom;
+    return std::vector<std::pair<std::string, std::string>>{
+        {"atom_model", a.name()},
+        {"atom_polarizability", a.description()},
+        {"atom_source", a.source()}};
+  };
+  k.body_numbers = [](const CaseSpec& spec) {
+    const double a0 = spec.body("atom").atom->alpha(0.0);  // alpha(0)/(4 pi eps_0), m^3
+    return std::vector<std::pair<std::string, double>>{{"atom_alpha0_m3", a0},
+                                                       {"atom_alpha0_au", a0 / kBohrVolume}};
+  };
   k.build = [](const CaseSpec& spec) -> std::shared_ptr<Geometry> {
     const BodySpec& plate = spec.body("plate");
     const BodySpec& atom = spec.body("atom");

@@ -16,6 +16,7 @@
 #include <memory>
 #include <string>
 #include <string_view>
+#include <utility>
 #include <vector>
 
 #include "geometry/configuration.h"
@@ -41,6 +42,13 @@ struct GeometryKind {
   bool scalar_fields = false;               ///< accepts field = "dirichlet" | "neumann"
   std::vector<std::string> numerics_keys;   ///< [numerics] keys beyond rel_tol, frequency_rule
   bool offsets = false;  ///< reads [offsets] (lateral offsets of the upper body, offsets_spec.h)
+  /// Extra result columns L^p E for each p (the table's "L³E", HDF5 results/energy_gap<p> in
+  /// J m^p): atom-plate gives {3, 4}, whose plateaus are -C3 (non-retarded) and -C4 (retarded).
+  std::vector<int> energy_gap_powers;
+  /// Extra HDF5 file attributes describing the bodies beyond their lengths: text attributes
+  /// (name, value) and numbers (name ending in its SI unit, e.g. "atom_alpha0_m3", value).
+  std::function<std::vector<std::pair<std::string, std::string>>(const CaseSpec&)> body_texts;
+  std::function<std::vector<std::pair<std::string, double>>(const CaseSpec&)> body_numbers;
   /// The solver object of a parsed case; throws CaseError for what it cannot compute.
   std::function<std::shared_ptr<Geometry>(const CaseSpec&)> build;
 };

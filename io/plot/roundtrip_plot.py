@@ -9,6 +9,8 @@ file's stem:
                         theta x + theta2 x^2 + theta3 x^3 where the file has one
   <stem>_force.*        |F| and |F'| against L, with their PFA values where present
   <stem>_drude_plasma.* Drude/plasma ratio of F against L (scans over a material only)
+  <stem>_surface_models.* Q/Q_ref - 1 against L for each surface model of a [scan] plate.surface
+                        axis, the first model the reference (Q = F, else E)
   <stem>_spectrum.*     per-frequency contributions |w_j s(xi_j)| to E at up to four gaps, one
                         panel per scan point (log-log)
   <stem>_lateral.*      lateral force per area F_b = -dE/db against the offset b, one curve per
@@ -194,6 +196,45 @@ def plot_drude_plasma(f, out_dir, stem, written):
     save(fig, out_dir, stem, "drude_plasma", written)
 
 
+def plot_surface_models(f, out_dir, stem, written):
+    """Relative difference of each surface model to the first one ([scan] <plate>.surface)."""
+    if "scan" not in f:
+        return
+    pts = [f["scan"][k] for k in sorted(f["scan"].keys(), key=int)]
+    keys = [k for k in pts[0].attrs if k.startswith("scan.") and k.endswith(".surface")]
+    if not keys:
+        return
+    key = keys[0]
+    # Compare points that differ only in the surface model; the first model is the reference.
+    def others(g):
+        return tuple((k, text(g.attrs[k])) for k in sorted(g.attrs) if k.startswith("scan.") and k != key)
+    ref_name = text(pts[0].attrs[key])
+    refs = {others(g): g for g in pts if text(g.attrs[key]) == ref_name}
+    q = "force" if "results/force" in pts[0] else "energy"
+    sym = "F" if q == "force" else "E"
+    fig, ax = plt.subplots(figsize=(6.4, 4.4))
+    drawn = False
+    for g in pts:
+        name = text(g.attrs[key])
+        ref = refs.get(others(g))
+        if name == ref_name or ref is None:
+            continue
+        L = g["results/gap"][:]
+        rel = g[f"results/{q}"][:] / ref[f"results/{q}"][:] - 1.0
+        extra = ", ".join(f"{k[5:]} = {v}" for k, v in others(g))
+        ax.semilogx(L * 1e9, rel, "o-", ms=3, label=name + (f" ({extra})" if extra else ""))
+        drawn = True
+    if not drawn:
+        plt.close(fig)
+        return
+    ax.axhline(0.0, color="0.6", lw=0.6)
+    ax.set_xlabel("gap L (nm)")
+    ax.set_ylabel(f"{sym} / {sym}_{ref_name} - 1 (1)")
+    ax.set_title(f"Surface models against \"{ref_name}\" ({key[5:]})")
+    ax.legend(fontsize=7)
+    save(fig, out_dir, stem, "surface_models", written)
+
+
 def plot_spectrum(f, out_dir, stem, written):
     """|w_j s(xi_j)| on log-log axes (the terms span decades and are negative for attraction),
     up to four gaps per scan point, one panel per scan point."""
@@ -290,6 +331,7 @@ def main(argv):
     plot_pfa(f, out_dir, stem, written)
     plot_force(f, out_dir, stem, written)
     plot_drude_plasma(f, out_dir, stem, written)
+    plot_surface_models(f, out_dir, stem, written)
     plot_spectrum(f, out_dir, stem, written)
     plot_lateral(f, out_dir, stem, written)
     # Drawn by their own modules beside this file (io/plot/): the optical-data band of a

@@ -12,9 +12,12 @@
 //   constant     alpha(i xi) = alpha_0 for every xi (the static, non-dispersive atom);
 //   oscillators  alpha(i xi) = sum_j a_j omega_j^2 / (omega_j^2 + xi^2): a_j (m^3) is the static
 //                contribution of term j, omega_j (rad/s) its resonance; alpha(0) = sum_j a_j;
+//   table        rows (xi, alpha) from a CSV file, 1/alpha linear in xi^2 between rows (exact for
+//                one oscillator), alpha ~ 1/xi^2 beyond the last (polarizability_table.cc);
 //   hydrogen     the exact non-relativistic sum over the 1s -> np spectrum (discrete and
 //                continuum; polarizability.cc), alpha(0) = 9/2 a_0^3;
 //   helium, rubidium: published few-oscillator forms (values from memory; polarizability.cc).
+#include <filesystem>
 #include <memory>
 #include <string>
 #include <vector>
@@ -53,6 +56,19 @@ PolarizabilityPtr make_constant_polarizability(double alpha_m3);
 PolarizabilityPtr make_oscillator_polarizability(std::vector<AtomOscillator> oscillators,
                                                  std::string name = "oscillators",
                                                  std::string source = "user defined");
+/// alpha(i xi) at rows of xi: xi[0] = 0, xi increasing, alpha > 0 and non-increasing.
+struct PolarizabilityTable {
+  std::vector<double> xi;     ///< rad/s
+  std::vector<double> alpha;  ///< m^3 (alpha_SI/(4 pi eps_0))
+  std::string origin;         ///< file name, for descriptions
+};
+/// Read a CSV table: '#' comments; a header naming the columns, the first "xi_eV", "xi_rad/s" or
+/// "xi_au" and the second "alpha_au", "alpha_m^3" or "alpha_A^3"; then rows "xi, alpha" starting
+/// at xi = 0, xi increasing, alpha > 0 and not increasing. Throws InputError "file:line: column
+/// = value: what is wrong".
+PolarizabilityTable read_polarizability_csv(const std::filesystem::path& path);
+/// Throws std::invalid_argument for a table that breaks the rules above.
+PolarizabilityPtr make_table_polarizability(PolarizabilityTable table);
 /// Built-in ground-state atoms by name ("hydrogen", "helium", "rubidium"); null if unknown.
 PolarizabilityPtr builtin_polarizability(const std::string& species);
 std::vector<std::string> builtin_species();

@@ -40,6 +40,12 @@ class PlanarSurface {
   virtual std::string describe() const = 0;
   /// True when r_TE = -1 and r_TM = +1 at every frequency (lets geometries take exact shortcuts).
   virtual bool is_perfect_conductor() const { return false; }
+  /// The same body at temperature T (K) for bodies whose response depends on T (screening by
+  /// thermal carriers, screened.h); null when it does not. io's build_geometry binds every plate
+  /// to the case's temperature this way before building the geometry.
+  virtual std::shared_ptr<const PlanarSurface> with_temperature(double /*temperature_K*/) const {
+    return nullptr;
+  }
 };
 
 using PlanarPtr = std::shared_ptr<const PlanarSurface>;

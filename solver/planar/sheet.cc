@@ -3,10 +3,12 @@
 
 #include <fmt/format.h>
 
+#include <algorithm>
 #include <cmath>
 #include <limits>
 
 #include "solver/constants.h"
+#include "solver/materials/decreasing_table.h"
 
 namespace roundtrip {
 namespace {
@@ -34,14 +36,15 @@ class SheetAt final : public PlanarAtFrequency {
     static_ = true;
     const StaticLimit sm = medium.static_limit();
     const StaticLimit ss = substrate ? substrate->static_limit() : sm;
-    const bool sheet_conducts = s.sigma0 > 0.0 || s.drude_weight > 0.0;
+    const bool sheet_conducts = s.conducts();
     if (sheet_conducts || ss.is_conductor()) {
       static_tm_ = 1.0;
     } else {
       const double ratio = sm.static_eps / ss.static_eps;
       static_tm_ = (1.0 - ratio) / (1.0 + ratio);
     }
-    static_te_sheet_ = s.damping == 0.0 ? kMu0 * s.drude_weight : 0.0;
+    // mu_0 lim xi sigma: D for an undamped Drude sheet; 0 for a table (finite sigma(0)).
+    static_te_sheet_ = !s.table && s.damping == 0.0 ? kMu0 * s.drude_weight : 0.0;
     if (ss.kind == StaticClass::kPlasmaConductor) ks2_ = ss.plasma_wavenumber_sq;
   }
 
@@ -89,7 +92,25 @@ double SheetConductivity::weight(double density, double mass_ratio) {
   return density * kElementaryCharge * kElementaryCharge / (mass_ratio * kElectronMass);
 }
 
+double SheetTable::at(double x) const {
+  if (x >= xi.back()) return sigma.back() * (xi.back() / x);
+  const auto it = std::upper_bound(xi.begin(), xi.end(), x);
+  const std::size_t i = static_cast<std::size_t>(it - xi.begin());  // xi[i-1] <= x < xi[i]
+  const double f = (x - xi[i - 1]) / (xi[i] - xi[i - 1]);
+  return 1.0 / ((1.0 - f) / sigma[i - 1] + f / sigma[i]);
+}
+
+SheetTable read_sheet_conductivity_csv(const std::filesystem::path& path) {
+  DecreasingTable d =
+      read_decreasing_csv(path, {{"xi_eV", kRadPerSecondPerEv}, {"xi_rad/s", 1.0}},
+                          {{"sigma_S", 1.0}, {"sigma_mS", 1e-3}}, "sheet conductivity");
+  return {std::move(d.xi), std::move(d.value), std::move(d.origin)};
+}
+
 std::string SheetConductivity::describe() const {
+  if (table)
+    return fmt::format("conducting sheet, sigma(i xi) from table {} ({} rows, sigma(0) = {:.6g} S)",
+                       table->origin, table->xi.size(), table->sigma.front());
   std::string d = "conducting sheet, sigma(i xi) = ";
   if (sigma0 > 0.0) d += fmt::format("{:.6g} S", sigma0);
   if (drude_weight > 0.0)
@@ -100,6 +121,16 @@ std::string SheetConductivity::describe() const {
 }
 
 std::string SheetConductivity::validate() const {
+  if (table) {
+    const auto& x = table->xi;
+    const auto& s = table->sigma;
+    if (x.size() < 2 || s.size() != x.size() || x.front() != 0.0)
+      return "a sigma table needs at least 2 rows, the first at xi = 0";
+    for (std::size_t i = 0; i < x.size(); ++i)
+      if (!(s[i] > 0.0) || !std::isfinite(s[i]) ||
+          (i > 0 && (!(x[i] > x[i - 1]) || s[i] > s[i - 1])))
+        return "a sigma table needs xi increasing and sigma > 0, not increasing";
+  }
   if (!(sigma0 >= 0.0) || !std::isfinite(sigma0)) return "sigma_0 must be finite and >= 0";
   if (!(drude_weight >= 0.0) || !std::isfinite(drude_weight))
     return "the Drude weight must be finite and >= 0";

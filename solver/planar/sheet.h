@@ -18,7 +18,10 @@
 // static TE: mu_0 lim xi sigma = mu_0 D for gamma = 0 (a plasma-like sheet), else 0;
 // r_TE(0) = (k - kappa_s - mu_0 D)/(k + kappa_s + mu_0 D) with kappa_s(0) = k (dielectric or
 // Drude substrate) or sqrt(k^2 + k_p^2) (plasma substrate).
+#include <filesystem>
+#include <memory>
 #include <string>
+#include <vector>
 
 #include "solver/materials/material.h"
 #include "solver/planar/planar.h"
@@ -28,12 +31,31 @@ namespace roundtrip {
 inline constexpr double kElectronMass = 9.1093837015e-31;        // kg (CODATA 2018)
 inline constexpr double kVacuumPermittivity = 8.8541878128e-12;  // F/m (CODATA 2018)
 
+/// sigma(i xi) at rows of xi (rad/s; xi[0] = 0, increasing; sigma in S, > 0, not increasing).
+/// Between rows 1/sigma is linear in xi (exact for a Drude sheet, 1/sigma = (xi + gamma)/D;
+/// derived), beyond the last row sigma = sigma_N xi_N/xi (the Drude tail D/xi; standard).
+struct SheetTable {
+  std::vector<double> xi, sigma;
+  std::string origin;  ///< file name
+  double at(double xi) const;
+};
+/// Read a CSV: '#' comments, header "xi_eV" or "xi_rad/s", then "sigma_S" or "sigma_mS", rows
+/// from xi = 0 (solver/materials/decreasing_table.h); InputError "file:line: column = value: ...".
+SheetTable read_sheet_conductivity_csv(const std::filesystem::path& path);
+
 struct SheetConductivity {
-  double sigma0 = 0.0;        ///< constant part, S (>= 0)
-  double drude_weight = 0.0;  ///< D = n e^2/m*, S/s (>= 0)
-  double damping = 0.0;       ///< gamma, rad/s (>= 0)
+  double sigma0 = 0.0;                      ///< constant part, S (>= 0)
+  double drude_weight = 0.0;                ///< D = n e^2/m*, S/s (>= 0)
+  double damping = 0.0;                     ///< gamma, rad/s (>= 0)
+  std::shared_ptr<const SheetTable> table;  ///< if set, sigma(i xi) from it (the rest unused)
   /// sigma(i xi) in S for xi > 0.
-  double at(double xi) const { return sigma0 + drude_weight / (xi + damping); }
+  double at(double xi) const {
+    return table ? table->at(xi) : sigma0 + drude_weight / (xi + damping);
+  }
+  /// sigma(0) > 0 (a sheet that reflects static TM fields completely).
+  bool conducts() const {
+    return table ? table->sigma.front() > 0.0 : sigma0 > 0.0 || drude_weight > 0.0;
+  }
   /// Drude weight of a carrier density n (1/m^2) and effective mass ratio m*/m_e.
   static double weight(double density, double mass_ratio);
   /// "Drude sheet, D = ... S/s, gamma = ... meV" and the like.

@@ -1,7 +1,9 @@
 // The rubidium demo case, reduced (3 gaps from 1 to 10 um), through the CLI: both scan points
 // run, and at 10 um the gold/silica ratio is the static reflection ratio of the thermal term.
+#include <H5Cpp.h>
 #include <gtest/gtest.h>
 
+#include <cmath>
 #include <cstdlib>
 #include <filesystem>
 #include <fstream>
@@ -10,6 +12,8 @@
 #include <vector>
 
 #include "common/scratch.h"
+#include "solver/atoms/polarizability.h"
+#include "solver/constants.h"
 
 namespace {
 
@@ -44,6 +48,48 @@ TEST(AtomDemoCase, ReducedRubidiumScanRunsAndReachesTheThermalLimitAt10um) {
   const double eps0 = 1.0 + 1.71 + 1.098;
   EXPECT_NEAR(e10[1] / e10[0], (eps0 + 1) / (eps0 - 1), 5e-5 * (eps0 + 1) / (eps0 - 1)) << out;
   EXPECT_TRUE(fs::exists(dir / "out.h5"));
+
+  // The z^3 U and z^4 U columns (table and HDF5, README "HDF5 results"): z^3 U at 10 um over gold
+  // is the thermal plateau -k_B T alpha(0)/4 (standard high-T limit, r = 1; the n >= 1 share
+  // ~2e-5 as above), and the datasets are gap^p energy with their units.
+  EXPECT_NE(out.find("L\u00b3E [J m\u00b3]"), std::string::npos) << out;
+  EXPECT_NE(out.find("L\u2074E [J m\u2074]"), std::string::npos) << out;
+  H5::H5File f((dir / "out.h5").string(), H5F_ACC_RDONLY);
+  const H5::Group gold = f.openGroup("scan/1");
+  const auto read = [&](const std::string& name) {
+    const H5::DataSet ds = gold.openDataSet("results/" + name);
+    hsize_t n = 0;
+    ds.getSpace().getSimpleExtentDims(&n);
+    std::vector<double> v(n);
+    ds.read(v.data(), H5::PredType::NATIVE_DOUBLE);
+    return v;
+  };
+  const auto units = [&](const std::string& name) {
+    std::string u;
+    const H5::Attribute a = gold.openDataSet("results/" + name).openAttribute("units");
+    a.read(a.getStrType(), u);
+    return u;
+  };
+  const auto z = read("gap"), e = read("energy"), e3 = read("energy_gap3"),
+             e4 = read("energy_gap4");
+  ASSERT_EQ(z.size(), 3u);
+  for (std::size_t i = 0; i < z.size(); ++i) {
+    EXPECT_DOUBLE_EQ(e3[i], std::pow(z[i], 3) * e[i]);
+    EXPECT_DOUBLE_EQ(e4[i], std::pow(z[i], 4) * e[i]);
+  }
+  EXPECT_EQ(units("energy_gap3"), "J m^3");
+  EXPECT_EQ(units("energy_gap4"), "J m^4");
+  const double alpha0 = 318.8 * roundtrip::kBohrVolume;  // the built-in rubidium (from memory)
+  EXPECT_NEAR(e3[2] / (-roundtrip::kBoltzmann * 300.0 * alpha0 / 4.0), 1.0, 5e-5);
+  // Atom attributes beside the numbers.
+  double a0 = 0.0;
+  gold.openAttribute("atom_alpha0_m3").read(H5::PredType::NATIVE_DOUBLE, &a0);
+  EXPECT_NEAR(a0 / alpha0, 1.0, 1e-12);
+  std::string model;
+  const H5::Attribute am = gold.openAttribute("atom_model");
+  am.read(am.getStrType(), model);
+  EXPECT_EQ(model, "rubidium");
+  EXPECT_FALSE(gold.attrExists("atom_radius_m"));
 }
 
 }  // namespace

@@ -1,0 +1,140 @@
+// CSV reader for positive, non-increasing tables on the imaginary axis (decreasing_table.h).
+#include "solver/materials/decreasing_table.h"
+
+#include <fmt/format.h>
+
+#include <cctype>
+#include <charconv>
+#include <cmath>
+#include <fstream>
+#include <string_view>
+
+#include "solver/input_error.h"
+
+namespace roundtrip {
+namespace {
+
+std::string_view trim(std::string_view s) {
+  while (!s.empty() && std::isspace(static_cast<unsigned char>(s.front()))) s.remove_prefix(1);
+  while (!s.empty() && std::isspace(static_cast<unsigned char>(s.back()))) s.remove_suffix(1);
+  return s;
+}
+
+std::vector<std::string_view> split(std::string_view line) {
+  std::vector<std::string_view> out;
+  std::size_t start = 0;
+  for (;;) {
+    const std::size_t comma = line.find(',', start);
+    out.push_back(trim(line.substr(start, comma - start)));
+    if (comma == std::string_view::npos) break;
+    start = comma + 1;
+  }
+  return out;
+}
+
+// Control characters in a message echoing the table as \xNN (a binary file cannot drive the
+// terminal).
+std::string printable(std::string_view s) {
+  std::string out;
+  for (const char ch : s) {
+    const auto c = static_cast<unsigned char>(ch);
+    if ((c < 0x20 && c != '\t') || c == 0x7F)
+      out += fmt::format("\\x{:02X}", c);
+    else
+      out += ch;
+  }
+  return out;
+}
+
+std::string names(const ColumnUnits& u) {
+  std::string s;
+  for (std::size_t i = 0; i < u.size(); ++i)
+    s += (i == 0 ? "" : i + 1 == u.size() ? " or " : ", ") + u[i].first;
+  return s;
+}
+
+}  // namespace
+
+DecreasingTable read_decreasing_csv(const std::filesystem::path& path,
+                                    const ColumnUnits& xi_columns, const ColumnUnits& value_columns,
+                                    const std::string& what) {
+  const std::string file = path.string();
+  constexpr std::uintmax_t kMaxTableBytes = std::uintmax_t{1} << 30;  // as optical tables
+  std::error_code ec;
+  if (!std::filesystem::is_regular_file(path, ec))
+    throw InputError(fmt::format("{}: not a regular file (a {} table is a CSV file)", file, what));
+  if (const auto size = std::filesystem::file_size(path, ec); !ec && size > kMaxTableBytes)
+    throw InputError(fmt::format("{}: {} bytes, more than the 1 GiB a table may have", file, size));
+  std::ifstream in(path);
+  if (!in) throw InputError(fmt::format("{}: cannot open the {} table", file, what));
+  const auto error = [&](int line, const std::string& m) {
+    return InputError(fmt::format("{}:{}: {}", file, line, printable(m)));
+  };
+  const std::string example = xi_columns.front().first + ", " + value_columns.front().first;
+  double xi_scale = 0.0, value_scale = 0.0;
+  std::string xi_name, value_name;
+  DecreasingTable t;
+  t.origin = file;
+  std::string text;
+  int line_no = 0;
+  while (std::getline(in, text)) {
+    ++line_no;
+    if (line_no == 1 && text.starts_with("\xEF\xBB\xBF")) text.erase(0, 3);
+    const std::string_view line = trim(text);
+    if (line.empty() || line.front() == '#') continue;
+    const auto cells = split(line);
+    if (xi_scale == 0.0) {
+      if (cells.size() != 2)
+        throw error(line_no,
+                    fmt::format("header '{}': expected 2 columns, e.g. '{}'", line, example));
+      xi_name = std::string(cells[0]);
+      value_name = std::string(cells[1]);
+      for (const auto& [n, f] : xi_columns)
+        if (xi_name == n) xi_scale = f;
+      if (xi_scale == 0.0)
+        throw error(line_no, fmt::format("unknown column '{}' (first column: {})", cells[0],
+                                         names(xi_columns)));
+      for (const auto& [n, f] : value_columns)
+        if (value_name == n) value_scale = f;
+      if (value_scale == 0.0)
+        throw error(line_no, fmt::format("unknown column '{}' (second column: {})", cells[1],
+                                         names(value_columns)));
+      continue;
+    }
+    if (cells.size() != 2)
+      throw error(line_no, fmt::format("expected 2 values, found {}", cells.size()));
+    double v[2];
+    for (int j = 0; j < 2; ++j) {
+      const auto s = cells[j];
+      const auto res = std::from_chars(s.data(), s.data() + s.size(), v[j]);
+      if (res.ec != std::errc() || res.ptr != s.data() + s.size() || !std::isfinite(v[j]))
+        throw error(line_no, fmt::format("column {}: '{}' is not a finite number", j + 1, s));
+    }
+    const double xi = v[0] * xi_scale, a = v[1] * value_scale;
+    if (t.xi.empty() && v[0] != 0.0)
+      throw error(line_no, fmt::format("{} = {}: the first row must be xi = 0 (the static value, "
+                                       "needed for the n = 0 term)",
+                                       xi_name, v[0]));
+    if (!(a > 0.0))
+      throw error(line_no, fmt::format("{} = {}: a {} on the imaginary axis is > 0", value_name,
+                                       v[1], what));
+    if (!t.xi.empty() && !(xi > t.xi.back()))
+      throw error(line_no, fmt::format("{} = {}: not increasing (the rows must be in increasing "
+                                       "xi)",
+                                       xi_name, v[0]));
+    if (!t.value.empty() && a > t.value.back())
+      throw error(line_no, fmt::format("{} = {}: larger than on the row before; a {} decreases "
+                                       "monotonically in xi on the imaginary axis",
+                                       value_name, v[1], what));
+    t.xi.push_back(xi);
+    t.value.push_back(a);
+  }
+  if (xi_scale == 0.0) throw error(line_no, fmt::format("no header line (e.g. '{}')", example));
+  constexpr std::size_t kMinRows = 2;
+  if (t.xi.size() < kMinRows)
+    throw error(line_no,
+                fmt::format("{} data rows; at least {} are needed", t.xi.size(), kMinRows));
+  return t;
+}
+
+}  // namespace roundtrip
