@@ -149,16 +149,17 @@ int main(int argc, char** argv) {
           fmt::format("{} run {} -o {} --quiet --restart{}", shell_quote(program.string()),
                       shell_quote(c.string()), shell_quote(out.string()), thread_option));
       const auto [actual, threads] = run_seconds(r.text);
-      if (actual > 0.0) {
+      if (actual >= 0.0 && r.status == 0) {
         const double mean = 0.5 * (e1 + e2);
         const double cpu = r.cpu / threads;
-        run_text = fmt::format("{:.3g} s", actual);
+        // The run prints its time with 2 decimals: "0.00 s" is below 5 ms, no ratio.
+        run_text = actual > 0.0 ? fmt::format("{:.3g} s", actual) : "<0.005 s";
         wall_text = fmt::format("{:.3g} s", r.wall);
         cpu_text = fmt::format("{:.3g} s", cpu);
-        ratio_text = fmt::format("{:.2f}", mean / actual);
+        if (actual > 0.0) ratio_text = fmt::format("{:.2f}", mean / actual);
         cpu_ratio_text = fmt::format("{:.2f}", mean / cpu);
         ++total;
-        if (mean / actual <= 2.0 && mean / actual >= 0.5) ++within;
+        if (actual > 0.0 && mean / actual <= 2.0 && mean / actual >= 0.5) ++within;
         if (mean / cpu <= 2.0 && mean / cpu >= 0.5) ++within_cpu;
       } else {
         run_text = fmt::format("status {}", r.status);
