@@ -796,7 +796,7 @@ int check_command(const CheckArgs& args, std::ostream& out, std::ostream& err) {
   row("geometry",
       spec.kind->name + (spec.kind->scalar_fields ? ", field: " + spec.field : std::string()));
   if (!geometry_line.empty()) row("bodies", geometry_line);
-  for (const auto& b : spec.bodies) row(b.table, b.describe());
+  for (const auto& b : spec.bodies) row(b.table, lengths_in_case_units(b.describe(), spec.text));
   const auto& nk = spec.kind->numerics_keys;
   if (std::find(nk.begin(), nk.end(), "l_max") != nk.end())
     row("l_max", spec.l_max == 0 ? std::string("automatic") : std::to_string(spec.l_max));
