@@ -3,6 +3,7 @@
 
 #include <fmt/format.h>
 
+#include <algorithm>
 #include <array>
 #include <cmath>
 #include <exception>
@@ -334,7 +335,14 @@ std::vector<Spectral> GratingPlate::levels_at(double xi, double gap, DerivativeO
   using Values = std::vector<Triple>;
   std::map<std::pair<long, long>, Values> memo;
   const double nfine = kX0 * static_cast<double>(x_fine);
-  auto node = [&](long p, long q) {
+  // Layer modes per k_x line and level (GratingAtFrequency::Line: the conical decoupling), kept
+  // only for the lines of the batch being evaluated.
+  using Lines = std::vector<GratingAtFrequency::Line>;
+  auto kx_of_p = [&](long p) {
+    const double u = static_cast<double>(p) / (2.0 * nfine);
+    return half_bz * (u - std::sin(2.0 * kPi * u) / (2.0 * kPi));
+  };
+  auto node = [&](long p, long q, const Lines& lines) {
     // k_x = (G/2) w(u), w(u) = u - sin(2 pi u)/(2 pi), u = p/(2 n_fine) (Sidi's sin^2
     // transformation, Sidi, Numer. Math. 9 (1993), from memory): w' vanishes at both ends, so the
     // kink of the n = 0 order at k = 0 (xi = 0: |k|) is pushed to high order in u.
@@ -350,7 +358,7 @@ std::vector<Spectral> GratingPlate::levels_at(double xi, double gap, DerivativeO
     Values out(nl + 1, Triple{0.0, 0.0, 0.0});
     for (int l = 0; l < nl; ++l) {
       const int N = levels[l].orders;
-      const MatrixXd rg = gfs[l].reflect(kx, ky);
+      const MatrixXd rg = gfs[l].reflect(lines[l], ky);
       const MatrixXd rp = planar_reflection_in_orders(*pat, xi, g_.period, N, kx, ky);
       const VectorXd kap = orders_decay(xi, eps_m, g_.period, N, kx, ky);
       Triple v = round_trip(rg, rp, kap, gap, n_comp);
@@ -383,22 +391,48 @@ std::vector<Spectral> GratingPlate::levels_at(double xi, double gap, DerivativeO
     std::vector<std::pair<long, long>> todo;
     for (const auto& k : keys)
       if (!memo.count(k)) todo.push_back(k);
+    std::sort(todo.begin(), todo.end());
     std::vector<Values> vals(todo.size());
     std::exception_ptr err;
-    constexpr std::size_t kBatch = 64;
-    for (std::size_t b0 = 0; b0 < todo.size(); b0 += kBatch) {
+    // Batches of whole k_x lines (up to kLinesPerBatch): first the lines' layer modes (one task
+    // per line and level), then their nodes; every node's value is independent of the batching.
+    constexpr std::size_t kLinesPerBatch = 8;
+    std::size_t b0 = 0;
+    while (b0 < todo.size()) {
       throw_if_cancelled();
-      const std::size_t b1 = std::min(todo.size(), b0 + kBatch);
+      std::vector<long> ps;
+      std::size_t b1 = b0;
+      while (b1 < todo.size()) {
+        if (ps.empty() || ps.back() != todo[b1].first) {
+          if (ps.size() == kLinesPerBatch) break;
+          ps.push_back(todo[b1].first);
+        }
+        ++b1;
+      }
+      std::vector<Lines> lines(ps.size(), Lines(nl));
+      const long n_line_tasks = static_cast<long>(ps.size()) * nl;
 #pragma omp parallel for schedule(dynamic, 1)
-      for (std::size_t i = b0; i < b1; ++i) {
+      for (long t = 0; t < n_line_tasks; ++t) {
         try {
-          vals[i] = node(todo[i].first, todo[i].second);
+          lines[t / nl][t % nl] = gfs[t % nl].line(kx_of_p(ps[t / nl]));
         } catch (...) {
 #pragma omp critical
           if (!err) err = std::current_exception();
         }
       }
       if (err) std::rethrow_exception(err);
+#pragma omp parallel for schedule(dynamic, 1)
+      for (std::size_t i = b0; i < b1; ++i) {
+        try {
+          const std::size_t li = std::lower_bound(ps.begin(), ps.end(), todo[i].first) - ps.begin();
+          vals[i] = node(todo[i].first, todo[i].second, lines[li]);
+        } catch (...) {
+#pragma omp critical
+          if (!err) err = std::current_exception();
+        }
+      }
+      if (err) std::rethrow_exception(err);
+      b0 = b1;
     }
     for (std::size_t i = 0; i < todo.size(); ++i) memo[todo[i]] = vals[i];
   };
