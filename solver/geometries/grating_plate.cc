@@ -105,6 +105,9 @@ GratingPlate::GratingPlate(LamellarGrating grating, PlanarPtr plate, MaterialPtr
   if (opts_.orders < 0 || opts_.orders > 500)
     throw std::invalid_argument(
         fmt::format("grating-plate: orders = {} must lie in 0..500", opts_.orders));
+  if (!(opts_.sphere_radius >= 0.0) || !std::isfinite(opts_.sphere_radius))
+    throw std::invalid_argument(
+        fmt::format("grating-plate: sphere radius = {} m must be >= 0", opts_.sphere_radius));
   if (!(opts_.bloch_rel_tol >= 1e-12 && opts_.bloch_rel_tol <= 1e-2))
     throw std::invalid_argument(fmt::format(
         "grating-plate: bloch_rel_tol = {} must lie in [1e-12, 1e-2]", opts_.bloch_rel_tol));
@@ -538,6 +541,57 @@ std::optional<PfaValues> GratingPlate::pfa(double gap, const FrequencyRuleOption
       },
       frequency_scale(gap), opts);
   return PfaValues{s.total.value, -s.total.d1, -s.total.d2};
+}
+
+double GratingPlate::flat_energy(double gap, const FrequencyRuleOptions& opts) const {
+  // The sample filled to the ridge tops: a film of the ridge material of the profile's height on
+  // the substrate (a half-space when they are one material or the height is 0), facing the
+  // plate at L (Lifshitz (1956) through PlatePlate).
+  const double H = g_.height();
+  PlanarPtr body = H > 0.0 && g_.ridge != g_.substrate
+                       ? make_layered({{g_.ridge, H}}, g_.substrate)
+                       : make_half_space(H > 0.0 ? g_.ridge : g_.substrate);
+  const PlatePlate pp(body, plate_, medium_);
+  return sum_over_frequencies(
+             [&](double xi) { return pp.at_frequency(xi, gap, DerivativeOrder::kEnergy); },
+             frequency_scale(gap), opts)
+      .total.value;
+}
+
+std::vector<ExtraQuantity> GratingPlate::extra_quantities_of(double gap,
+                                                             const FrequencyRuleOptions& opts,
+                                                             double energy,
+                                                             double energy_error) const {
+  const double R = opts_.sphere_radius;
+  if (!(R > 0.0)) return {};
+  // PFA for the sphere (Derjaguin 1934; GratingPlateOptions): F(L) = 2 pi R E(L), E per area.
+  const double two_pi_r = 2.0 * kPi * R;
+  ExtraQuantity f;
+  f.name = "sphere_force";
+  f.column = "F_sphere";
+  f.units = "N";
+  f.description =
+      "force on a sphere of radius R (pfa_sphere.radius) in place of the plate, PFA on the exact "
+      "grating-plate energy: 2 pi R E(L) (< 0 attractive)";
+  f.value = two_pi_r * energy;
+  f.abs_error = two_pi_r * energy_error;
+  ExtraQuantity fp;
+  fp.name = "sphere_force_grating_pfa";
+  fp.column = "F_sphere,PFA";
+  fp.units = "N";
+  fp.description =
+      "the same with the grating PFA energy (the E_PFA column): 2 pi R E_PFA(L) (< 0 "
+      "attractive)";
+  fp.value = two_pi_r * pfa(gap, opts)->energy;
+  ExtraQuantity ff;
+  ff.name = "sphere_force_flat";
+  ff.column = "F_sphere,flat";
+  ff.units = "N";
+  ff.description =
+      "the same for the sample without grooves (ridge material filled to the ridge tops): "
+      "2 pi R E_flat(L) (< 0 attractive)";
+  ff.value = two_pi_r * flat_energy(gap, opts);
+  return {f, fp, ff};
 }
 
 std::map<std::string, double> GratingPlate::truncation(double gap) const {
