@@ -624,11 +624,12 @@ std::map<std::string, double> GratingPlate::truncation(double gap) const {
 }
 
 FrequencyCost GratingPlate::cost(double gap, DerivativeOrder order, double /*rel_tol*/) const {
-  // Per Bloch node and level (N, S): S layer eigenproblems of dimension n = 2(2N + 1)
-  // (symmetric eigensolver with vectors ~9 n^3, Cholesky and the products forming P~, Q~ and the
-  // modes ~6 n^3, the admittance step's two LUs and products ~5 n^3: ~20 n^3) and the round
-  // trip (LU and products, ~4 n^3; +2 n^3 per derivative). Nodes: ~500 (measured 200-900 at the
-  // case-file tolerances). Model of gemm-equivalent flops (geometry.h), not calibrated per
+  // Per Bloch node and level (N, S), n = 2(2N + 1): S admittance steps (two LUs and products,
+  // ~5 n^3) and the round trip (LU and products, ~4 n^3; +2 n^3 per derivative); the layer
+  // modes are solved once per k_x line (conical decoupling: two symmetric eigenproblems of
+  // dimension n/2 with vectors and the products forming them, ~4 n^3 per layer), shared by the
+  // ~20 nodes of a line: ~0.2 S n^3 per node. Nodes: ~500 (measured 200-900 at the case-file
+  // tolerances). Model of gemm-equivalent flops (geometry.h), not calibrated per
   // kind; the study of each gap (a few extra evaluations at xi*) is not included.
   const auto t = truncation(gap);
   const double N = t.at("orders");
@@ -641,7 +642,7 @@ FrequencyCost GratingPlate::cost(double gap, DerivativeOrder order, double /*rel
   for (double n_ord : {N, n_low}) {
     if (n_ord <= 0.0) continue;
     const double n = 2.0 * (2.0 * n_ord + 1.0);
-    per_node += (20.0 * S + 4.0 + extra) * n * n * n;
+    per_node += (5.2 * S + 4.0 + extra) * n * n * n;
   }
   constexpr double kNodes = 500.0;
   FrequencyCost c;
