@@ -775,9 +775,9 @@ namespace {
 CaseSpec parse_root(toml::table& root, CaseSpec spec) {
   const std::filesystem::path path = spec.path;
   const std::string name = path.string();
-  std::vector<std::string> top{"title",       "geometry",   "field",   "medium",
-                               "separations", "conditions", "compute", "numerics",
-                               "output",      "materials",  "scan",    "offsets"};
+  std::vector<std::string> top{"title",      "geometry", "field",     "medium", "separations",
+                               "conditions", "compute",  "numerics",  "output", "materials",
+                               "scan",       "offsets",  "pfa_sphere"};
   for (const auto& t : body_table_names()) top.push_back(t);
   check_keys(root, "", top);
 
@@ -984,6 +984,20 @@ CaseSpec parse_root(toml::table& root, CaseSpec spec) {
   } else if (kind.offsets) {
     spec.offsets = {0.0};
     spec.offset_texts = {"0 nm"};
+  }
+
+  // The sphere of the PFA force F = 2 pi R E(L) (kinds that read it; GeometryKind::pfa_sphere).
+  if (const toml::table* ps = optional_table(root, "pfa_sphere", "pfa_sphere")) {
+    if (!kind.pfa_sphere)
+      throw table_error(*ps, "pfa_sphere",
+                        fmt::format("geometry = \"{}\" has no [pfa_sphere] (the PFA sphere force "
+                                    "of a per-area result is built for grating-plate)",
+                                    kind.name));
+    check_keys(*ps, "pfa_sphere", {"radius"});
+    if (!ps->contains("radius"))
+      throw table_error(*ps, "pfa_sphere.radius", "missing required key (e.g. \"50 um\")");
+    spec.pfa_sphere_radius =
+        positive_length(*ps->get("radius"), "pfa_sphere.radius", geometry::radius_problem);
   }
 
   // Conditions.

@@ -67,6 +67,8 @@ struct CaseSpec {
   /// Kinds with GeometryKind::offsets: lateral offsets b (m) from [offsets] (default {0}); a
   /// scan point holds one. With more than one, `scan` ends with the axis "offset".
   std::vector<double> offsets;
+  /// Kinds with GeometryKind::pfa_sphere: R (m) of [pfa_sphere] radius; 0 = no table.
+  double pfa_sphere_radius = 0.0;
   std::vector<std::string> offset_texts;  ///< each offset as written (io/offsets_spec.h)
   FrequencyRuleOptions frequency;         ///< temperature_K and rel_tol
   Quantities quantities;

@@ -46,7 +46,7 @@ PointResult run_point(const Geometry& geometry, int index, double gap, const Run
   FrequencySum sum = sum_over_frequencies(TolerantSpectralFunction(s),
                                           geometry.frequency_scale(gap), options.frequency);
   p = point_result(geometry, gap, order, std::move(sum), geometry.pfa(gap, options.frequency));
-  p.extra = geometry.extra_quantities(gap, options.frequency);
+  p.extra = geometry.extra_quantities_of(gap, options.frequency, p.energy, p.energy_error);
   p.wall_seconds = seconds_since(t0);
   return p;
 }

@@ -4,14 +4,30 @@
 #include "solver/geometries/grating_grating.h"
 
 #include <fmt/format.h>
+#include <toml++/toml.h>
 
 #include <algorithm>
+#include <exception>
+#include <string>
 
 #include "io/case_file.h"
 #include "io/errors.h"
 #include "io/kinds/kind.h"
 
 namespace roundtrip::io {
+namespace {
+
+// Line of table.key in the case text (0 if absent: a defaulted table).
+int line_of(const CaseSpec& spec, const std::string& table, const char* key) {
+  try {
+    const toml::table t = toml::parse(spec.text, spec.path.string());
+    if (const toml::node* n = t[table][key].node()) return static_cast<int>(n->source().begin.line);
+  } catch (const std::exception&) {
+  }
+  return 0;
+}
+
+}  // namespace
 
 GeometryKind grating_grating_kind() {
   GeometryKind k;
@@ -29,6 +45,16 @@ GeometryKind grating_grating_kind() {
     const BodySpec& b2 = spec.body("grating2");
     for (const BodySpec* b : {&b1, &b2}) {
       const LamellarGrating& g = b->grating;
+      if (g.profile != GratingProfile::kLamellar)
+        throw CaseError(fmt::format(
+            "{}:{}: {}.profile = \"{}\": grating-grating is built for lamellar profiles only (its "
+            "PFA columns, overlap and order model assume rectangular ridges; a staircase of "
+            "slices and its convergence study are not built here; use grating-plate for other "
+            "profiles)",
+            spec.path.string(), line_of(spec, b->table, "profile"), b->table,
+            g.profile == GratingProfile::kSinusoidal   ? "sinusoidal"
+            : g.profile == GratingProfile::kTriangular ? "triangular"
+                                                       : "table"));
       for (const auto& [m, key] : {std::pair{g.ridge, "material"}, {g.substrate, "substrate"}}) {
         if (m->is_perfect_conductor())
           throw CaseError(fmt::format(

@@ -5,6 +5,9 @@
 #include <fmt/format.h>
 
 #include <algorithm>
+#include <string>
+#include <utility>
+#include <vector>
 
 #include "io/case_file.h"
 #include "io/errors.h"
@@ -22,6 +25,12 @@ GeometryKind grating_plate_kind() {
   k.upper = {"plate", geometry::Shape::kPlate, ""};
   k.scale = ResultScale::kPerArea;
   k.numerics_keys = {"orders"};
+  k.pfa_sphere = true;
+  k.body_numbers = [](const CaseSpec& spec) {
+    std::vector<std::pair<std::string, double>> v;
+    if (spec.pfa_sphere_radius > 0.0) v.emplace_back("pfa_sphere_radius_m", spec.pfa_sphere_radius);
+    return v;
+  };
   k.build = [](const CaseSpec& spec) {
     const LamellarGrating& g = spec.body("grating").grating;
     if (g.ridge->static_limit().is_conductor())
@@ -47,6 +56,7 @@ GeometryKind grating_plate_kind() {
     o.orders = spec.orders;
     o.bloch_rel_tol = std::clamp(0.3 * spec.frequency.rel_tol, 1e-12, 1e-2);
     o.rel_tol = spec.frequency.rel_tol;
+    o.sphere_radius = spec.pfa_sphere_radius;
     return std::make_shared<GratingPlate>(g, spec.body("plate").plate, spec.medium, o);
   };
   return k;

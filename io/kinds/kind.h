@@ -42,6 +42,9 @@ struct GeometryKind {
   bool scalar_fields = false;               ///< accepts field = "dirichlet" | "neumann"
   std::vector<std::string> numerics_keys;   ///< [numerics] keys beyond rel_tol, frequency_rule
   bool offsets = false;  ///< reads [offsets] (lateral offsets of the upper body, offsets_spec.h)
+  /// reads the optional [pfa_sphere] table (radius = "..."): the upper body taken as a sphere of
+  /// that radius in the PFA, F = 2 pi R E(L) beside the exact per-area result (CaseSpec).
+  bool pfa_sphere = false;
   /// Extra result columns L^p E for each p (the table's "L³E", HDF5 results/energy_gap<p> in
   /// J m^p): atom-plate gives {3, 4}, whose plateaus are -C3 (non-retarded) and -C4 (retarded).
   std::vector<int> energy_gap_powers;

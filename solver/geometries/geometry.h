@@ -96,6 +96,16 @@ class Geometry {
                                                       const FrequencyRuleOptions& /*opts*/) const {
     return {};
   }
+  /// The same, given the point's own energy E (the result's scale, e.g. J/m^2) and its
+  /// estimated absolute error from the run's frequency sum, for quantities derived from E (the
+  /// PFA sphere force 2 pi R E of grating-plate). The run calls this one. Default:
+  /// extra_quantities(gap, opts).
+  virtual std::vector<ExtraQuantity> extra_quantities_of(double gap,
+                                                         const FrequencyRuleOptions& opts,
+                                                         double /*energy*/,
+                                                         double /*energy_error*/) const {
+    return extra_quantities(gap, opts);
+  }
   /// The length R in the PFA expansion Q/Q_PFA = 1 + theta L/R + ... (sphere radius), if any.
   virtual std::optional<double> pfa_length() const { return std::nullopt; }
   /// Truncations used at gap L (e.g. "l_max", "m_max", "quadrature_nodes"), for reports and HDF5.

@@ -99,6 +99,11 @@ bool same_grating(const LamellarGrating& a, const LamellarGrating& b) {
 }
 
 void check_grating(const LamellarGrating& g, const char* which) {
+  if (g.profile != GratingProfile::kLamellar)
+    throw std::invalid_argument(fmt::format(
+        "grating-grating: the {} grating's profile is not lamellar; only lamellar profiles are "
+        "built (the PFA and the overlap assume rectangular ridges)",
+        which));
   if (!(g.period > 0.0) || !std::isfinite(g.period))
     throw std::invalid_argument(
         fmt::format("grating-grating: {} period = {} m must be > 0", which, g.period));
@@ -193,15 +198,18 @@ GratingGratingSpectral GratingGrating::spectral(double xi, double gap, Derivativ
   std::map<std::pair<long, long>, Quad> memo;
   const double nfine = kX0 * static_cast<double>(x_fine);
   auto kx_of = [&](double u) { return half_bz * (u - std::sin(2.0 * kPi * u) / (2.0 * kPi)); };
-  auto node = [&](long p, long q) {
+  // Layer modes per k_x line (GratingAtFrequency::Line, the conical decoupling), kept only for
+  // the lines of the batch being evaluated: [0] lower grating, [1] upper (unless twin).
+  using Lines = std::array<GratingAtFrequency::Line, 2>;
+  auto node = [&](long p, long q, const Lines& lines) {
     const double u = static_cast<double>(p) / (2.0 * nfine);
     const double kx = kx_of(u);
     const double wu = half_bz * (1.0 - std::cos(2.0 * kPi * u));
     const double a = std::min(0.5 / gap, std::sqrt(kx * kx + q2));
     const double t = q * (kH0 / t_fine);
     const double ky = a * std::sinh(t);
-    const MatrixXd r1 = gf1.reflect(kx, ky);
-    const MatrixXd r2 = twin ? r1 : gf2->reflect(kx, ky);
+    const MatrixXd r1 = gf1.reflect(lines[0], ky);
+    const MatrixXd r2 = twin ? r1 : gf2->reflect(lines[1], ky);
     const VectorXd kap = orders_decay(xi, eps_m, g1_.period, N, kx, ky);
     Quad v = round_trip(r1, r2, kap, ord, G, b, gap, n_comp);
     const double jac = a * std::cosh(t) * wu;
@@ -228,22 +236,49 @@ GratingGratingSpectral GratingGrating::spectral(double xi, double gap, Derivativ
     std::vector<std::pair<long, long>> todo;
     for (const auto& k : keys)
       if (!memo.count(k)) todo.push_back(k);
+    std::sort(todo.begin(), todo.end());
     std::vector<Quad> vals(todo.size());
     std::exception_ptr err;
-    constexpr std::size_t kBatch = 64;
-    for (std::size_t b0 = 0; b0 < todo.size(); b0 += kBatch) {
+    // Batches of whole k_x lines as grating_plate.cc: the lines' modes first, then their nodes.
+    constexpr std::size_t kLinesPerBatch = 8;
+    const int n_g = twin ? 1 : 2;
+    std::size_t b0 = 0;
+    while (b0 < todo.size()) {
       throw_if_cancelled();
-      const std::size_t b1 = std::min(todo.size(), b0 + kBatch);
+      std::vector<long> ps;
+      std::size_t b1 = b0;
+      while (b1 < todo.size()) {
+        if (ps.empty() || ps.back() != todo[b1].first) {
+          if (ps.size() == kLinesPerBatch) break;
+          ps.push_back(todo[b1].first);
+        }
+        ++b1;
+      }
+      std::vector<Lines> lines(ps.size());
+      const long n_line_tasks = static_cast<long>(ps.size()) * n_g;
 #pragma omp parallel for schedule(dynamic, 1)
-      for (std::size_t i = b0; i < b1; ++i) {
+      for (long t = 0; t < n_line_tasks; ++t) {
         try {
-          vals[i] = node(todo[i].first, todo[i].second);
+          const double kx = kx_of(static_cast<double>(ps[t / n_g]) / (2.0 * nfine));
+          lines[t / n_g][t % n_g] = (t % n_g == 0 ? gf1 : *gf2).line(kx);
         } catch (...) {
 #pragma omp critical
           if (!err) err = std::current_exception();
         }
       }
       if (err) std::rethrow_exception(err);
+#pragma omp parallel for schedule(dynamic, 1)
+      for (std::size_t i = b0; i < b1; ++i) {
+        try {
+          const std::size_t li = std::lower_bound(ps.begin(), ps.end(), todo[i].first) - ps.begin();
+          vals[i] = node(todo[i].first, todo[i].second, lines[li]);
+        } catch (...) {
+#pragma omp critical
+          if (!err) err = std::current_exception();
+        }
+      }
+      if (err) std::rethrow_exception(err);
+      b0 = b1;
     }
     for (std::size_t i = 0; i < todo.size(); ++i) memo[todo[i]] = vals[i];
   };

@@ -3,6 +3,7 @@
 
 #include <fmt/format.h>
 
+#include <algorithm>
 #include <array>
 #include <cmath>
 #include <exception>
@@ -104,6 +105,9 @@ GratingPlate::GratingPlate(LamellarGrating grating, PlanarPtr plate, MaterialPtr
   if (opts_.orders < 0 || opts_.orders > 500)
     throw std::invalid_argument(
         fmt::format("grating-plate: orders = {} must lie in 0..500", opts_.orders));
+  if (!(opts_.sphere_radius >= 0.0) || !std::isfinite(opts_.sphere_radius))
+    throw std::invalid_argument(
+        fmt::format("grating-plate: sphere radius = {} m must be >= 0", opts_.sphere_radius));
   if (!(opts_.bloch_rel_tol >= 1e-12 && opts_.bloch_rel_tol <= 1e-2))
     throw std::invalid_argument(fmt::format(
         "grating-plate: bloch_rel_tol = {} must lie in [1e-12, 1e-2]", opts_.bloch_rel_tol));
@@ -334,7 +338,14 @@ std::vector<Spectral> GratingPlate::levels_at(double xi, double gap, DerivativeO
   using Values = std::vector<Triple>;
   std::map<std::pair<long, long>, Values> memo;
   const double nfine = kX0 * static_cast<double>(x_fine);
-  auto node = [&](long p, long q) {
+  // Layer modes per k_x line and level (GratingAtFrequency::Line: the conical decoupling), kept
+  // only for the lines of the batch being evaluated.
+  using Lines = std::vector<GratingAtFrequency::Line>;
+  auto kx_of_p = [&](long p) {
+    const double u = static_cast<double>(p) / (2.0 * nfine);
+    return half_bz * (u - std::sin(2.0 * kPi * u) / (2.0 * kPi));
+  };
+  auto node = [&](long p, long q, const Lines& lines) {
     // k_x = (G/2) w(u), w(u) = u - sin(2 pi u)/(2 pi), u = p/(2 n_fine) (Sidi's sin^2
     // transformation, Sidi, Numer. Math. 9 (1993), from memory): w' vanishes at both ends, so the
     // kink of the n = 0 order at k = 0 (xi = 0: |k|) is pushed to high order in u.
@@ -350,7 +361,7 @@ std::vector<Spectral> GratingPlate::levels_at(double xi, double gap, DerivativeO
     Values out(nl + 1, Triple{0.0, 0.0, 0.0});
     for (int l = 0; l < nl; ++l) {
       const int N = levels[l].orders;
-      const MatrixXd rg = gfs[l].reflect(kx, ky);
+      const MatrixXd rg = gfs[l].reflect(lines[l], ky);
       const MatrixXd rp = planar_reflection_in_orders(*pat, xi, g_.period, N, kx, ky);
       const VectorXd kap = orders_decay(xi, eps_m, g_.period, N, kx, ky);
       Triple v = round_trip(rg, rp, kap, gap, n_comp);
@@ -383,22 +394,48 @@ std::vector<Spectral> GratingPlate::levels_at(double xi, double gap, DerivativeO
     std::vector<std::pair<long, long>> todo;
     for (const auto& k : keys)
       if (!memo.count(k)) todo.push_back(k);
+    std::sort(todo.begin(), todo.end());
     std::vector<Values> vals(todo.size());
     std::exception_ptr err;
-    constexpr std::size_t kBatch = 64;
-    for (std::size_t b0 = 0; b0 < todo.size(); b0 += kBatch) {
+    // Batches of whole k_x lines (up to kLinesPerBatch): first the lines' layer modes (one task
+    // per line and level), then their nodes; every node's value is independent of the batching.
+    constexpr std::size_t kLinesPerBatch = 8;
+    std::size_t b0 = 0;
+    while (b0 < todo.size()) {
       throw_if_cancelled();
-      const std::size_t b1 = std::min(todo.size(), b0 + kBatch);
+      std::vector<long> ps;
+      std::size_t b1 = b0;
+      while (b1 < todo.size()) {
+        if (ps.empty() || ps.back() != todo[b1].first) {
+          if (ps.size() == kLinesPerBatch) break;
+          ps.push_back(todo[b1].first);
+        }
+        ++b1;
+      }
+      std::vector<Lines> lines(ps.size(), Lines(nl));
+      const long n_line_tasks = static_cast<long>(ps.size()) * nl;
 #pragma omp parallel for schedule(dynamic, 1)
-      for (std::size_t i = b0; i < b1; ++i) {
+      for (long t = 0; t < n_line_tasks; ++t) {
         try {
-          vals[i] = node(todo[i].first, todo[i].second);
+          lines[t / nl][t % nl] = gfs[t % nl].line(kx_of_p(ps[t / nl]));
         } catch (...) {
 #pragma omp critical
           if (!err) err = std::current_exception();
         }
       }
       if (err) std::rethrow_exception(err);
+#pragma omp parallel for schedule(dynamic, 1)
+      for (std::size_t i = b0; i < b1; ++i) {
+        try {
+          const std::size_t li = std::lower_bound(ps.begin(), ps.end(), todo[i].first) - ps.begin();
+          vals[i] = node(todo[i].first, todo[i].second, lines[li]);
+        } catch (...) {
+#pragma omp critical
+          if (!err) err = std::current_exception();
+        }
+      }
+      if (err) std::rethrow_exception(err);
+      b0 = b1;
     }
     for (std::size_t i = 0; i < todo.size(); ++i) memo[todo[i]] = vals[i];
   };
@@ -506,6 +543,57 @@ std::optional<PfaValues> GratingPlate::pfa(double gap, const FrequencyRuleOption
   return PfaValues{s.total.value, -s.total.d1, -s.total.d2};
 }
 
+double GratingPlate::flat_energy(double gap, const FrequencyRuleOptions& opts) const {
+  // The sample filled to the ridge tops: a film of the ridge material of the profile's height on
+  // the substrate (a half-space when they are one material or the height is 0), facing the
+  // plate at L (Lifshitz (1956) through PlatePlate).
+  const double H = g_.height();
+  PlanarPtr body = H > 0.0 && g_.ridge != g_.substrate
+                       ? make_layered({{g_.ridge, H}}, g_.substrate)
+                       : make_half_space(H > 0.0 ? g_.ridge : g_.substrate);
+  const PlatePlate pp(body, plate_, medium_);
+  return sum_over_frequencies(
+             [&](double xi) { return pp.at_frequency(xi, gap, DerivativeOrder::kEnergy); },
+             frequency_scale(gap), opts)
+      .total.value;
+}
+
+std::vector<ExtraQuantity> GratingPlate::extra_quantities_of(double gap,
+                                                             const FrequencyRuleOptions& opts,
+                                                             double energy,
+                                                             double energy_error) const {
+  const double R = opts_.sphere_radius;
+  if (!(R > 0.0)) return {};
+  // PFA for the sphere (Derjaguin 1934; GratingPlateOptions): F(L) = 2 pi R E(L), E per area.
+  const double two_pi_r = 2.0 * kPi * R;
+  ExtraQuantity f;
+  f.name = "sphere_force";
+  f.column = "F_sphere";
+  f.units = "N";
+  f.description =
+      "force on a sphere of radius R (pfa_sphere.radius) in place of the plate, PFA on the exact "
+      "grating-plate energy: 2 pi R E(L) (< 0 attractive)";
+  f.value = two_pi_r * energy;
+  f.abs_error = two_pi_r * energy_error;
+  ExtraQuantity fp;
+  fp.name = "sphere_force_grating_pfa";
+  fp.column = "F_sphere,PFA";
+  fp.units = "N";
+  fp.description =
+      "the same with the grating PFA energy (the E_PFA column): 2 pi R E_PFA(L) (< 0 "
+      "attractive)";
+  fp.value = two_pi_r * pfa(gap, opts)->energy;
+  ExtraQuantity ff;
+  ff.name = "sphere_force_flat";
+  ff.column = "F_sphere,flat";
+  ff.units = "N";
+  ff.description =
+      "the same for the sample without grooves (ridge material filled to the ridge tops): "
+      "2 pi R E_flat(L) (< 0 attractive)";
+  ff.value = two_pi_r * flat_energy(gap, opts);
+  return {f, fp, ff};
+}
+
 std::map<std::string, double> GratingPlate::truncation(double gap) const {
   GratingStudy st;
   bool known = opts_.orders > 0 && (g_.profile == GratingProfile::kLamellar || g_.slices > 0);
@@ -536,11 +624,12 @@ std::map<std::string, double> GratingPlate::truncation(double gap) const {
 }
 
 FrequencyCost GratingPlate::cost(double gap, DerivativeOrder order, double /*rel_tol*/) const {
-  // Per Bloch node and level (N, S): S layer eigenproblems of dimension n = 2(2N + 1)
-  // (symmetric eigensolver with vectors ~9 n^3, Cholesky and the products forming P~, Q~ and the
-  // modes ~6 n^3, the admittance step's two LUs and products ~5 n^3: ~20 n^3) and the round
-  // trip (LU and products, ~4 n^3; +2 n^3 per derivative). Nodes: ~500 (measured 200-900 at the
-  // case-file tolerances). Model of gemm-equivalent flops (geometry.h), not calibrated per
+  // Per Bloch node and level (N, S), n = 2(2N + 1): S admittance steps (two LUs and products,
+  // ~5 n^3) and the round trip (LU and products, ~4 n^3; +2 n^3 per derivative); the layer
+  // modes are solved once per k_x line (conical decoupling: two symmetric eigenproblems of
+  // dimension n/2 with vectors and the products forming them, ~4 n^3 per layer), shared by the
+  // ~20 nodes of a line: ~0.2 S n^3 per node. Nodes: ~500 (measured 200-900 at the case-file
+  // tolerances). Model of gemm-equivalent flops (geometry.h), not calibrated per
   // kind; the study of each gap (a few extra evaluations at xi*) is not included.
   const auto t = truncation(gap);
   const double N = t.at("orders");
@@ -553,7 +642,7 @@ FrequencyCost GratingPlate::cost(double gap, DerivativeOrder order, double /*rel
   for (double n_ord : {N, n_low}) {
     if (n_ord <= 0.0) continue;
     const double n = 2.0 * (2.0 * n_ord + 1.0);
-    per_node += (20.0 * S + 4.0 + extra) * n * n * n;
+    per_node += (5.2 * S + 4.0 + extra) * n * n * n;
   }
   constexpr double kNodes = 500.0;
   FrequencyCost c;

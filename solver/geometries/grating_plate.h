@@ -34,6 +34,12 @@ struct GratingPlateOptions {
   double rel_tol = 1e-4;        ///< target of the convergence tests in orders and slices
   int max_orders = 64;          ///< the order study stops here (unverified beyond)
   int max_slices = 128;         ///< the slice study stops here (unverified beyond)
+  /// R (m) of a sphere taking the plate's place in the PFA (0: none): extra_quantities_of
+  /// gives F = 2 pi R E(L) from the exact per-area E beside 2 pi R E_PFA(L) (the grating PFA)
+  /// and 2 pi R E_flat(L) (the sample without grooves: a film of the ridge material, as thick
+  /// as the profile's height, on the substrate, its top at the ridge tops), in N, < 0 attractive
+  /// (Derjaguin, Kolloid-Z. 69, 155 (1934): F_sphere(L) = 2 pi R E_per-area(L) for L << R).
+  double sphere_radius = 0.0;
 };
 
 /// The cut-offs of one gap, chosen by convergence tests at xi* = frequency_scale(L) (c/2L in
@@ -73,6 +79,12 @@ class GratingPlate final : public Geometry {
   std::string kind() const override { return "grating-plate"; }
   std::string describe() const override;
   std::optional<PfaValues> pfa(double gap, const FrequencyRuleOptions& opts) const override;
+  /// With options.sphere_radius > 0: "sphere_force" (F_sphere), "sphere_force_grating_pfa"
+  /// (F_sphere,PFA) and "sphere_force_flat" (F_sphere,flat), N (GratingPlateOptions).
+  std::vector<ExtraQuantity> extra_quantities_of(double gap, const FrequencyRuleOptions& opts,
+                                                 double energy, double energy_error) const override;
+  /// E per area of the sample without grooves at gap L (J/m^2; the flat comparison).
+  double flat_energy(double gap, const FrequencyRuleOptions& opts) const;
   /// "orders", "orders_low", "order_rate", "order_error", "slices", "slice_rate",
   /// "slice_error", "bloch_rel_tol" (after the study of that gap; before it, the planned values).
   std::map<std::string, double> truncation(double gap) const override;

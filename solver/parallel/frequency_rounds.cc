@@ -178,7 +178,8 @@ std::vector<RunResult> SweepRounds::results(double wall_seconds) {
             point_result(g, in.gaps[k], in.options.quantities.order(), st.sum, st.pfa));
         r.points.back().wall_seconds = st.seconds;  // task time (not wall time) of this gap
         // Per-gap extras (the lateral force of grating-grating) on this rank, after the sum.
-        r.points.back().extra = g.extra_quantities(in.gaps[k], in.options.frequency);
+        r.points.back().extra = g.extra_quantities_of(
+            in.gaps[k], in.options.frequency, r.points.back().energy, r.points.back().energy_error);
       } else {
         PointResult incomplete;
         incomplete.gap = in.gaps[k];

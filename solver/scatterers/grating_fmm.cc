@@ -276,6 +276,13 @@ GratingAtFrequency::GratingAtFrequency(const LamellarGrating& g, double xi, cons
     l.ai = toeplitz(1.0 / eps_r_, 1.0 / eps_m_, set, m_).inverse();
     l.ai = 0.5 * (l.ai + l.ai.transpose()).eval();
     l.ee_llt.compute(l.ee);
+    const Eigen::LLT<MatrixXd> ai_llt(l.ai);
+    if (ai_llt.info() != Eigen::Success)
+      throw std::runtime_error(fmt::format(
+          "grating: the inverse Toeplitz matrix of 1/eps (ridge {:g}, groove {:g}) is not "
+          "positive definite in double precision",
+          eps_r_, eps_m_));
+    l.ai_l = ai_llt.matrixL();
     if (l.ee_llt.info() != Eigen::Success)
       throw std::runtime_error(fmt::format(
           "grating: the Toeplitz matrix of eps (ridge {:g}, groove {:g}) is not positive "
@@ -285,12 +292,104 @@ GratingAtFrequency::GratingAtFrequency(const LamellarGrating& g, double xi, cons
   }
 }
 
-Eigen::MatrixXd GratingAtFrequency::reflect(double kx, double ky) const {
+Eigen::VectorXd GratingAtFrequency::scaled_orders(double kx) const {
   const double G = 2.0 * kPi / g_.period;
   // Lengths in units of c/xi at xi > 0 (header); SI (1/m) at xi = 0.
   const double unit = xi_ > 0.0 ? 1.0 / q0_ : 1.0;
   VectorXd k(m_);
   for (int i = 0; i < m_; ++i) k[i] = (kx + (i - n_) * G) * unit;
+  return k;
+}
+
+GratingAtFrequency::Line GratingAtFrequency::line(double kx) const {
+  // Conical decoupling (header of Line, derived). Each M x M problem is symmetric: TE directly;
+  // TM with Ai = A A^T as (A^T T A) y = gamma^2 y, zeta = A y, T = K Ee^-1 K + 1 = G^T G + 1,
+  // G = C^-1 K (Gram form as in reflect_coupled); xi = 0 generalized symmetric (S, Ee).
+  Line out;
+  out.kx = kx;
+  const VectorXd k = scaled_orders(kx);
+  const auto K = k.asDiagonal();
+  for (const Layer& ly : layers_) {
+    Line::LayerModes lm;
+    if (xi_ > 0.0) {
+      MatrixXd te = ly.ee;
+      te.diagonal() += k.array().square().matrix();
+      Eigen::SelfAdjointEigenSolver<MatrixXd> es_te(te);
+      const MatrixXd Gk = ly.ee_llt.matrixL().solve(MatrixXd(K));  // C^-1 K
+      MatrixXd T = Gk.transpose() * Gk;
+      T.diagonal().array() += 1.0;
+      const MatrixXd C = ly.ai_l.transpose() * T * ly.ai_l;
+      Eigen::SelfAdjointEigenSolver<MatrixXd> es_tm(0.5 * (C + C.transpose()));
+      if (es_te.info() != Eigen::Success || es_tm.info() != Eigen::Success)
+        throw std::runtime_error("grating: the layer eigenproblem did not converge");
+      lm.g2_te = es_te.eigenvalues();
+      lm.g2_tm = es_tm.eigenvalues();
+      if (!(lm.g2_te.minCoeff() > 0.0) || !(lm.g2_tm.minCoeff() > 0.0))
+        throw std::runtime_error(fmt::format("grating: layer mode gamma^2 = {} is not positive",
+                                             std::min(lm.g2_te.minCoeff(), lm.g2_tm.minCoeff())));
+      lm.phi = es_te.eigenvectors();
+      lm.zeta = ly.ai_l * es_tm.eigenvectors();
+      lm.tm_top = T * lm.zeta;
+      lm.tm_bot = ly.ee_llt.matrixL().transpose().solve(Gk * lm.zeta);  // C^-T C^-1 K zeta
+    } else {
+      const MatrixXd S = K * ly.ai * K;
+      Eigen::GeneralizedSelfAdjointEigenSolver<MatrixXd> es(S, ly.ee);
+      if (es.info() != Eigen::Success)
+        throw std::runtime_error("grating: the static layer eigenproblem did not converge");
+      lm.g2_tm = es.eigenvalues().cwiseMax(0.0);
+      lm.zeta = es.eigenvectors();
+      lm.tm_top = ly.ee * lm.zeta;
+    }
+    out.layers.push_back(std::move(lm));
+  }
+  return out;
+}
+
+Eigen::MatrixXd GratingAtFrequency::reflect(const Line& line, double ky) const {
+  const double unit = xi_ > 0.0 ? 1.0 / q0_ : 1.0;
+  const VectorXd k = scaled_orders(line.kx);
+  const double kyn = ky * unit, ky2 = kyn * kyn;
+  const int m = m_;
+  if (xi_ > 0.0) {
+    const Modes top = homogeneous_dynamic(k, kyn, eps_m_);
+    MatrixXd y = homogeneous_dynamic(k, kyn, eps_s_).v;
+    for (int i = static_cast<int>(layers_.size()) - 1; i >= 0; --i) {
+      const Line::LayerModes& lm = line.layers[i];
+      Modes md;
+      md.lambda.resize(2 * m);
+      md.lambda.head(m) = (lm.g2_te.array() + ky2).sqrt();
+      md.lambda.tail(m) = (lm.g2_tm.array() + ky2).sqrt();
+      const VectorXd inv_te = md.lambda.head(m).cwiseInverse();
+      const VectorXd inv_tm = md.lambda.tail(m).cwiseInverse();
+      md.w = MatrixXd::Zero(2 * m, 2 * m);
+      md.v = MatrixXd::Zero(2 * m, 2 * m);
+      // Columns 0..M-1: TE modes; M..2M-1: TM modes (Line).
+      md.w.bottomLeftCorner(m, m) = lm.phi;
+      md.w.topRightCorner(m, m) = lm.tm_top * inv_tm.asDiagonal();
+      md.w.bottomRightCorner(m, m) = kyn * lm.tm_bot * inv_tm.asDiagonal();
+      md.v.topLeftCorner(m, m) = -kyn * k.asDiagonal() * lm.phi * inv_te.asDiagonal();
+      md.v.bottomLeftCorner(m, m) = lm.phi * lm.g2_te.cwiseProduct(inv_te).asDiagonal();
+      md.v.topRightCorner(m, m) = lm.zeta;
+      y = admittance_through(md, layers_[i].thickness / unit, y);
+    }
+    return reflection_from(top.v, y);
+  }
+  const Modes top = homogeneous_static(k, kyn, eps_m_);
+  MatrixXd y = homogeneous_static(k, kyn, eps_s_).v;
+  for (int i = static_cast<int>(layers_.size()) - 1; i >= 0; --i) {
+    const Line::LayerModes& lm = line.layers[i];
+    Modes md;
+    md.lambda = (lm.g2_tm.array() + ky2).sqrt();
+    md.w = lm.zeta;
+    md.v = -lm.tm_top * md.lambda.asDiagonal();
+    y = admittance_through(md, layers_[i].thickness / unit, y);
+  }
+  return reflection_from(top.v, y);
+}
+
+Eigen::MatrixXd GratingAtFrequency::reflect_coupled(double kx, double ky) const {
+  const double unit = xi_ > 0.0 ? 1.0 / q0_ : 1.0;
+  const VectorXd k = scaled_orders(kx);
   const double kyn = ky * unit;
   const int dim = this->dim();
   if (xi_ > 0.0) {

@@ -89,15 +89,43 @@ class GratingAtFrequency {
   int dim() const { return xi_ > 0.0 ? 2 * m_ : m_; }
   int orders() const { return n_; }
   double xi() const { return xi_; }
+  /// The layer modes of one k_x line (conical decoupling, derived from the P~, Q~ forms of the
+  /// header comment: the layer is invariant in y and z, so its modes are TE and TM with respect
+  /// to x and lambda^2 = gamma^2 + k_y^2 (units c/xi), gamma^2 the eigenvalues at k_y = 0):
+  ///   TE (E_x = 0): (K^2 + Ee) phi = gamma^2 phi,  w = (0, phi),
+  ///     v = Q~ w / lambda = (-k_y K phi, gamma^2 phi) / lambda;
+  ///   TM (H_x = 0): Ai (K Ee^-1 K + 1) zeta = gamma^2 zeta,  v = (zeta, 0),
+  ///     w = P~ v / lambda = ((K Ee^-1 K + 1) zeta, k_y Ee^-1 K zeta) / lambda;
+  ///   xi = 0: (K Ai K) w = gamma^2 Ee w, the same w for every k_y.
+  /// (Verified against the coupled 2M x 2M eigenproblem in tests/gratings/grating_fmm_test.cc.)
+  /// Two M x M symmetric eigenproblems per layer and k_x serve every k_y of that line.
+  struct Line {
+    double kx = 0.0;  ///< 1/m
+    struct LayerModes {
+      Eigen::VectorXd g2_te, g2_tm;    ///< gamma^2 (xi = 0: g2_tm only)
+      Eigen::MatrixXd phi;             ///< TE eigenvectors (M x M)
+      Eigen::MatrixXd zeta;            ///< TM: v columns (xi = 0: the potential's modes w)
+      Eigen::MatrixXd tm_top, tm_bot;  ///< (K Ee^-1 K + 1) zeta, Ee^-1 K zeta (xi = 0: Ee w)
+    };
+    std::vector<LayerModes> layers;  ///< top first, as the layer stack
+  };
+  Line line(double kx) const;
   /// The reflection operator at Bloch vector (k_x, k_y) (1/m); layout in the header comment.
-  Eigen::MatrixXd reflect(double kx, double ky) const;
+  Eigen::MatrixXd reflect(double kx, double ky) const { return reflect(line(kx), ky); }
+  /// The same from the modes of the line of k_x (cheap per k_y: no eigenproblem).
+  Eigen::MatrixXd reflect(const Line& line, double ky) const;
+  /// The same by the coupled 2M x 2M eigenproblem per (k_x, k_y) (the reference of the
+  /// decoupled form; tests only).
+  Eigen::MatrixXd reflect_coupled(double kx, double ky) const;
 
  private:
   struct Layer {
     double thickness;                    // m
     Eigen::MatrixXd ee, ai;              // Toeplitz [[eps]], [[1/eps]]^-1 (M x M)
     Eigen::LLT<Eigen::MatrixXd> ee_llt;  // [[eps]] = C C^T
+    Eigen::MatrixXd ai_l;                // Ai = A A^T (Cholesky factor A)
   };
+  Eigen::VectorXd scaled_orders(double kx) const;
   LamellarGrating g_;
   double xi_, q0_, eps_m_, eps_r_, eps_s_;
   int n_, m_;

@@ -128,6 +128,66 @@ TEST(GratingCase, FillingOneIsThePlatePlateEnergyAndItsPfa) {
   EXPECT_NEAR(pfa->force, -r.total.d1, 1e-5 * std::abs(r.total.d1));
 }
 
+TEST(GratingCase, PfaSphereGivesTheSphereForcesBesideTheExactEnergy) {
+  // Derjaguin, Kolloid-Z. 69, 155 (1934): a sphere of radius R in place of the plate feels
+  // F(L) = 2 pi R E(L) (E per area). The three forces: 2 pi R times the point's own E (exact
+  // arithmetic), the grating PFA energy (Bao et al., PRL 105, 250402 (2010)), and the flat
+  // wafer E_pp(L) (Lifshitz (1956) through an independent PlatePlate, same frequency rule and
+  // rel_tol 1e-5). At f = 1 all three coincide with 2 pi R E_pp; at f = 0.5 the flat one still
+  // is 2 pi R E_pp (silicon ridges on silicon: a silicon half-space at L).
+  constexpr double kRuleTol = 1e-5;
+  const double R = 50e-6, L = 200e-9, two_pi_r = 2.0 * 3.141592653589793 * R;
+  const PlatePlate pp(make_half_space(builtin_material("silicon")),
+                      make_half_space(builtin_material("gold-drude")), nullptr);
+  for (const char* f : {"filling = 1.0", "filling = 0.5"}) {
+    SCOPED_TRACE(f);
+    std::string g = kGood;
+    g.replace(g.find("filling = 0.5"), 13, f);
+    const CaseSpec s =
+        parse_case(grating_case(g + "[pfa_sphere]\nradius = \"50 um\"\n[numerics]\nrel_tol = 1e-5\n"
+                                    "orders = 3\n",
+                                "300 K"),
+                   "g.toml");
+    EXPECT_DOUBLE_EQ(s.pfa_sphere_radius, R);
+    const auto geo = build_geometry(s);
+    const FrequencySum r = sum_over_frequencies(
+        [&](double xi) { return pp.at_frequency(xi, L, DerivativeOrder::kEnergy); },
+        pp.frequency_scale(L), s.frequency);
+    const double e = -1.25e-8;  // any point energy: F_sphere is 2 pi R times it
+    const auto x = geo->extra_quantities_of(L, s.frequency, e, 1e-12);
+    ASSERT_EQ(x.size(), 3u);
+    EXPECT_EQ(x[0].name, "sphere_force");
+    EXPECT_EQ(x[0].units, "N");
+    EXPECT_DOUBLE_EQ(x[0].value, two_pi_r * e);
+    EXPECT_DOUBLE_EQ(x[0].abs_error, two_pi_r * 1e-12);
+    EXPECT_EQ(x[1].name, "sphere_force_grating_pfa");
+    EXPECT_NEAR(x[1].value, two_pi_r * geo->pfa(L, s.frequency)->energy,
+                1e-14 * std::abs(x[1].value));
+    EXPECT_EQ(x[2].name, "sphere_force_flat");
+    EXPECT_NEAR(x[2].value, two_pi_r * r.total.value, kRuleTol * std::abs(x[2].value));
+    if (std::string(f) == "filling = 1.0")
+      EXPECT_NEAR(x[1].value, two_pi_r * r.total.value, kRuleTol * std::abs(x[1].value));
+    else
+      EXPECT_GT(x[1].value, x[2].value) << "trenches weaken the PFA force";
+  }
+  // Without [pfa_sphere]: no extra quantities.
+  EXPECT_TRUE(build_geometry(parse_case(grating_case(kGood), "g.toml"))
+                  ->extra_quantities_of(L, FrequencyRuleOptions{}, -1e-8, 0.0)
+                  .empty());
+  // Bad input names file:line, key and value; other kinds have no [pfa_sphere].
+  std::string m = error_of(grating_case(kGood + "[pfa_sphere]\nradius = \"-5 um\"\n"));
+  EXPECT_NE(m.find("g.toml:15: pfa_sphere.radius = \"-5 um\""), std::string::npos) << m;
+  m = error_of(grating_case(kGood + "[pfa_sphere]\nradius = \"5 um\"\ncolour = 1\n"));
+  EXPECT_NE(m.find("g.toml:16: pfa_sphere.colour"), std::string::npos) << m;
+  m = error_of(
+      "geometry = \"plate-plate\"\n[plate]\nmaterial = \"silicon\"\n[separations]\n"
+      "values = [\"200 nm\"]\n[conditions]\ntemperature = \"0 K\"\n[pfa_sphere]\n"
+      "radius = \"5 um\"\n");
+  EXPECT_NE(m.find("g.toml:8: pfa_sphere: geometry = \"plate-plate\" has no [pfa_sphere]"),
+            std::string::npos)
+      << m;
+}
+
 TEST(GratingCase, ReadsSinusoidalTriangularAndTableProfiles) {
   const auto read = [&](const std::string& lines) {
     return parse_case(grating_case(lines), "g.toml").body("grating").grating;

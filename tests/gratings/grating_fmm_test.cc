@@ -161,3 +161,43 @@ TEST(GratingFmm, SpecularOrderConvergesWithTheOrderCount) {
 
 }  // namespace
 }  // namespace roundtrip
+
+namespace roundtrip {
+namespace {
+
+TEST(GratingFmm, ConicalDecouplingEqualsTheCoupledEigenproblem) {
+  // The layer is invariant in y and z, so its modes are TE/TM with respect to x with
+  // lambda^2 = gamma^2 + k_y^2 (derived; grating_fmm.h, Line): the per-line modes must give the
+  // operator of the coupled 2M x 2M eigenproblem at every (k_x, k_y) up to rounding. Both forms
+  // hold matrices of size (k/q0)^2 (q0 = xi/c, k the largest |k_n|, k_y; README: conditioning),
+  // so the rounding allowed is kConditioned (k/q0)^2 (measured: 3.8e-10 at (k/q0)^2 = 2e4,
+  // <= 1e-14 at (k/q0)^2 < 100). Lamellar and a sliced sinusoid (several layers), xi = 0 and
+  // xi > 0, k_x at the zone centre, inside and at the edge.
+  constexpr double kConditioned = 1e-13;
+  const auto vac = make_vacuum();
+  LamellarGrating lam = silicon_like(0.4, 150e-9);
+  lam.substrate = make_constant("substrate", 4.0);
+  LamellarGrating sine = lam;
+  sine.profile = GratingProfile::kSinusoidal;
+  sine.amplitude = 60e-9;
+  sine.slices = 5;
+  const double G = 2.0 * kPi / lam.period;
+  for (const LamellarGrating& g : {lam, sine})
+    for (double xi : {0.0, 2e14, 3e15}) {
+      const GratingAtFrequency gf(g, xi, *vac, 5);
+      for (double kx : {0.0, 0.17 * G, 0.5 * G}) {
+        const auto line = gf.line(kx);
+        for (double ky : {0.0, 3e6, 4e7}) {
+          const auto a = gf.reflect(line, ky);
+          const auto b = gf.reflect_coupled(kx, ky);
+          const double kmax = std::hypot(std::abs(kx) + 5 * G, ky);
+          const double c2 = xi > 0.0 ? std::pow(kmax * kSpeedOfLight / xi, 2) : 1.0;
+          EXPECT_LT(max_abs_diff(a, b), std::max(kRoundingTol, kConditioned * c2))
+              << xi << " " << kx << " " << ky;
+        }
+      }
+    }
+}
+
+}  // namespace
+}  // namespace roundtrip

@@ -116,6 +116,15 @@ TEST(GratingGratingCase, BadInputNamesFileLineKeyAndValue) {
   std::string pec = au;
   pec.replace(pec.find("\"gold-drude\""), 12, "\"perfect-conductor\"");
   EXPECT_NE(error_of(gg_case("", pec)).find("not built"), std::string::npos);
+  // Non-lamellar profiles: the PFA columns and overlap assume rectangular ridges.
+  const std::string sine =
+      "[grating2]\nperiod = \"400 nm\"\nprofile = \"sinusoidal\"\namplitude = \"50 nm\"\n"
+      "material = \"silicon\"\n";
+  m = error_of(gg_case("", sine));
+  EXPECT_NE(m.find("gg.toml:14: grating2.profile = \"sinusoidal\": grating-grating is built for "
+                   "lamellar profiles only"),
+            std::string::npos)
+      << m;
 }
 
 }  // namespace
