@@ -43,6 +43,8 @@
 //   k = max(|m|, |m'|); M is the smallest order whose tail sum over k > M is below kMTailShare
 //   rel_tol of the whole, after the last two bins computed are below 1e-2 of that target (else
 //   M doubles). The tail is the first-order estimate of the truncation error.
+// - Far apart (||N||_F < 1e-3) the value is the series -sum Tr(N^k)/k (log_det_series): 1 - N
+//   would round N away (the derivatives, traces against (1 - N)^-1, are not affected).
 // - k_z integral: u = 2 L k_z on the DE trapezoid of axial_integral.h, to kKzShare rel_tol.
 #include "solver/geometries/cylinder_cylinder.h"
 
@@ -127,6 +129,23 @@ double k_d2(const std::vector<double>& lk, int n, double p) {
   return 0.25 * p * p * (std::exp(lk[std::abs(n - 2)] - lk[n]) + 2.0 + std::exp(lk[n + 2] - lk[n]));
 }
 
+// log det(1 - N) = -sum_k Tr(N^k)/k for a small round trip (||N||_F < kSeriesNorm): forming
+// 1 - N rounds N away once ||N|| ~ 1e-16 (at large distances the two-cylinder round trip is
+// ~(R1 R2/d^2)^2 and would come out as 0 or noise); the series keeps its relative precision.
+// Terms until the next is below 1e-17 of the sum (at most 6 terms at the threshold).
+constexpr double kSeriesNorm = 1e-3;
+double log_det_series(const Eigen::MatrixXd& N) {
+  Eigen::MatrixXd P = N;
+  double sum = 0.0;
+  for (int k = 1; k <= 40; ++k) {
+    const double term = P.trace() / k;
+    sum -= term;
+    if (std::abs(term) <= 1e-17 * std::abs(sum)) break;
+    P = P * N;
+  }
+  return sum;
+}
+
 }  // namespace
 
 Spectral cylinder_pair_logdet(FieldKind channel, double p, double R1, double R2, double d,
@@ -181,16 +200,20 @@ Spectral cylinder_pair_logdet(FieldKind channel, double p, double R1, double R2,
         if (ord >= 2) A2(i, j) = v2;
       }
     }
-    const Eigen::MatrixXd G =
-        Eigen::MatrixXd::Identity(dim, dim) - A * A.transpose();  // 1 - t1 U t2 U, symmetrised
+    const Eigen::MatrixXd N = A * A.transpose();  // t1 U t2 U, symmetrised
+    const Eigen::MatrixXd G = Eigen::MatrixXd::Identity(dim, dim) - N;
     Eigen::LLT<Eigen::MatrixXd> llt(G);
     if (llt.info() != Eigen::Success)
       throw std::runtime_error(fmt::format(
           "cylinder-cylinder: 1 - N is not positive definite at p = {:.6g} 1/m (R1 = {:.6g} m, "
           "R2 = {:.6g} m, d = {:.6g} m, m_max = {})",
           p, R1, R2, d, M));
-    const Eigen::MatrixXd& L = llt.matrixLLT();
-    for (int i = 0; i < dim; ++i) out.value += 2.0 * std::log(L(i, i));
+    if (N.norm() < kSeriesNorm) {
+      out.value += log_det_series(N);
+    } else {
+      const Eigen::MatrixXd& L = llt.matrixLLT();
+      for (int i = 0; i < dim; ++i) out.value += 2.0 * std::log(L(i, i));
+    }
     if (ord >= 1) {
       const Eigen::MatrixXd P1 = A1 * A.transpose();
       const Eigen::MatrixXd G1 = -(P1 + P1.transpose());
@@ -298,7 +321,7 @@ Spectral cylinder_pair_vector_logdet(const Material& cyl1, const Material& cyl2,
           "cylinder-cylinder: det(1 - T1 U T2 U) is not positive at xi = {:.6g} rad/s, k_z = "
           "{:.6g} 1/m (R1 = {:.6g} m, R2 = {:.6g} m, d = {:.6g} m, m_max = {}, parity {})",
           xi, kz, R1, R2, d, M, sigma));
-    out.value += value;
+    out.value += Q.norm() < kSeriesNorm ? log_det_series(Q) : value;
     if (ord >= 1) {
       const Eigen::MatrixXd T2V1t = T2 * V1.transpose();
       const Eigen::MatrixXd Q1 = T1 * (V1 * T2Vt + V * T2V1t);
