@@ -105,11 +105,19 @@ void log_t_pec(FieldKind channel, double x, int m_max, std::vector<double>& out)
 // bins are not yet negligible (M must grow).
 int order_cut(const std::vector<double>& w1, const std::vector<double>& w2,
               const std::vector<double>& lk, int M, double rel_tol) {
+  // Exponents first (cheap), then exp only within e^-60 of the largest (1e-26 of it: below any
+  // accepted rel_tol times the trace, which is at least the largest pair).
+  double top = -std::numeric_limits<double>::infinity();
+  for (int m = -M; m <= M; ++m)
+    for (int mp = -M; mp <= M; ++mp)
+      top = std::max(top, w1[std::abs(m)] + w2[std::abs(mp)] + 2.0 * lk[std::abs(m - mp)]);
   std::vector<double> bin(M + 1, 0.0);
   double total = 0.0;
   for (int m = -M; m <= M; ++m)
     for (int mp = -M; mp <= M; ++mp) {
-      const double w = std::exp(w1[std::abs(m)] + w2[std::abs(mp)] + 2.0 * lk[std::abs(m - mp)]);
+      const double e = w1[std::abs(m)] + w2[std::abs(mp)] + 2.0 * lk[std::abs(m - mp)] - top;
+      if (e < -60.0) continue;
+      const double w = std::exp(e);
       bin[std::max(std::abs(m), std::abs(mp))] += w;
       total += w;
     }
