@@ -448,3 +448,33 @@ TEST(CylinderCylinder, SecondCylinderDefaultsToTheFirst) {
 
 }  // namespace
 }  // namespace roundtrip
+
+namespace roundtrip {
+namespace {
+
+// The reduced demo: cases/nanowire_beside_fibre.toml at its largest gap (400 nm). Checks that the
+// case parses and builds, that the frequency sum converges and that the bodies attract (both
+// are polarisable: common practice), and that exact and PFA are of the same sign; the ratio is
+// printed, not checked (no published value for this pair).
+TEST(CylinderCylinder, ReducedDemoCaseRuns) {
+  std::string text = read_case("nanowire_beside_fibre.toml");
+  const std::string from = "values = [\"100 nm\", \"200 nm\", \"400 nm\"]";
+  ASSERT_NE(text.find(from), std::string::npos);
+  text.replace(text.find(from), from.size(), "values = [\"400 nm\"]");
+  const io::CaseSpec spec = io::parse_case(text, "nanowire_beside_fibre.toml");
+  const auto g = io::build_geometry(spec);
+  const double L = spec.gaps.at(0);
+  const FrequencySum s = sum_over_frequencies(
+      [&](double xi) { return g->at_frequency(xi, L, DerivativeOrder::kEnergy); },
+      g->frequency_scale(L), spec.frequency);
+  ASSERT_TRUE(s.converged);
+  const auto pfa = g->pfa(L, spec.frequency);
+  ASSERT_TRUE(pfa.has_value());
+  std::printf("E/l = %.6e J/m, PFA %.6e J/m, ratio %.4f, %zu frequencies\n", s.total.value,
+              pfa->energy, s.total.value / pfa->energy, s.terms.size());
+  EXPECT_LT(s.total.value, 0.0);
+  EXPECT_LT(pfa->energy, 0.0);
+}
+
+}  // namespace
+}  // namespace roundtrip
