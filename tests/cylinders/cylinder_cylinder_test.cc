@@ -199,18 +199,19 @@ TEST(CylinderCylinder, AutomaticOrderCutOffMeetsItsTolerance) {
     }
 }
 
-// Convergence of the k_z rule: rel_tol 1e-4 against 1e-6 at one frequency (derived; the
-// reference's own error ~1e-7 is far below the 1e-4 checked).
+// Convergence of the k_z rule: rel_tol 1e-3 against 1e-5 at one frequency (derived; the
+// reference's own error ~1e-6 is far below the 1e-3 checked). Kept cheap: the check is the rule's
+// error control, the same at any rel_tol.
 TEST(CylinderCylinder, AxialMomentumIntegralMeetsItsTolerance) {
   const double R1 = 2e-6, R2 = 1e-6, L = 0.5e-6;
   for (double xi : {0.0, 3e14, 3e15}) {
-    const Spectral a = pec_pair(R1, R2, FieldKind::kElectromagnetic, 1e-4)
+    const Spectral a = pec_pair(R1, R2, FieldKind::kElectromagnetic, 1e-3)
                            ->at_frequency(xi, L, DerivativeOrder::kGradient);
-    const Spectral b = pec_pair(R1, R2, FieldKind::kElectromagnetic, 1e-6)
+    const Spectral b = pec_pair(R1, R2, FieldKind::kElectromagnetic, 1e-5)
                            ->at_frequency(xi, L, DerivativeOrder::kGradient);
-    EXPECT_NEAR(a.value / b.value, 1.0, 1e-4) << xi;
-    EXPECT_NEAR(a.d1 / b.d1, 1.0, 1e-4) << xi;
-    EXPECT_NEAR(a.d2 / b.d2, 1.0, 1e-4) << xi;
+    EXPECT_NEAR(a.value / b.value, 1.0, 1e-3) << xi;
+    EXPECT_NEAR(a.d1 / b.d1, 1.0, 1e-3) << xi;
+    EXPECT_NEAR(a.d2 / b.d2, 1.0, 1e-3) << xi;
   }
 }
 
