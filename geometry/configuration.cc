@@ -50,6 +50,12 @@ std::string radius_problem(double radius) {
                                  "dielectric function");
 }
 
+std::string cylinder_radius_problem(double radius) {
+  return positive_length_problem(radius, "radius", "a cylinder needs a thickness", kMinRadius,
+                                 "a thinner cylinder is a chain of a few atoms, not a body with a "
+                                 "dielectric function");
+}
+
 std::string thickness_problem(double thickness) {
   return positive_length_problem(thickness, "layer thickness", "leave the layer out instead",
                                  kMinThickness,
@@ -94,7 +100,8 @@ std::string Body::validate() const {
       return fmt::format("{}.depth = {} m: {}", name, depth, p);
     return {};
   }
-  if (auto p = radius_problem(radius); !p.empty())
+  if (auto p = shape == Shape::kCylinder ? cylinder_radius_problem(radius) : radius_problem(radius);
+      !p.empty())
     return fmt::format("{}.radius = {} m: {}", name, radius, p);
   double total = 0.0;
   for (std::size_t i = 0; i < shell_thicknesses.size(); ++i) {

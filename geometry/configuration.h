@@ -19,6 +19,8 @@ namespace roundtrip::geometry {
 std::string gap_problem(double gap);
 /// Sphere radius R (m): finite, within 1e-9 m ... 1 m.
 std::string radius_problem(double radius);
+/// Cylinder radius R (m): the same range, with the wording of a cylinder.
+std::string cylinder_radius_problem(double radius);
 /// Layer or shell thickness (m): finite, within 1e-10 m ... 1 m.
 std::string thickness_problem(double thickness);
 

@@ -581,7 +581,9 @@ std::vector<ScanAxis> parse_scan_axes(const toml::table& root, const toml::table
       const auto* str = e.as_string();
       if (str == nullptr) throw error_at(e, fi, "expected a string in double quotes");
       if (radius_key) {
-        positive_length(e, fi, geometry::radius_problem);
+        positive_length(e, fi,
+                        key.starts_with("cylinder") ? geometry::cylinder_radius_problem
+                                                    : geometry::radius_problem);
       } else if (key == "temperature") {
         if (parse_quantity(e, Dimension::kTemperature, fi) < 0.0)
           throw error_at(e, fi, "a temperature must be >= 0 K");
@@ -892,7 +894,7 @@ CaseSpec parse_root(toml::table& root, CaseSpec spec) {
       throw error_at(*sh, tb + ".shells", "shells on cylinders are not built yet");
     if (!s.contains("radius"))
       throw table_error(s, tb + ".radius", "missing required key (e.g. radius = \"50 um\")");
-    b.radius = positive_length(*s.get("radius"), tb + ".radius", geometry::radius_problem);
+    b.radius = positive_length(*s.get("radius"), tb + ".radius", geometry::cylinder_radius_problem);
     if (s.contains("material")) {
       b.material = material_at(s, "material", tb + ".material");
       used.add(b.material);

@@ -69,6 +69,7 @@ GeometryKind plate_plate_kind();
 GeometryKind sphere_plate_kind();
 GeometryKind sphere_sphere_kind();
 GeometryKind cylinder_plate_kind();
+GeometryKind cylinder_cylinder_kind();
 GeometryKind atom_plate_kind();
 GeometryKind grating_plate_kind();
 GeometryKind grating_grating_kind();

@@ -8,7 +8,7 @@ namespace roundtrip::io {
 const std::vector<GeometryKind>& geometry_kinds() {
   static const std::vector<GeometryKind> kinds{
       plate_plate_kind(), sphere_plate_kind(),  sphere_sphere_kind(),   cylinder_plate_kind(),
-      atom_plate_kind(),  grating_plate_kind(), grating_grating_kind(),
+      atom_plate_kind(),  grating_plate_kind(), grating_grating_kind(), cylinder_cylinder_kind(),
   };
   return kinds;
 }
