@@ -52,8 +52,8 @@ int main(int argc, char** argv) {
       const Spectral s = g->at_frequency(xi, gap, DerivativeOrder::kGradient);
       const double wall =
           std::chrono::duration<double>(std::chrono::steady_clock::now() - t0).count();
-      std::printf("%-12s %4d %12.4e %10.3f %10.3f %14.8g\n", name, n, xi, wall,
-                  cpu_seconds() - c0, s.value);
+      std::printf("%-12s %4d %12.4e %10.3f %10.3f %14.8g\n", name, n, xi, wall, cpu_seconds() - c0,
+                  s.value);
       std::fflush(stdout);
     }
   }

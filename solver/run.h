@@ -5,9 +5,9 @@
 #include <functional>
 #include <map>
 #include <mutex>
-#include <tuple>
 #include <optional>
 #include <string>
+#include <tuple>
 #include <vector>
 
 #include "solver/frequency/frequency_rule.h"

@@ -5,8 +5,8 @@
 #include <string>
 #include <vector>
 
-#include "solver/spectral.h"
 #include "solver/logdet/low_rank.h"
+#include "solver/spectral.h"
 
 namespace roundtrip::blocks {
 

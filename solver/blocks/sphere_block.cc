@@ -170,8 +170,7 @@ std::vector<LowRankBlock> sphere_dynamic_blocks(FieldKind field, int m, int lmax
     dynamic_rows(field, m, lmax, *mies[k], blocks[k], hte_k[k], htm_k[k]);
     const Eigen::ArrayXd hk = em ? hte_k[k].max(htm_k[k]).eval() : hte_k[k];
     hmax = k == 0 ? hk : hmax.max(hk).eval();
-    writers.emplace_back(blocks[k],
-                         em ? std::vector<int>{0, nl, 2 * nl} : std::vector<int>{0, nl},
+    writers.emplace_back(blocks[k], em ? std::vector<int>{0, nl, 2 * nl} : std::vector<int>{0, nl},
                          write_zeros);
   }
   const double log_m = m > 0 ? std::log(double(m)) : 0.0;
@@ -266,56 +265,56 @@ std::vector<LowRankBlock> sphere_dynamic_blocks(FieldKind field, int m, int lmax
     }
     const int n = hi - lo;
     for (int k = 0; k < K; ++k) {
-    LowRankBlock& b = blocks[k];
-    BandedWriter& w = writers[k];
-    const Eigen::ArrayXd &hte = hte_k[k], &htm = htm_k[k];
-    auto put = [&](int c, int group, const Eigen::ArrayXd& h0, const auto& f) {
-      const int row0 = group == 0 ? 0 : nl;
-      auto dst = b.W.col(c).segment(row0, nl);
-      if (write_zeros) {
-        dst.head(lo).setZero();
-        dst.tail(nl - hi).setZero();
+      LowRankBlock& b = blocks[k];
+      BandedWriter& w = writers[k];
+      const Eigen::ArrayXd &hte = hte_k[k], &htm = htm_k[k];
+      auto put = [&](int c, int group, const Eigen::ArrayXd& h0, const auto& f) {
+        const int row0 = group == 0 ? 0 : nl;
+        auto dst = b.W.col(c).segment(row0, nl);
+        if (write_zeros) {
+          dst.head(lo).setZero();
+          dst.tail(nl - hi).setZero();
+        }
+        col.head(n) = h0.segment(lo, n) + hw + f;
+        w.put_column(c, row0 + lo, group, col.head(n));
+      };
+      // m > 0 from the values: with rho = Pt^{m+1}/Pt^m, p = (m/s) Pt^m and t = (m x/s + rho) Pt^m,
+      // the four columns are E_TE (m x/s + rho), E_TM m/s, E_TE m/s, E_TM (m x/s + rho) with
+      // E = a_l sqrt|T_l| sqrt(Omega_j) Pt^m: three exponentials per row instead of an exp and a
+      // log for t and four exponentials (the same entries up to rounding; E stays in range:
+      // entries above e^-41 need E > e^-41 / (m x/s + rho), and rho is at most ~ l^2).
+      auto put_values = [&](int c, int group, const Eigen::ArrayXd& v) {
+        const int row0 = group == 0 ? 0 : nl;
+        auto dst = b.W.col(c).segment(row0, nl);
+        if (write_zeros) {
+          dst.head(lo).setZero();
+          dst.tail(nl - hi).setZero();
+        }
+        w.put_values(c, row0 + lo, group, v);
+      };
+      if (!em) {
+        put(j, 0, hte, pm.head(n));
+      } else if (m > 0 && n >= 4) {
+        const double inv_s = std::exp(-log_s), pf = m * inv_s, tf = m * x * inv_s;
+        thread_local Eigen::ArrayXd ete, etm, rho, v;
+        for (auto* a : {&ete, &etm, &rho, &v}) a->resize(n);
+        ete = (hte.segment(lo, n) + hw + pm.head(n)).exp();
+        etm = (htm.segment(lo, n) + hw + pm.head(n)).exp();
+        rho = (pm1.head(n) - pm.head(n)).exp() + tf;  // m x/s + rho
+        v = ete * rho;
+        put_values(j, 0, v);  // u_j, TE rows
+        v = etm * pf;
+        put_values(j, 1, v);  // u_j, TM rows
+        v = ete * pf;
+        put_values(N + j, 0, v);  // v_j, TE rows
+        v = etm * rho;
+        put_values(N + j, 1, v);  // v_j, TM rows
+      } else {
+        put(j, 0, hte, lt.head(n));      // u_j, TE rows
+        put(j, 1, htm, lp.head(n));      // u_j, TM rows
+        put(N + j, 0, hte, lp.head(n));  // v_j, TE rows
+        put(N + j, 1, htm, lt.head(n));  // v_j, TM rows
       }
-      col.head(n) = h0.segment(lo, n) + hw + f;
-      w.put_column(c, row0 + lo, group, col.head(n));
-    };
-    // m > 0 from the values: with rho = Pt^{m+1}/Pt^m, p = (m/s) Pt^m and t = (m x/s + rho) Pt^m,
-    // the four columns are E_TE (m x/s + rho), E_TM m/s, E_TE m/s, E_TM (m x/s + rho) with
-    // E = a_l sqrt|T_l| sqrt(Omega_j) Pt^m: three exponentials per row instead of an exp and a
-    // log for t and four exponentials (the same entries up to rounding; E stays in range:
-    // entries above e^-41 need E > e^-41 / (m x/s + rho), and rho is at most ~ l^2).
-    auto put_values = [&](int c, int group, const Eigen::ArrayXd& v) {
-      const int row0 = group == 0 ? 0 : nl;
-      auto dst = b.W.col(c).segment(row0, nl);
-      if (write_zeros) {
-        dst.head(lo).setZero();
-        dst.tail(nl - hi).setZero();
-      }
-      w.put_values(c, row0 + lo, group, v);
-    };
-    if (!em) {
-      put(j, 0, hte, pm.head(n));
-    } else if (m > 0 && n >= 4) {
-      const double inv_s = std::exp(-log_s), pf = m * inv_s, tf = m * x * inv_s;
-      thread_local Eigen::ArrayXd ete, etm, rho, v;
-      for (auto* a : {&ete, &etm, &rho, &v}) a->resize(n);
-      ete = (hte.segment(lo, n) + hw + pm.head(n)).exp();
-      etm = (htm.segment(lo, n) + hw + pm.head(n)).exp();
-      rho = (pm1.head(n) - pm.head(n)).exp() + tf;  // m x/s + rho
-      v = ete * rho;
-      put_values(j, 0, v);  // u_j, TE rows
-      v = etm * pf;
-      put_values(j, 1, v);  // u_j, TM rows
-      v = ete * pf;
-      put_values(N + j, 0, v);  // v_j, TE rows
-      v = etm * rho;
-      put_values(N + j, 1, v);  // v_j, TM rows
-    } else {
-      put(j, 0, hte, lt.head(n));      // u_j, TE rows
-      put(j, 1, htm, lp.head(n));      // u_j, TM rows
-      put(N + j, 0, hte, lp.head(n));  // v_j, TE rows
-      put(N + j, 1, htm, lt.head(n));  // v_j, TM rows
-    }
     }
     // this node's band (union over its columns), the next node's first guess
     prev_rows_lo = lo;
@@ -338,7 +337,6 @@ std::vector<LowRankBlock> sphere_dynamic_blocks(FieldKind field, int m, int lmax
   }
   return blocks;
 }
-
 
 LowRankBlock sphere_dynamic_block_full_range(FieldKind field, int m, int lmax, const NodeSet& nodes,
                                              const MieLog& mie) {

@@ -83,9 +83,9 @@ class Geometry {
   /// and rel_tol, each equal to its own at_frequency_within up to rounding. A geometry for which
   /// shares_frequency_work_with(other) holds computes them in one pass; the default computes
   /// each alone.
-  virtual std::vector<Spectral> at_frequency_shared(double xi, double gap, DerivativeOrder order,
-                                                    double rel_tol,
-                                                    const std::vector<const Geometry*>& others) const {
+  virtual std::vector<Spectral> at_frequency_shared(
+      double xi, double gap, DerivativeOrder order, double rel_tol,
+      const std::vector<const Geometry*>& others) const {
     std::vector<Spectral> v{at_frequency_within(xi, gap, order, rel_tol)};
     for (const Geometry* g : others) v.push_back(g->at_frequency_within(xi, gap, order, rel_tol));
     return v;

@@ -10,10 +10,14 @@
 #include <cmath>
 #include <cstdio>
 
+#include "solver/blocks/plane_wave_nodes.h"
+#include "solver/blocks/sphere_block.h"
 #include "solver/constants.h"
 #include "solver/geometries/sphere_plate.h"
 #include "solver/materials/models.h"
 #include "solver/run.h"
+#include "solver/scatterers/sphere_body.h"
+#include "solver/special/momentum_rule.h"
 
 namespace roundtrip {
 namespace {
@@ -106,6 +110,44 @@ TEST(SharedScan, SharedScanDoesNotDependOnTheThreadCount) {
     EXPECT_EQ(one[k].points[0].force, two[k].points[0].force) << k;
     EXPECT_EQ(one[k].points[0].gradient, two[k].points[0].gradient) << k;
   }
+}
+
+// Block level, where the spheres' bands differ: gold and a nearly transparent sphere (eps =
+// 1.001, T_l ~ 1e-3 smaller, so its columns reach the negligible level at other rows) built
+// together and each alone: the same recorded bands and zeros, entries within 1e-9
+// (compare_sphere_blocks, the band builder's check against the full-range build).
+TEST(SharedScan, BlocksBuiltTogetherEqualEachBuiltAlone) {
+  const double R = 20e-6, L = 100e-9, D = R + L;  // R/L = 200
+  const double xi = kSpeedOfLight / (2.0 * L);
+  const double kappa = xi / kSpeedOfLight;
+  const int lmax = 700;
+  const auto vacuum = make_vacuum();
+  const SphereBody gold{
+      R, make_drude("gold-drude", 9.0 * kRadPerSecondPerEv, 0.035 * kRadPerSecondPerEv), {}};
+  const SphereBody faint{R, make_constant("eps1.001", 1.001), {}};
+  const MieLog mg = sphere_mie(gold, FieldKind::kElectromagnetic, xi, *vacuum, lmax);
+  const MieLog mf = sphere_mie(faint, FieldKind::kElectromagnetic, xi, *vacuum, lmax);
+  blocks::NodeSet ng, nf;
+  const auto& rule = special::momentum_rule(2 * lmax, 2);
+  blocks::fill_dynamic_nodes(rule, 2.0 * kappa * D, 2.0 * kappa, ng);
+  nf = ng;
+  for (std::size_t j = 0; j < ng.x.size(); ++j) ng.c_te[j] = 0.9, ng.c_tm[j] = -0.8;
+  for (std::size_t j = 0; j < nf.x.size(); ++j) nf.c_te[j] = 1e-3, nf.c_tm[j] = -2e-3;
+  const blocks::NodeSet* np[2] = {&ng, &nf};
+  const MieLog* mp[2] = {&mg, &mf};
+  int differing_bands = 0;
+  for (int m : {0, 1, 7, 40}) {
+    const auto both =
+        blocks::sphere_dynamic_blocks(FieldKind::kElectromagnetic, m, lmax, np, mp, true);
+    const LowRankBlock g =
+        blocks::sphere_dynamic_block(FieldKind::kElectromagnetic, m, lmax, ng, mg, true);
+    const LowRankBlock f =
+        blocks::sphere_dynamic_block(FieldKind::kElectromagnetic, m, lmax, nf, mf, true);
+    EXPECT_EQ(blocks::compare_sphere_blocks(both[0], g, m), "");
+    EXPECT_EQ(blocks::compare_sphere_blocks(both[1], f, m), "");
+    differing_bands += both[0].col_lo != both[1].col_lo || both[0].col_hi != both[1].col_hi;
+  }
+  EXPECT_GT(differing_bands, 0);  // the case this test is for
 }
 
 }  // namespace
