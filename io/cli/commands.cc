@@ -617,6 +617,13 @@ int run_command(const RunArgs& args, std::ostream& out, std::ostream& err) {
         geometries[0]->shares_frequency_work_with(*geometries[k]))
       companions.push_back(geometries[k].get());
   }
+  // Together, each thread holds one W block per point (bounded above by the whole per-thread
+  // figure times the points); if that does not fit, each point runs alone.
+  if (!companions.empty()) {
+    Plan together = plans[0];
+    together.memory_bytes *= 1.0 + static_cast<double>(companions.size());
+    if (!memory_problem(together, limit).empty()) companions.clear();
+  }
   for (std::size_t k = 0; k < points.size(); ++k) {
     const CaseSpec& ps = points[k].spec;
     ScanRunResult run;
