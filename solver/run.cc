@@ -37,7 +37,19 @@ PointResult run_point(const Geometry& geometry, int index, double gap, const Run
     const bool again = std::find(asked.begin(), asked.end(), xi) != asked.end();
     asked.push_back(xi);
     if (again || !(options.store && options.store->lookup(index, xi, v))) {
-      v = geometry.at_frequency_within(xi, gap, order, rel_tol);
+      std::optional<Spectral> ahead;
+      if (options.shared) ahead = options.shared->take(&geometry, gap, xi, rel_tol, order);
+      if (ahead) {
+        v = *ahead;
+      } else if (options.shared && !options.companions.empty()) {
+        const std::vector<Spectral> all =
+            geometry.at_frequency_shared(xi, gap, order, rel_tol, options.companions);
+        v = all.front();
+        for (std::size_t c = 0; c < options.companions.size(); ++c)
+          options.shared->put(options.companions[c], gap, xi, rel_tol, order, all[c + 1]);
+      } else {
+        v = geometry.at_frequency_within(xi, gap, order, rel_tol);
+      }
       if (options.store) options.store->record(index, xi, v);
     }
     if (options.frequency_progress) options.frequency_progress(index, ++evaluations);
@@ -52,6 +64,34 @@ PointResult run_point(const Geometry& geometry, int index, double gap, const Run
 }
 
 }  // namespace
+
+void SharedFrequencyValues::put(const Geometry* g, double gap, double xi, double rel_tol,
+                                DerivativeOrder order, const Spectral& s) {
+  std::lock_guard<std::mutex> lock(mutex_);
+  values_[Key{g, gap, xi, rel_tol, static_cast<int>(order)}] = s;
+  ++stored_;
+}
+
+std::optional<Spectral> SharedFrequencyValues::take(const Geometry* g, double gap, double xi,
+                                                    double rel_tol, DerivativeOrder order) {
+  std::lock_guard<std::mutex> lock(mutex_);
+  const auto it = values_.find(Key{g, gap, xi, rel_tol, static_cast<int>(order)});
+  if (it == values_.end()) return std::nullopt;
+  const Spectral s = it->second;
+  values_.erase(it);
+  ++hits_;
+  return s;
+}
+
+int SharedFrequencyValues::hits() const {
+  std::lock_guard<std::mutex> lock(mutex_);
+  return hits_;
+}
+
+int SharedFrequencyValues::stored() const {
+  std::lock_guard<std::mutex> lock(mutex_);
+  return stored_;
+}
 
 PointResult point_result(const Geometry& geometry, double gap, DerivativeOrder order,
                          FrequencySum frequencies, std::optional<PfaValues> pfa) {

@@ -4,8 +4,10 @@
 #include <atomic>
 #include <functional>
 #include <map>
+#include <mutex>
 #include <optional>
 #include <string>
+#include <tuple>
 #include <vector>
 
 #include "solver/frequency/frequency_rule.h"
@@ -35,6 +37,25 @@ class ContributionStore {
   virtual void record(int gap_index, double xi, const Spectral& s) = 0;
 };
 
+/// Values s(xi) computed ahead for other sweeps: the points of a scan whose geometries share
+/// work (Geometry::at_frequency_shared) are computed together while the first point runs, and
+/// the later points find their values here. Keyed by geometry, gap, xi, rel_tol and order; each
+/// value is handed out once. Thread-safe. Memory: one Spectral per frequency of the scan.
+class SharedFrequencyValues {
+ public:
+  void put(const Geometry* g, double gap, double xi, double rel_tol, DerivativeOrder order,
+           const Spectral& s);
+  std::optional<Spectral> take(const Geometry* g, double gap, double xi, double rel_tol,
+                               DerivativeOrder order);
+  int hits() const;    ///< values handed out so far
+  int stored() const;  ///< values put so far
+ private:
+  using Key = std::tuple<const Geometry*, double, double, double, int>;
+  mutable std::mutex mutex_;
+  std::map<Key, Spectral> values_;
+  int hits_ = 0, stored_ = 0;
+};
+
 struct RunOptions {
   FrequencyRuleOptions frequency;
   Quantities quantities;
@@ -54,6 +75,11 @@ struct RunOptions {
   /// frequency (sphere-plate: before every m block and W column); that frequency is abandoned
   /// and not recorded.
   const std::atomic<bool>* cancel = nullptr;
+  /// Optional (not owned): values computed ahead for this sweep are taken from `shared`, and
+  /// each s(xi) of this sweep is computed together with the `companions` (geometries of later
+  /// scan points, Geometry::at_frequency_shared), whose values are put into `shared`.
+  SharedFrequencyValues* shared = nullptr;
+  std::vector<const Geometry*> companions;
 };
 
 /// Result at one gap. Units: those of the geometry's ResultScale (solver/result_scale.h).

@@ -637,6 +637,25 @@ int run_command(const RunArgs& args, std::ostream& out, std::ostream& err) {
       for (const auto& gp : plans[j].gaps) c += gp.frequencies * gp.flops_per_frequency;
     return c;
   };
+  // Scan points that differ only where the geometry can share a frequency's work (a material
+  // scan of a sphere-plate) are computed together while the first point runs (solver/run.h).
+  SharedFrequencyValues shared;
+  std::vector<const Geometry*> companions;
+  for (std::size_t k = 1; k < points.size() && !distributed; ++k) {
+    const CaseSpec &p0 = points[0].spec, &pk = points[k].spec;
+    if (pk.gaps == p0.gaps && pk.frequency.temperature_K == p0.frequency.temperature_K &&
+        pk.frequency.rel_tol == p0.frequency.rel_tol &&
+        pk.quantities.order() == p0.quantities.order() &&
+        geometries[0]->shares_frequency_work_with(*geometries[k]))
+      companions.push_back(geometries[k].get());
+  }
+  // Together, each thread holds one W block per point (bounded above by the whole per-thread
+  // figure times the points); if that does not fit, each point runs alone.
+  if (!companions.empty()) {
+    Plan together = plans[0];
+    together.memory_bytes *= 1.0 + static_cast<double>(companions.size());
+    if (!memory_problem(together, limit).empty()) companions.clear();
+  }
   for (std::size_t k = 0; k < points.size(); ++k) {
     const CaseSpec& ps = points[k].spec;
     ScanRunResult run;
@@ -649,6 +668,8 @@ int run_command(const RunArgs& args, std::ostream& out, std::ostream& err) {
       opts.threads = args.threads;
       opts.store = journal.store(static_cast<int>(k));
       opts.cancel = &cancel_requested();
+      opts.shared = &shared;
+      if (k == 0) opts.companions = companions;
       Progress progress(err, terminal, static_cast<int>(ps.gaps.size()),
                         scan ? fmt::format("scan point {} of {}, ", k + 1, points.size()) : "");
       if (show) {

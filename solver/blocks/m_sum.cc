@@ -10,6 +10,25 @@
 #include "solver/guards.h"
 
 namespace roundtrip::blocks {
+namespace {
+
+/// The tail test of sum_over_m on one finished batch (results batch[0 .. count-1] of m0 ..
+/// m0 + count - 1) with the running total.
+bool tail_below_tolerance(const std::vector<LogDetResult>& batch, int count, const Spectral& total,
+                          DerivativeOrder order, double tol) {
+  bool done = true;
+  for (int c = 0; c < 1 + static_cast<int>(order); ++c) {
+    auto comp = [&](const Spectral& v) { return c == 0 ? v.value : (c == 1 ? v.d1 : v.d2); };
+    const double first = std::abs(comp(batch[0].s)), last = std::abs(comp(batch[count - 1].s));
+    const double sum = std::abs(comp(total));
+    if (last == 0.0) continue;
+    const double r = std::pow(last / first, 1.0 / (count - 1));
+    if (!(r < 0.95) || !(2.0 * last * r / (1.0 - r) <= 0.1 * tol * sum)) done = false;
+  }
+  return done;
+}
+
+}  // namespace
 
 Spectral sum_over_m(int mlimit, bool fixed_m_max, DerivativeOrder order, double tol,
                     const std::function<LogDetResult(int)>& block,
@@ -40,16 +59,49 @@ Spectral sum_over_m(int mlimit, bool fixed_m_max, DerivativeOrder order, double 
       total += r.s * (m == 0 ? 1.0 : 2.0);
     }
     if (fixed_m_max || m1 - m0 < 2) continue;
-    bool done = true;
-    for (int c = 0; c < 1 + static_cast<int>(order); ++c) {
-      auto comp = [&](const Spectral& v) { return c == 0 ? v.value : (c == 1 ? v.d1 : v.d2); };
-      const double first = std::abs(comp(batch[0].s)), last = std::abs(comp(batch[m1 - m0 - 1].s));
-      const double sum = std::abs(comp(total));
-      if (last == 0.0) continue;
-      const double r = std::pow(last / first, 1.0 / (m1 - m0 - 1));
-      if (!(r < 0.95) || !(2.0 * last * r / (1.0 - r) <= 0.1 * tol * sum)) done = false;
-    }
+    const bool done = tail_below_tolerance(batch, m1 - m0, total, order, tol);
     if (done) break;
+  }
+  return total;
+}
+
+std::vector<Spectral> sum_over_m_many(
+    int count, int mlimit, bool fixed_m_max, DerivativeOrder order, double tol,
+    const std::function<std::vector<LogDetResult>(int, const std::vector<char>&)>& blocks,
+    const std::function<std::string(int, int, const LogDetResult&)>& fail_message) {
+  std::vector<Spectral> total(count);
+  std::vector<char> active(count, 1);
+  std::vector<std::vector<LogDetResult>> batch(kMBatch);
+  for (int m0 = 0; m0 <= mlimit; m0 += kMBatch) {
+    const int m1 = std::min(mlimit + 1, m0 + kMBatch);
+    std::exception_ptr failure;
+    std::mutex failure_mutex;
+#pragma omp parallel for schedule(dynamic, 1)
+    for (int m = m0; m < m1; ++m) {
+      try {
+        throw_if_cancelled();
+        batch[m - m0] = blocks(m, active);
+      } catch (...) {
+        std::lock_guard<std::mutex> lock(failure_mutex);
+        if (!failure) failure = std::current_exception();
+      }
+    }
+    if (failure) std::rethrow_exception(failure);
+    bool any = false;
+    for (int k = 0; k < count; ++k) {
+      if (!active[k]) continue;
+      std::vector<LogDetResult> mine(m1 - m0);
+      for (int m = m0; m < m1; ++m) {
+        mine[m - m0] = std::move(batch[m - m0][k]);
+        const LogDetResult& r = mine[m - m0];
+        if (!r.ok) throw std::runtime_error(fail_message(k, m, r));
+        total[k] += r.s * (m == 0 ? 1.0 : 2.0);
+      }
+      if (!fixed_m_max && m1 - m0 >= 2 && tail_below_tolerance(mine, m1 - m0, total[k], order, tol))
+        active[k] = 0;
+      any = any || active[k];
+    }
+    if (!any) break;
   }
   return total;
 }

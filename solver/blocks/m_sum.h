@@ -3,9 +3,10 @@
 // the same block, so m > 0 counts twice). Shared by sphere-plate and sphere-sphere.
 #include <functional>
 #include <string>
+#include <vector>
 
-#include "solver/spectral.h"
 #include "solver/logdet/low_rank.h"
+#include "solver/spectral.h"
 
 namespace roundtrip::blocks {
 
@@ -21,5 +22,14 @@ inline constexpr int kMBatch = 8;
 Spectral sum_over_m(int mlimit, bool fixed_m_max, DerivativeOrder order, double tol,
                     const std::function<LogDetResult(int)>& block,
                     const std::function<std::string(int, const LogDetResult&)>& fail_message);
+
+/// The same for `count` sums at once whose blocks are built together (spheres that differ only in
+/// their materials): blocks(m, active) returns one result per sum, computed for the sums still
+/// active (the others' entries are ignored). Each sum stops by its own tail test, after the same
+/// batches as sum_over_m would stop it, so sum k equals sum_over_m on its own blocks.
+std::vector<Spectral> sum_over_m_many(
+    int count, int mlimit, bool fixed_m_max, DerivativeOrder order, double tol,
+    const std::function<std::vector<LogDetResult>(int, const std::vector<char>&)>& blocks,
+    const std::function<std::string(int, int, const LogDetResult&)>& fail_message);
 
 }  // namespace roundtrip::blocks

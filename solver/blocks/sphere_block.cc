@@ -141,16 +141,38 @@ std::string compare_sphere_blocks(const LowRankBlock& a, const LowRankBlock& r, 
 /// node-space log det reads only the bands, low_rank.h).
 LowRankBlock sphere_dynamic_block(FieldKind field, int m, int lmax, const NodeSet& nodes,
                                   const MieLog& mie, bool write_zeros) {
+  const NodeSet* n1[1] = {&nodes};
+  const MieLog* m1[1] = {&mie};
+  return std::move(sphere_dynamic_blocks(field, m, lmax, n1, m1, write_zeros).front());
+}
+
+/// Several spheres on the same nodes (same x_j and weights; materials and reflections differ):
+/// one Legendre recurrence per node over the union of the rows the spheres need, then each
+/// sphere's columns from it. With one sphere this is the path above.
+std::vector<LowRankBlock> sphere_dynamic_blocks(FieldKind field, int m, int lmax,
+                                                std::span<const NodeSet* const> node_sets,
+                                                std::span<const MieLog* const> mies,
+                                                bool write_zeros) {
   const bool em = field == FieldKind::kElectromagnetic;
   const int lmin = em ? std::max(1, m) : m;
   const int nl = lmax - lmin + 1;
+  const int K = static_cast<int>(mies.size());
+  const NodeSet& nodes = *node_sets[0];  // x, half_log_w shared by all
   const int N = static_cast<int>(nodes.x.size());
-  LowRankBlock b;
-  b.resize(em ? 2 * nl : nl, em ? 2 * N : N);
-  thread_local Eigen::ArrayXd hte, htm, hmax, pm, pm1, lt, lp, col;
-  dynamic_rows(field, m, lmax, mie, b, hte, htm);
-  hmax = em ? hte.max(htm).eval() : hte;
-  BandedWriter w(b, em ? std::vector<int>{0, nl, 2 * nl} : std::vector<int>{0, nl}, write_zeros);
+  std::vector<LowRankBlock> blocks(K);
+  thread_local std::vector<Eigen::ArrayXd> hte_k, htm_k;
+  thread_local Eigen::ArrayXd hmax, pm, pm1, lt, lp, col;
+  if (static_cast<int>(hte_k.size()) < K) hte_k.resize(K), htm_k.resize(K);
+  std::vector<BandedWriter> writers;
+  writers.reserve(K);
+  for (int k = 0; k < K; ++k) {
+    blocks[k].resize(em ? 2 * nl : nl, em ? 2 * N : N);
+    dynamic_rows(field, m, lmax, *mies[k], blocks[k], hte_k[k], htm_k[k]);
+    const Eigen::ArrayXd hk = em ? hte_k[k].max(htm_k[k]).eval() : hte_k[k];
+    hmax = k == 0 ? hk : hmax.max(hk).eval();
+    writers.emplace_back(blocks[k], em ? std::vector<int>{0, nl, 2 * nl} : std::vector<int>{0, nl},
+                         write_zeros);
+  }
   const double log_m = m > 0 ? std::log(double(m)) : 0.0;
   // Nodes by increasing x (the rule lists them panel by panel), so that each band is close
   // to the previous one.
@@ -223,14 +245,17 @@ LowRankBlock sphere_dynamic_block(FieldKind field, int m, int lmax, const NodeSe
           ok_hi = ok_hi && a + hw < kLogNegligible && a < c;
         }
       };
-      if (!em) {
-        check(hte, P);
-      } else {
-        check(hte, LT);
-        check(htm, LT);
-        if (m > 0) {
-          check(hte, LP);
-          check(htm, LP);
+      for (int k = 0; k < K; ++k) {
+        const Eigen::ArrayXd &hte = hte_k[k], &htm = htm_k[k];
+        if (!em) {
+          check(hte, P);
+        } else {
+          check(hte, LT);
+          check(htm, LT);
+          if (m > 0) {
+            check(hte, LP);
+            check(htm, LP);
+          }
         }
       }
       if (ok_lo && ok_hi) break;
@@ -239,70 +264,78 @@ LowRankBlock sphere_dynamic_block(FieldKind field, int m, int lmax, const NodeSe
       if (!ok_hi) hi = std::min(nl, hi + grow);
     }
     const int n = hi - lo;
-    auto put = [&](int c, int group, const Eigen::ArrayXd& h0, const auto& f) {
-      const int row0 = group == 0 ? 0 : nl;
-      auto dst = b.W.col(c).segment(row0, nl);
-      if (write_zeros) {
-        dst.head(lo).setZero();
-        dst.tail(nl - hi).setZero();
+    for (int k = 0; k < K; ++k) {
+      LowRankBlock& b = blocks[k];
+      BandedWriter& w = writers[k];
+      const Eigen::ArrayXd &hte = hte_k[k], &htm = htm_k[k];
+      auto put = [&](int c, int group, const Eigen::ArrayXd& h0, const auto& f) {
+        const int row0 = group == 0 ? 0 : nl;
+        auto dst = b.W.col(c).segment(row0, nl);
+        if (write_zeros) {
+          dst.head(lo).setZero();
+          dst.tail(nl - hi).setZero();
+        }
+        col.head(n) = h0.segment(lo, n) + hw + f;
+        w.put_column(c, row0 + lo, group, col.head(n));
+      };
+      // m > 0 from the values: with rho = Pt^{m+1}/Pt^m, p = (m/s) Pt^m and t = (m x/s + rho) Pt^m,
+      // the four columns are E_TE (m x/s + rho), E_TM m/s, E_TE m/s, E_TM (m x/s + rho) with
+      // E = a_l sqrt|T_l| sqrt(Omega_j) Pt^m: three exponentials per row instead of an exp and a
+      // log for t and four exponentials (the same entries up to rounding; E stays in range:
+      // entries above e^-41 need E > e^-41 / (m x/s + rho), and rho is at most ~ l^2).
+      auto put_values = [&](int c, int group, const Eigen::ArrayXd& v) {
+        const int row0 = group == 0 ? 0 : nl;
+        auto dst = b.W.col(c).segment(row0, nl);
+        if (write_zeros) {
+          dst.head(lo).setZero();
+          dst.tail(nl - hi).setZero();
+        }
+        w.put_values(c, row0 + lo, group, v);
+      };
+      if (!em) {
+        put(j, 0, hte, pm.head(n));
+      } else if (m > 0 && n >= 4) {
+        const double inv_s = std::exp(-log_s), pf = m * inv_s, tf = m * x * inv_s;
+        thread_local Eigen::ArrayXd ete, etm, rho, v;
+        for (auto* a : {&ete, &etm, &rho, &v}) a->resize(n);
+        ete = (hte.segment(lo, n) + hw + pm.head(n)).exp();
+        etm = (htm.segment(lo, n) + hw + pm.head(n)).exp();
+        rho = (pm1.head(n) - pm.head(n)).exp() + tf;  // m x/s + rho
+        v = ete * rho;
+        put_values(j, 0, v);  // u_j, TE rows
+        v = etm * pf;
+        put_values(j, 1, v);  // u_j, TM rows
+        v = ete * pf;
+        put_values(N + j, 0, v);  // v_j, TE rows
+        v = etm * rho;
+        put_values(N + j, 1, v);  // v_j, TM rows
+      } else {
+        put(j, 0, hte, lt.head(n));      // u_j, TE rows
+        put(j, 1, htm, lp.head(n));      // u_j, TM rows
+        put(N + j, 0, hte, lp.head(n));  // v_j, TE rows
+        put(N + j, 1, htm, lt.head(n));  // v_j, TM rows
       }
-      col.head(n) = h0.segment(lo, n) + hw + f;
-      w.put_column(c, row0 + lo, group, col.head(n));
-    };
-    // m > 0 from the values: with rho = Pt^{m+1}/Pt^m, p = (m/s) Pt^m and t = (m x/s + rho) Pt^m,
-    // the four columns are E_TE (m x/s + rho), E_TM m/s, E_TE m/s, E_TM (m x/s + rho) with
-    // E = a_l sqrt|T_l| sqrt(Omega_j) Pt^m: three exponentials per row instead of an exp and a
-    // log for t and four exponentials (the same entries up to rounding; E stays in range:
-    // entries above e^-41 need E > e^-41 / (m x/s + rho), and rho is at most ~ l^2).
-    auto put_values = [&](int c, int group, const Eigen::ArrayXd& v) {
-      const int row0 = group == 0 ? 0 : nl;
-      auto dst = b.W.col(c).segment(row0, nl);
-      if (write_zeros) {
-        dst.head(lo).setZero();
-        dst.tail(nl - hi).setZero();
-      }
-      w.put_values(c, row0 + lo, group, v);
-    };
-    if (!em) {
-      put(j, 0, hte, pm.head(n));
-    } else if (m > 0 && n >= 4) {
-      const double inv_s = std::exp(-log_s), pf = m * inv_s, tf = m * x * inv_s;
-      thread_local Eigen::ArrayXd ete, etm, rho, v;
-      for (auto* a : {&ete, &etm, &rho, &v}) a->resize(n);
-      ete = (hte.segment(lo, n) + hw + pm.head(n)).exp();
-      etm = (htm.segment(lo, n) + hw + pm.head(n)).exp();
-      rho = (pm1.head(n) - pm.head(n)).exp() + tf;  // m x/s + rho
-      v = ete * rho;
-      put_values(j, 0, v);  // u_j, TE rows
-      v = etm * pf;
-      put_values(j, 1, v);  // u_j, TM rows
-      v = ete * pf;
-      put_values(N + j, 0, v);  // v_j, TE rows
-      v = etm * rho;
-      put_values(N + j, 1, v);  // v_j, TM rows
-    } else {
-      put(j, 0, hte, lt.head(n));      // u_j, TE rows
-      put(j, 1, htm, lp.head(n));      // u_j, TM rows
-      put(N + j, 0, hte, lp.head(n));  // v_j, TE rows
-      put(N + j, 1, htm, lt.head(n));  // v_j, TM rows
     }
     // this node's band (union over its columns), the next node's first guess
     prev_rows_lo = lo;
     prev_rows_hi = hi;
     prev_lo = nl;
     prev_hi = 0;
-    for (int c : {j, N + j}) {
-      if (c >= b.W.cols()) continue;
-      for (int g = 0; g < (em ? 2 : 1); ++g) {
-        const int clo = b.col_lo[c * (em ? 2 : 1) + g], chi = b.col_hi[c * (em ? 2 : 1) + g];
-        if (chi <= clo) continue;
-        prev_lo = std::min(prev_lo, clo - g * nl);
-        prev_hi = std::max(prev_hi, chi - g * nl);
+    for (int k = 0; k < K; ++k) {
+      const LowRankBlock& b = blocks[k];
+      for (int c : {j, N + j}) {
+        if (c >= b.W.cols()) continue;
+        for (int g = 0; g < (em ? 2 : 1); ++g) {
+          const int clo = b.col_lo[c * (em ? 2 : 1) + g], chi = b.col_hi[c * (em ? 2 : 1) + g];
+          if (chi <= clo) continue;
+          prev_lo = std::min(prev_lo, clo - g * nl);
+          prev_hi = std::max(prev_hi, chi - g * nl);
+        }
       }
+      set_node_coefficients(*node_sets[k], j, em, blocks[k]);
     }
-    set_node_coefficients(nodes, j, em, b);
   }
-  return b;
+  return blocks;
 }
 
 LowRankBlock sphere_dynamic_block_full_range(FieldKind field, int m, int lmax, const NodeSet& nodes,

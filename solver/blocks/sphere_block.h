@@ -6,7 +6,9 @@
 // sqrt|T_l| a_l and the node weight sqrt(Omega_j); S = (sign T^TE, -sign T^TM). Formulas and
 // signs in sphere_plate.cc and DEVELOPERS.md ("Sphere-plate round trip"). c, f1, f2 are copied
 // from the NodeSet (c_te on TE columns, c_tm on TM columns).
+#include <span>
 #include <string>
+#include <vector>
 
 #include "solver/blocks/plane_wave_nodes.h"
 #include "solver/logdet/low_rank.h"
@@ -19,6 +21,16 @@ namespace roundtrip::blocks {
 /// unset outside the recorded bands).
 LowRankBlock sphere_dynamic_block(FieldKind field, int m, int lmax, const NodeSet& nodes,
                                   const MieLog& mie, bool write_zeros);
+
+/// The blocks of several spheres that differ only in their materials (Mie amplitudes) and the
+/// reflection factors c of their node sets, on the same nodes (x, weights, f1, f2 of
+/// node_sets[0]): the Legendre recurrences are run once per node over the union of the rows
+/// the spheres need. Each block equals sphere_dynamic_block's up to rounding (the recurrence may
+/// start at a lower row); with one sphere it is sphere_dynamic_block.
+std::vector<LowRankBlock> sphere_dynamic_blocks(FieldKind field, int m, int lmax,
+                                                std::span<const NodeSet* const> node_sets,
+                                                std::span<const MieLog* const> mies,
+                                                bool write_zeros);
 
 /// xi > 0, every column over all rows (the reference path; same W up to rounding).
 LowRankBlock sphere_dynamic_block_full_range(FieldKind field, int m, int lmax, const NodeSet& nodes,

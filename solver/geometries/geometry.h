@@ -76,6 +76,20 @@ class Geometry {
                                        double /*rel_tol*/) const {
     return at_frequency(xi, gap, order);
   }
+  /// True if at_frequency_shared with `other` saves work: the same shapes, medium and numerics,
+  /// other materials (e.g. the points of a `[scan] material = [...]`). Default: false.
+  virtual bool shares_frequency_work_with(const Geometry& /*other*/) const { return false; }
+  /// s(xi) of this geometry ([0]) and of each of `others` ([1], ...) at the same xi, gap, order
+  /// and rel_tol, each equal to its own at_frequency_within up to rounding. A geometry for which
+  /// shares_frequency_work_with(other) holds computes them in one pass; the default computes
+  /// each alone.
+  virtual std::vector<Spectral> at_frequency_shared(
+      double xi, double gap, DerivativeOrder order, double rel_tol,
+      const std::vector<const Geometry*>& others) const {
+    std::vector<Spectral> v{at_frequency_within(xi, gap, order, rel_tol)};
+    for (const Geometry* g : others) v.push_back(g->at_frequency_within(xi, gap, order, rel_tol));
+    return v;
+  }
   /// How results are normalised (solver/result_scale.h): total (J, N, N/m), per area (plates,
   /// gratings: J/m^2, Pa, Pa/m) or per length (cylinders: J/m, N/m, N/m^2).
   virtual ResultScale scale() const = 0;

@@ -139,6 +139,69 @@ class SpherePlate final : public Geometry {
     });
   }
 
+  /// Spheres over plates that differ only in materials (the points of a material scan): same
+  /// radius, shell thicknesses, field and numerics. The medium is compared at each frequency.
+  bool shares_frequency_work_with(const Geometry& other) const override {
+    const auto* p = dynamic_cast<const SpherePlate*>(&other);
+    if (p == nullptr || p == this) return false;
+    const SpherePlateOptions &a = o_, &b = p->o_;
+    if (a.radius != b.radius || a.field != b.field || a.rel_tol != b.rel_tol ||
+        a.l_max != b.l_max || a.m_max != b.m_max || a.nodes_per_unit != b.nodes_per_unit ||
+        a.node_solver != b.node_solver || a.w_build != WBuild::kBand ||
+        b.w_build != WBuild::kBand || a.shells.size() != b.shells.size())
+      return false;
+    for (std::size_t i = 0; i < a.shells.size(); ++i)
+      if (a.shells[i].thickness != b.shells[i].thickness) return false;
+    return true;
+  }
+
+  /// xi > 0: l_max, the momentum nodes x_j and their weights depend on xi, L, rel_tol and the
+  /// medium only, so the spheres share them and the Legendre recurrences of their W columns
+  /// (sphere_dynamic_blocks: one recurrence per node over the union of the rows the spheres
+  /// need; measured ~20 % of a frequency's time at R/L = 100). Mie amplitudes, plate
+  /// reflections and the log dets are each sphere's own, and each m sum stops by its own test
+  /// (sum_over_m_many), so every value equals its at_frequency_within up to rounding.
+  std::vector<Spectral> at_frequency_shared(
+      double xi, double gap, DerivativeOrder order, double rel_tol,
+      const std::vector<const Geometry*>& others) const override {
+    std::vector<const SpherePlate*> all{this};
+    bool together = xi > 0.0 && o_.w_build == WBuild::kBand;
+    for (const Geometry* g : others) {
+      const auto* p = dynamic_cast<const SpherePlate*>(g);
+      together = together && p != nullptr && shares_frequency_work_with(*p) &&
+                 p->o_.medium->epsilon(xi) == o_.medium->epsilon(xi) &&
+                 p->frequency_scale(gap) == frequency_scale(gap);
+      all.push_back(p);
+    }
+    if (!together) return Geometry::at_frequency_shared(xi, gap, order, rel_tol, others);
+    const double tol = rel_tol > 0.0 && rel_tol < 0.1 ? rel_tol : o_.rel_tol;
+    const int lmax = lmax_for(gap, tol, xi, order);
+    const int K = static_cast<int>(all.size());
+    std::vector<NodeSet> nodes(K);
+    std::vector<MieLog> mie(K);
+    for (int k = 0; k < K; ++k) all[k]->prepare_dynamic(xi, gap, lmax, tol, nodes[k], mie[k]);
+    const int mlimit = o_.m_max >= 0 ? std::min(o_.m_max, lmax) : lmax;
+    return blocks::sum_over_m_many(
+        K, mlimit, o_.m_max >= 0, order, tol,
+        [&](int m, const std::vector<char>& active) {
+          std::vector<const NodeSet*> np;
+          std::vector<const MieLog*> mp;
+          std::vector<int> which;
+          for (int k = 0; k < K; ++k)
+            if (active[k]) np.push_back(&nodes[k]), mp.push_back(&mie[k]), which.push_back(k);
+          std::vector<LowRankBlock> b = sphere_dynamic_blocks(o_.field, m, lmax, np, mp, false);
+          std::vector<LogDetResult> r(K);
+          for (std::size_t i = 0; i < which.size(); ++i)
+            r[which[i]] = logdet_one_minus(b[i], order, o_.node_solver);
+          return r;
+        },
+        [&](int k, int m, const LogDetResult& r) {
+          return fmt::format(
+              "sphere-plate ({}): xi = {:.6g} rad/s, L = {:.6g} m, m = {}: {} (l_max = {})",
+              all[k]->describe(), xi, gap, m, r.message, lmax);
+        });
+  }
+
   /// Sum over m of the block log dets (solver/blocks/m_sum.h).
   template <class BlockLogDet>
   Spectral sum_over_m(int mlimit, DerivativeOrder order, double tol, double xi, double gap,
