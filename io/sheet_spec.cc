@@ -202,4 +202,20 @@ PlanarPtr d_parameters_from_toml(const toml::node& node, const std::string& fiel
   }
 }
 
+double ionic_strength_from_toml(const toml::node& node, const std::string& field,
+                                const Material& medium) {
+  const double v = number_with_unit(
+      node, field, {{"mol/L", 1e3}, {"M", 1e3}, {"mmol/L", 1.0}, {"mM", 1.0}, {"mol/m^3", 1.0}},
+      "\"0.1 mol/L\"");
+  // 10 mol/L: beyond any salt's solubility in water; the Debye-Hueckel picture fails long before.
+  if (v > 1e4) throw error_at(node, field, "must be at most 10 mol/L");
+  const StaticLimit m = medium.static_limit();
+  if (m.is_conductor() || !(m.static_eps > 1.0))
+    throw error_at(node, field,
+                   fmt::format("ions need a dielectric solvent with eps(0) > 1 as [medium] "
+                               "material (e.g. \"water\"); '{}' is not one",
+                               medium.name()));
+  return v;
+}
+
 }  // namespace roundtrip::io

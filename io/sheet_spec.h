@@ -32,4 +32,11 @@ PlanarPtr screening_from_toml(const toml::node& screening, const std::string& fi
 PlanarPtr d_parameters_from_toml(const toml::node& node, const std::string& field,
                                  MaterialPtr substrate);
 
+/// [medium] ionic_strength = "0.1 mol/L" (also "M", "mM", "mmol/L", "mol/m^3"): the ionic
+/// strength I = (1/2) sum c_i z_i^2 of the gap medium in mol/m^3, 0 to 10 mol/L; the medium must
+/// be a dielectric with finite eps(0) > 1 (not vacuum). Throws CaseError naming file:line, key and
+/// value.
+double ionic_strength_from_toml(const toml::node& node, const std::string& field,
+                                const Material& medium);
+
 }  // namespace roundtrip::io

@@ -41,6 +41,8 @@ struct GeometryKind {
   ResultScale scale = ResultScale::kTotal;  ///< must equal the built Geometry's scale()
   bool scalar_fields = false;               ///< accepts field = "dirichlet" | "neumann"
   std::vector<std::string> numerics_keys;   ///< [numerics] keys beyond rel_tol, frequency_rule
+  /// Accepts [medium] ionic_strength (ions screening the static TM term, planar/electrolyte.h).
+  bool electrolyte = false;
   bool offsets = false;  ///< reads [offsets] (lateral offsets of the upper body, offsets_spec.h)
   /// Extra result columns L^p E for each p (the table's "L³E", HDF5 results/energy_gap<p> in
   /// J m^p): atom-plate gives {3, 4}, whose plateaus are -C3 (non-retarded) and -C4 (retarded).
