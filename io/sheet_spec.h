@@ -20,7 +20,9 @@ PlanarPtr sheet_from_toml(const toml::node& sheet, const std::string& field, Mat
 
 /// plate.screening = { carrier_density = "1e18 cm^-3" } or { debye_length = "4 nm" }: the
 /// Debye-Hueckel screened static TM reflection of a dielectric plate (solver/planar/screened.h);
-/// the temperature comes from [conditions] when the geometry is built. carrier_density in m^-3
+/// the temperature comes from [conditions] when the geometry is built. Optional with
+/// carrier_density: statistics = "boltzmann" (default) | "fermi-dirac" | "thomas-fermi", the
+/// last two with mass_ratio = m*/m_e (1e-3 to 1e3). carrier_density in m^-3
 /// or cm^-3 (> 0, at most 1e30 m^-3); throws CaseError naming file:line, key and value.
 PlanarPtr screening_from_toml(const toml::node& screening, const std::string& field,
                               MaterialPtr substrate);
