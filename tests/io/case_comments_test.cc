@@ -1,7 +1,7 @@
 // Every shipped case opens with the command that runs it and what it prints (DEVELOPERS.md):
 // run each case as its comment says and require every documented output line to be in the real
 // output (issue 16: the AFM case had drifted in the 6th-7th digit). Lines not checked: the
-// command itself and further commands (`./build/roundtrip plot ...`), "results: ..." (its timing varies), and "..." / "(...)" elisions; a line
+// command itself, "results: ..." (its timing varies), and "..." / "(...)" elisions; a line
 // starting "... " is checked from after the dots, unless an elision "(...)" follows them. Values
 // are compared as printed (design: the comment is a copy of the output).
 #include <fmt/format.h>
@@ -28,7 +28,6 @@ std::vector<std::string> documented_lines(const std::string& text) {
   std::istringstream in(text);
   std::string line;
   bool after_command = false;
-  bool continued = false;
   while (std::getline(in, line)) {
     if (!line.starts_with("#")) break;  // the opening comment ends at the first key
     if (line.starts_with("#   ./build/roundtrip run")) {
@@ -41,11 +40,6 @@ std::vector<std::string> documented_lines(const std::string& text) {
     while (!s.empty() && s.back() == ' ') s.pop_back();
     if (s.empty() || s.starts_with("(") || s.starts_with("results:") || s == "...") continue;
     if (s.starts_with("\"")) continue;  // the rest of an elision "(... \n "...")"
-    // A further command (plot, compare), not output, with its continuation lines.
-    if (continued || s.starts_with("./build/roundtrip ")) {
-      continued = s.ends_with("\\");
-      continue;
-    }
     if (s.starts_with("... ")) {
       s = s.substr(4);
       s.erase(0, s.find_first_not_of(' '));
