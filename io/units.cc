@@ -3,10 +3,13 @@
 #include <fmt/format.h>
 
 #include <array>
+#include <cctype>
 #include <charconv>
 #include <cmath>
+#include <regex>
 #include <sstream>
 #include <utility>
+#include <vector>
 
 #include "solver/constants.h"
 
@@ -254,6 +257,75 @@ double parse_quantity_string(std::string_view text, Dimension dim, const std::st
   const std::string why = parse_text(text, dim, out);
   if (!why.empty())
     throw CaseError(fmt::format("{} = \"{}\": {}", printable(field), printable(text), why));
+  return out;
+}
+
+namespace {
+// Every string of a TOML node tree that parses as a length: (metres, unit as written).
+void written_lengths(const toml::node& n, std::vector<std::pair<double, std::string>>& out) {
+  if (const auto* t = n.as_table()) {
+    for (const auto& [k, v] : *t) written_lengths(v, out);
+  } else if (const auto* a = n.as_array()) {
+    for (const auto& v : *a) written_lengths(v, out);
+  } else if (const auto s = n.value<std::string>()) {
+    double metres = 0.0;
+    if (!parse_text(*s, Dimension::kLength, metres).empty() || !(metres > 0.0)) return;
+    // The unit is what follows the number ("10 um" -> "um", "1.5e3nm" -> "nm").
+    std::size_t at = s->find_first_not_of(" \t");
+    at = s->find_first_not_of("+-0123456789.eE", at);
+    if (at == std::string::npos) return;
+    std::string unit = s->substr(at);
+    unit.erase(0, unit.find_first_not_of(' '));
+    double factor = 0.0;
+    if (unit.empty() || !parse_text("1 " + unit, Dimension::kLength, factor).empty()) return;
+    out.emplace_back(metres, unit);
+  }
+}
+}  // namespace
+
+std::string lengths_in_case_units(const std::string& text, const std::string& case_text) {
+  std::vector<std::pair<double, std::string>> written;
+  try {
+    written_lengths(toml::parse(case_text), written);
+  } catch (const std::exception&) {
+    // Not TOML (never for a parsed case): fall back to units by size.
+  }
+  // "<number> m" not followed by a letter, digit, '/', '^' (nor, checked below, a non-ASCII
+  // suffix such as "m²").
+  static const std::regex re(R"((-?[0-9]+(?:\.[0-9]*)?(?:[eE][-+]?[0-9]+)?) m(?![A-Za-z0-9/^]))");
+  constexpr double kSame = 1e-5;  // descriptions print 6 significant digits
+  std::string out;
+  auto last = text.cbegin();
+  for (std::sregex_iterator it(text.begin(), text.end(), re), end; it != end; ++it) {
+    const auto& m = *it;
+    // A digit or letter right before the number: part of a longer token (e.g. "x2 m").
+    if (m.position(0) > 0) {
+      const char before = text[m.position(0) - 1];
+      if (std::isalnum(static_cast<unsigned char>(before)) || before == '.' || before == '_')
+        continue;
+    }
+    if (m[0].second != text.cend() && static_cast<unsigned char>(*m[0].second) >= 0x80) continue;
+    const double v = std::stod(m[1].str());
+    std::string unit = "m";
+    double factor = 1.0;
+    bool found = false;
+    for (const auto& [metres, u] : written)
+      if (std::abs(v - metres) <= kSame * metres) {
+        unit = u;
+        parse_text("1 " + u, Dimension::kLength, factor);
+        found = true;
+        break;
+      }
+    if (!found && v != 0.0 && std::abs(v) < 1.0) {
+      const double a = std::abs(v);
+      unit = a < 1e-6 ? "nm" : a < 1e-3 ? "um" : "mm";
+      factor = a < 1e-6 ? 1e-9 : a < 1e-3 ? 1e-6 : 1e-3;
+    }
+    out.append(last, m[0].first);
+    out += fmt::format("{:.6g} {}", v / factor, unit);
+    last = m[0].second;
+  }
+  out.append(last, text.cend());
   return out;
 }
 

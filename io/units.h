@@ -41,4 +41,10 @@ std::string value_text(const toml::node& node);
 /// A CaseError "<file>:<line>: <field> = <value>: <what>".
 CaseError error_at(const toml::node& node, const std::string& field, const std::string& what);
 
+/// `text` (a solver's description, SI lengths printed as "<number> m") with each such length
+/// in the unit the case file wrote it in: "R = 1e-05 m" becomes "R = 10 um" when the case says
+/// radius = "10 um" (a written length equal to 6 significant digits). Lengths the case did not
+/// write take nm, um or mm by size (below 1 um, 1 mm, 1 m); 0 and lengths from 1 m up stay in m.
+std::string lengths_in_case_units(const std::string& text, const std::string& case_text);
+
 }  // namespace roundtrip::io

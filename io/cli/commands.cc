@@ -15,6 +15,8 @@
 #include <cstdlib>
 #include <filesystem>
 #include <iostream>
+#include <map>
+#include <memory>
 #include <optional>
 #include <thread>
 
@@ -23,6 +25,7 @@
 #include "io/csv_export.h"
 #include "io/errors.h"
 #include "io/journal.h"
+#include "io/material_spec.h"
 #include "io/output_units.h"
 #include "io/progress.h"
 #include "io/results_hdf5.h"
@@ -167,6 +170,7 @@ struct TableExport {
   std::vector<OutputUnit> units;
   std::optional<CsvTable>* csv = nullptr;  ///< created by the first table, filled by all
   std::vector<std::string> prefix_headers, prefix;
+  std::string case_text;  ///< the case file as written (its length units for the header)
 };
 
 // A column's unit: the --units entry of its dimension, else SI.
@@ -232,11 +236,13 @@ void print_results(const CaseSpec& spec, const RunResult& r, std::ostream& out,
     std::vector<std::string> crow = ex.prefix;
     crow.push_back(csv_number(p.gap / gu.factor));
     if (q.energy) row.push_back(sci(p.energy / ue.factor));
-    for (const int power : powers) row.push_back(sci(std::pow(p.gap, power) * p.energy / ue.factor));
+    for (const int power : powers)
+      row.push_back(sci(std::pow(p.gap, power) * p.energy / ue.factor));
     if (force) row.push_back(sci(p.force / uf.factor));
     if (q.gradient) row.push_back(sci(p.gradient / ug.factor));
     if (q.energy) crow.push_back(csv_number(p.energy / ue.factor));
-    for (const int power : powers) crow.push_back(csv_number(std::pow(p.gap, power) * p.energy / ue.factor));
+    for (const int power : powers)
+      crow.push_back(csv_number(std::pow(p.gap, power) * p.energy / ue.factor));
     if (force) crow.push_back(csv_number(p.force / uf.factor));
     if (q.gradient) crow.push_back(csv_number(p.gradient / ug.factor));
     if (any_pfa) {
@@ -258,7 +264,7 @@ void print_results(const CaseSpec& spec, const RunResult& r, std::ostream& out,
     if (ex.csv) (*ex.csv)->add_row(std::move(crow));
   }
   if (!spec.title.empty()) out << spec.title << "\n";
-  out << r.description << "\n";
+  out << lengths_in_case_units(r.description, ex.case_text) << "\n";
   out << rule_sentence(spec, &r) << ", rel_tol = " << spec.frequency.rel_tol
       << (u.phrase.empty() ? "" : "; values " + u.phrase) << "\n";
   out << "sign: E < 0 and F < 0 mean attraction; F = -dE/dL, F\u2032 = dF/dL\n\n";
@@ -362,7 +368,11 @@ void print_theta(const RunResult& r, std::ostream& out) {
 }
 
 // The per-gap table of a plan: truncations, estimated frequencies, blocks, memory and time.
-void print_plan(const Plan& plan, std::ostream& out) {
+// With `csv`, its rows go there too (after the `prefix` cells: the scan values), numbers at full
+// precision, memory in bytes and time in seconds; the first plan sets the columns.
+void print_plan(const Plan& plan, std::ostream& out, std::optional<CsvTable>* csv = nullptr,
+                const std::vector<std::string>& prefix_headers = {},
+                const std::vector<std::string>& prefix = {}) {
   std::vector<double> gaps;
   std::vector<std::string> names;
   for (const auto& g : plan.gaps) {
@@ -379,17 +389,39 @@ void print_plan(const Plan& plan, std::ostream& out) {
   if (dense) head.push_back("memory/thread");
   head.push_back("time");
   TextTable t(head);
+  if (csv) {
+    std::vector<std::string> ch = prefix_headers;
+    for (const auto& h : head)
+      ch.push_back(h == "memory/thread" ? "memory/thread [B]" : h == "time" ? "time [s]" : h);
+    if (!*csv) csv->emplace(ch);
+    if ((*csv)->headers() != ch)
+      throw CaseError(
+          "--csv: the scan points' plans have different columns (truncations or gap units): one "
+          "CSV file cannot hold them");
+  }
   for (const auto& g : plan.gaps) {
     std::vector<std::string> row{gap_text(g.gap, gu)};
+    std::vector<std::string> crow = prefix;
+    crow.push_back(csv_number(g.gap / gu.factor));
     for (const auto& n : names) {
       const auto it = g.truncation.find(n);
       row.push_back(it == g.truncation.end() ? "-" : fmt::format("{:g}", it->second));
+      crow.push_back(it == g.truncation.end() ? "" : csv_number(it->second));
     }
-    if (dense) row.push_back(fmt::format("{:g}", g.blocks));
+    if (dense) {
+      row.push_back(fmt::format("{:g}", g.blocks));
+      crow.push_back(csv_number(g.blocks));
+    }
     row.push_back(std::to_string(g.frequencies));
-    if (dense) row.push_back(bytes_text(g.memory_bytes));
+    crow.push_back(std::to_string(g.frequencies));
+    if (dense) {
+      row.push_back(bytes_text(g.memory_bytes));
+      crow.push_back(csv_number(g.memory_bytes));
+    }
     row.push_back(Progress::duration_text(g.seconds));
+    crow.push_back(csv_number(g.seconds));
     t.add_row(std::move(row));
+    if (csv) (*csv)->add_row(std::move(crow));
   }
   out << t.render();
 }
@@ -656,6 +688,7 @@ int run_command(const RunArgs& args, std::ostream& out, std::ostream& err) {
                            parameters_text(run.parameters));
       TableExport ex;
       ex.units = point_units[k];
+      ex.case_text = spec.text;
       if (!args.csv.empty()) {
         ex.csv = &csv_table;
         ex.prefix_headers = scan_headers;
@@ -742,13 +775,16 @@ int check_command(const CheckArgs& args, std::ostream& out, std::ostream& err) {
   const MemoryLimit limit = limit_from(args.max_memory);
   // The calibration below computes real frequencies: Ctrl-C stops it within about a second.
   const CancelScope cancel_scope(&cancel_requested());
+  if (!args.csv.empty()) check_csv_path(args.csv, "--csv");
   const CaseSpec spec = load_case(args.case_path);
   const OutputChoice where = choose_output(RunArgs{}, spec);
   { ResultsWriter probe(where.path, where.field); }  // same early check as `run`; leaves nothing
+  std::optional<CsvTable> csv_table;
+  std::vector<std::string> scan_headers;
   std::string geometry_line;
   std::string not_built;
   try {
-    geometry_line = build_geometry(spec)->describe();
+    geometry_line = lengths_in_case_units(build_geometry(spec)->describe(), spec.text);
   } catch (const CaseError& e) {
     not_built = e.what();
   }
@@ -760,7 +796,7 @@ int check_command(const CheckArgs& args, std::ostream& out, std::ostream& err) {
   row("geometry",
       spec.kind->name + (spec.kind->scalar_fields ? ", field: " + spec.field : std::string()));
   if (!geometry_line.empty()) row("bodies", geometry_line);
-  for (const auto& b : spec.bodies) row(b.table, b.describe());
+  for (const auto& b : spec.bodies) row(b.table, lengths_in_case_units(b.describe(), spec.text));
   const auto& nk = spec.kind->numerics_keys;
   if (std::find(nk.begin(), nk.end(), "l_max") != nk.end())
     row("l_max", spec.l_max == 0 ? std::string("automatic") : std::to_string(spec.l_max));
@@ -784,6 +820,7 @@ int check_command(const CheckArgs& args, std::ostream& out, std::ostream& err) {
     row("note", "`roundtrip run` will fail: " + not_built);
   } else {
     const auto points = scan_points(spec);
+    for (const auto& [key, value] : points.front().parameters) scan_headers.push_back(key);
     if (!spec.scan.empty()) {
       std::string axes;
       for (const auto& a : spec.scan)
@@ -795,13 +832,42 @@ int check_command(const CheckArgs& args, std::ostream& out, std::ostream& err) {
     }
     double total = 0.0, memory = 0.0;
     std::string how, memory_warning;
-    for (std::size_t k = 0; k < points.size(); ++k) {
-      const CaseSpec& ps = points[k].spec;
-      const auto g = build_geometry(ps);
+    // Scan points whose model plans are equal (same gaps, truncations, frequencies and model
+    // flops: a scan over materials or surface models of one shape) share one timing, and the
+    // budget is split over the distinct plans only: with a quarter of the budget each, the four
+    // wafers of cases/doped_silicon_under_gold_sphere.toml were extrapolated from too short a
+    // ladder and estimated anywhere from 29 s to 4 h (the run: ~5 s).
+    std::vector<std::shared_ptr<Geometry>> geometries;
+    std::vector<RunOptions> options;
+    std::vector<Plan> model_plans;
+    std::vector<std::string> signatures;
+    for (const auto& point : points) {
+      const CaseSpec& ps = point.spec;
+      geometries.push_back(build_geometry(ps));
       RunOptions opts;
       opts.frequency = ps.frequency;
       opts.quantities = ps.quantities;
       opts.threads = args.threads;
+      options.push_back(opts);
+      model_plans.push_back(make_plan(*geometries.back(), ps.gaps, opts, PlanCalibration{}));
+      std::string sig = fmt::format("{} {}|", geometries.back()->parallel_inside(),
+                                    static_cast<int>(ps.quantities.order()));
+      for (const auto& gp : model_plans.back().gaps) {
+        sig += fmt::format("{:a} {} {:a} {:a}", gp.gap, gp.frequencies, gp.blocks,
+                           gp.flops_per_frequency);
+        for (const auto& [name, v] : gp.truncation) sig += fmt::format(" {}={:a}", name, v);
+        sig += ";";
+      }
+      signatures.push_back(std::move(sig));
+    }
+    std::vector<std::string> distinct = signatures;
+    std::sort(distinct.begin(), distinct.end());
+    distinct.erase(std::unique(distinct.begin(), distinct.end()), distinct.end());
+    std::map<std::string, Plan> timed;  // signature -> timed plan
+    for (std::size_t k = 0; k < points.size(); ++k) {
+      const CaseSpec& ps = points[k].spec;
+      const auto& g = geometries[k];
+      const RunOptions& opts = options[k];
       const std::string where =
           spec.scan.empty()
               ? std::string()
@@ -816,16 +882,20 @@ int check_command(const CheckArgs& args, std::ostream& out, std::ostream& err) {
       };
       // A plan beyond what can run is printed and refused (calibrate_plan times no frequency
       // whose truncation is beyond the limit: it falls back to the matrix-product rate).
-      const std::string beyond =
-          truncation_problem(*g, make_plan(*g, ps.gaps, opts, PlanCalibration{}));
+      const std::string beyond = truncation_problem(*g, model_plans[k]);
       Plan plan;
       try {
         throw_if_cancelled();
         // Beyond what can run: nothing is timed (the plan is printed with model times).
-        plan = beyond.empty()
-                   ? timed_plan(*g, ps.gaps, opts, kCheckBudgetSeconds / points.size())
-                   : make_plan(*g, ps.gaps, opts,
-                               calibrate_plan(*g, ps.gaps, ps.frequency, ps.quantities.order()));
+        if (!beyond.empty()) {
+          plan = make_plan(*g, ps.gaps, opts,
+                           calibrate_plan(*g, ps.gaps, ps.frequency, ps.quantities.order()));
+        } else if (const auto it = timed.find(signatures[k]); it != timed.end()) {
+          plan = it->second;
+        } else {
+          plan = timed_plan(*g, ps.gaps, opts, kCheckBudgetSeconds / distinct.size());
+          timed.emplace(signatures[k], plan);
+        }
       } catch (const Cancelled&) {
         out << std::flush;
         err << "roundtrip: interrupted during `check` (its calibration times real frequencies); "
@@ -845,7 +915,9 @@ int check_command(const CheckArgs& args, std::ostream& out, std::ostream& err) {
       if (const std::string m = memory_problem(plan, limit); !m.empty() && memory_warning.empty())
         memory_warning = where + memory_refusal(m);
       heading();
-      print_plan(plan, out);
+      std::vector<std::string> prefix;
+      for (const auto& [key, value] : points[k].parameters) prefix.push_back(value);
+      print_plan(plan, out, args.csv.empty() ? nullptr : &csv_table, scan_headers, prefix);
       // A frequency rule that cannot reach rel_tol (caps), judged on the model spectrum.
       for (double gap : ps.gaps)
         if (const std::string why = frequency_rule_problem(g->frequency_scale(gap), ps.frequency);
@@ -857,14 +929,25 @@ int check_command(const CheckArgs& args, std::ostream& out, std::ostream& err) {
                                 "the run has to itself)",
                                 Progress::duration_text(total), omp_get_max_threads(),
                                 omp_get_max_threads() == 1 ? "" : "s", bytes_text(memory)));
-    row("time from", how);
+    if (!timed.empty() && timed.size() < points.size())
+      how += fmt::format(
+          "; {} of {} scan points timed, the others share the timing of the point with the same "
+          "model plan (gaps, truncations, frequencies, model flops)",
+          timed.size(), points.size());
+    row("time from", lengths_in_case_units(how, spec.text));
     row("memory limit", limit.bytes > 0.0
                             ? fmt::format("{} ({}{}{})", bytes_text(limit.bytes), limit.source,
                                           limit.note.empty() ? "" : "; ", limit.note)
                             : std::string("unknown (no /proc/meminfo): not checked"));
     if (!memory_warning.empty()) row("warning", memory_warning);
   }
-  out << "check only: no results were computed or written\n";
+  if (csv_table) {
+    write_text_file_atomically(args.csv, csv_table->render(), "--csv");
+    row("csv",
+        args.csv + " (the plan table" + (spec.scan.empty() ? "" : "s, scan values first") + ")");
+  }
+  out << "check only: no results were computed or written"
+      << (csv_table ? " (but the plan's CSV file)" : "") << "\n";
   return kExitOk;
 }
 
@@ -963,13 +1046,30 @@ int materials_list_command(std::ostream& out) {
   return kExitOk;
 }
 
-int materials_eps_command(const EpsArgs& a, std::ostream& out) {
-  const MaterialPtr m = builtin_material(a.name);
-  if (!m) {
+// NAME from the built-ins, or with --case also from the case's [materials.NAME] tables (model,
+// Drude-Lorentz or tabulated optical data, read as `run` reads them).
+MaterialPtr eps_material(const EpsArgs& a) {
+  if (a.case_path.empty()) {
+    if (MaterialPtr m = builtin_material(a.name)) return m;
     std::string known;
     for (const auto& n : builtin_material_names()) known += (known.empty() ? "" : ", ") + n;
-    throw CaseError(fmt::format("NAME = \"{}\": unknown material (built-in: {})", a.name, known));
+    throw CaseError(fmt::format(
+        "NAME = \"{}\": unknown material (built-in: {}; a case file's [materials.NAME] needs "
+        "--case CASE.toml)",
+        a.name, known));
   }
+  const CaseSpec spec = load_case(a.case_path);
+  const toml::table t = toml::parse(spec.text);
+  const MaterialResolver resolver(t["materials"].as_table(), spec.path.parent_path());
+  try {
+    return resolver.get(a.name, "NAME");
+  } catch (const CaseError& e) {
+    throw CaseError(fmt::format("--case = \"{}\": {}", a.case_path, e.what()));
+  }
+}
+
+int materials_eps_command(const EpsArgs& a, std::ostream& out) {
+  const MaterialPtr m = eps_material(a);
   const double from = parse_quantity_string(a.from, Dimension::kFrequency, "--from");
   const double to = parse_quantity_string(a.to, Dimension::kFrequency, "--to");
   if (!(from > 0.0))

@@ -44,6 +44,7 @@ struct CheckArgs {
   std::string case_path;
   int threads = 0;         ///< --threads: the thread count the plan assumes (0: all cores)
   std::string max_memory;  ///< --max-memory, as for run
+  std::string csv;         ///< --csv FILE: the plan table(s) as CSV (scan values first)
 };
 /// Prints the plan; a memory problem is a warning line with the same sentence `run` refuses
 /// with. Interrupted (SIGINT/SIGTERM during the calibration): exit kExitInterrupted.
@@ -62,7 +63,8 @@ void check_thread_count(int threads);
 int materials_list_command(std::ostream& out);
 
 struct EpsArgs {
-  std::string name;
+  std::string name;       ///< a built-in material, or with case_path one of the case's too
+  std::string case_path;  ///< --case CASE.toml: also its [materials.NAME] (models, tables)
   std::string from = "1e13 rad/s";
   std::string to = "1e17 rad/s";
   int count = 20;

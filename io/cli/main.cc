@@ -79,6 +79,9 @@ int main(int argc, char** argv) {
       ->check(CLI::PositiveNumber);
   check->add_option("--max-memory", check_args.max_memory,
                     "Warn if the planned peak memory exceeds this (as for run)");
+  check->add_option("--csv", check_args.csv,
+                    "Also write the plan table(s) to this CSV file (scan points stacked, scan "
+                    "values first; memory in bytes, time in seconds)");
 
   std::string plot_path, plot_dir;
   CLI::App* plot = app.add_subcommand(
@@ -126,9 +129,15 @@ int main(int argc, char** argv) {
   CLI::App* list =
       materials->add_subcommand("list", "Built-in materials with description and source");
   cli::EpsArgs eps_args;
-  CLI::App* eps = materials->add_subcommand("eps", "Table of eps(i xi) of a built-in material");
-  eps->add_option("NAME", eps_args.name, "Material name (see `roundtrip materials list`)")
+  CLI::App* eps = materials->add_subcommand(
+      "eps", "Table of eps(i xi) of a built-in material or of a case file's [materials.NAME]");
+  eps->add_option("NAME", eps_args.name,
+                  "Material name (see `roundtrip materials list`, or a [materials.NAME] of the "
+                  "--case file)")
       ->required();
+  eps->add_option("--case", eps_args.case_path,
+                  "Case file (TOML) whose [materials.NAME] tables (models, tabulated optical "
+                  "data) are known too");
   eps->add_option("--from", eps_args.from, "Lowest imaginary frequency, with unit")
       ->capture_default_str();
   eps->add_option("--to", eps_args.to, "Highest imaginary frequency, with unit")

@@ -53,7 +53,10 @@ inline int run_in(const std::filesystem::path& dir, const std::string& script) {
 class ScratchDirTest : public ::testing::Test {
  protected:
   void SetUp() override {
-    dir_ = fresh_dir(::testing::UnitTest::GetInstance()->current_test_info()->name());
+    std::string name = ::testing::UnitTest::GetInstance()->current_test_info()->name();
+    for (char& c : name)
+      if (c == '/') c = '_';  // parameterized tests: "Name/param"
+    dir_ = fresh_dir(name);
   }
   void TearDown() override {
     if (!HasFailure()) std::filesystem::remove_all(dir_);

@@ -11,8 +11,11 @@
 #include <cmath>
 #include <cstdlib>
 #include <filesystem>
+#include <fstream>
 #include <limits>
 #include <map>
+#include <set>
+#include <sstream>
 #include <string>
 
 namespace roundtrip::geometry {
@@ -155,6 +158,56 @@ TEST(GmshExport, PreviewCommandWritesTheCaseAtItsSmallestGap) {
   const Box& sp = boxes.at("sphere surface");
   EXPECT_NEAR(sp.lo[2], 0.2, 0.2 * kRoundOff) << "case: from = \"200 nm\"";
   EXPECT_NEAR(sp.hi[2] - sp.lo[2], 10.0, 10.0 * kRoundOff) << "case: radius = \"5 um\"";
+
+  // Issue 16, item 6: the counts printed are those of the file (it printed 1118 nodes for a file
+  // of 448), and README names the physical groups as the file has them. Read from the MSH 4.1
+  // text itself (Gmsh reference manual, "MSH file format": $Nodes and $Elements open with
+  // "numEntityBlocks numNodes|numElements minTag maxTag"; $PhysicalNames lists dim, tag, "name").
+  std::ifstream out(f.string() + ".out");
+  const std::string printed((std::istreambuf_iterator<char>(out)), {});
+  std::ifstream msh(f);
+  std::string line;
+  long file_nodes = -1, file_elements = -1;
+  std::set<std::string> file_groups;
+  while (std::getline(msh, line)) {
+    if (line == "$Nodes" || line == "$Elements") {
+      const bool nodes = line == "$Nodes";
+      std::getline(msh, line);
+      std::istringstream head(line);
+      long blocks = 0, count = 0;
+      head >> blocks >> count;
+      (nodes ? file_nodes : file_elements) = count;
+    } else if (line == "$PhysicalNames") {
+      std::getline(msh, line);
+      for (int n = std::stoi(line); n > 0 && std::getline(msh, line); --n)
+        file_groups.insert(line.substr(line.find('"') + 1, line.rfind('"') - line.find('"') - 1));
+    }
+  }
+  EXPECT_EQ(file_nodes, 448) << "the AFM case's preview as written by Gmsh 4.x here";
+  EXPECT_NE(printed.find(fmt::format("{} mesh nodes, {} triangles", file_nodes, file_elements)),
+            std::string::npos)
+      << "printed: " << printed << "file: " << file_nodes << " nodes, " << file_elements
+      << " elements (all triangles: only surface groups have elements)";
+  // The quoted group names of README's `roundtrip preview` paragraph (a sphere over a plate).
+  std::ifstream readme(fs::path(ROUNDTRIP_SOURCE_DIR) / "README.md");
+  std::string paragraph;
+  bool in = false;
+  while (std::getline(readme, line)) {
+    if (line.starts_with("roundtrip preview ")) {
+      in = true;
+      continue;
+    }
+    if (in && line.starts_with("roundtrip ")) break;
+    if (in) paragraph += line + " ";
+  }
+  std::set<std::string> readme_groups;
+  for (std::size_t a = paragraph.find('"'); a != std::string::npos;) {
+    const std::size_t b = paragraph.find('"', a + 1);
+    if (b == std::string::npos) break;
+    readme_groups.insert(paragraph.substr(a + 1, b - a - 1));
+    a = paragraph.find('"', b + 1);
+  }
+  EXPECT_EQ(readme_groups, file_groups) << "README: " << paragraph;
   fs::remove_all(f.parent_path());
 }
 

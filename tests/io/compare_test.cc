@@ -13,7 +13,7 @@
 #include <fstream>
 #include <sstream>
 
-#include "common/scratch.h"
+#include "common/cli_runner.h"
 #include "io/errors.h"
 #include "io/output_units.h"
 
@@ -249,7 +249,7 @@ namespace {
 // Through the program: a Drude/plasma scan of gold plates, "measured" values m_i (1 + 0.01 s_i)
 // with sigma_i = 0.01 |m_i| at the computed gaps of the Drude point, so that chi^2 = sum s_i^2
 // exactly (by hand: 1 + 0.25 + 4 + 0 + 2.25 + 1 + 0.01 + 0.64 = 9.15).
-class CompareCli : public roundtrip::testing::ScratchDirTest {
+class CompareCli : public roundtrip::testing::CliTest {
  protected:
   void SetUp() override {
     ScratchDirTest::SetUp();
@@ -294,11 +294,9 @@ material = ["gold-drude", "gold-plasma"]
     std::ofstream(dir_ / "data.csv") << csv.str();
     std::ofstream(dir_ / "inner.csv") << inner.str();
   }
-  int sh(const std::string& cmd) { return roundtrip::testing::run_in(dir_, cmd); }
   std::string compare(const std::string& extra) {
-    const int rc =
-        sh(fmt::format("'{}' compare r.h5 data.csv {} > out.txt 2> err.txt", ROUNDTRIP_CLI, extra));
-    return fmt::format("{}\n{}{}", rc, slurp(dir_ / "out.txt"), slurp(dir_ / "err.txt"));
+    const auto o = cli(fmt::format("compare r.h5 data.csv {}", extra));
+    return fmt::format("{}\n{}{}", o.status, o.out, o.err);
   }
 };
 

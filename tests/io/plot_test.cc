@@ -11,7 +11,7 @@
 #include <sstream>
 #include <string>
 
-#include "common/scratch.h"
+#include "common/cli_runner.h"
 
 namespace {
 
@@ -19,7 +19,7 @@ namespace fs = std::filesystem;
 
 using roundtrip::testing::slurp;
 
-class Plot : public roundtrip::testing::ScratchDirTest {
+class Plot : public roundtrip::testing::CliTest {
  protected:
   void SetUp() override {
     ScratchDirTest::SetUp();
@@ -46,9 +46,10 @@ class Plot : public roundtrip::testing::ScratchDirTest {
       EXPECT_EQ(data.substr(0, 8), std::string("\x89PNG\r\n\x1a\n", 8)) << name;
       EXPECT_EQ(data.substr(12, 4), "IHDR") << name;
     } else {
-      std::ofstream(dir_ / "svg.py") << "import sys, xml.etree.ElementTree as E\n"
-                                        "r = E.parse(sys.argv[1]).getroot()\n"
-                                        "assert r.tag.endswith('svg'), r.tag\n";
+      write("svg.py",
+            "import sys, xml.etree.ElementTree as E\n"
+            "r = E.parse(sys.argv[1]).getroot()\n"
+            "assert r.tag.endswith('svg'), r.tag\n");
       EXPECT_EQ(sh(fmt::format("/usr/bin/python3 svg.py 'plots/{}'", name)), 0) << name;
     }
   }
@@ -84,7 +85,7 @@ l_max = 30
 TEST_F(Plot, MaterialScanGivesTheDrudePlasmaPlot) {
   const std::string text =
       slurp(fs::path(ROUNDTRIP_SOURCE_DIR) / "cases" / "gold_drude_plasma_scan.toml");
-  std::ofstream(dir_ / "scan.toml") << text;
+  write("scan.toml", text);
   ASSERT_EQ(sh(fmt::format("'{}' run scan.toml --quiet -o scan.h5 > run.out 2>&1", ROUNDTRIP_CLI)),
             0);
   ASSERT_EQ(sh(fmt::format("'{}' plot scan.h5 -o plots > plot.out 2>&1", ROUNDTRIP_CLI)), 0)
@@ -98,7 +99,7 @@ TEST_F(Plot, MaterialScanGivesTheDrudePlasmaPlot) {
 TEST_F(Plot, MissingOrForeignFilesAreErrors) {
   EXPECT_NE(sh(fmt::format("'{}' plot none.h5 > plot.out 2>&1", ROUNDTRIP_CLI)), 0);
   EXPECT_NE(slurp(dir_ / "plot.out").find("RESULT = \"none.h5\": no such file"), std::string::npos);
-  std::ofstream(dir_ / "x.h5") << "not hdf5";
+  write("x.h5", "not hdf5");
   EXPECT_NE(sh(fmt::format("'{}' plot x.h5 > plot.out 2>&1", ROUNDTRIP_CLI)), 0);
   EXPECT_NE(slurp(dir_ / "plot.out").find("cannot open as HDF5"), std::string::npos);
 }

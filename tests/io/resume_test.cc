@@ -19,7 +19,7 @@
 #include <sstream>
 #include <string>
 
-#include "common/scratch.h"
+#include "common/cli_runner.h"
 #include "io/errors.h"
 #include "io/journal.h"
 
@@ -139,7 +139,7 @@ rel_tol = 1e-4
 l_max = 300
 )";
 
-class Resume : public roundtrip::testing::ScratchDirTest {
+class Resume : public roundtrip::testing::CliTest {
  protected:
   void SetUp() override {
     ScratchDirTest::SetUp();
@@ -156,22 +156,7 @@ class Resume : public roundtrip::testing::ScratchDirTest {
         ROUNDTRIP_CLI, out, out, header + records, signal));
   }
   // "SAME" if every dataset under results/ and frequencies/ is bit-identical.
-  std::string compare(const std::string& a, const std::string& b) {
-    std::ofstream(dir_ / "cmp.py") << R"PY(import sys, h5py, numpy as np
-a, b = h5py.File(sys.argv[1], "r"), h5py.File(sys.argv[2], "r")
-bad = []
-def visit(name, obj):
-    if isinstance(obj, h5py.Dataset) and not name.endswith("wall_time_s"):
-        x, y = obj[()], b[name][()]
-        if not (np.shape(x) == np.shape(y) and np.array_equal(np.asarray(x).view(np.uint8), np.asarray(y).view(np.uint8))):
-            bad.append(name)
-for g in ["results", "frequencies"]:
-    a[g].visititems(lambda n, o: visit(g + "/" + n, o))
-print("SAME" if not bad else "DIFFER " + " ".join(bad))
-)PY";
-    sh(fmt::format("/usr/bin/python3 cmp.py {} {} > cmp.txt 2>&1", a, b));
-    return slurp(dir_ / "cmp.txt");
-  }
+  std::string compare(const std::string& a, const std::string& b) { return same_results(a, b); }
 };
 
 TEST_F(Resume, KillNineMidRunThenRerunReusesContributionsAndMatchesAnUninterruptedRun) {

@@ -124,5 +124,26 @@ TEST(Units, TomlErrorsNameFileLineFieldAndValue) {
   EXPECT_NE(s.find("expected a number"), std::string::npos) << s;
 }
 
+// Issue 16, item 6: the header's lengths in the case's own units ("R = 1e-05 m" beside
+// radius = "10 um" was the complaint). Values are compared as printed (6 significant digits).
+TEST(Units, DescriptionLengthsComeBackInTheUnitsTheCaseWrote) {
+  const std::string case_text =
+      "[sphere]\nradius = \"10 um\"\n[separations]\nvalues = [\"250 nm\", \"1.5 \u00b5m\"]\n";
+  EXPECT_EQ(lengths_in_case_units("sphere (R = 1e-05 m) over gold", case_text),
+            "sphere (R = 10 um) over gold");
+  EXPECT_EQ(lengths_in_case_units("at L = 2.5e-07, 1.5e-06 m", case_text),
+            "at L = 2.5e-07, 1.5 \u00b5m")
+      << "only '<number> m' is a length; a bare number in a list stays as it is";
+  EXPECT_EQ(lengths_in_case_units("L = 2.5e-07 m and L = 1.5e-06 m", case_text),
+            "L = 250 nm and L = 1.5 \u00b5m");
+  // Not written in the case: a unit by size.
+  EXPECT_EQ(lengths_in_case_units("H = 3.2e-08 m, W = 4e-05 m, D = 0.002 m, Z = 2 m", case_text),
+            "H = 32 nm, W = 40 um, D = 2 mm, Z = 2 m");
+  // Not lengths: other units, parts of words, areas.
+  const std::string others = "p = 3e+06 1/m, v = 1.4e+06 m/s, A = 1e-12 m\u00b2, x2 m, 1e-3 mol";
+  EXPECT_EQ(lengths_in_case_units(others, case_text), others);
+  EXPECT_EQ(lengths_in_case_units("R = 1e-05 m", "not toml = ["), "R = 10 um");
+}
+
 }  // namespace
 }  // namespace roundtrip::io

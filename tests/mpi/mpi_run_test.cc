@@ -145,9 +145,11 @@ TEST_F(MpiRun, AStoppedRunResumesUnderMpiWithTheSerialNumbers) {
   const auto swap = [&](const std::string& from, const std::string& to) {
     text.replace(text.find(from), from.size(), to);
   };
-  swap("radius = \"1 um\"", "radius = \"4 um\"");
+  // (At 4 um and 4 gaps the whole run took 1.4 s on a quiet 2-core machine and could finish
+  // before the stop; 10 um and 6 gaps take several seconds.)
+  swap("radius = \"1 um\"", "radius = \"10 um\"");
   swap("values = [\"400 nm\", \"700 nm\"]",
-       "values = [\"200 nm\", \"300 nm\", \"400 nm\", \"500 nm\"]");
+       "values = [\"150 nm\", \"200 nm\", \"250 nm\", \"300 nm\", \"400 nm\", \"500 nm\"]");
   const fs::path c = write("sp.toml", text);
   ASSERT_EQ(run(0, c, dir_ / "serial.h5", "serial"), 0) << slurp(dir_ / "serial.err");
   const fs::path out = dir_ / "mpi.h5", journal = dir_ / "mpi.h5.journal";

@@ -14,7 +14,7 @@
 #include <string>
 #include <vector>
 
-#include "common/scratch.h"
+#include "common/cli_runner.h"
 
 namespace {
 
@@ -58,31 +58,13 @@ l_max = 300
 )";
 constexpr int kSphereHeaderLines = 14;  // magic, hash, 11 key lines, begin
 
-// "SAME" if every dataset under results/ and frequencies/ (but wall times) is bit-identical.
-const char* kCompare = R"PY(import sys, h5py, numpy as np
-a, b = h5py.File(sys.argv[1], "r"), h5py.File(sys.argv[2], "r")
-bad = []
-def visit(name, obj):
-    if isinstance(obj, h5py.Dataset) and not name.endswith("wall_time_s"):
-        x, y = obj[()], b[name][()]
-        if not (np.shape(x) == np.shape(y) and np.array_equal(np.asarray(x).view(np.uint8), np.asarray(y).view(np.uint8))):
-            bad.append(name)
-for g in ["results", "frequencies"]:
-    a[g].visititems(lambda n, o: visit(g + "/" + n, o))
-print("SAME" if not bad else "DIFFER " + " ".join(bad))
-)PY";
-
-class Reliability : public roundtrip::testing::ScratchDirTest {
+class Reliability : public roundtrip::testing::CliTest {
  protected:
   int run(const std::string& args, const std::string& log) {
     return sh(fmt::format("'{}' run {} --quiet > {}.out 2> {}.err", ROUNDTRIP_CLI, args, log, log));
   }
   std::string err(const std::string& log) { return slurp(dir_ / (log + ".err")); }
-  std::string compare(const std::string& a, const std::string& b) {
-    std::ofstream(dir_ / "cmp.py") << kCompare;
-    sh(fmt::format("/usr/bin/python3 cmp.py {} {} > cmp.txt 2>&1", a, b));
-    return slurp(dir_ / "cmp.txt");
-  }
+  std::string compare(const std::string& a, const std::string& b) { return same_results(a, b); }
   int attr(const std::string& file, const std::string& name) {
     sh(fmt::format(
         "/usr/bin/python3 -c 'import h5py; print(int(h5py.File(\"{}\").attrs[\"{}\"]))' > a.txt "

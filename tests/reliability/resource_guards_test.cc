@@ -16,18 +16,14 @@
 #include <string>
 #include <thread>
 
-#include "common/scratch.h"
+#include "common/cli_runner.h"
 
 namespace {
 
 namespace fs = std::filesystem;
+using roundtrip::testing::Outcome;
 using roundtrip::testing::slurp;
 using Clock = std::chrono::steady_clock;
-
-struct Outcome {
-  int status = -1;
-  std::string out, err;
-};
 
 // A started `roundtrip` process with stdout and stderr in files of the scratch directory.
 struct Child {
@@ -35,25 +31,8 @@ struct Child {
   Clock::time_point started;
 };
 
-class Guards : public roundtrip::testing::ScratchDirTest {
+class Guards : public roundtrip::testing::CliTest {
  protected:
-  void write(const std::string& name, const std::string& text) {
-    std::ofstream(dir_ / name) << text;
-  }
-  Outcome cli(const std::string& args) {
-    Outcome o;
-    o.status = sh(fmt::format("'{}' {} > out.txt 2> err.txt", ROUNDTRIP_CLI, args));
-    o.out = slurp(dir_ / "out.txt");
-    o.err = slurp(dir_ / "err.txt");
-    return o;
-  }
-  // Files in the scratch directory whose name contains `part`.
-  int files_with(const std::string& part) const {
-    int n = 0;
-    for (const auto& e : fs::directory_iterator(dir_))
-      if (e.path().filename().string().find(part) != std::string::npos) ++n;
-    return n;
-  }
   Child start(const std::vector<std::string>& args) {
     Child c;
     c.started = Clock::now();
