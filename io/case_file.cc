@@ -16,6 +16,7 @@
 #include "io/grating_spec.h"
 #include "io/material_spec.h"
 #include "io/offsets_spec.h"
+#include "io/sheet_spec.h"
 #include "io/units.h"
 #include "solver/materials/library.h"
 
@@ -960,10 +961,18 @@ CaseSpec parse_root(toml::table& root, CaseSpec spec) {
     spec.bodies.push_back(std::move(b));
   }
   if (const toml::table* m = optional_table(root, "medium", "medium")) {
-    check_keys(*m, "medium", {"material"});
+    check_keys(*m, "medium", {"material", "ionic_strength"});
     if (!m->contains("material"))
       throw table_error(*m, "medium.material", "missing required key (e.g. \"water\")");
     spec.medium = material_at(*m, "material", "medium.material");
+    if (const toml::node* in = m->get("ionic_strength")) {  // io/sheet_spec.h
+      if (!kind.electrolyte)
+        throw error_at(*in, "medium.ionic_strength",
+                       fmt::format("ions in the medium are built for plate-plate only (geometry "
+                                   "= \"{}\" has no screened static term)",
+                                   kind.name));
+      spec.ionic_strength = ionic_strength_from_toml(*in, "medium.ionic_strength", *spec.medium);
+    }
   } else {
     spec.medium = builtin_material("vacuum");
   }

@@ -63,6 +63,7 @@ struct CaseSpec {
   std::string field = "electromagnetic";  ///< kinds with scalar_fields: or dirichlet | neumann
   std::vector<BodySpec> bodies;           ///< the kind's lower and upper body, in that order
   MaterialPtr medium;                     ///< never null (vacuum by default)
+  double ionic_strength = 0.0;            ///< [medium] ionic_strength, mol/m^3 (0: no ions)
   std::vector<double> gaps;               ///< m, each > 0, in the order given
   /// Kinds with GeometryKind::offsets: lateral offsets b (m) from [offsets] (default {0}); a
   /// scan point holds one. With more than one, `scan` ends with the axis "offset".

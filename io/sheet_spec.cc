@@ -126,7 +126,7 @@ PlanarPtr screening_from_toml(const toml::node& node, const std::string& field,
   if (t == nullptr)
     throw error_at(node, field,
                    "expected { carrier_density = \"1e18 cm^-3\" } or { debye_length = \"4 nm\" }");
-  check_keys(*t, field, {"carrier_density", "debye_length"});
+  check_keys(*t, field, {"carrier_density", "debye_length", "statistics", "mass_ratio"});
   const toml::node* nn = t->get("carrier_density");
   const toml::node* ln = t->get("debye_length");
   if ((nn == nullptr) == (ln == nullptr))
@@ -144,6 +144,35 @@ PlanarPtr screening_from_toml(const toml::node& node, const std::string& field,
     if (!(l > 0.0) || !std::isfinite(l))
       throw error_at(*ln, field + ".debye_length", "must be > 0");
     s.debye_length = l;
+  }
+  // Carrier statistics (solver/planar/screened.h): Boltzmann (default), or with an effective
+  // mass Thomas-Fermi (degenerate) and Fermi-Dirac (the crossover between the two).
+  const toml::node* stn = t->get("statistics");
+  const toml::node* mn = t->get("mass_ratio");
+  if (stn != nullptr) {
+    const auto* ss = stn->as_string();
+    const std::string st = ss ? ss->get() : std::string();
+    if (st == "thomas-fermi")
+      s.statistics = CarrierStatistics::kThomasFermi;
+    else if (st == "fermi-dirac")
+      s.statistics = CarrierStatistics::kFermiDirac;
+    else if (st != "boltzmann")
+      throw error_at(*stn, field + ".statistics",
+                     "expected \"boltzmann\", \"fermi-dirac\" or \"thomas-fermi\"");
+    if (nn == nullptr)
+      throw error_at(*stn, field + ".statistics", "needs carrier_density (not debye_length)");
+  }
+  const bool needs_mass = s.statistics != CarrierStatistics::kBoltzmann;
+  if (needs_mass && mn == nullptr)
+    throw error_at(*stn, field + ".statistics",
+                   "needs mass_ratio = m*/m_e (e.g. 0.26 for electrons in silicon)");
+  if (!needs_mass && mn != nullptr)
+    throw error_at(*mn, field + ".mass_ratio",
+                   "applies to statistics = \"fermi-dirac\" or \"thomas-fermi\" only");
+  if (mn != nullptr) {
+    s.mass_ratio = parse_quantity(*mn, Dimension::kDimensionless, field + ".mass_ratio");
+    if (!(s.mass_ratio >= 1e-3 && s.mass_ratio <= 1e3))
+      throw error_at(*mn, field + ".mass_ratio", "must be between 1e-3 and 1e3 (m*/m_e)");
   }
   try {
     return make_screened_half_space(std::move(substrate), s);
@@ -200,6 +229,22 @@ PlanarPtr d_parameters_from_toml(const toml::node& node, const std::string& fiel
   } catch (const std::invalid_argument& e) {
     throw error_at(node, field, e.what());
   }
+}
+
+double ionic_strength_from_toml(const toml::node& node, const std::string& field,
+                                const Material& medium) {
+  const double v = number_with_unit(
+      node, field, {{"mol/L", 1e3}, {"M", 1e3}, {"mmol/L", 1.0}, {"mM", 1.0}, {"mol/m^3", 1.0}},
+      "\"0.1 mol/L\"");
+  // 10 mol/L: beyond any salt's solubility in water; the Debye-Hueckel picture fails long before.
+  if (v > 1e4) throw error_at(node, field, "must be at most 10 mol/L");
+  const StaticLimit m = medium.static_limit();
+  if (m.is_conductor() || !(m.static_eps > 1.0))
+    throw error_at(node, field,
+                   fmt::format("ions need a dielectric solvent with eps(0) > 1 as [medium] "
+                               "material (e.g. \"water\"); '{}' is not one",
+                               medium.name()));
+  return v;
 }
 
 }  // namespace roundtrip::io

@@ -20,7 +20,9 @@ PlanarPtr sheet_from_toml(const toml::node& sheet, const std::string& field, Mat
 
 /// plate.screening = { carrier_density = "1e18 cm^-3" } or { debye_length = "4 nm" }: the
 /// Debye-Hueckel screened static TM reflection of a dielectric plate (solver/planar/screened.h);
-/// the temperature comes from [conditions] when the geometry is built. carrier_density in m^-3
+/// the temperature comes from [conditions] when the geometry is built. Optional with
+/// carrier_density: statistics = "boltzmann" (default) | "fermi-dirac" | "thomas-fermi", the
+/// last two with mass_ratio = m*/m_e (1e-3 to 1e3). carrier_density in m^-3
 /// or cm^-3 (> 0, at most 1e30 m^-3); throws CaseError naming file:line, key and value.
 PlanarPtr screening_from_toml(const toml::node& screening, const std::string& field,
                               MaterialPtr substrate);
@@ -31,5 +33,12 @@ PlanarPtr screening_from_toml(const toml::node& screening, const std::string& fi
 /// (one pole); |d| at most 10 nm. Throws CaseError naming file:line, key and value.
 PlanarPtr d_parameters_from_toml(const toml::node& node, const std::string& field,
                                  MaterialPtr substrate);
+
+/// [medium] ionic_strength = "0.1 mol/L" (also "M", "mM", "mmol/L", "mol/m^3"): the ionic
+/// strength I = (1/2) sum c_i z_i^2 of the gap medium in mol/m^3, 0 to 10 mol/L; the medium must
+/// be a dielectric with finite eps(0) > 1 (not vacuum). Throws CaseError naming file:line, key and
+/// value.
+double ionic_strength_from_toml(const toml::node& node, const std::string& field,
+                                const Material& medium);
 
 }  // namespace roundtrip::io

@@ -41,6 +41,8 @@ struct GeometryKind {
   ResultScale scale = ResultScale::kTotal;  ///< must equal the built Geometry's scale()
   bool scalar_fields = false;               ///< accepts field = "dirichlet" | "neumann"
   std::vector<std::string> numerics_keys;   ///< [numerics] keys beyond rel_tol, frequency_rule
+  /// Accepts [medium] ionic_strength (ions screening the static TM term, planar/electrolyte.h).
+  bool electrolyte = false;
   bool offsets = false;  ///< reads [offsets] (lateral offsets of the upper body, offsets_spec.h)
   /// reads the optional [pfa_sphere] table (radius = "..."): the upper body taken as a sphere of
   /// that radius in the PFA, F = 2 pi R E(L) beside the exact per-area result (CaseSpec).

@@ -9,6 +9,7 @@
 
 #include "solver/constants.h"
 #include "solver/materials/models.h"
+#include "solver/planar/electrolyte.h"
 #include "solver/special/polylog.h"
 
 namespace roundtrip {
@@ -95,16 +96,25 @@ PlatePlate::PlatePlate(PlanarPtr a, PlanarPtr b, MaterialPtr medium, double k_re
         fmt::format("plate-plate: k_rel_tol = {} must lie in [1e-15, 1e-3]", k_rel_tol_));
 }
 
+PlatePlate::PlatePlate(PlanarPtr a, PlanarPtr b, MaterialPtr medium, double kappa_ion,
+                       double k_rel_tol)
+    : PlatePlate(std::move(a), std::move(b), std::move(medium), k_rel_tol) {
+  if (!(kappa_ion >= 0.0))
+    throw std::invalid_argument(
+        fmt::format("plate-plate: the medium's Debye constant {} 1/m must be >= 0", kappa_ion));
+  kappa_ion_ = kappa_ion;
+}
+
 namespace {
 
-// Shared driver: calls g(x, terms) for each node with the two polarisations' LogTerms.
+// Which polarisations a pass of the driver takes, and whether TM is screened by ions.
+enum class Pass { kBoth, kTeOnly, kScreenedTm };
+
+// One pass: x = 2 kappa L from x0 (kappa the decay constant of the pass), k = sqrt(y (y + 2 x0))
+// / (2L) with y = x - x0.
 template <class G>
-Triple plate_integral(const PlanarSurface& a, const PlanarSurface& b, const Material& medium,
-                      double xi, double gap, int n, double tol, G&& g) {
-  const auto ra = a.at(xi, medium);
-  const auto rb = b.at(xi, medium);
-  const double eps_m = xi > 0.0 ? medium.epsilon(xi) : medium.static_limit().static_eps;
-  const double x0 = 2.0 * gap * std::sqrt(eps_m) * xi / kSpeedOfLight;
+Triple plate_pass(const PlanarAtFrequency& ra, const PlanarAtFrequency& rb, double x0, double gap,
+                  int n, double tol, Pass pass, G&& g) {
   const double e0 = std::exp(-x0);
   if (e0 == 0.0) return Triple{};  // e^{-2 kappa L} underflows for every k
   auto f = [&](double y) {
@@ -113,12 +123,42 @@ Triple plate_integral(const PlanarSurface& a, const PlanarSurface& b, const Mate
     // TM at xi -> 0): take the limit, not 0 * inf.
     if (x == 0.0) return Triple{};
     const double k = std::sqrt(y * (y + 2.0 * x0)) / (2.0 * gap);
-    const Reflection pa = ra->reflect(k), pb = rb->reflect(k);
+    const Reflection pa = ra.reflect(k), pb = rb.reflect(k);
     const double e = e0 * std::exp(-y);
     const double em1 = std::expm1(-x);  // e - 1, accurate for small x
+    switch (pass) {
+      case Pass::kTeOnly:
+        return g(x, log_term(pa.te * pb.te, e, em1), LogTerm{});
+      case Pass::kScreenedTm: {
+        const double q = x / (2.0 * gap);
+        return g(
+            x, LogTerm{},
+            log_term(screened_static_tm(pa.tm, k, q) * screened_static_tm(pb.tm, k, q), e, em1));
+      }
+      case Pass::kBoth:
+        break;
+    }
     return g(x, log_term(pa.te * pb.te, e, em1), log_term(pa.tm * pb.tm, e, em1));
   };
   return de_integrate(f, n, tol);
+}
+
+// Shared driver: calls g(x, terms) for each node with the two polarisations' LogTerms. With ions
+// (kappa_ion > 0) the xi = 0 term is a TE pass in k plus a screened TM pass in q (plate_plate.h).
+template <class G>
+Triple plate_integral(const PlanarSurface& a, const PlanarSurface& b, const Material& medium,
+                      double xi, double gap, int n, double tol, double kappa_ion, G&& g) {
+  const auto ra = a.at(xi, medium);
+  const auto rb = b.at(xi, medium);
+  if (xi == 0.0 && kappa_ion > 0.0) {
+    const Triple te = plate_pass(*ra, *rb, 0.0, gap, n, tol, Pass::kTeOnly, g);
+    const Triple tm =
+        plate_pass(*ra, *rb, 2.0 * gap * kappa_ion, gap, n, tol, Pass::kScreenedTm, g);
+    return {te[0] + tm[0], te[1] + tm[1], te[2] + tm[2]};
+  }
+  const double eps_m = xi > 0.0 ? medium.epsilon(xi) : medium.static_limit().static_eps;
+  const double x0 = 2.0 * gap * std::sqrt(eps_m) * xi / kSpeedOfLight;
+  return plate_pass(*ra, *rb, x0, gap, n, tol, Pass::kBoth, g);
 }
 
 }  // namespace
@@ -131,7 +171,7 @@ Spectral PlatePlate::at_frequency(double xi, double gap, DerivativeOrder order) 
     return Triple{x * (te.log + tm.log), x * x * (te.rho * te.inv + tm.rho * tm.inv),
                   -x * x * x * (te.rho * te.inv * te.inv + tm.rho * tm.inv * tm.inv)};
   };
-  const Triple I = plate_integral(*a_, *b_, *medium_, xi, gap, n, k_rel_tol_, g);
+  const Triple I = plate_integral(*a_, *b_, *medium_, xi, gap, n, k_rel_tol_, kappa_ion_, g);
   // k dk = kappa dkappa = x dx / (4 L^2); prefactor 1/(2 pi) -> 1/(8 pi L^2); 2 kappa = x/L.
   const double p = 1.0 / (8.0 * kPi * gap * gap);
   return {p * I[0], p * I[1] / gap, p * I[2] / (gap * gap)};
@@ -145,7 +185,7 @@ Spectral PlatePlate::integrated_at_frequency(double xi, double gap, DerivativeOr
     return Triple{-(special::dilog(te.rho) + special::dilog(tm.rho)), x * (te.log + tm.log),
                   x * x * (te.rho * te.inv + tm.rho * tm.inv)};
   };
-  const Triple I = plate_integral(*a_, *b_, *medium_, xi, gap, n, k_rel_tol_, g);
+  const Triple I = plate_integral(*a_, *b_, *medium_, xi, gap, n, k_rel_tol_, kappa_ion_, g);
   // (1/2pi) k dk / (2 kappa) = dkappa / (4 pi) = dx / (8 pi L).
   const double p = 1.0 / (8.0 * kPi * gap);
   return {p * I[0], -p * I[1] / gap, -p * I[2] / (gap * gap)};
@@ -158,16 +198,20 @@ double PlatePlate::frequency_scale(double gap) const {
 }
 
 std::string PlatePlate::describe() const {
-  return fmt::format("plate-plate: {} and {} across {}", a_->describe(), b_->describe(),
-                     medium_->name());
+  const std::string ions =
+      kappa_ion_ > 0.0 ? fmt::format(" with ions (Debye length {:.4g} nm)", 1e9 / kappa_ion_) : "";
+  return fmt::format("plate-plate: {} and {} across {}{}", a_->describe(), b_->describe(),
+                     medium_->name(), ions);
 }
 
 std::map<std::string, double> PlatePlate::truncation(double) const {
   return {{"k_rel_tol", k_rel_tol_}};
 }
 
-std::shared_ptr<Geometry> make_plate_plate(PlanarPtr a, PlanarPtr b, MaterialPtr medium) {
-  return std::make_shared<PlatePlate>(std::move(a), std::move(b), std::move(medium));
+std::shared_ptr<Geometry> make_plate_plate(PlanarPtr a, PlanarPtr b, MaterialPtr medium,
+                                           double kappa_ion) {
+  return std::make_shared<PlatePlate>(std::move(a), std::move(b), std::move(medium), kappa_ion,
+                                      1e-13);
 }
 
 }  // namespace roundtrip

@@ -20,6 +20,11 @@
 // rule with nested step halving until successive values agree to k_rel_tol (Takahasi & Mori,
 // Publ. RIMS 9, 721 (1974)). ln(1 - rho) uses log1p, and 1 - rho is formed without cancellation
 // for rho -> 1 (PEC or conductor TM at xi = 0).
+//
+// Electrolyte gap (solver/planar/electrolyte.h): with a Debye constant kappa_ion > 0 of the gap
+// medium the xi = 0 TM term uses q = sqrt(k^2 + kappa_ion^2) in e^{-2qL} and the screened static
+// reflections r'; the same integral with x = 2 q L from x_0 = 2 kappa_ion L (k dk = q dq), and the
+// L-derivatives keep their form with kappa -> q. The static TE term keeps e^{-2kL}.
 #include <map>
 #include <memory>
 #include <string>
@@ -35,6 +40,9 @@ class PlatePlate final : public Geometry {
   /// medium null means vacuum. k_rel_tol: target relative error of the k integral per frequency
   /// (kept well below any frequency-rule rel_tol; it is cheap).
   PlatePlate(PlanarPtr a, PlanarPtr b, MaterialPtr medium, double k_rel_tol = 1e-13);
+  /// The same with ions in the gap medium: Debye constant kappa_ion (1/m, >= 0; +inf screens the
+  /// static TM term completely).
+  PlatePlate(PlanarPtr a, PlanarPtr b, MaterialPtr medium, double kappa_ion, double k_rel_tol);
 
   Spectral at_frequency(double xi, double gap, DerivativeOrder order) const override;
   /// {U, dU/dL, d2U/dL2} = {\int_L^inf s dL', -s, -ds/dL} at (xi, L), per unit area (1/m, 1/m^2,
@@ -51,14 +59,17 @@ class PlatePlate final : public Geometry {
   const PlanarSurface& a() const { return *a_; }
   const PlanarSurface& b() const { return *b_; }
   const Material& medium() const { return *medium_; }
+  double kappa_ion() const { return kappa_ion_; }
 
  private:
   PlanarPtr a_, b_;
   MaterialPtr medium_;
   double k_rel_tol_;
+  double kappa_ion_ = 0.0;
 };
 
 /// Plate-plate geometry of two planar bodies; `medium` null means vacuum.
-std::shared_ptr<Geometry> make_plate_plate(PlanarPtr a, PlanarPtr b, MaterialPtr medium = nullptr);
+std::shared_ptr<Geometry> make_plate_plate(PlanarPtr a, PlanarPtr b, MaterialPtr medium = nullptr,
+                                           double kappa_ion = 0.0);
 
 }  // namespace roundtrip

@@ -8,16 +8,32 @@
 #include <stdexcept>
 
 #include "solver/constants.h"
-#include "solver/planar/sheet.h"  // kVacuumPermittivity
+#include "solver/planar/sheet.h"  // kVacuumPermittivity, kElectronMass
+#include "solver/special/fermi_dirac.h"
 
 namespace roundtrip {
+
+double Screening::fermi_energy() const {
+  return kHbar * kHbar * std::pow(3.0 * kPi * kPi * carrier_density, 2.0 / 3.0) /
+         (2.0 * mass_ratio * kElectronMass);
+}
 
 double Screening::kappa_sq(double static_eps) const {
   if (debye_length) return 1.0 / (*debye_length * *debye_length);
   if (carrier_density == 0.0) return 0.0;
+  const double e2 = kElementaryCharge * kElementaryCharge / (kVacuumPermittivity * static_eps);
+  const bool degenerate_limit =
+      statistics == CarrierStatistics::kThomasFermi ||
+      (statistics == CarrierStatistics::kFermiDirac && !(temperature_K > 0.0));
+  if (degenerate_limit) return 1.5 * carrier_density * e2 / fermi_energy();
   if (!(temperature_K > 0.0)) return std::numeric_limits<double>::infinity();
-  return carrier_density * kElementaryCharge * kElementaryCharge /
-         (kVacuumPermittivity * static_eps * kBoltzmann * temperature_K);
+  const double debye = carrier_density * e2 / (kBoltzmann * temperature_K);
+  if (statistics == CarrierStatistics::kBoltzmann) return debye;
+  const double nc = 2.0 * std::pow(mass_ratio * kElectronMass * kBoltzmann * temperature_K /
+                                       (2.0 * kPi * kHbar * kHbar),
+                                   1.5);
+  return debye *
+         special::fermi_dirac_ratio(special::fermi_dirac_half_inverse(carrier_density / nc));
 }
 
 namespace {
@@ -57,11 +73,18 @@ class ScreenedHalfSpace final : public PlanarSurface {
                                    : fmt::format("Debye length {:.4g} nm", 1e9 / std::sqrt(ksq));
     if (s_.debye_length)
       return fmt::format("half-space of {}, screened static TM ({})", m_->name(), length);
-    return fmt::format("half-space of {}, screened static TM (carriers {:.4g} cm^-3 at {:g} K, {})",
-                       m_->name(), s_.carrier_density * 1e-6, s_.temperature_K, length);
+    const char* stats = s_.statistics == CarrierStatistics::kBoltzmann     ? ""
+                        : s_.statistics == CarrierStatistics::kThomasFermi ? ", Thomas-Fermi"
+                                                                           : ", Fermi-Dirac";
+    const std::string mass = s_.statistics == CarrierStatistics::kBoltzmann
+                                 ? std::string()
+                                 : fmt::format(" m*/m_e = {:g}", s_.mass_ratio);
+    return fmt::format(
+        "half-space of {}, screened static TM (carriers {:.4g} cm^-3{}{} at {:g} K, {})",
+        m_->name(), s_.carrier_density * 1e-6, stats, mass, s_.temperature_K, length);
   }
   PlanarPtr with_temperature(double temperature_K) const override {
-    if (s_.debye_length) return nullptr;
+    if (s_.debye_length || s_.statistics == CarrierStatistics::kThomasFermi) return nullptr;
     Screening s = s_;
     s.temperature_K = temperature_K;
     return std::make_shared<ScreenedHalfSpace>(m_, s);
@@ -85,6 +108,8 @@ PlanarPtr make_screened_half_space(MaterialPtr material, Screening screening) {
     throw std::invalid_argument("the Debye length must be > 0");
   if (!(screening.carrier_density >= 0.0) || !std::isfinite(screening.carrier_density))
     throw std::invalid_argument("the carrier density must be finite and >= 0");
+  if (!(screening.mass_ratio > 0.0) || !std::isfinite(screening.mass_ratio))
+    throw std::invalid_argument("the effective mass ratio must be finite and > 0");
   return std::make_shared<ScreenedHalfSpace>(std::move(material), screening);
 }
 
