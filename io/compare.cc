@@ -14,6 +14,7 @@
 #include <sstream>
 
 #include "io/errors.h"
+#include "io/hdf5_helpers.h"
 #include "io/results_hdf5.h"
 #include "io/units.h"
 #include "roundtrip/version.h"
@@ -532,31 +533,9 @@ ModelComparison compare_model(const MeasuredData& data, const ModelCurve& curve,
 }
 
 namespace {
-H5::StrType utf8() {
-  H5::StrType t(H5::PredType::C_S1, H5T_VARIABLE);
-  t.setCset(H5T_CSET_UTF8);
-  return t;
-}
-void attr(H5::H5Object& o, const std::string& name, const std::string& v) {
-  const H5::StrType t = utf8();
-  o.createAttribute(name, t, H5::DataSpace(H5S_SCALAR)).write(t, v);
-}
-void attr(H5::H5Object& o, const std::string& name, double v) {
-  o.createAttribute(name, H5::PredType::NATIVE_DOUBLE, H5::DataSpace(H5S_SCALAR))
-      .write(H5::PredType::NATIVE_DOUBLE, &v);
-}
-void attr(H5::H5Object& o, const std::string& name, int v) {
-  o.createAttribute(name, H5::PredType::NATIVE_INT, H5::DataSpace(H5S_SCALAR))
-      .write(H5::PredType::NATIVE_INT, &v);
-}
-void vec(H5::Group& g, const std::string& name, const std::vector<double>& v,
-         const std::string& units, const std::string& meaning) {
-  const hsize_t n = v.size();
-  H5::DataSet ds = g.createDataSet(name, H5::PredType::NATIVE_DOUBLE, H5::DataSpace(1, &n));
-  if (n > 0) ds.write(v.data(), H5::PredType::NATIVE_DOUBLE);
-  attr(ds, "units", units);
-  attr(ds, "description", meaning);
-}
+using h5::attr;
+const auto utf8 = h5::utf8_string_type;
+const auto vec = h5::vector_dataset;
 }  // namespace
 
 void write_comparison(const std::filesystem::path& results, const std::string& name,

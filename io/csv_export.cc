@@ -69,32 +69,15 @@ void write_text_file_atomically(const std::filesystem::path& path, const std::st
                                 const std::string& field) {
   std::filesystem::path temp = path;
   temp += fmt::format(".tmp.{}", static_cast<long>(getpid()));
-  const auto failed = [&](const char* step, int e) {
+  const auto failed = [&](std::string_view step, int e) {
     std::error_code ec;
     std::filesystem::remove(temp, ec);
     return StorageError(fmt::format("{} = \"{}\": {} failed: {}", field, printable(path.string()),
                                     step, write_failure_reason(e, directory_of(path).string())),
                         e);
   };
-  const int fd = ::open(temp.c_str(), O_WRONLY | O_CREAT | O_TRUNC | O_CLOEXEC, 0644);
-  if (fd < 0) throw failed("creating the file", errno);
-  std::size_t done = 0;
-  while (done < text.size()) {
-    const ssize_t n = ::write(fd, text.data() + done, text.size() - done);
-    if (n < 0) {
-      if (errno == EINTR) continue;
-      const int e = errno;
-      ::close(fd);
-      throw failed("writing", e);
-    }
-    done += static_cast<std::size_t>(n);
-  }
-  if (::fsync(fd) != 0 && errno != EINVAL) {
-    const int e = errno;
-    ::close(fd);
-    throw failed("flushing (fsync)", e);
-  }
-  if (::close(fd) != 0 && errno != EINTR) throw failed("closing", errno);
+  if (const FileWriteFailure f = write_file_synced(temp, text); f.step)
+    throw failed(fmt::format("{} the file", f.step), f.error);
   if (::rename(temp.c_str(), path.c_str()) != 0) throw failed("renaming into place", errno);
 }
 

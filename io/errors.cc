@@ -1,7 +1,9 @@
 #include "io/errors.h"
 
+#include <fcntl.h>
 #include <fmt/format.h>
 #include <sys/statvfs.h>
+#include <unistd.h>
 
 #include <cerrno>
 #include <cstring>
@@ -34,6 +36,30 @@ std::string write_failure_reason(int error_number, const std::string& directory)
     default:
       return fmt::format("{} (in \"{}\")", std::strerror(error_number), directory);
   }
+}
+
+FileWriteFailure write_file_synced(const std::filesystem::path& path, std::string_view bytes) {
+  const int fd = ::open(path.c_str(), O_WRONLY | O_CREAT | O_TRUNC | O_CLOEXEC, 0644);
+  if (fd < 0) return {"creating", errno};
+  std::size_t done = 0;
+  while (done < bytes.size()) {
+    const ssize_t n = ::write(fd, bytes.data() + done, bytes.size() - done);
+    if (n < 0) {
+      if (errno == EINTR) continue;
+      const int e = errno;
+      ::close(fd);
+      return {"writing", e};
+    }
+    done += static_cast<std::size_t>(n);
+  }
+  // EINVAL: the file system does not support fsync (nothing more to make durable).
+  if (::fsync(fd) != 0 && errno != EINVAL) {
+    const int e = errno;
+    ::close(fd);
+    return {"flushing (fsync)", e};
+  }
+  if (::close(fd) != 0 && errno != EINTR) return {"closing", errno};
+  return {};
 }
 
 }  // namespace roundtrip::io

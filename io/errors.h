@@ -1,7 +1,9 @@
 #pragma once
 // User-input errors: always-on checks at the boundary (case files, CLI, tables). The message names
 // the field, the offending value and, where known, the file and line.
+#include <filesystem>
 #include <string>
+#include <string_view>
 
 #include "solver/input_error.h"
 
@@ -28,5 +30,15 @@ class StorageError : public std::runtime_error {
 /// Why a path cannot be written, from errno and the file system (statvfs): "the file system is
 /// read-only", "no permission to write in directory ...", "no space left on device", ...
 std::string write_failure_reason(int error_number, const std::string& directory);
+
+/// The step of write_file_synced that failed ("creating", "writing", "flushing (fsync)",
+/// "closing") and its errno; `step` is null when every step succeeded.
+struct FileWriteFailure {
+  const char* step = nullptr;
+  int error = 0;
+};
+/// Create or truncate `path` (mode 0644), write() every byte (EINTR retried), fsync and close it.
+/// On failure the file may be partial: callers remove it and report the step.
+FileWriteFailure write_file_synced(const std::filesystem::path& path, std::string_view bytes);
 
 }  // namespace roundtrip::io

@@ -18,6 +18,7 @@
 #include <vector>
 
 #include "io/errors.h"
+#include "io/hdf5_helpers.h"
 #include "roundtrip/version.h"
 
 namespace roundtrip::io {
@@ -27,33 +28,9 @@ namespace {
 // handlers may not allocate).
 char g_pending_path[4096] = {0};
 
-H5::StrType utf8_string_type() {
-  H5::StrType t(H5::PredType::C_S1, H5T_VARIABLE);
-  t.setCset(H5T_CSET_UTF8);
-  return t;
-}
-
-void attr(H5::H5Object& obj, const std::string& name, const std::string& value) {
-  const H5::StrType t = utf8_string_type();
-  obj.createAttribute(name, t, H5::DataSpace(H5S_SCALAR)).write(t, value);
-}
-void attr(H5::H5Object& obj, const std::string& name, double value) {
-  obj.createAttribute(name, H5::PredType::NATIVE_DOUBLE, H5::DataSpace(H5S_SCALAR))
-      .write(H5::PredType::NATIVE_DOUBLE, &value);
-}
-void attr(H5::H5Object& obj, const std::string& name, int value) {
-  obj.createAttribute(name, H5::PredType::NATIVE_INT, H5::DataSpace(H5S_SCALAR))
-      .write(H5::PredType::NATIVE_INT, &value);
-}
-
-void vector_dataset(H5::Group& g, const std::string& name, const std::vector<double>& v,
-                    const std::string& units, const std::string& meaning) {
-  const hsize_t n = v.size();
-  H5::DataSet ds = g.createDataSet(name, H5::PredType::NATIVE_DOUBLE, H5::DataSpace(1, &n));
-  if (n > 0) ds.write(v.data(), H5::PredType::NATIVE_DOUBLE);
-  attr(ds, "units", units);
-  attr(ds, "description", meaning);
-}
+using h5::attr;
+using h5::utf8_string_type;
+using h5::vector_dataset;
 
 void text_dataset(H5::Group& g, const std::string& name, const std::string& text) {
   const H5::StrType t = utf8_string_type();
@@ -338,25 +315,9 @@ void write_durably(const std::filesystem::path& path, const std::vector<unsigned
                         : ""),
         e);
   };
-  const int fd = ::open(path.c_str(), O_WRONLY | O_CREAT | O_TRUNC | O_CLOEXEC, 0644);
-  if (fd < 0) throw failed("creating", errno);
-  std::size_t done = 0;
-  while (done < bytes.size()) {
-    const ssize_t n = ::write(fd, bytes.data() + done, bytes.size() - done);
-    if (n < 0) {
-      if (errno == EINTR) continue;
-      const int e = errno;
-      ::close(fd);
-      throw failed("writing", e);
-    }
-    done += static_cast<std::size_t>(n);
-  }
-  if (::fsync(fd) != 0 && errno != EINVAL) {
-    const int e = errno;
-    ::close(fd);
-    throw failed("flushing (fsync)", e);
-  }
-  if (::close(fd) != 0 && errno != EINTR) throw failed("closing", errno);
+  const FileWriteFailure f = write_file_synced(
+      path, std::string_view(reinterpret_cast<const char*>(bytes.data()), bytes.size()));
+  if (f.step) throw failed(f.step, f.error);
 }
 
 // After a rename, fsync the directory so that the new name survives a power loss.
