@@ -48,10 +48,10 @@ FrequencyCost Geometry::cost(double gap, DerivativeOrder order, double rel_tol) 
   // so the Gram pairs each column only with ~nb others over its band of rows; measured
   // half-width ~50-100, kNodeBand): banded Cholesky q nb^2, selected inversion for the force
   // ~4 q nb^2, two block-bidiagonal solves for the gradient, each only over the blocks it
-  // needs (from the band's first row down, or down to the diagonal block): 2 q^2 nb. The columns (Legendre
-  // recurrences and exp) are computed over their bands only: ~50 flops per entry.
-  // Two spheres ("l_max1", "l_max2") are costed as one sphere of the larger l_max: the mirror
-  // path of equal spheres factorises twice, unequal ones once in LU (sphere_sphere.cc).
+  // needs (from the band's first row down, or down to the diagonal block): 2 q^2 nb. The columns
+  // (Legendre recurrences and exp) are computed over their bands only: ~50 flops per entry. Two
+  // spheres ("l_max1", "l_max2") are costed as one sphere of the larger l_max: the mirror path of
+  // equal spheres factorises twice, unequal ones once in LU (sphere_sphere.cc).
   constexpr double kNodeSpaceInefficiency = 6.0;
   constexpr double kNodeBand = 100.0;
   const double band = std::min(1.0, 8.0 / std::sqrt(lmax));
