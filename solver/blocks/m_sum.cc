@@ -3,11 +3,11 @@
 #include <algorithm>
 #include <cmath>
 #include <exception>
-#include <mutex>
 #include <stdexcept>
 #include <vector>
 
 #include "solver/guards.h"
+#include "solver/parallel_for.h"
 
 namespace roundtrip::blocks {
 namespace {
@@ -38,21 +38,12 @@ Spectral sum_over_m(int mlimit, bool fixed_m_max, DerivativeOrder order, double 
   for (int m0 = 0; m0 <= mlimit; m0 += kMBatch) {
     const int m1 = std::min(mlimit + 1, m0 + kMBatch);
     // A cancellation request (guards.h) is seen before each block and inside the W builders;
-    // exceptions may not leave an OpenMP region, so the first is kept and rethrown after it.
+    // the first exception of the batch is rethrown after it (solver/parallel_for.h).
     // The frequency is then abandoned as a whole (never recorded). Polling changes no number.
-    std::exception_ptr failure;
-    std::mutex failure_mutex;
-#pragma omp parallel for schedule(dynamic, 1)
-    for (int m = m0; m < m1; ++m) {
-      try {
-        throw_if_cancelled();
-        batch[m - m0] = block(m);
-      } catch (...) {
-        std::lock_guard<std::mutex> lock(failure_mutex);
-        if (!failure) failure = std::current_exception();
-      }
-    }
-    if (failure) std::rethrow_exception(failure);
+    parallel_for(m0, m1, [&](long m) {
+      throw_if_cancelled();
+      batch[m - m0] = block(m);
+    });
     for (int m = m0; m < m1; ++m) {
       const LogDetResult& r = batch[m - m0];
       if (!r.ok) throw std::runtime_error(fail_message(m, r));
@@ -74,19 +65,10 @@ std::vector<Spectral> sum_over_m_many(
   std::vector<std::vector<LogDetResult>> batch(kMBatch);
   for (int m0 = 0; m0 <= mlimit; m0 += kMBatch) {
     const int m1 = std::min(mlimit + 1, m0 + kMBatch);
-    std::exception_ptr failure;
-    std::mutex failure_mutex;
-#pragma omp parallel for schedule(dynamic, 1)
-    for (int m = m0; m < m1; ++m) {
-      try {
-        throw_if_cancelled();
-        batch[m - m0] = blocks(m, active);
-      } catch (...) {
-        std::lock_guard<std::mutex> lock(failure_mutex);
-        if (!failure) failure = std::current_exception();
-      }
-    }
-    if (failure) std::rethrow_exception(failure);
+    parallel_for(m0, m1, [&](long m) {
+      throw_if_cancelled();
+      batch[m - m0] = blocks(m, active);
+    });
     bool any = false;
     for (int k = 0; k < count; ++k) {
       if (!active[k]) continue;

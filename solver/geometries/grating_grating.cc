@@ -19,6 +19,7 @@
 #include "solver/geometries/plate_plate.h"
 #include "solver/guards.h"
 #include "solver/materials/models.h"
+#include "solver/parallel_for.h"
 
 namespace roundtrip {
 namespace {
@@ -238,7 +239,6 @@ GratingGratingSpectral GratingGrating::spectral(double xi, double gap, Derivativ
       if (!memo.count(k)) todo.push_back(k);
     std::sort(todo.begin(), todo.end());
     std::vector<Quad> vals(todo.size());
-    std::exception_ptr err;
     // Batches of whole k_x lines as grating_plate.cc: the lines' modes first, then their nodes.
     constexpr std::size_t kLinesPerBatch = 8;
     const int n_g = twin ? 1 : 2;
@@ -256,28 +256,14 @@ GratingGratingSpectral GratingGrating::spectral(double xi, double gap, Derivativ
       }
       std::vector<Lines> lines(ps.size());
       const long n_line_tasks = static_cast<long>(ps.size()) * n_g;
-#pragma omp parallel for schedule(dynamic, 1)
-      for (long t = 0; t < n_line_tasks; ++t) {
-        try {
-          const double kx = kx_of(static_cast<double>(ps[t / n_g]) / (2.0 * nfine));
-          lines[t / n_g][t % n_g] = (t % n_g == 0 ? gf1 : *gf2).line(kx);
-        } catch (...) {
-#pragma omp critical
-          if (!err) err = std::current_exception();
-        }
-      }
-      if (err) std::rethrow_exception(err);
-#pragma omp parallel for schedule(dynamic, 1)
-      for (std::size_t i = b0; i < b1; ++i) {
-        try {
-          const std::size_t li = std::lower_bound(ps.begin(), ps.end(), todo[i].first) - ps.begin();
-          vals[i] = node(todo[i].first, todo[i].second, lines[li]);
-        } catch (...) {
-#pragma omp critical
-          if (!err) err = std::current_exception();
-        }
-      }
-      if (err) std::rethrow_exception(err);
+      parallel_for(0, n_line_tasks, [&](long t) {
+        const double kx = kx_of(static_cast<double>(ps[t / n_g]) / (2.0 * nfine));
+        lines[t / n_g][t % n_g] = (t % n_g == 0 ? gf1 : *gf2).line(kx);
+      });
+      parallel_for(static_cast<long>(b0), static_cast<long>(b1), [&](long i) {
+        const std::size_t li = std::lower_bound(ps.begin(), ps.end(), todo[i].first) - ps.begin();
+        vals[i] = node(todo[i].first, todo[i].second, lines[li]);
+      });
       b0 = b1;
     }
     for (std::size_t i = 0; i < todo.size(); ++i) memo[todo[i]] = vals[i];

@@ -18,6 +18,7 @@
 #include "solver/geometries/plate_plate.h"
 #include "solver/guards.h"
 #include "solver/materials/models.h"
+#include "solver/parallel_for.h"
 #include "solver/planar/layered.h"
 
 namespace roundtrip {
@@ -396,7 +397,6 @@ std::vector<Spectral> GratingPlate::levels_at(double xi, double gap, DerivativeO
       if (!memo.count(k)) todo.push_back(k);
     std::sort(todo.begin(), todo.end());
     std::vector<Values> vals(todo.size());
-    std::exception_ptr err;
     // Batches of whole k_x lines (up to kLinesPerBatch): first the lines' layer modes (one task
     // per line and level), then their nodes; every node's value is independent of the batching.
     constexpr std::size_t kLinesPerBatch = 8;
@@ -414,27 +414,12 @@ std::vector<Spectral> GratingPlate::levels_at(double xi, double gap, DerivativeO
       }
       std::vector<Lines> lines(ps.size(), Lines(nl));
       const long n_line_tasks = static_cast<long>(ps.size()) * nl;
-#pragma omp parallel for schedule(dynamic, 1)
-      for (long t = 0; t < n_line_tasks; ++t) {
-        try {
-          lines[t / nl][t % nl] = gfs[t % nl].line(kx_of_p(ps[t / nl]));
-        } catch (...) {
-#pragma omp critical
-          if (!err) err = std::current_exception();
-        }
-      }
-      if (err) std::rethrow_exception(err);
-#pragma omp parallel for schedule(dynamic, 1)
-      for (std::size_t i = b0; i < b1; ++i) {
-        try {
-          const std::size_t li = std::lower_bound(ps.begin(), ps.end(), todo[i].first) - ps.begin();
-          vals[i] = node(todo[i].first, todo[i].second, lines[li]);
-        } catch (...) {
-#pragma omp critical
-          if (!err) err = std::current_exception();
-        }
-      }
-      if (err) std::rethrow_exception(err);
+      parallel_for(0, static_cast<long>(n_line_tasks),
+                   [&](long t) { lines[t / nl][t % nl] = gfs[t % nl].line(kx_of_p(ps[t / nl])); });
+      parallel_for(static_cast<long>(b0), static_cast<long>(b1), [&](long i) {
+        const std::size_t li = std::lower_bound(ps.begin(), ps.end(), todo[i].first) - ps.begin();
+        vals[i] = node(todo[i].first, todo[i].second, lines[li]);
+      });
       b0 = b1;
     }
     for (std::size_t i = 0; i < todo.size(); ++i) memo[todo[i]] = vals[i];
