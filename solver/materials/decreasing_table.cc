@@ -10,41 +10,14 @@
 #include <string_view>
 
 #include "solver/input_error.h"
+#include "solver/materials/csv_text.h"
 
 namespace roundtrip {
 namespace {
 
-std::string_view trim(std::string_view s) {
-  while (!s.empty() && std::isspace(static_cast<unsigned char>(s.front()))) s.remove_prefix(1);
-  while (!s.empty() && std::isspace(static_cast<unsigned char>(s.back()))) s.remove_suffix(1);
-  return s;
-}
-
-std::vector<std::string_view> split(std::string_view line) {
-  std::vector<std::string_view> out;
-  std::size_t start = 0;
-  for (;;) {
-    const std::size_t comma = line.find(',', start);
-    out.push_back(trim(line.substr(start, comma - start)));
-    if (comma == std::string_view::npos) break;
-    start = comma + 1;
-  }
-  return out;
-}
-
-// Control characters in a message echoing the table as \xNN (a binary file cannot drive the
-// terminal).
-std::string printable(std::string_view s) {
-  std::string out;
-  for (const char ch : s) {
-    const auto c = static_cast<unsigned char>(ch);
-    if ((c < 0x20 && c != '\t') || c == 0x7F)
-      out += fmt::format("\\x{:02X}", c);
-    else
-      out += ch;
-  }
-  return out;
-}
+using csv_text::printable;
+using csv_text::split;
+using csv_text::trim;
 
 std::string names(const ColumnUnits& u) {
   std::string s;

@@ -17,42 +17,15 @@
 
 #include "solver/constants.h"
 #include "solver/input_error.h"
+#include "solver/materials/csv_text.h"
 #include "solver/materials/tabulated.h"
 
 namespace roundtrip {
 namespace {
 
-std::string_view trim(std::string_view s) {
-  while (!s.empty() && std::isspace(static_cast<unsigned char>(s.front()))) s.remove_prefix(1);
-  while (!s.empty() && std::isspace(static_cast<unsigned char>(s.back()))) s.remove_suffix(1);
-  return s;
-}
-
-std::vector<std::string_view> split(std::string_view line) {
-  std::vector<std::string_view> out;
-  std::size_t start = 0;
-  for (;;) {
-    const std::size_t comma = line.find(',', start);
-    out.push_back(trim(line.substr(start, comma - start)));
-    if (comma == std::string_view::npos) break;
-    start = comma + 1;
-  }
-  return out;
-}
-
-// Control characters and bytes that are not UTF-8 in a message echoing the table, as \xNN, so
-// that a binary file given as a table cannot drive the terminal.
-std::string printable(std::string_view s) {
-  std::string out;
-  for (const char ch : s) {
-    const auto c = static_cast<unsigned char>(ch);
-    if ((c < 0x20 && c != '\t') || c == 0x7F)
-      out += fmt::format("\\x{:02X}", c);
-    else
-      out += ch;
-  }
-  return out;
-}
+using csv_text::printable;
+using csv_text::split;
+using csv_text::trim;
 
 std::string lower(std::string_view s) {
   std::string out(s);
@@ -69,8 +42,7 @@ OpticalData read_optical_csv(const std::filesystem::path& path) {
   constexpr std::uintmax_t kMaxTableBytes = std::uintmax_t{1} << 30;
   std::error_code ec;
   if (!std::filesystem::is_regular_file(path, ec))
-    throw InputError(
-        fmt::format("{}: not a regular file (an optical table is a CSV file)", file));
+    throw InputError(fmt::format("{}: not a regular file (an optical table is a CSV file)", file));
   if (const auto size = std::filesystem::file_size(path, ec); !ec && size > kMaxTableBytes)
     throw InputError(
         fmt::format("{}: {} bytes, more than the 1 GiB an optical table may have", file, size));
