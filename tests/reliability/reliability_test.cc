@@ -165,6 +165,45 @@ TEST_F(DiskFull, WhileJournallingTheStatusIsNoSpaceAndTheJournalKeepsWholeRecord
   EXPECT_EQ(compare("mnt/res.h5", "older.h5"), "SAME\n");
 }
 
+// `compare` amends the results file with /comparison/<name> by the same in-memory build, temp
+// file, fsync and rename as a run: on a full disk the status is 6 and the file keeps its bytes.
+TEST_F(DiskFull, WhileCompareAmendsTheResultsTheFileKeepsItsBytesAndTheStatusIsNoSpace) {
+  ASSERT_EQ(run("pp.toml -o mnt/res.h5", "first"), 0) << err("first");
+  fs::copy_file(dir_ / "mnt/res.h5", dir_ / "older.h5");
+  // Three invented pressure points inside the computed gaps (values of the size of gold plates).
+  std::ofstream(dir_ / "data.csv") << "gap [nm], pressure [mPa], stat_error [mPa]\n"
+                                      "200, -464.3, 4.7\n300, -105.6, 1.1\n450, -22.54, 0.23\n";
+  ASSERT_EQ(sh(fmt::format("'{}' compare mnt/res.h5 data.csv --name lab > ok.out 2> ok.err",
+                           ROUNDTRIP_CLI)),
+            0)
+      << slurp(dir_ / "ok.err");
+  fs::copy_file(dir_ / "mnt/res.h5", dir_ / "amended.h5");
+  ASSERT_GT(fs::file_size(dir_ / "amended.h5"), fs::file_size(dir_ / "older.h5"));
+  fs::copy_file(dir_ / "older.h5", dir_ / "mnt/res.h5", fs::copy_options::overwrite_existing);
+  fill_leaving(64 * 1024);  // less than one more copy of the ~200 KB file
+  const int status = sh(fmt::format(
+      "'{}' compare mnt/res.h5 data.csv --name lab > full.out 2> full.err", ROUNDTRIP_CLI));
+  const std::string e = slurp(dir_ / "full.err");
+  EXPECT_EQ(status, kExitWriteFailed) << e;
+  EXPECT_NE(e.find("no space left on device"), std::string::npos) << e;
+  EXPECT_TRUE(slurp(dir_ / "mnt/res.h5") == slurp(dir_ / "older.h5")) << "the results file changed";
+  EXPECT_EQ(temporaries(dir_ / "mnt"), std::vector<std::string>{}) << "temporary file left";
+}
+
+// `run --csv` writes its table by the same synced temp-and-rename: a full disk gives status 6,
+// the older CSV keeps its bytes, and no temporary file is left.
+TEST_F(DiskFull, WhileWritingTheCsvTableTheOlderTableIsKeptAndTheStatusIsNoSpace) {
+  ASSERT_EQ(run("pp.toml -o res.h5 --csv mnt/table.csv", "first"), 0) << err("first");
+  const std::string older = slurp(dir_ / "mnt/table.csv");
+  ASSERT_GT(older.size(), 1000u);
+  fill_leaving(0);
+  const int status = run("pp.toml -o res2.h5 --csv mnt/table.csv", "full");
+  EXPECT_EQ(status, kExitWriteFailed) << err("full");
+  EXPECT_NE(err("full").find("no space left on device"), std::string::npos) << err("full");
+  EXPECT_TRUE(slurp(dir_ / "mnt/table.csv") == older) << "the older table changed";
+  EXPECT_EQ(temporaries(dir_ / "mnt"), std::vector<std::string>{}) << "temporary file left";
+}
+
 TEST_F(DiskFull, AReadOnlyFileSystemIsReportedAsReadOnlyNotAsAMissingPermission) {
   ASSERT_EQ(sh("mount -o remount,ro mnt"), 0);
   EXPECT_EQ(run("pp.toml -o mnt/res.h5", "ro"), 1);
