@@ -1,8 +1,10 @@
 // roundtrip command-line program: option parsing only; the commands live in io/cli/commands.cc.
 #include <fmt/format.h>
+#include <unistd.h>
 
 #include <CLI/CLI.hpp>
 #include <csignal>
+#include <cstdlib>
 #include <exception>
 #include <iostream>
 #include <optional>
@@ -28,6 +30,14 @@ extern "C" void on_terminate(int sig) {
 }  // namespace
 
 int main(int argc, char** argv) {
+  // OpenMP threads that wait sleep instead of spinning, unless the user chose (OMP_WAIT_POLICY or
+  // GOMP_SPINCOUNT set): spinning workers burnt 2.6x the CPU of one thread on a loaded machine
+  // and took it from the other processes (README "Performance"). libgomp reads the policy once,
+  // before main(), so the program starts itself again with it set; if that fails it goes on.
+  if (std::getenv("OMP_WAIT_POLICY") == nullptr && std::getenv("GOMP_SPINCOUNT") == nullptr) {
+    ::setenv("OMP_WAIT_POLICY", "PASSIVE", 1);
+    ::execv("/proc/self/exe", argv);
+  }
   std::signal(SIGINT, on_terminate);
   std::signal(SIGTERM, on_terminate);
   CLI::App app{
