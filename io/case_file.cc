@@ -966,12 +966,25 @@ CaseSpec parse_root(toml::table& root, CaseSpec spec) {
       throw table_error(*m, "medium.material", "missing required key (e.g. \"water\")");
     spec.medium = material_at(*m, "material", "medium.material");
     if (const toml::node* in = m->get("ionic_strength")) {  // io/sheet_spec.h
-      if (!kind.electrolyte)
-        throw error_at(*in, "medium.ionic_strength",
-                       fmt::format("ions in the medium are built for plate-plate only (geometry "
-                                   "= \"{}\" has no screened static term)",
-                                   kind.name));
+      if (!kind.electrolyte) {
+        std::vector<std::string> names;
+        for (const GeometryKind& g : geometry_kinds())
+          if (g.electrolyte) names.push_back(g.name);
+        std::string kinds;
+        for (std::size_t i = 0; i < names.size(); ++i)
+          kinds += (i == 0 ? "" : i + 1 == names.size() ? " and " : ", ") + names[i];
+        throw error_at(
+            *in, "medium.ionic_strength",
+            fmt::format("ions in the medium are built for {} only (the screened zero-frequency "
+                        "term, (nabla^2 - kappa^2) phi = 0 outside the bodies, is solved for a "
+                        "flat gap, an atom and a conducting sphere over a plate); for geometry = "
+                        "\"{}\" it is not built",
+                        kinds, kind.name));
+      }
       spec.ionic_strength = ionic_strength_from_toml(*in, "medium.ionic_strength", *spec.medium);
+      if (kind.electrolyte_problem && spec.ionic_strength > 0.0)
+        if (const std::string why = kind.electrolyte_problem(spec); !why.empty())
+          throw error_at(*in, "medium.ionic_strength", why);
     }
   } else {
     spec.medium = builtin_material("vacuum");
@@ -1158,14 +1171,23 @@ std::vector<std::pair<std::string, std::string>> case_key_fields(const CaseSpec&
         if (const auto* f = t->get_as<std::string>("file"))
           out.emplace_back(fmt::format("materials.{}.file (contents)", name.str()),
                            file_digest(dir / f->get()));
-  // A body's own table file (atom polarizability tables): its contents fix the numbers too.
+  // A body's own table files (polarizability, sheet, d-parameter tables, also inside a plate's
+  // named surface models): their contents fix the numbers too.
+  const auto body_tables = [&](const toml::table& t, const std::string& name) {
+    for (const char* sub : {"polarizability", "sheet", "d_parameters"})
+      if (const auto* p = t.get_as<toml::table>(sub))
+        if (const auto* f = p->get_as<std::string>("file"))
+          out.emplace_back(fmt::format("{}.{}.file (contents)", name, sub),
+                           file_digest(dir / f->get()));
+  };
   for (const auto& [name, def] : root)
-    if (const auto* t = def.as_table())
-      for (const char* sub : {"polarizability", "sheet"})  // atom and sheet tables
-        if (const auto* p = t->get_as<toml::table>(sub))
-          if (const auto* f = p->get_as<std::string>("file"))
-            out.emplace_back(fmt::format("{}.{}.file (contents)", name.str(), sub),
-                             file_digest(dir / f->get()));
+    if (const auto* t = def.as_table()) {
+      body_tables(*t, std::string(name.str()));
+      if (const auto* variants = t->get_as<toml::table>("surfaces"))
+        for (const auto& [vname, v] : *variants)
+          if (const auto* vt = v.as_table())
+            body_tables(*vt, fmt::format("{}.surfaces.{}", name.str(), vname.str()));
+    }
   return out;
 }
 

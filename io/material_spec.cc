@@ -390,7 +390,7 @@ PlanarPtr planar_impl(const toml::table& plate, const std::string& field,
                        fmt::format("d_parameters with {} is not built yet (they correct the plain "
                                    "half-space of `material`)",
                                    other));
-    return d_parameters_from_toml(*dn, field + ".d_parameters", substrate);
+    return d_parameters_from_toml(*dn, field + ".d_parameters", substrate, materials.directory());
   }
   if (const toml::node* sn = plate.get("screening")) {  // io/sheet_spec.h
     if (plate.contains("layers") || plate.contains("nonlocal") || plate.contains("sheet"))

@@ -102,6 +102,12 @@ void write_run(H5::Group& file, const RunResult& r, const ResultsInfo& info) {
   for (const auto& [name, value] : info.body_numbers) attr(file, name, value);
   if (r.pfa_length > 0.0) attr(file, "pfa_length_m", r.pfa_length);
   attr(file, "temperature_K", info.temperature_K);
+  if (info.ionic_strength > 0.0) {  // an electrolyte medium (solver/planar/electrolyte.h)
+    attr(file, "ionic_strength", info.ionic_strength);
+    attr(file, "ionic_strength_units", std::string("mol/m^3"));
+    attr(file, "debye_length", info.debye_length);
+    attr(file, "debye_length_units", std::string("m"));
+  }
   attr(file, "rel_tol", info.rel_tol);
   attr(file, "frequency_rule", info.frequency_rule);
   attr(file, "complete", info.complete ? 1 : 0);

@@ -43,6 +43,11 @@ struct ResultsInfo {
   std::vector<std::pair<std::string, double>> body_numbers;
   /// results/energy_gap<p> = L^p E for each p (the kind's energy_gap_powers).
   std::vector<int> energy_gap_powers;
+  /// [medium] ionic_strength (mol/m^3) and the Debye length 1/kappa at this run's temperature
+  /// (m; 0 at T = 0: complete screening), written as attributes `ionic_strength`,
+  /// `debye_length` with `ionic_strength_units`, `debye_length_units` when ionic_strength > 0.
+  double ionic_strength = 0.0;
+  double debye_length = 0.0;
 };
 
 /// One point of a [scan] with its parameters (scan key, value as written).

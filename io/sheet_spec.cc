@@ -186,7 +186,7 @@ namespace {
 // gap where a surface correction matters: the first order is meaningless).
 double d_length(const toml::node& n, const std::string& field) {
   const double d = parse_quantity(n, Dimension::kLength, field);
-  if (!std::isfinite(d) || std::abs(d) > 1e-8)
+  if (!std::isfinite(d) || std::abs(d) > kMaxDParameter)
     throw error_at(n, field,
                    "|d| must be at most 10 nm (d-parameters are of the order of 0.1 nm; the first "
                    "order in k d is meaningless beyond)");
@@ -212,18 +212,39 @@ SurfaceParameter surface_parameter(const toml::node& n, const std::string& field
 }  // namespace
 
 PlanarPtr d_parameters_from_toml(const toml::node& node, const std::string& field,
-                                 MaterialPtr substrate) {
+                                 MaterialPtr substrate, const std::filesystem::path& case_dir) {
   const auto* t = node.as_table();
   if (t == nullptr)
     throw error_at(node, field,
                    "expected { perpendicular = \"0.1 nm\", parallel = \"0 nm\" } (lengths, "
-                   "positive towards the gap)");
-  check_keys(*t, field, {"perpendicular", "parallel"});
+                   "positive towards the gap) or { model = \"table\", file = \"d.csv\" }");
   FeibelmanParameters d;
-  d.perpendicular =
-      surface_parameter(need(*t, "perpendicular", field, "\"0.1 nm\""), field + ".perpendicular");
-  d.parallel = t->contains("parallel") ? surface_parameter(*t->get("parallel"), field + ".parallel")
-                                       : SurfaceParameter{};
+  if (const toml::node* mn = t->get("model")) {  // { model = "table", file = "d.csv" }
+    const auto* ms = mn->as_string();
+    if (ms == nullptr || ms->get() != "table")
+      throw error_at(*mn, field + ".model",
+                     "the only model is \"table\" (constant and one-pole d-parameters are "
+                     "given by perpendicular = ..., parallel = ... without a model key)");
+    check_keys(*t, field, {"model", "file"});
+    const toml::node& fn = need(*t, "file", field, "\"d_parameters.csv\"");
+    const auto* fs = fn.as_string();
+    if (fs == nullptr) throw error_at(fn, field + ".file", "expected a file name in double quotes");
+    const std::filesystem::path path = case_dir / fs->get();
+    if (!std::filesystem::exists(path))
+      throw error_at(fn, field + ".file", fmt::format("no such file: {}", path.string()));
+    try {
+      d.table = std::make_shared<DParameterTable>(read_d_parameters_csv(path));
+    } catch (const InputError& e) {  // the table's file:line, column and value
+      throw error_at(fn, field + ".file", e.what());
+    }
+  } else {
+    check_keys(*t, field, {"perpendicular", "parallel", "model"});
+    d.perpendicular =
+        surface_parameter(need(*t, "perpendicular", field, "\"0.1 nm\""), field + ".perpendicular");
+    d.parallel = t->contains("parallel")
+                     ? surface_parameter(*t->get("parallel"), field + ".parallel")
+                     : SurfaceParameter{};
+  }
   try {
     return make_feibelman_half_space(std::move(substrate), d);
   } catch (const std::invalid_argument& e) {

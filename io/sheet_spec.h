@@ -30,9 +30,12 @@ PlanarPtr screening_from_toml(const toml::node& screening, const std::string& fi
 /// plate.d_parameters = { perpendicular = "0.1 nm", parallel = "0 nm" }: Feibelman d-parameters
 /// on the half-space of `material` (solver/planar/feibelman.h), each a length (constant, sign:
 /// positive towards the gap) or { static = "...", high_frequency = "...", frequency = "5 eV" }
-/// (one pole); |d| at most 10 nm. Throws CaseError naming file:line, key and value.
+/// (one pole); |d| at most 10 nm; or { model = "table", file = "d.csv" }, d_perp(i xi) and
+/// d_par(i xi) from a CSV relative to `case_dir` (read_d_parameters_csv in feibelman.h). Throws
+/// CaseError naming file:line, key and value (for a table also the table's file:line and column).
 PlanarPtr d_parameters_from_toml(const toml::node& node, const std::string& field,
-                                 MaterialPtr substrate);
+                                 MaterialPtr substrate,
+                                 const std::filesystem::path& case_dir = ".");
 
 /// [medium] ionic_strength = "0.1 mol/L" (also "M", "mM", "mmol/L", "mol/m^3"): the ionic
 /// strength I = (1/2) sum c_i z_i^2 of the gap medium in mol/m^3, 0 to 10 mol/L; the medium must

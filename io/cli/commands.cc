@@ -38,6 +38,7 @@
 #include "solver/parallel/mpi.h"
 #include "solver/plan.h"
 #include "solver/plan_timing.h"
+#include "solver/planar/electrolyte.h"
 #include "solver/run.h"
 
 namespace roundtrip::io::cli {
@@ -350,6 +351,12 @@ ResultsInfo results_info(const CaseSpec& spec) {
   if (spec.kind->body_texts) info.body_texts = spec.kind->body_texts(spec);
   if (spec.kind->body_numbers) info.body_numbers = spec.kind->body_numbers(spec);
   if (spec.quantities.energy) info.energy_gap_powers = spec.kind->energy_gap_powers;
+  if (spec.ionic_strength > 0.0) {
+    info.ionic_strength = spec.ionic_strength;
+    const double kappa = std::sqrt(electrolyte_kappa_sq(
+        spec.ionic_strength, spec.medium->static_limit().static_eps, spec.frequency.temperature_K));
+    info.debye_length = std::isfinite(kappa) ? 1.0 / kappa : 0.0;
+  }
   return info;
 }
 

@@ -12,6 +12,7 @@
 #include "io/case_file.h"
 #include "io/errors.h"
 #include "io/kinds/kind.h"
+#include "solver/planar/electrolyte.h"
 
 namespace roundtrip::io {
 
@@ -23,7 +24,9 @@ GeometryKind atom_plate_kind() {
   k.upper = {"atom", geometry::Shape::kAtom, ""};
   k.scale = ResultScale::kTotal;
   k.scalar_fields = false;
-  k.energy_gap_powers = {3, 4};  // z^3 U -> -C3 (non-retarded), z^4 U -> -C4 (retarded, T = 0)
+  k.energy_gap_powers = {3, 4};
+  k.electrolyte = true;  // [medium] ionic_strength screens the static term (atom_plate.h)  // z^3 U
+                         // -> -C3 (non-retarded), z^4 U -> -C4 (retarded, T = 0)
   k.body_texts = [](const CaseSpec& spec) {
     const Polarizability& a = *spec.body("atom").atom;
     return std::vector<std::pair<std::string, std::string>>{
@@ -40,7 +43,11 @@ GeometryKind atom_plate_kind() {
     const BodySpec& plate = spec.body("plate");
     const BodySpec& atom = spec.body("atom");
     try {
-      return make_atom_plate(atom.atom, plate.plate, spec.medium);
+      // Ions in the medium (planar/electrolyte.h): kappa from I, the medium's eps(0) and this T.
+      const double kappa = std::sqrt(electrolyte_kappa_sq(spec.ionic_strength,
+                                                          spec.medium->static_limit().static_eps,
+                                                          spec.frequency.temperature_K));
+      return make_atom_plate(atom.atom, plate.plate, spec.medium, kappa);
     } catch (const std::invalid_argument& e) {
       throw CaseError(fmt::format("{}: {}", spec.path.string(), e.what()));
     }

@@ -43,6 +43,9 @@ struct GeometryKind {
   std::vector<std::string> numerics_keys;   ///< [numerics] keys beyond rel_tol, frequency_rule
   /// Accepts [medium] ionic_strength (ions screening the static TM term, planar/electrolyte.h).
   bool electrolyte = false;
+  /// With electrolyte: why this case's bodies (and field) cannot take ions, or empty; asked where
+  /// [medium] ionic_strength is read, so the error names its file:line. May be empty.
+  std::function<std::string(const CaseSpec&)> electrolyte_problem;
   bool offsets = false;  ///< reads [offsets] (lateral offsets of the upper body, offsets_spec.h)
   /// reads the optional [pfa_sphere] table (radius = "..."): the upper body taken as a sphere of
   /// that radius in the PFA, F = 2 pi R E(L) beside the exact per-area result (CaseSpec).

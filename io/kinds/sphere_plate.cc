@@ -3,9 +3,12 @@
 
 #include <fmt/format.h>
 
+#include <cmath>
+
 #include "io/case_file.h"
 #include "io/errors.h"
 #include "io/kinds/kind.h"
+#include "solver/planar/electrolyte.h"
 
 namespace roundtrip::io {
 
@@ -18,6 +21,19 @@ GeometryKind sphere_plate_kind() {
   k.scale = ResultScale::kTotal;
   k.scalar_fields = true;
   k.numerics_keys = {"l_max"};
+  k.electrolyte = true;  // conducting sphere and plate only (SpherePlateOptions::kappa_ion)
+  k.electrolyte_problem = [](const CaseSpec& spec) -> std::string {
+    const BodySpec& s = spec.body("sphere");
+    SpherePlateOptions o;
+    o.radius = s.radius;
+    o.sphere = s.material;
+    o.shells = s.solver_shells();
+    o.plate = spec.body("plate").plate;
+    o.medium = spec.medium;
+    o.field = field_kind_from_string(spec.field);
+    o.kappa_ion = 1.0;  // any kappa > 0: which bodies take ions (SpherePlateOptions::validate)
+    return o.validate();
+  };
   k.build = [](const CaseSpec& spec) {
     const BodySpec& s = spec.body("sphere");
     SpherePlateOptions o;
@@ -29,6 +45,9 @@ GeometryKind sphere_plate_kind() {
     o.field = field_kind_from_string(spec.field);
     o.rel_tol = spec.frequency.rel_tol;
     o.l_max = spec.l_max;
+    // Ions in the medium (planar/electrolyte.h): kappa from I, the medium's eps(0) and this T.
+    o.kappa_ion = std::sqrt(electrolyte_kappa_sq(
+        spec.ionic_strength, spec.medium->static_limit().static_eps, spec.frequency.temperature_K));
     if (const std::string p = o.validate(); !p.empty())
       throw CaseError(fmt::format("{}: sphere-plate: {}", spec.path.string(), p));
     return make_sphere_plate(o);

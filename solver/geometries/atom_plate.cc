@@ -13,6 +13,7 @@
 
 #include "solver/constants.h"
 #include "solver/materials/models.h"
+#include "solver/planar/electrolyte.h"
 
 namespace roundtrip {
 namespace {
@@ -20,9 +21,15 @@ constexpr double kKRelTol = 1e-11;      // per component of the kappa integral
 constexpr double kNonRetardedK = 1e12;  // 1/m: least "k -> inf" of C3 (atom_plate.h)
 }  // namespace
 
-AtomPlate::AtomPlate(PolarizabilityPtr atom, PlanarPtr plate, MaterialPtr medium)
-    : atom_(std::move(atom)), plate_(std::move(plate)), medium_(std::move(medium)) {
+AtomPlate::AtomPlate(PolarizabilityPtr atom, PlanarPtr plate, MaterialPtr medium, double kappa_ion)
+    : atom_(std::move(atom)),
+      plate_(std::move(plate)),
+      medium_(std::move(medium)),
+      kappa_ion_(kappa_ion) {
   if (!atom_ || !plate_) throw std::invalid_argument("atom-plate: an atom and a plate are needed");
+  if (!(kappa_ion >= 0.0))
+    throw std::invalid_argument(
+        fmt::format("atom-plate: the medium's Debye constant {} 1/m must be >= 0", kappa_ion));
   if (!medium_) medium_ = make_vacuum();
   const StaticLimit sl = medium_->static_limit();
   if (sl.is_conductor())
@@ -33,8 +40,9 @@ AtomPlate::AtomPlate(PolarizabilityPtr atom, PlanarPtr plate, MaterialPtr medium
 }
 
 std::shared_ptr<AtomPlate> make_atom_plate(PolarizabilityPtr atom, PlanarPtr plate,
-                                           MaterialPtr medium) {
-  return std::make_shared<AtomPlate>(std::move(atom), std::move(plate), std::move(medium));
+                                           MaterialPtr medium, double kappa_ion) {
+  return std::make_shared<AtomPlate>(std::move(atom), std::move(plate), std::move(medium),
+                                     kappa_ion);
 }
 
 double AtomPlate::frequency_scale(double z) const {
@@ -45,7 +53,13 @@ double AtomPlate::frequency_scale(double z) const {
 Spectral AtomPlate::at_frequency(double xi, double z, DerivativeOrder order) const {
   const double eps_m = xi == 0.0 ? eps_m0_ : medium_->epsilon(xi);
   const double a = atom_->alpha(xi);
-  const double x0 = xi == 0.0 ? 0.0 : 2.0 * z * std::sqrt(eps_m) * xi / kSpeedOfLight;
+  // Ions screen the xi = 0 term (atom_plate.h): x0 = 2 kappa_ion z and r_TM -> r'.
+  const bool screened = xi == 0.0 && kappa_ion_ > 0.0;
+  const double x0 = screened  ? 2.0 * z * kappa_ion_
+                    : xi == 0 ? 0.0
+                              : 2.0 * z * std::sqrt(eps_m) * xi / kSpeedOfLight;
+  Spectral s;
+  if (std::isinf(x0)) return s;  // complete screening (T = 0 with ions): no static term
   const auto plate = plate_->at(xi, *medium_);
   // In units of 1/(2z): kappa = x/(2z), kappa_0 = x0/(2z), k = sqrt(y (y + 2 x0))/(2z).
   // B(x) = (2 x^2 - x0^2) r_TM - x0^2 r_TE; s = -(a/eps_m)/(8 z^3) e^{-x0} \int dy e^{-y} B,
@@ -57,12 +71,15 @@ Spectral AtomPlate::at_frequency(double xi, double z, DerivativeOrder order) con
     const double x = x0 + y;
     const double k = std::sqrt(y * (y + 2.0 * x0)) / (2.0 * z);
     const Reflection r = plate->reflect(k);
+    if (screened) {
+      const double rs = screened_static_tm(r.tm, k, x / (2.0 * z));  // r' of electrolyte.h
+      return std::pow(x, power) * std::exp(-y) * (2.0 * x * x - x0 * x0) * rs;
+    }
     const double b = (2.0 * x * x - x0 * x0) * r.tm - x0 * x0 * r.te;
     return std::pow(x, power) * std::exp(-y) * b;
   };
   boost::math::quadrature::exp_sinh<double> rule;
   const double pre = -(a / eps_m) * std::exp(-x0) / (8.0 * z * z * z);
-  Spectral s;
   if (pre == 0.0) return s;
   s.value = pre * rule.integrate([&](double y) { return integrand(y, 0); }, kKRelTol);
   if (order >= DerivativeOrder::kForce)
@@ -105,6 +122,8 @@ std::string AtomPlate::describe() const {
   std::string d =
       fmt::format("atom ({}: {}) over {}", atom_->name(), atom_->description(), plate_->describe());
   if (medium_->name() != "vacuum") d += " in " + medium_->name();
+  if (kappa_ion_ > 0.0)
+    d += fmt::format(" with ions (Debye length {:.4g} nm; static term screened)", 1e9 / kappa_ion_);
   if (plate_->is_perfect_conductor() && !std::isfinite(atom_->characteristic_frequency())) {
     d += "; C3 infinite (constant alpha over a perfect mirror)";
   } else {

@@ -22,6 +22,20 @@
 //              \int_0^inf dt t^{l+l'} e^{-t} rho(t/2D),
 // rho_TM = r_TM(0,k), rho_TE = -r_TE(0,k), g_l^2 from static_sphere(); for a Drude sphere over a
 // Drude plate this is the matrix whose log det Bimonte & Emig, PRL 109, 160403 (2012) sum exactly.
+// Ions in the medium (kappa_ion > 0; solver/planar/electrolyte.h): they screen the xi = 0 TM
+// term only. For conductors the static TM fluctuations are those of the electrostatic potential
+// with the conductors equipotential; with ions it obeys (nabla^2 - kappa^2) phi = 0 outside the
+// bodies, the scalar Helmholtz equation at imaginary wave number kappa, with phi = 0 on the
+// plate (its potential is fixed at infinity) and, at the isolated neutral sphere, phi = V on its
+// surface with V free and zero net charge: the multipoles l >= 1 vanish there (Dirichlet,
+// T_l = -i_l/k_l at kappa R) and the l = 0 part has zero flux (Neumann, T_0 = -i_0'/k_0';
+// derived). So the screened n = 0 term is the scalar round trip above at kappa_0 = kappa with
+// these amplitudes. As kappa -> 0, T_0 ~ (kappa R)^3 -> 0 and the l >= 1 of the electromagnetic
+// static TM term remain. Checks (tests/sphere_plate/sphere_electrolyte_test.cc): kappa
+// -> 0 gives the unscreened Drude n = 0 term (the Bessel kernel, static_bessel_kernel.h); R >> L
+// gives the PFA of the screened plate-plate term (planar/electrolyte.h); the same scalar
+// problem for two plates is that plate-plate term (r^2 = 1, e^{-2qL}). The static TE term of a
+// Drude sphere or plate is zero, so the xi = 0 term is the screened TM one alone.
 #include "solver/geometries/sphere_plate.h"
 
 #include <fmt/format.h>
@@ -65,8 +79,20 @@ class SpherePlate final : public Geometry {
     if (o_.field == FieldKind::kElectromagnetic) {
       // A coated sphere's partner is the same films on a half-space of the core (pfa.h).
       pfa_plates_ = std::make_unique<PlatePlate>(
-          o_.plate, sphere_pfa_partner(SphereBody{o_.radius, o_.sphere, o_.shells}), o_.medium);
+          o_.plate, sphere_pfa_partner(SphereBody{o_.radius, o_.sphere, o_.shells}), o_.medium,
+          o_.kappa_ion, 1e-13);
       pfa_scale_ = 1.0;
+      if (o_.kappa_ion > 0.0 && std::isfinite(o_.kappa_ion)) {
+        // The screened n = 0 term: the scalar Dirichlet problem at kappa_0 = kappa_ion, l >= 1,
+        // in vacuum (kappa_0 = xi/c there), with this sphere's numerics.
+        SpherePlateOptions d = o_;
+        d.field = FieldKind::kDirichlet;
+        d.neutral_sphere = true;
+        d.medium = make_vacuum();
+        d.kappa_ion = 0.0;
+        d.shells.clear();
+        screened_static_ = std::make_unique<SpherePlate>(d);
+      }
     } else {
       pfa_plates_ = scalar_field_pfa_plates(o_.medium);
       pfa_scale_ = kScalarFieldPfaShare;
@@ -85,10 +111,15 @@ class SpherePlate final : public Geometry {
 
   std::string describe() const override {
     if (o_.field != FieldKind::kElectromagnetic)
-      return fmt::format("{} sphere (R = {:.6g} m) over a {} plate, scalar field",
-                         to_string(o_.field), o_.radius, to_string(o_.field));
-    return fmt::format("sphere of {} (R = {:.6g} m) over {} in {}", body_.describe(), o_.radius,
-                       o_.plate->describe(), o_.medium->name());
+      return fmt::format("{} sphere (R = {:.6g} m) over a {} plate, scalar field{}",
+                         to_string(o_.field), o_.radius, to_string(o_.field),
+                         o_.neutral_sphere ? " (neutral sphere: zero-flux l = 0)" : "");
+    std::string ions;
+    if (o_.kappa_ion > 0.0)
+      ions = fmt::format(" with ions (Debye length {:.4g} nm; static term screened)",
+                         1e9 / o_.kappa_ion);
+    return fmt::format("sphere of {} (R = {:.6g} m) over {} in {}{}", body_.describe(), o_.radius,
+                       o_.plate->describe(), o_.medium->name(), ions);
   }
 
   /// At the case's rel_tol and xi = c/(2L) for the energy; derivatives and higher frequencies
@@ -115,6 +146,10 @@ class SpherePlate final : public Geometry {
     // l_max, the momentum nodes and the m tail all follow tol.
     const double tol = rel_tol > 0.0 && rel_tol < 0.1 ? rel_tol : o_.rel_tol;
     const bool is_static = xi == 0.0;
+    if (is_static && o_.kappa_ion > 0.0) {       // ions: the screened problem (top of this file)
+      if (!screened_static_) return Spectral{};  // kappa = inf: complete screening
+      return screened_static_->at_frequency_within(o_.kappa_ion * kSpeedOfLight, gap, order, tol);
+    }
     if (is_static)
       if (const auto s = static_closed_form(gap, tol, order)) return *s;
     const int lmax = lmax_for(gap, tol, xi, order);
@@ -146,7 +181,8 @@ class SpherePlate final : public Geometry {
     if (p == nullptr || p == this) return false;
     const SpherePlateOptions &a = o_, &b = p->o_;
     if (a.radius != b.radius || a.field != b.field || a.rel_tol != b.rel_tol ||
-        a.l_max != b.l_max || a.m_max != b.m_max || a.nodes_per_unit != b.nodes_per_unit ||
+        a.kappa_ion != b.kappa_ion || a.neutral_sphere != b.neutral_sphere || a.l_max != b.l_max ||
+        a.m_max != b.m_max || a.nodes_per_unit != b.nodes_per_unit ||
         a.node_solver != b.node_solver || a.w_build != WBuild::kBand ||
         b.w_build != WBuild::kBand || a.shells.size() != b.shells.size())
       return false;
@@ -303,6 +339,13 @@ class SpherePlate final : public Geometry {
     const double D = o_.radius + gap;
     const bool em = o_.field == FieldKind::kElectromagnetic;
     mie = sphere_mie(body_, o_.field, xi, *o_.medium, lmax);  // homogeneous or coated
+    if (!em && o_.neutral_sphere) {
+      // The isolated neutral conductor (top of this file): l = 0 takes the zero-flux (Neumann)
+      // amplitude -i_0'/k_0' at kappa R, l >= 1 stay Dirichlet.
+      const MieLog n = mie_imaginary(FieldKind::kNeumann, false, kappa * o_.radius, 1.0, 0);
+      mie.log_abs_te[0] = n.log_abs_te[0];
+      mie.sign_te[0] = n.sign_te[0];
+    }
 
     const auto& gl = momentum_rule_for(lmax, tol, xi / frequency_scale(gap));
     const int N = static_cast<int>(gl.nodes.size());
@@ -363,6 +406,7 @@ class SpherePlate final : public Geometry {
   SphereBody body_;  // radius, sphere (core) and shells of o_
   std::unique_ptr<PlatePlate> pfa_plates_;
   double pfa_scale_ = 1.0;
+  std::unique_ptr<SpherePlate> screened_static_;  // kappa_ion > 0: the screened n = 0 problem
 };
 
 std::optional<PfaValues> SpherePlate::pfa(double gap, const FrequencyRuleOptions& opts) const {
@@ -388,6 +432,35 @@ std::string SpherePlateOptions::validate() const {
     const std::string why = SphereBody{radius, sphere, shells}.validate();
     if (!why.empty()) return why;
     if (!plate) return "plate is missing";
+  }
+  if (neutral_sphere && field != FieldKind::kDirichlet)
+    return "neutral_sphere applies to the scalar Dirichlet field only";
+  if (!(kappa_ion >= 0.0)) return fmt::format("the Debye constant {} 1/m must be >= 0", kappa_ion);
+  if (kappa_ion > 0.0) {
+    // The screened n = 0 term is built for conductors: the electrostatic Dirichlet problem.
+    const char* why_not =
+        "ions in the medium are built for a conducting sphere over a conducting plate (Drude-like "
+        "metals: the screened static term is then the Dirichlet problem of (nabla^2 - kappa^2) "
+        "phi = 0; sphere_plate.cc)";
+    if (field != FieldKind::kElectromagnetic)
+      return fmt::format("{}; not for scalar fields", why_not);
+    if (!shells.empty()) return fmt::format("{}; not for coated spheres", why_not);
+    const StaticLimit sl = sphere->static_limit();
+    if (sl.kind != StaticClass::kDrudeConductor)
+      return fmt::format("{}; the sphere's {} is {}", why_not, sphere->name(),
+                         sl.kind == StaticClass::kDielectric
+                             ? "a dielectric (its screened static response is not built)"
+                             : "a plasma-model or perfect conductor (static TE response)");
+    const MaterialPtr m = medium ? medium : make_vacuum();
+    const auto r = plate->at(0.0, *m);
+    for (double k : {1e3, 1e6, 1e8, 1e10}) {
+      const Reflection rk = r->reflect(k);
+      if (rk.tm != 1.0 || rk.te != 0.0)
+        return fmt::format(
+            "{}; the plate ({}) does not reflect static TM fields completely without a static TE "
+            "response (a dielectric, plasma-model or perfect-conductor plate)",
+            why_not, plate->describe());
+    }
   }
   return {};
 }

@@ -37,6 +37,14 @@ struct SpherePlateOptions {
   NodeSpaceSolver node_solver = NodeSpaceSolver::kAuto;
   /// Testing only: how the xi > 0 W matrices are built (sphere_plate.cc, dynamic_block).
   WBuild w_build = WBuild::kBand;
+  /// Debye constant kappa (1/m, >= 0; +inf screens completely) of ions in the medium
+  /// (solver/planar/electrolyte.h): the xi = 0 TM term becomes the screened electrostatic problem
+  /// (sphere_plate.cc). Built for a conducting sphere (Drude-like, no shells) over a plate that
+  /// reflects static TM fields completely and has no static TE response; else validate() says so.
+  double kappa_ion = 0.0;
+  /// Scalar Dirichlet only: the l = 0 amplitude is the zero-flux (Neumann) one, the sphere an
+  /// isolated neutral conductor (equipotential, no net charge; the screened n = 0 term).
+  bool neutral_sphere = false;
   std::string validate() const;  ///< empty if valid, else a sentence naming the bad field
 };
 

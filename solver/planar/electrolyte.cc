@@ -18,10 +18,13 @@ double electrolyte_kappa_sq(double ionic_strength, double eps_w, double temperat
 
 double screened_static_tm(double r, double k, double q) {
   if (q == k) return r;
-  // [(k - q) + r (k + q)] / [(k + q) + r (k - q)]; k - q = -kappa^2/(k + q) without cancellation.
-  const double kpq = k + q;
-  const double kmq = k - q;
-  return (kmq + r * kpq) / (kpq + r * kmq);
+  // [(k - q) + r (k + q)] / [(k + q) + r (k - q)] = (a - b)/(a + b), a = k (1 + r),
+  // b = q (1 - r): no difference of k and q (which cancels for k << q and for k >> kappa), and
+  // r = 1 (a conductor) gives 1 at every k > 0. a + b = 0 only at k = 0 with r = 1: the
+  // conductor's limit 1.
+  const double a = k * (1.0 + r), b = q * (1.0 - r);
+  if (a + b == 0.0) return 1.0;
+  return (a - b) / (a + b);
 }
 
 }  // namespace roundtrip

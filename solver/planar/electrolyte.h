@@ -43,7 +43,7 @@ inline constexpr double kAvogadro = 6.02214076e23;
 double electrolyte_kappa_sq(double ionic_strength_mol_m3, double eps_w, double temperature_K);
 
 /// r' above from the unscreened static r_TM(0, k) of a body, k and q = sqrt(k^2 + kappa^2) (1/m).
-/// q == k returns r exactly.
+/// q == k returns r exactly; k = 0 with r = 1 returns 1 (the conductor limit).
 double screened_static_tm(double r, double k, double q);
 
 }  // namespace roundtrip

@@ -23,8 +23,13 @@
 // r = r^F e^{2 kappa_m d} = r^F (1 + 2 kappa_m d) + O(d^2) (derived). eps_b -> inf (perfect or
 // Drude conductor at xi = 0): r_TM = 1 + 2 (k^2 d_perp + eps_m s d_par)/kappa_m.
 // Models of d(i xi): constant, or one undamped pole pair at +-Omega on the real axis,
-//   d(i xi) = d_inf + (d_0 - d_inf) Omega^2/(Omega^2 + xi^2)  (d_0 at xi = 0, d_inf as xi -> inf).
+//   d(i xi) = d_inf + (d_0 - d_inf) Omega^2/(Omega^2 + xi^2)  (d_0 at xi = 0, d_inf as xi -> inf),
+// or a table of d_perp(i xi), d_par(i xi) (DParameterTable below; real on the imaginary axis, as
+// d(omega) of a causal response is real at imaginary omega: Feibelman (1982)).
+#include <filesystem>
+#include <memory>
 #include <string>
+#include <vector>
 
 #include "solver/materials/material.h"
 #include "solver/planar/planar.h"
@@ -43,9 +48,42 @@ struct SurfaceParameter {
   std::string describe() const;
 };
 
+/// d_perp(i xi), d_par(i xi) from rows. Interpolation: linear in xi between rows (error at most
+/// h^2 max|d''|/8 in a row interval of width h; standard), d constant beyond the last row (the
+/// value d(i inf) towards which any response with a finite high-frequency limit tends, as the
+/// pole model's d_inf). The first row is xi = 0 (the n = 0 term needs d(0)).
+struct DParameterTable {
+  std::vector<double> xi;             ///< rad/s, xi[0] = 0, strictly increasing
+  std::vector<double> perpendicular;  ///< d_perp, m, |d| <= 10 nm
+  std::vector<double> parallel;       ///< d_par, m, |d| <= 10 nm
+  std::string origin;                 ///< file name
+  double perp_at(double x) const { return at(perpendicular, x); }
+  double par_at(double x) const { return at(parallel, x); }
+  /// Empty if the rows are as above, else what is wrong.
+  std::string validate() const;
+
+ private:
+  double at(const std::vector<double>& d, double x) const;
+};
+
 struct FeibelmanParameters {
   SurfaceParameter perpendicular, parallel;
+  /// If set, d_perp and d_par come from it (the two SurfaceParameters are unused).
+  std::shared_ptr<const DParameterTable> table;
+  double perp_at(double xi) const { return table ? table->perp_at(xi) : perpendicular.at(xi); }
+  double par_at(double xi) const { return table ? table->par_at(xi) : parallel.at(xi); }
 };
+
+/// |d| above which a d-parameter is refused (m): the first order in k d is meaningless beyond at
+/// the wave numbers of any gap where a surface correction matters.
+inline constexpr double kMaxDParameter = 1e-8;
+
+/// Reads a d-parameter table (CSV): '#' comments; a header naming three comma-separated columns
+/// in any order, one of xi_eV | xi_rad/s, one of d_perp_nm | d_perp_A | d_perp_m, one of
+/// d_par_nm | d_par_A | d_par_m (A: angstrom); then rows of three finite numbers, the first at
+/// xi = 0, xi strictly increasing, |d| <= 10 nm, at least 2 rows. Every violation is an
+/// InputError "file:line: column = value: what is wrong" (solver/input_error.h).
+DParameterTable read_d_parameters_csv(const std::filesystem::path& path);
 
 /// The half-space of `material` with Feibelman d-parameters (first order; above). Throws
 /// std::invalid_argument for a perfect conductor (no surface response of its own) or

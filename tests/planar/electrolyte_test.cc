@@ -180,10 +180,15 @@ TEST(Electrolyte, BadIonicStrengthIsNamed) {
       {"\"0.1 mol/L\"", "0.1", "a.toml:6: medium.ionic_strength = 0.1"},
       {"\"0.1 mol/L\"", "\"20 M\"", "at most 10 mol/L"},
       {"material = \"water\"", "material = \"vacuum\"", "dielectric solvent"},
+      {"geometry = \"plate-plate\"\n[plate]",
+       "geometry = \"sphere-sphere\"\n[sphere]\nradius = \"1 um\"",
+       "medium.ionic_strength = \"0.1 mol/L\": ions in the medium are built for plate-plate, "
+       "sphere-plate and atom-plate only"},
       {"geometry = \"plate-plate\"",
        "geometry = \"sphere-plate\"\n[sphere]\nradius = \"1 um\"\n"
        "material = \"gold-drude\"",
-       "medium.ionic_strength = \"0.1 mol/L\": ions in the medium are built for plate-plate only"},
+       "a.toml:9: medium.ionic_strength = \"0.1 mol/L\": ions in the medium are built for a "
+       "conducting sphere over a conducting plate"},
   };
   for (const auto& b : bad) {
     std::string text = kCase;
