@@ -41,7 +41,7 @@ struct Body {
   std::string name;  ///< the case-file table, e.g. "plate", "sphere2"; the preview's group name
   Shape shape = Shape::kPlate;
   double radius = 0.0;                    ///< spheres, cylinders: outer radius (m)
-  std::vector<double> shell_thicknesses;  ///< spheres: shells, outermost first (m)
+  std::vector<double> shell_thicknesses;  ///< spheres, cylinders: shells, outermost first (m)
   double period = 0.0;                    ///< gratings: period (m)
   double filling = 0.0;                   ///< gratings: ridge fraction of the period
   double depth = 0.0;                     ///< gratings: ridge height (m)

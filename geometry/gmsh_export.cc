@@ -101,6 +101,13 @@ std::string length_text(double metres) {
   return fmt::format("{:.4g} nm", metres * 1e9);
 }
 
+// " (2 shells, outer surface drawn)" for a coated sphere or cylinder, else empty.
+std::string shells_text(const Body& b) {
+  if (b.shell_thicknesses.empty()) return {};
+  return fmt::format(" ({} shell{}, outer surface drawn)", b.shell_thicknesses.size(),
+                     b.shell_thicknesses.size() == 1 ? "" : "s");
+}
+
 struct GmshSession {
   explicit GmshSession(const GmshApi& g) : g_(g) {
     int e = 0;
@@ -209,22 +216,17 @@ PreviewSummary export_gmsh(const Configuration& c, double gap, const std::filesy
       check(e, "occ::addCylinder");
       volumes.emplace_back(tag, b.name);
       fine = std::min(fine, 2.0 * M_PI * R / (4.0 * kElementsPerSize));
-      parts.push_back(
-          fmt::format("{} of radius {} (infinite; drawn {} long) with its axis at z = {}", b.name,
-                      length_text(b.radius), length_text(4.0 * b.radius), length_text(zc / u)));
+      parts.push_back(fmt::format(
+          "{} of radius {}{} (infinite; drawn {} long) with its axis at z = {}", b.name,
+          length_text(b.radius), shells_text(b), length_text(4.0 * b.radius), length_text(zc / u)));
       return;
     }
     const int tag = g.gmshModelOccAddSphere(0.0, 0.0, zc, R, -1, -M_PI / 2, M_PI / 2, 2 * M_PI, &e);
     check(e, "occ::addSphere");
     volumes.emplace_back(tag, b.name);
     fine = std::min(fine, 2.0 * M_PI * R / (4.0 * kElementsPerSize));
-    parts.push_back(fmt::format(
-        "{} of radius {}{} centred at z = {}", b.name, length_text(b.radius),
-        b.shell_thicknesses.empty()
-            ? std::string()
-            : fmt::format(" ({} shell{}, outer surface drawn)", b.shell_thicknesses.size(),
-                          b.shell_thicknesses.size() == 1 ? "" : "s"),
-        length_text(zc / u)));
+    parts.push_back(fmt::format("{} of radius {}{} centred at z = {}", b.name,
+                                length_text(b.radius), shells_text(b), length_text(zc / u)));
   };
   add(c.lower, true);
   add(c.upper, false);

@@ -19,6 +19,7 @@
 #include "io/sheet_spec.h"
 #include "io/units.h"
 #include "solver/materials/library.h"
+#include "solver/scatterers/cylinder_body.h"
 
 namespace roundtrip::io {
 namespace {
@@ -275,6 +276,13 @@ std::vector<SphereShell> BodySpec::solver_shells() const {
   std::vector<SphereShell> out;
   for (const auto& s : shells) out.push_back({s.material, s.thickness});
   return out;
+}
+
+MaterialPtr BodySpec::cylinder_material() const {
+  if (!material || shells.empty()) return material;
+  std::vector<CylinderShell> out;
+  for (const auto& s : shells) out.push_back({s.material, s.thickness});
+  return make_coated_cylinder(material, std::move(out));
 }
 
 std::string BodySpec::describe() const {
@@ -840,18 +848,10 @@ CaseSpec parse_root(toml::table& root, CaseSpec spec) {
     collect_material_names(t, names);
     for (const auto& n : names) used.add(resolver.get(n, b.table + ".material"));
   };
-  const auto read_sphere = [&](const toml::table& s, BodySpec& b) {
+  // Shells of a sphere or a cylinder: [{ material, thickness }, ...], outermost first; together
+  // thinner than the radius (read before them).
+  const auto read_shells = [&](const toml::table& s, BodySpec& b) {
     const std::string& tb = b.table;
-    check_keys(s, tb, {"radius", "material", "shells"});
-    if (!s.contains("radius"))
-      throw table_error(s, tb + ".radius", "missing required key (e.g. radius = \"50 um\")");
-    b.radius = positive_length(*s.get("radius"), tb + ".radius", geometry::radius_problem);
-    if (s.contains("material")) {
-      b.material = material_at(s, "material", tb + ".material");
-      used.add(b.material);
-    } else if (electromagnetic) {
-      throw table_error(s, tb + ".material", "missing required key (e.g. \"gold-drude\")");
-    }
     if (const toml::node* sh = s.get("shells")) {
       const std::string field = tb + ".shells";
       const auto* arr = sh->as_array();
@@ -887,12 +887,24 @@ CaseSpec parse_root(toml::table& root, CaseSpec spec) {
       }
     }
   };
-  // A cylinder: radius and material (shells are not built for cylinders yet).
+  const auto read_sphere = [&](const toml::table& s, BodySpec& b) {
+    const std::string& tb = b.table;
+    check_keys(s, tb, {"radius", "material", "shells"});
+    if (!s.contains("radius"))
+      throw table_error(s, tb + ".radius", "missing required key (e.g. radius = \"50 um\")");
+    b.radius = positive_length(*s.get("radius"), tb + ".radius", geometry::radius_problem);
+    if (s.contains("material")) {
+      b.material = material_at(s, "material", tb + ".material");
+      used.add(b.material);
+    } else if (electromagnetic) {
+      throw table_error(s, tb + ".material", "missing required key (e.g. \"gold-drude\")");
+    }
+    read_shells(s, b);
+  };
+  // A cylinder: radius, material (the core's if there are shells) and optional shells.
   const auto read_cylinder = [&](const toml::table& s, BodySpec& b) {
     const std::string& tb = b.table;
     check_keys(s, tb, {"radius", "material", "shells"});
-    if (const toml::node* sh = s.get("shells"))
-      throw error_at(*sh, tb + ".shells", "shells on cylinders are not built yet");
     if (!s.contains("radius"))
       throw table_error(s, tb + ".radius", "missing required key (e.g. radius = \"50 um\")");
     b.radius = positive_length(*s.get("radius"), tb + ".radius", geometry::cylinder_radius_problem);
@@ -902,6 +914,7 @@ CaseSpec parse_root(toml::table& root, CaseSpec spec) {
     } else if (electromagnetic) {
       throw table_error(s, tb + ".material", "missing required key (e.g. \"perfect-conductor\")");
     }
+    read_shells(s, b);
   };
   // [grating]: io/grating_spec.h.
   const auto read_grating = [&](const toml::table& t, BodySpec& b) {

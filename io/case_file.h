@@ -51,6 +51,9 @@ struct BodySpec {
   geometry::Body geometry() const;
   /// The shells as the solver takes them (solver/scatterers/sphere_body.h).
   std::vector<SphereShell> solver_shells() const;
+  /// A cylinder's material as the cylinder geometries take it: the core material, or with
+  /// shells a coated cylinder (solver/scatterers/cylinder_body.h); null for scalar fields.
+  MaterialPtr cylinder_material() const;
   /// One line for `check`: "radius 10 um, gold-drude" or the plate's description.
   std::string describe() const;
 };

@@ -17,7 +17,7 @@ namespace roundtrip::io {
 GeometryKind cylinder_cylinder_kind() {
   GeometryKind k;
   k.name = "cylinder-cylinder";
-  k.summary = "two parallel infinite cylinders (e.g. fibres, nanowires), per unit length";
+  k.summary = "two parallel infinite cylinders (e.g. coated fibres, nanowires), per unit length";
   k.lower = {"cylinder", geometry::Shape::kCylinder, ""};
   k.upper = {"cylinder2", geometry::Shape::kCylinder, "cylinder"};
   k.scale = ResultScale::kPerLength;
@@ -27,9 +27,9 @@ GeometryKind cylinder_cylinder_kind() {
     const BodySpec& b = spec.body("cylinder2");
     CylinderCylinderOptions o;
     o.radius1 = a.radius;
-    o.cylinder1 = a.material;
+    o.cylinder1 = a.cylinder_material();
     o.radius2 = b.radius;
-    o.cylinder2 = b.material;
+    o.cylinder2 = b.cylinder_material();
     o.medium = spec.medium;
     o.field = field_kind_from_string(spec.field);
     o.rel_tol = spec.frequency.rel_tol;

@@ -1,6 +1,7 @@
-// geometry = "cylinder-plate": an infinitely long cylinder with its axis parallel to a planar
-// body, results per unit length. Any cylinder material and plate (real materials through the
-// TE/TM-mixing vector path; perfect conductors and the scalar fields through the scalar path),
+// geometry = "cylinder-plate": an infinitely long cylinder (optionally coated: [cylinder].shells,
+// solver/scatterers/cylinder_body.h) with its axis parallel to a planar body, results per unit
+// length. Any cylinder material and plate (real materials through the TE/TM-mixing vector path;
+// perfect conductors and the scalar fields through the scalar path),
 // solver/geometries/cylinder_plate.h.
 #include "solver/geometries/cylinder_plate.h"
 
@@ -17,7 +18,8 @@ namespace roundtrip::io {
 GeometryKind cylinder_plate_kind() {
   GeometryKind k;
   k.name = "cylinder-plate";
-  k.summary = "an infinite cylinder parallel to a planar body, per unit length";
+  k.summary =
+      "an infinite cylinder (optionally with shells) parallel to a planar body, per unit length";
   k.lower = {"plate", geometry::Shape::kPlate, ""};
   k.upper = {"cylinder", geometry::Shape::kCylinder, ""};
   k.scale = ResultScale::kPerLength;
@@ -26,7 +28,7 @@ GeometryKind cylinder_plate_kind() {
     const BodySpec& c = spec.body("cylinder");
     CylinderPlateOptions o;
     o.radius = c.radius;
-    o.cylinder = c.material;
+    o.cylinder = c.cylinder_material();
     o.plate = spec.body("plate").plate;
     o.medium = spec.medium;
     o.field = field_kind_from_string(spec.field);

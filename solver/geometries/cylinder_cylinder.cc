@@ -64,6 +64,7 @@
 #include "solver/guards.h"
 #include "solver/materials/models.h"
 #include "solver/planar/planar.h"
+#include "solver/scatterers/cylinder_body.h"
 #include "solver/scatterers/cylinder_t.h"
 
 namespace roundtrip {
@@ -358,8 +359,8 @@ class CylinderCylinder final : public Geometry {
     vector_ = o_.field == FieldKind::kElectromagnetic &&
               !(o_.cylinder1->is_perfect_conductor() && o_.cylinder2->is_perfect_conductor());
     if (o_.field == FieldKind::kElectromagnetic)
-      pfa_plates_ = std::make_unique<PlatePlate>(make_half_space(o_.cylinder1),
-                                                 make_half_space(o_.cylinder2), o_.medium);
+      pfa_plates_ = std::make_unique<PlatePlate>(cylinder_pfa_partner(o_.cylinder1),
+                                                 cylinder_pfa_partner(o_.cylinder2), o_.medium);
   }
 
   Spectral at_frequency(double xi, double gap, DerivativeOrder order) const override {

@@ -10,7 +10,8 @@
 // conductor; the two may differ), electromagnetic field, T >= 0, in any dielectric medium; the
 // scalar Dirichlet and Neumann validation fields. Perfect conductors on both sides take the
 // scalar (TM/TE decoupled, symmetric Cholesky) path; anything else the vector path with TE/TM
-// mixing (cylinder_pair_vector_logdet). Not built: shells on cylinders.
+// mixing (cylinder_pair_vector_logdet). Shells: a CoatedCylinder as a cylinder's material
+// (solver/scatterers/cylinder_body.h; its T-matrix and its layered PFA partner).
 #include <memory>
 #include <string>
 

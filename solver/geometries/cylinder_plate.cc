@@ -58,6 +58,7 @@
 #include "solver/guards.h"
 #include "solver/materials/models.h"
 #include "solver/planar/planar.h"
+#include "solver/scatterers/cylinder_body.h"
 #include "solver/scatterers/cylinder_t.h"
 
 namespace roundtrip {
@@ -417,7 +418,8 @@ class CylinderPlate final : public Geometry {
     vector_ = o_.field == FieldKind::kElectromagnetic &&
               !(o_.cylinder->is_perfect_conductor() && o_.plate->is_perfect_conductor());
     if (o_.field == FieldKind::kElectromagnetic)
-      pfa_plates_ = std::make_unique<PlatePlate>(make_half_space(o_.cylinder), o_.plate, o_.medium);
+      pfa_plates_ =
+          std::make_unique<PlatePlate>(cylinder_pfa_partner(o_.cylinder), o_.plate, o_.medium);
   }
 
   Spectral at_frequency(double xi, double gap, DerivativeOrder order) const override {

@@ -9,7 +9,8 @@
 // conductor) over any planar body, electromagnetic field, T >= 0, in any non-conducting medium;
 // the scalar Dirichlet and Neumann validation fields. Perfect conductors on both sides take the
 // scalar (TM/TE decoupled, symmetric) path; anything else the vector path with TE/TM mixing
-// (cylinder_plate_vector_logdet). Not built: shells on cylinders.
+// (cylinder_plate_vector_logdet). Shells: a CoatedCylinder as the cylinder's material
+// (solver/scatterers/cylinder_body.h; its T-matrix and its layered PFA partner).
 #include <memory>
 #include <string>
 

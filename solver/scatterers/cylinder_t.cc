@@ -7,6 +7,7 @@
 #include <stdexcept>
 
 #include "solver/constants.h"
+#include "solver/scatterers/cylinder_body.h"
 #include "solver/special/bessel_i_log.h"
 
 namespace roundtrip::cylinder {
@@ -95,6 +96,8 @@ void k_log_derivative(double x, int m_max, std::vector<double>& out) {
 
 void cylinder_t(const Material& material, const Material& medium, double R, double xi, double kz,
                 int m_max, std::vector<double>& log_t, std::vector<Tau>& tau) {
+  if (const auto* coated = dynamic_cast<const CoatedCylinder*>(&material))
+    return coated_cylinder_t(*coated, medium, R, xi, kz, m_max, log_t, tau);
   const bool stat = !(xi > 0.0);
   const StaticLimit sm = medium.static_limit();
   if (sm.kind != StaticClass::kDielectric)

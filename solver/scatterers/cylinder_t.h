@@ -51,6 +51,8 @@ using Tau = std::array<double, 4>;
 /// Orders m = 0..m_max of a homogeneous cylinder of `material` (perfect conductor allowed) in a
 /// dielectric medium eps_m = medium.epsilon(xi) (eps_m(0) at xi = 0). log_t[m] = log(I_m/K_m)
 /// at pR, tau[m] as above. k_z >= 0 (the result depends on k_z^2 except the sign of Delta).
+/// A CoatedCylinder (cylinder_body.h) as `material` gives its layered T-matrix
+/// (coated_cylinder_t), `radius` being the outer radius.
 void cylinder_t(const Material& material, const Material& medium, double radius, double xi,
                 double kz, int m_max, std::vector<double>& log_t, std::vector<Tau>& tau);
 

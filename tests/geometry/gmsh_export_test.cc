@@ -232,5 +232,29 @@ TEST(GmshExport, TwoSpheresStandOnEitherSideOfTheGap) {
   fs::remove_all(f.parent_path());
 }
 
+// Coated cylinders: the shells are named in the description and the outer surface is drawn, so
+// the surface-to-surface gap is between the outer radii (geometry/gmsh_export.h).
+TEST(GmshExport, CoatedCylindersListTheirShellsAndDrawTheOuterSurface) {
+  Configuration c;
+  c.kind = "cylinder-cylinder";
+  c.lower = Body{"cylinder", Shape::kCylinder, 2e-6, {0.1e-6, 0.2e-6}};
+  c.upper = Body{"cylinder2", Shape::kCylinder, 1e-6, {}};
+  c.gaps = {300e-9};
+  const fs::path f = temp_file("cc.msh");
+  const PreviewSummary s = export_gmsh(c, 300e-9, f);
+  EXPECT_NE(s.description.find("2 shells, outer surface drawn"), std::string::npos)
+      << s.description;
+  int volumes = 0;
+  const auto boxes = read_back(f, volumes);
+  EXPECT_EQ(volumes, 2);
+  ASSERT_TRUE(boxes.count("cylinder surface") && boxes.count("cylinder2 surface"));
+  const Box& lo = boxes.at("cylinder surface");
+  const Box& up = boxes.at("cylinder2 surface");
+  EXPECT_NEAR(lo.hi[2], 0.0, kSampling * 2.0) << "lower cylinder reaches z = 0";
+  EXPECT_NEAR(lo.lo[2], -4.0, kSampling * 2.0) << "lower outer diameter";
+  EXPECT_NEAR(up.lo[2], 0.3, kSampling * 1.0) << "gap to the outer surface";
+  fs::remove_all(f.parent_path());
+}
+
 }  // namespace
 }  // namespace roundtrip::geometry

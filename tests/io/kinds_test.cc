@@ -12,8 +12,8 @@ namespace roundtrip::io {
 namespace {
 
 // A minimal body table for a slot's shape (invented values).
-// Cylinders are built for perfect conductors only (solver/geometries/cylinder_plate.h), so a
-// kind with a cylinder gets perfect conductors throughout.
+// A kind with a cylinder gets perfect conductors throughout (the fast scalar path of
+// solver/geometries/cylinder_plate.h).
 std::string table_for(const BodySlot& s, bool pec = false) {
   if (s.shape == geometry::Shape::kAtom) return "[" + s.table + "]\nspecies = \"rubidium\"\n";
   if (pec)
@@ -106,6 +106,58 @@ TEST(GeometryKinds, ShellsAreReadOutermostFirstAndCheckedAgainstTheRadius) {
   const std::string unknown =
       err("shells = [{ material = \"gold-drude\", thickness = \"5 nm\", colour = \"red\" }]\n");
   EXPECT_NE(unknown.find("sphere.shells[0].colour"), std::string::npos) << unknown;
+}
+
+// Cylinders take shells with the sphere's keys and order (README "Case files"): read outermost
+// first, built into a coated cylinder (its name lists the shells), copied to a defaulted
+// [cylinder2], and refused with file:line, key and value when together not thinner than the
+// radius, not positive, or given with a scalar test field.
+TEST(GeometryKinds, CylinderShellsAreReadLikeTheSpheresAndCheckedAgainstTheRadius) {
+  const std::string tail =
+      "[separations]\nvalues = [\"500 nm\"]\n[conditions]\ntemperature = \"0 K\"\n"
+      "[cylinder]\nradius = \"1 um\"\nmaterial = \"silica\"\n";
+  const std::string plate = "geometry = \"cylinder-plate\"\n[plate]\nmaterial = \"silicon\"\n";
+  const auto err = [&](const std::string& head, const std::string& shells) {
+    try {
+      (void)parse_case(head + tail + shells, "c.toml");
+    } catch (const CaseError& e) {
+      return std::string(e.what());
+    }
+    return std::string("no error");
+  };
+  const std::string thick = err(plate,
+                                "shells = [{ material = \"gold-drude\", thickness = \"0.7 um\" },\n"
+                                "          { material = \"silica\", thickness = \"0.3 um\" }]\n");
+  EXPECT_NE(thick.find("c.toml:12: cylinder.shells[1].thickness"), std::string::npos) << thick;
+  EXPECT_NE(thick.find("not less than the radius"), std::string::npos) << thick;
+  const std::string zero =
+      err(plate, "shells = [{ material = \"gold-drude\", thickness = \"0 nm\" }]\n");
+  EXPECT_NE(zero.find("c.toml:11: cylinder.shells[0].thickness"), std::string::npos) << zero;
+  const std::string negative =
+      err(plate, "shells = [{ material = \"gold-drude\", thickness = \"-5 nm\" }]\n");
+  EXPECT_NE(negative.find("cylinder.shells[0].thickness"), std::string::npos) << negative;
+  EXPECT_NE(negative.find("-5 nm"), std::string::npos) << negative;
+  const std::string scalar =
+      err("geometry = \"cylinder-plate\"\nfield = \"dirichlet\"\n",
+          "shells = [{ material = \"gold-drude\", thickness = \"5 nm\" }]\n");
+  EXPECT_NE(scalar.find("cylinder.shells"), std::string::npos) << scalar;
+  EXPECT_NE(scalar.find("scalar test fields take no shells"), std::string::npos) << scalar;
+
+  const std::string good =
+      "shells = [{ material = \"gold-drude\", thickness = \"50 nm\" },\n"
+      "          { material = \"silicon\", thickness = \"20 nm\" }]\n";
+  const CaseSpec pc = parse_case(plate + tail + good, "c.toml");
+  const BodySpec& c = pc.body("cylinder");
+  ASSERT_EQ(c.shells.size(), 2u);
+  EXPECT_EQ(c.shells[0].material->name(), "gold-drude");
+  EXPECT_DOUBLE_EQ(c.shells[1].thickness, 20e-9);
+  EXPECT_EQ(c.cylinder_material()->name(), "gold-drude (5e-08 m) on silicon (2e-08 m) on silica");
+  EXPECT_NE(build_geometry(pc)->describe().find("gold-drude (5e-08 m) on silicon"),
+            std::string::npos);
+  const CaseSpec cc = parse_case("geometry = \"cylinder-cylinder\"\n" + tail + good, "c.toml");
+  EXPECT_EQ(cc.body("cylinder2").shells.size(), 2u);  // [cylinder2] defaults to [cylinder]
+  EXPECT_NE(build_geometry(cc)->describe().find("gold-drude (5e-08 m) on silicon"),
+            std::string::npos);
 }
 
 }  // namespace
