@@ -144,6 +144,19 @@ void Progress::gap_done(int done, int total) {
   emit(status(elapsed()), true);
 }
 
+void Progress::gap_finished(int gap, int done, int total) {
+  std::lock_guard<std::mutex> lock(mutex_);
+  done_ = done;
+  total_ = total;
+  if (const auto it = running_.find(gap); it != running_.end()) {
+    finished_evaluations_ += it->second;
+    running_.erase(it);
+  }
+  if (gap >= 0 && gap < static_cast<int>(planned_cost_.size()))
+    finished_cost_ += planned_cost_[gap];
+  emit(status(elapsed()), true);
+}
+
 void Progress::finish() {
   std::lock_guard<std::mutex> lock(mutex_);
   if (terminal_ && dirty_) err_ << "\r\033[K" << std::flush;

@@ -36,6 +36,9 @@ class Progress {
   void frequency(int gap, int evaluations);
   /// A gap finished; `done` of `total` so far.
   void gap_done(int done, int total);
+  /// Gap `gap` (0-based) finished, `done` of `total` so far (when the caller knows which gap,
+  /// as an MPI run's rank 0 does).
+  void gap_finished(int gap, int done, int total);
   /// Clear the status line (terminal) before other output.
   void finish();
 

@@ -572,6 +572,33 @@ int run_command(const RunArgs& args, std::ostream& out, std::ostream& err) {
       throw;
     }
   }
+  // Scan points that differ only where the geometry can share a frequency's work (a material
+  // scan of a sphere-plate) are computed together while the first point runs (solver/run.h);
+  // under MPI the first point's tasks compute them together (frequency_rounds.h).
+  std::vector<const Geometry*> companions;
+  std::vector<int> companion_points;
+  for (std::size_t k = 1; k < points.size(); ++k) {
+    const CaseSpec &p0 = points[0].spec, &pk = points[k].spec;
+    if (pk.gaps == p0.gaps && pk.frequency.temperature_K == p0.frequency.temperature_K &&
+        pk.frequency.rel_tol == p0.frequency.rel_tol &&
+        pk.quantities.order() == p0.quantities.order() &&
+        geometries[0]->shares_frequency_work_with(*geometries[k])) {
+      companions.push_back(geometries[k].get());
+      companion_points.push_back(static_cast<int>(k));
+    }
+  }
+  // Together, each thread holds one W block per point (bounded above by the whole per-thread
+  // figure times the points); if that does not fit, each point runs alone.
+  if (!companions.empty()) {
+    Plan together = plans[0];
+    together.memory_bytes *= 1.0 + static_cast<double>(companions.size());
+    if (!memory_problem(together, limit).empty()) companions.clear(), companion_points.clear();
+  }
+  const auto share_work = [&](std::vector<parallel::SweepInput>& inputs) {
+    if (companion_points.empty()) return;
+    inputs[0].companions = companion_points;
+    for (int k : companion_points) inputs[k].lead = 0;
+  };
   if (!lead) {  // a worker rank: compute tasks for rank 0, print and write nothing
     std::vector<parallel::SweepInput> inputs;
     for (std::size_t k = 0; k < points.size(); ++k) {
@@ -581,6 +608,7 @@ int run_command(const RunArgs& args, std::ostream& out, std::ostream& err) {
       in.options.cancel = &cancel_requested();
       inputs.push_back(std::move(in));
     }
+    share_work(inputs);
     (void)parallel::run_sweeps_distributed(inputs, args.threads);
     return kExitOk;
   }
@@ -617,8 +645,33 @@ int run_command(const RunArgs& args, std::ostream& out, std::ostream& err) {
       for (const auto& gp : plans[k].gaps) in.gap_costs.push_back(gp.flops_per_frequency);
       inputs.push_back(std::move(in));
     }
+    share_work(inputs);
+    // Progress as in a serial run, over the gaps of every scan point at once (they run
+    // together): "gap i of N" counts the gaps of all points, point by point.
+    std::vector<int> offset, freqs;
+    std::vector<double> cost;
+    for (std::size_t k = 0; k < points.size(); ++k) {
+      offset.push_back(static_cast<int>(freqs.size()));
+      for (const auto& gp : plans[k].gaps) {
+        freqs.push_back(gp.frequencies);
+        cost.push_back(gp.frequencies * gp.flops_per_frequency);
+      }
+    }
+    const int all_gaps = static_cast<int>(freqs.size());
+    Progress progress(err, terminal, all_gaps,
+                      scan ? fmt::format("{} scan points together, ", points.size()) : "");
+    progress.set_plan(std::move(freqs), std::move(cost));
+    int gaps_done = 0;
+    parallel::RoundProgress hooks;
+    hooks.gap_started = [&](int p, int g) { progress.gap_started(offset[p] + g); };
+    hooks.frequency = [&](int p, int g, int n) { progress.frequency(offset[p] + g, n); };
+    hooks.gap_done = [&](int p, int g) {
+      progress.gap_finished(offset[p] + g, ++gaps_done, all_gaps);
+    };
     parallel::DistributedStats ds;
-    distributed_results = parallel::run_sweeps_distributed(inputs, args.threads, &ds);
+    distributed_results =
+        parallel::run_sweeps_distributed(inputs, args.threads, &ds, show ? &hooks : nullptr);
+    progress.finish();
     const int team = ds.slots_per_rank * ds.threads_per_slot;
     team_text = fmt::format("{} rank{} x {} thread{}", ds.ranks, ds.ranks == 1 ? "" : "s", team,
                             team == 1 ? "" : "s");
@@ -631,6 +684,25 @@ int run_command(const RunArgs& args, std::ostream& out, std::ostream& err) {
                  team_text, ds.rounds.tasks, ds.rounds.rounds, ds.rounds.rounds == 1 ? "" : "s",
                  ds.rounds.speculative, *lo, *hi, ds.wall_seconds)
           << std::flush;
+      if (ds.rounds.split_frequencies > 0)
+        err << fmt::format(
+                   "roundtrip: {}: {} frequenc{} split into {} m-block tasks ({} block{} computed "
+                   "beyond where the m sum stopped)\n",
+                   team_text, ds.rounds.split_frequencies,
+                   ds.rounds.split_frequencies == 1 ? "y" : "ies", ds.rounds.block_tasks,
+                   ds.rounds.unused_blocks, ds.rounds.unused_blocks == 1 ? "" : "s")
+            << std::flush;
+      if (ds.rounds.shared_values > 0)
+        err << fmt::format(
+                   "roundtrip: {}: {} values of scan points {} computed together with point 1\n",
+                   team_text, ds.rounds.shared_values,
+                   [&] {
+                     std::string t;
+                     for (int k : companion_points)
+                       t += (t.empty() ? "" : ", ") + std::to_string(k + 1);
+                     return t;
+                   }())
+            << std::flush;
     }
   }
 
@@ -644,25 +716,7 @@ int run_command(const RunArgs& args, std::ostream& out, std::ostream& err) {
       for (const auto& gp : plans[j].gaps) c += gp.frequencies * gp.flops_per_frequency;
     return c;
   };
-  // Scan points that differ only where the geometry can share a frequency's work (a material
-  // scan of a sphere-plate) are computed together while the first point runs (solver/run.h).
   SharedFrequencyValues shared;
-  std::vector<const Geometry*> companions;
-  for (std::size_t k = 1; k < points.size() && !distributed; ++k) {
-    const CaseSpec &p0 = points[0].spec, &pk = points[k].spec;
-    if (pk.gaps == p0.gaps && pk.frequency.temperature_K == p0.frequency.temperature_K &&
-        pk.frequency.rel_tol == p0.frequency.rel_tol &&
-        pk.quantities.order() == p0.quantities.order() &&
-        geometries[0]->shares_frequency_work_with(*geometries[k]))
-      companions.push_back(geometries[k].get());
-  }
-  // Together, each thread holds one W block per point (bounded above by the whole per-thread
-  // figure times the points); if that does not fit, each point runs alone.
-  if (!companions.empty()) {
-    Plan together = plans[0];
-    together.memory_bytes *= 1.0 + static_cast<double>(companions.size());
-    if (!memory_problem(together, limit).empty()) companions.clear();
-  }
   for (std::size_t k = 0; k < points.size(); ++k) {
     const CaseSpec& ps = points[k].spec;
     ScanRunResult run;
@@ -676,7 +730,7 @@ int run_command(const RunArgs& args, std::ostream& out, std::ostream& err) {
       opts.store = journal.store(static_cast<int>(k));
       opts.cancel = &cancel_requested();
       opts.shared = &shared;
-      if (k == 0) opts.companions = companions;
+      if (k == 0 && !distributed) opts.companions = companions;
       Progress progress(err, terminal, static_cast<int>(ps.gaps.size()),
                         scan ? fmt::format("scan point {} of {}, ", k + 1, points.size()) : "");
       if (show) {

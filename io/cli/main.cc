@@ -19,8 +19,9 @@
 namespace cli = roundtrip::io::cli;
 
 namespace {
-// The first Ctrl-C (or SIGTERM) asks the run to stop: it writes the finished gaps and keeps its
-// checkpoint journal. A second one removes the temporary results file and dies of the signal.
+// The first Ctrl-C (or SIGTERM, or for `run` SIGUSR1) asks the run to stop: it writes the finished
+// gaps and keeps its checkpoint journal. A second one removes the temporary results file and dies
+// of the signal.
 extern "C" void on_terminate(int sig) {
   if (!cli::cancel_requested().exchange(true)) return;  // lock-free atomic: signal-safe
   roundtrip::io::remove_pending_results_file();
@@ -176,6 +177,10 @@ int main(int argc, char** argv) {
     }
     mpi.emplace(&argc, &argv);
     mpi->set_before_abort([] { roundtrip::io::remove_pending_results_file(); });
+    // SIGUSR1 stops a run as SIGTERM does. OpenMPI's mpirun passes SIGUSR1 on to every rank
+    // and then reports the ranks' status (130), whereas a SIGTERM to mpirun itself makes it exit
+    // with 1 and kill the ranks a second later (README "Clusters (MPI)").
+    std::signal(SIGUSR1, on_terminate);
   }
   int status = 2;
   std::string error;  // printed as "roundtrip: error: <error>"

@@ -2,6 +2,7 @@
 // Sum over the azimuthal number m of per-m log dets for bodies on a common axis (+m and -m give
 // the same block, so m > 0 counts twice). Shared by sphere-plate and sphere-sphere.
 #include <functional>
+#include <optional>
 #include <string>
 #include <vector>
 
@@ -31,5 +32,44 @@ std::vector<Spectral> sum_over_m_many(
     int count, int mlimit, bool fixed_m_max, DerivativeOrder order, double tol,
     const std::function<std::vector<LogDetResult>(int, const std::vector<char>&)>& blocks,
     const std::function<std::string(int, int, const LogDetResult&)>& fail_message);
+
+/// Part of one frequency's m sum, computed alone (the block work items of a run spread over
+/// ranks or threads, solver/parallel/frequency_rounds.h). Asked: the blocks m_begin <= m <
+/// m_end (m_begin a multiple of kMBatch, so the batches are those of the whole sum). Filled in
+/// by sum_over_m: the parameters of the sum, which decide where it stops (replay_sum_over_m),
+/// and the block values in order of m, up to the first failed block.
+struct MChunk {
+  int m_begin = 0;
+  int m_end = 0;
+  bool seen = false;  ///< sum_over_m ran (else the geometry summed no m at this frequency)
+  int mlimit = 0;
+  bool fixed_m_max = false;
+  DerivativeOrder order = DerivativeOrder::kEnergy;
+  double tol = 0.0;
+  std::vector<Spectral> values;  ///< blocks m_begin, m_begin + 1, ... (before any failure)
+  int failed_at = -1;            ///< first failed block in the chunk, -1 if none
+  std::string failure;           ///< its fail_message
+};
+
+/// While alive, the sum_over_m called on this thread computes only the blocks of `chunk`, fills
+/// it in and returns zero (a geometry that calls it more than once per frequency throws
+/// std::logic_error). Not nested.
+class MChunkScope {
+ public:
+  explicit MChunkScope(MChunk* chunk);
+  ~MChunkScope();
+  MChunkScope(const MChunkScope&) = delete;
+  MChunkScope& operator=(const MChunkScope&) = delete;
+};
+
+/// Block m of a replayed sum: its value, or nothing if not computed yet; a failed block throws.
+using BlockValue = std::function<std::optional<Spectral>(int m)>;
+
+/// The m sum of sum_over_m replayed on block values computed elsewhere (chunks): the same
+/// order of addition and the same stopping test, so the total is sum_over_m's bit for bit.
+/// Returns the total, or nothing and sets *missing to the first m whose value is needed but
+/// unknown.
+std::optional<Spectral> replay_sum_over_m(int mlimit, bool fixed_m_max, DerivativeOrder order,
+                                          double tol, const BlockValue& value, int* missing);
 
 }  // namespace roundtrip::blocks

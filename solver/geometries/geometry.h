@@ -131,6 +131,11 @@ class Geometry {
   virtual std::string unverified_truncation(double /*gap*/) const { return {}; }
   /// True if at_frequency already runs in parallel (then callers do not add threads on top).
   virtual bool parallel_inside() const { return false; }
+  /// True if at_frequency_within returns one sum over m by blocks::sum_over_m (solver/blocks/
+  /// m_sum.h) and nothing else, so that a frequency can be computed in m chunks on several ranks
+  /// and summed by blocks::replay_sum_over_m to the same number (solver/parallel/
+  /// frequency_rounds.h). Default: false.
+  virtual bool sums_over_m() const { return false; }
   /// The cost model of one frequency at gap L (solver/plan.h uses it for estimates, progress and
   /// the work items a cluster run distributes). The default models blocked plane-wave round
   /// trips from truncation()'s "l_max" and "quadrature_nodes" (geometry.cc); a geometry

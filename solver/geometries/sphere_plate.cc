@@ -101,6 +101,7 @@ class SpherePlate final : public Geometry {
 
   ResultScale scale() const override { return ResultScale::kTotal; }
   bool parallel_inside() const override { return true; }
+  bool sums_over_m() const override { return true; }  // every path ends in one sum_over_m
   std::string kind() const override { return "sphere-plate"; }
 
   double frequency_scale(double gap) const override {

@@ -6,6 +6,7 @@
 #include <algorithm>
 #include <bit>
 #include <chrono>
+#include <climits>
 #include <cmath>
 #include <cstdlib>
 #include <exception>
@@ -54,7 +55,20 @@ TaskValue compute_task(const std::vector<SweepInput>& inputs, const Task& task) 
   const double gap = in.gaps.at(task.gap);
   const auto t0 = std::chrono::steady_clock::now();
   TaskValue v;
-  if (task.kind == TaskKind::kFrequency) {
+  if (task.kind == TaskKind::kFrequency && !in.companions.empty()) {
+    std::vector<const Geometry*> others;
+    for (int k : in.companions) others.push_back(inputs.at(k).geometry);
+    std::vector<Spectral> all = in.geometry->at_frequency_shared(
+        task.xi, gap, in.options.quantities.order(), task.rel_tol, others);
+    v.s = all.front();
+    v.shared.assign(all.begin() + 1, all.end());
+  } else if (task.kind == TaskKind::kFrequency) {
+    v.s =
+        in.geometry->at_frequency_within(task.xi, gap, in.options.quantities.order(), task.rel_tol);
+  } else if (task.kind == TaskKind::kBlocks) {
+    v.chunk.m_begin = task.m_begin;
+    v.chunk.m_end = task.m_end;
+    const blocks::MChunkScope scope(&v.chunk);
     v.s =
         in.geometry->at_frequency_within(task.xi, gap, in.options.quantities.order(), task.rel_tol);
   } else {
@@ -66,8 +80,12 @@ TaskValue compute_task(const std::vector<SweepInput>& inputs, const Task& task) 
   return v;
 }
 
-SweepRounds::SweepRounds(const std::vector<SweepInput>& inputs) : inputs_(inputs) {
-  for (const auto& in : inputs_) gaps_.emplace_back(in.gaps.size());
+SweepRounds::SweepRounds(const std::vector<SweepInput>& inputs, int slots)
+    : inputs_(inputs), slots_(std::max(1, slots)) {
+  for (const auto& in : inputs_) {
+    gaps_.emplace_back(in.gaps.size());
+    lead_computed_.emplace_back(in.gaps.size());
+  }
 }
 
 bool SweepRounds::replay(int point, int gap, std::vector<Task>* tasks, std::set<Key>* asked_now) {
@@ -79,6 +97,7 @@ bool SweepRounds::replay(int point, int gap, std::vector<Task>* tasks, std::set<
   std::set<std::uint64_t> missed;
   std::vector<std::pair<double, Spectral>> known;
   std::vector<Key> used;
+  std::set<Key> taken;  // shared values this replay took (the serial take removes them)
   bool complete = true;
   // The same calls run_point (solver/run.cc) makes, answered from what is known.
   const auto s = [&](double xi, double rel_tol) -> Spectral {
@@ -99,14 +118,31 @@ bool SweepRounds::replay(int point, int gap, std::vector<Task>* tasks, std::set<
       }
     }
     const Key k{point, gap, bits(xi), bits(rel_tol)};
-    if (const auto it = values_.find(k); it != values_.end()) {
+    if (in.lead >= 0 && lead_computed_[in.lead][gap].count({bits(xi), bits(rel_tol)}) &&
+        taken.insert(k).second) {
+      const Spectral v = shared_.at(k);
+      if (shared_recorded_.insert(k).second) {
+        ++stats_.shared_values;
+        if (ContributionStore* store = in.options.store) store->record(gap, xi, v);
+      }
+      known.emplace_back(xi, v);
+      return v;
+    }
+    auto it = values_.find(k);
+    if (it == values_.end())
+      if (const auto sp = splits_.find(k); sp != splits_.end())
+        if (const std::optional<Spectral> v = settle(k, sp->second, tasks)) {
+          it = values_.emplace(k, *v).first;
+          if (ContributionStore* store = in.options.store) store->record(gap, xi, *v);
+        }
+    if (it != values_.end()) {
       used.push_back(k);
       known.emplace_back(xi, it->second);
       return it->second;
     }
     complete = false;
     // A re-ask of a value that is itself a stand-in waits for the real value (next round).
-    if (!missed.count(bits(xi)) && asked_now->insert(k).second)
+    if (!missed.count(bits(xi)) && !splits_.count(k) && asked_now->insert(k).second)
       tasks->push_back(Task{TaskKind::kFrequency, point, gap, xi, rel_tol, cost});
     missed.insert(bits(xi));
     return surrogate(xi, xi_scale, L, known);
@@ -123,24 +159,110 @@ bool SweepRounds::replay(int point, int gap, std::vector<Task>* tasks, std::set<
   st.finished = true;
   st.sum = std::move(sum);
   used_.insert(used.begin(), used.end());
+  if (!in.companions.empty())
+    for (const Key& k : used) lead_computed_[point][gap].insert({std::get<2>(k), std::get<3>(k)});
+  if (progress_ && progress_->gap_done) progress_->gap_done(point, gap);
   return true;
+}
+
+std::optional<Spectral> SweepRounds::settle(const Key& key, Split& split,
+                                            std::vector<Task>* tasks) {
+  if (split.whole) return split.whole;
+  int missing = 0;
+  std::optional<Spectral> total;
+  if (!split.chunks.empty()) {
+    const blocks::MChunk& meta = split.chunks.begin()->second;
+    int used = 0;
+    const auto value = [&](int m) -> std::optional<Spectral> {
+      const auto c = split.chunks.find(m - m % split.chunk_m);
+      if (c == split.chunks.end()) return std::nullopt;
+      const std::size_t i = static_cast<std::size_t>(m - c->second.m_begin);
+      if (i < c->second.values.size()) {
+        used = std::max(used, m + 1);
+        return c->second.values[i];
+      }
+      if (c->second.failed_at == m) throw std::runtime_error(c->second.failure);  // as serial
+      throw std::logic_error("an m chunk holds fewer blocks than it was asked for");
+    };
+    total = blocks::replay_sum_over_m(meta.mlimit, meta.fixed_m_max, meta.order, meta.tol, value,
+                                      &missing);
+    if (total) {
+      int computed = 0;
+      for (const auto& [b, c] : split.chunks) computed += static_cast<int>(c.values.size());
+      stats_.unused_blocks += std::max(0, computed - used);
+      split.chunks.clear();  // the value is kept in values_
+      return total;
+    }
+  }
+  // The next chunks from the first missing block on, as many as the first round asked for, not
+  // beyond the sum's last block once it is known.
+  const int last = split.chunks.empty() ? INT_MAX : split.chunks.begin()->second.mlimit;
+  const auto& [point, gap, xi, rel_tol] = key;
+  for (int i = 0, b = missing - missing % split.chunk_m; i < split.parts && b <= last;
+       ++i, b += split.chunk_m)
+    if (!split.chunks.count(b) && chunks_asked_.insert({key, b}).second)
+      tasks->push_back(Task{TaskKind::kBlocks, point, gap, std::bit_cast<double>(xi),
+                            std::bit_cast<double>(rel_tol), split.cost / split.parts, b,
+                            b + split.chunk_m});
+  return std::nullopt;
+}
+
+void SweepRounds::split_largest(std::vector<Task>& tasks) {
+  if (slots_ < 2) return;
+  double total = 0.0;
+  for (const Task& t : tasks) total += t.cost;
+  const double target = total / (kItemsPerSlot * slots_);
+  std::vector<Task> out;
+  for (const Task& t : tasks) {
+    const SweepInput& in = inputs_[t.point];
+    if (t.kind != TaskKind::kFrequency || !(t.cost > target) || !in.geometry->sums_over_m() ||
+        !in.companions.empty()) {
+      out.push_back(t);
+      continue;
+    }
+    const FrequencyCost fc =
+        in.geometry->cost(in.gaps[t.gap], in.options.quantities.order(), t.rel_tol);
+    const double batches = std::ceil(std::min(fc.blocks, 1e6) / blocks::kMBatch);
+    const int parts = static_cast<int>(std::min(batches, std::ceil(t.cost / target)));
+    if (parts < 2) {
+      out.push_back(t);
+      continue;
+    }
+    Split sp;
+    sp.chunk_m = blocks::kMBatch * static_cast<int>(std::ceil(batches / parts));
+    sp.parts = static_cast<int>(std::ceil(batches * blocks::kMBatch / sp.chunk_m));
+    sp.cost = t.cost;
+    const Key k{t.point, t.gap, bits(t.xi), bits(t.rel_tol)};
+    for (int i = 0; i < sp.parts; ++i) {
+      chunks_asked_.insert({k, i * sp.chunk_m});
+      out.push_back(Task{TaskKind::kBlocks, t.point, t.gap, t.xi, t.rel_tol, t.cost / sp.parts,
+                         i * sp.chunk_m, (i + 1) * sp.chunk_m});
+    }
+    splits_.emplace(k, std::move(sp));
+    ++stats_.split_frequencies;
+  }
+  tasks = std::move(out);
 }
 
 std::vector<Task> SweepRounds::next_round() {
   std::vector<Task> tasks;
   std::set<Key> asked_now;
+  chunks_asked_.clear();
   for (int p = 0; p < static_cast<int>(inputs_.size()); ++p)
     for (int g = 0; g < static_cast<int>(inputs_[p].gaps.size()); ++g) {
       GapState& st = gaps_[p][g];
       if (!st.pfa_done && stats_.rounds == 0)
         tasks.push_back(Task{TaskKind::kPfa, p, g, 0.0, 0.0, 0.0});  // cheap: handed out last
-      if (!st.finished) replay(p, g, &tasks, &asked_now);
+      // A companion waits for its lead's gap (file comment).
+      const int lead = inputs_[p].lead;
+      if (!st.finished && (lead < 0 || gaps_[lead][g].finished)) replay(p, g, &tasks, &asked_now);
     }
+  split_largest(tasks);
   std::stable_sort(tasks.begin(), tasks.end(), [](const Task& a, const Task& b) {
     if (a.cost != b.cost) return a.cost > b.cost;
     if (a.kind != b.kind) return a.kind < b.kind;
     if (a.xi != b.xi) return a.xi < b.xi;  // low frequencies need the larger truncations
-    return std::tie(a.point, a.gap) < std::tie(b.point, b.gap);
+    return std::tie(a.point, a.gap, a.m_begin) < std::tie(b.point, b.gap, b.m_begin);
   });
   if (!tasks.empty()) ++stats_.rounds;
   return tasks;
@@ -156,7 +278,22 @@ void SweepRounds::deliver(const Task& task, const TaskValue& value) {
     if (value.present) st.pfa = PfaValues{value.s.value, value.s.d1, value.s.d2};
     return;
   }
+  if (progress_ && (task.kind == TaskKind::kFrequency || task.m_begin == 0)) {
+    if (st.frequencies++ == 0 && progress_->gap_started)
+      progress_->gap_started(task.point, task.gap);
+    if (progress_->frequency) progress_->frequency(task.point, task.gap, st.frequencies);
+  }
+  if (task.kind == TaskKind::kBlocks) {
+    ++stats_.block_tasks;
+    Split& sp = splits_.at(Key{task.point, task.gap, bits(task.xi), bits(task.rel_tol)});
+    if (!value.chunk.seen) sp.whole = value.s;
+    sp.chunks[task.m_begin] = value.chunk;
+    return;
+  }
   values_[Key{task.point, task.gap, bits(task.xi), bits(task.rel_tol)}] = value.s;
+  const std::vector<int>& companions = inputs_[task.point].companions;
+  for (std::size_t i = 0; i < value.shared.size() && i < companions.size(); ++i)
+    shared_[Key{companions[i], task.gap, bits(task.xi), bits(task.rel_tol)}] = value.shared[i];
   if (ContributionStore* store = inputs_[task.point].options.store)
     store->record(task.gap, task.xi, value.s);
 }
@@ -204,7 +341,7 @@ std::vector<RunResult> run_sweeps_in_rounds(const std::vector<SweepInput>& input
   std::optional<CancelScope> scope;
   if (!inputs.empty() && inputs.front().options.cancel)
     scope.emplace(inputs.front().options.cancel);
-  SweepRounds rounds(inputs);
+  SweepRounds rounds(inputs, slots);
   for (;;) {
     const std::vector<Task> tasks = rounds.next_round();
     if (tasks.empty()) break;

@@ -19,7 +19,29 @@
 // The serial run's checkpoint semantics are kept: the first time a gap asks for xi, a value loaded
 // from the journal is used (ContributionStore::lookup); a re-ask is computed anew; every computed
 // value is recorded (ContributionStore::record). Each gap's PFA is a task of its own.
+//
+// Block items. A frequency of a geometry whose s(xi) is one m sum (Geometry::sums_over_m:
+// sphere-plate, sphere-sphere) can be cut into m chunks: tasks that compute the blocks m_begin
+// <= m < m_end alone (blocks::MChunkScope). A round with too few tasks for the slots (a frequency
+// task costing more than the round's cost / (kItemsPerSlot x slots)) splits its largest
+// frequency tasks so, over the blocks the cost model expects (Geometry::cost). The frequency's
+// value is then the m sum replayed on the gathered block values in the serial order with the
+// serial stopping test (blocks::replay_sum_over_m), so it is the serial value bit for bit; blocks
+// computed beyond the stop are not used (`unused_blocks`), and a sum that goes on beyond the
+// chunks asked for asks for more in the next round. Chunks are not journaled; the frequency's
+// value is, once known.
+//
+// Material scans. The serial run computes its first scan point together with the points that
+// share its frequency work (run.h): every frequency the first point computes is computed for
+// them too, and each of them takes such a value the first time its own rule asks for it, else
+// computes alone. Here the lead point's frequency tasks compute the companions' values too
+// (SweepInput::companions; such tasks are not split into blocks), and a companion's gap is
+// replayed only once the lead's gap is finished, when the values the serial lead computed are
+// known: a companion takes those, once each, and asks for the rest as tasks of its own, so its
+// values are the serial run's bit for bit (at_frequency_shared agrees with at_frequency_within
+// only to rounding).
 #include <cstdint>
+#include <functional>
 #include <map>
 #include <optional>
 #include <set>
@@ -27,6 +49,7 @@
 #include <tuple>
 #include <vector>
 
+#include "solver/blocks/m_sum.h"
 #include "solver/run.h"
 
 namespace roundtrip::parallel {
@@ -40,9 +63,15 @@ struct SweepInput {
   /// Model cost of one frequency at each gap (solver/plan.h, GapPlan::flops_per_frequency);
   /// empty: all equal. Tasks are handed out largest first.
   std::vector<double> gap_costs;
+  /// A material scan computed together (solver/run.h, SharedFrequencyValues): the scan points
+  /// whose values this point's frequency tasks compute with its own (Geometry::
+  /// at_frequency_shared), as the serial run's first point does with its companions.
+  std::vector<int> companions;
+  /// For such a companion: the point that computes with it, else -1.
+  int lead = -1;
 };
 
-enum class TaskKind : int { kFrequency = 0, kPfa = 1 };
+enum class TaskKind : int { kFrequency = 0, kPfa = 1, kBlocks = 2 };
 
 struct Task {
   TaskKind kind = TaskKind::kFrequency;
@@ -51,6 +80,8 @@ struct Task {
   double xi = 0.0;       ///< rad/s (frequency tasks)
   double rel_tol = 0.0;  ///< accuracy asked for (frequency tasks)
   double cost = 0.0;     ///< model cost, for largest-first ordering
+  int m_begin = 0;       ///< block tasks: the blocks m_begin <= m < m_end of frequency xi
+  int m_end = 0;
 };
 
 /// What a task computed: s(xi) of a frequency task; for a PFA task (energy, force, gradient) in
@@ -58,7 +89,11 @@ struct Task {
 struct TaskValue {
   Spectral s;
   bool present = true;
-  double seconds = 0.0;  ///< compute time of the task
+  double seconds = 0.0;          ///< compute time of the task
+  std::vector<Spectral> shared;  ///< the companions' values of a shared frequency task
+  /// Block tasks: the chunk; if the geometry summed no m at this xi (chunk.seen false), the
+  /// whole frequency's value is in s.
+  blocks::MChunk chunk;
 };
 
 /// Compute one task (any rank, any thread): Geometry::at_frequency_within or Geometry::pfa.
@@ -69,11 +104,31 @@ struct RoundStats {
   int tasks = 0;        ///< tasks computed (frequency and PFA)
   int speculative = 0;  ///< computed frequencies the finished rules did not use
   double task_seconds = 0.0;
+  int split_frequencies = 0;  ///< frequencies computed as block tasks (m chunks)
+  int block_tasks = 0;        ///< block tasks computed
+  int unused_blocks = 0;      ///< blocks computed beyond where an m sum stopped
+  int shared_values = 0;      ///< companions' values taken from their lead's tasks
+};
+
+/// A round splits frequency tasks into block tasks until it has about this many tasks per
+/// compute slot: with largest-first dynamic assignment the slots then finish within about one
+/// small task of each other (list scheduling, Graham, SIAM J. Appl. Math. 17, 416 (1969)).
+inline constexpr double kItemsPerSlot = 4.0;
+
+/// Progress of a run in rounds, called on the thread that delivers the values (rank 0's main
+/// thread under MPI): a gap's first value arrived, the frequencies known at a gap so far (a
+/// frequency cut into block tasks counts once its first chunk arrives), a gap finished.
+struct RoundProgress {
+  std::function<void(int point, int gap)> gap_started;
+  std::function<void(int point, int gap, int frequencies)> frequency;
+  std::function<void(int point, int gap)> gap_done;
 };
 
 class SweepRounds {
  public:
-  explicit SweepRounds(const std::vector<SweepInput>& inputs);
+  /// `slots`: tasks computed at once (all ranks); above 1, rounds may split frequencies into
+  /// block tasks.
+  explicit SweepRounds(const std::vector<SweepInput>& inputs, int slots = 1);
   /// Replay every unfinished gap; return the tasks still needed, largest cost first (ties: lower
   /// xi first, then point, gap). Empty: every gap is finished.
   std::vector<Task> next_round();
@@ -84,6 +139,8 @@ class SweepRounds {
   /// Counts unused frequencies into stats().
   std::vector<RunResult> results(double wall_seconds);
   const RoundStats& stats() const { return stats_; }
+  /// Progress callbacks (null: none); must outlive the rounds.
+  void set_progress(const RoundProgress* progress) { progress_ = progress; }
 
  private:
   using Key = std::tuple<int, int, std::uint64_t, std::uint64_t>;  // point, gap, xi, rel_tol
@@ -94,15 +151,36 @@ class SweepRounds {
     std::optional<PfaValues> pfa;
     bool pfa_done = false;
     double seconds = 0.0;
+    int frequencies = 0;  // values delivered (progress)
+  };
+  // A frequency computed in m chunks.
+  struct Split {
+    int chunk_m = 0;  // blocks per chunk, a multiple of blocks::kMBatch
+    int parts = 0;    // chunks asked for at once
+    double cost = 0.0;
+    std::map<int, blocks::MChunk> chunks;  // delivered, by m_begin
+    std::optional<Spectral> whole;         // the geometry summed no m at this xi
   };
   // Replay one gap's rule; true if no surrogate was needed. Adds missing values to `tasks`.
   bool replay(int point, int gap, std::vector<Task>* tasks, std::set<Key>* asked_now);
+  // The value of a split frequency if its m sum is complete; else adds the chunks it needs next.
+  std::optional<Spectral> settle(const Key& key, Split& split, std::vector<Task>* tasks);
+  // Cut the largest frequency tasks of a round into block tasks (see the file comment).
+  void split_largest(std::vector<Task>& tasks);
 
   const std::vector<SweepInput>& inputs_;
   std::vector<std::vector<GapState>> gaps_;
   std::map<Key, Spectral> values_;                    // computed this run, by (xi, rel_tol)
   std::map<XiKey, std::optional<Spectral>> journal_;  // first-ask lookups (loaded records)
   std::set<Key> used_;                                // values the finished replays used
+  std::map<Key, Split> splits_;
+  std::map<Key, Spectral> shared_;  // companions' values from their lead's tasks
+  std::set<Key> shared_recorded_;   // shared values recorded in the companion's store
+  // [point][gap]: (xi, rel_tol) the finished replay of a lead point's gap computed
+  std::vector<std::vector<std::set<std::pair<std::uint64_t, std::uint64_t>>>> lead_computed_;
+  std::set<std::pair<Key, int>> chunks_asked_;  // block tasks of the current round
+  int slots_ = 1;
+  const RoundProgress* progress_ = nullptr;
   RoundStats stats_;
 };
 

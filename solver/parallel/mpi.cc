@@ -11,6 +11,7 @@
 #include <climits>
 #include <condition_variable>
 #include <cstdlib>
+#include <cstring>
 #include <deque>
 #include <iostream>
 #include <mutex>
@@ -88,7 +89,7 @@ void Session::abort_all(const std::string& message, int status, bool) {
 }
 int Session::agree(int status, const std::string&, std::uint64_t, bool) { return status; }
 std::vector<RunResult> run_sweeps_distributed(const std::vector<SweepInput>&, int,
-                                              DistributedStats*) {
+                                              DistributedStats*, const RoundProgress*) {
   throw std::runtime_error(kNotBuilt);
 }
 
@@ -98,8 +99,8 @@ namespace {
 
 enum Tag : int {
   kReady = 1,      // worker -> 0: int, compute slots free
-  kTask = 2,       // 0 -> worker: double[6] {id, kind, point, gap, xi, rel_tol}
-  kResult = 3,     // worker -> 0: double[6] {id, value, d1, d2, present, seconds}
+  kTask = 2,       // 0 -> worker: double[8] {id, kind, point, gap, xi, rel_tol, m_begin, m_end}
+  kResult = 3,     // worker -> 0: bytes, encode_result
   kStop = 4,       // 0 -> worker: int, 1 if the run was interrupted
   kFailed = 5,     // worker -> 0: chars, the error
   kCancelled = 6,  // worker -> 0: a signal reached this rank
@@ -108,6 +109,97 @@ enum Tag : int {
 };
 
 constexpr int kHostChars = 64;
+constexpr int kTaskDoubles = 8;
+
+// A task's value as bytes (MPI_BYTE; every rank runs the same program on the same kind of
+// machine): id, s, present, seconds, then the m chunk of a block task.
+class Bytes {
+ public:
+  template <class T>
+  void put(const T& v) {
+    const char* p = reinterpret_cast<const char*>(&v);
+    b_.insert(b_.end(), p, p + sizeof(T));
+  }
+  void put_text(const std::string& t) {
+    put(static_cast<std::uint64_t>(t.size()));
+    b_.insert(b_.end(), t.begin(), t.end());
+  }
+  std::vector<char>& data() { return b_; }
+
+ private:
+  std::vector<char> b_;
+};
+
+class Reader {
+ public:
+  explicit Reader(const std::vector<char>& b) : b_(b) {}
+  template <class T>
+  T get() {
+    if (at_ + sizeof(T) > b_.size()) throw std::runtime_error("a task result message is short");
+    T v;
+    std::memcpy(&v, b_.data() + at_, sizeof(T));
+    at_ += sizeof(T);
+    return v;
+  }
+  std::string get_text() {
+    const auto n = get<std::uint64_t>();
+    if (at_ + n > b_.size()) throw std::runtime_error("a task result message is short");
+    std::string t(b_.data() + at_, n);
+    at_ += n;
+    return t;
+  }
+
+ private:
+  const std::vector<char>& b_;
+  std::size_t at_ = 0;
+};
+
+std::vector<char> encode_result(int id, const TaskValue& v) {
+  Bytes b;
+  b.put(id);
+  b.put(v.s);
+  b.put(static_cast<int>(v.present));
+  b.put(v.seconds);
+  const blocks::MChunk& c = v.chunk;
+  b.put(c.m_begin);
+  b.put(c.m_end);
+  b.put(static_cast<int>(c.seen));
+  b.put(c.mlimit);
+  b.put(static_cast<int>(c.fixed_m_max));
+  b.put(static_cast<int>(c.order));
+  b.put(c.tol);
+  b.put(c.failed_at);
+  b.put_text(c.failure);
+  b.put(static_cast<std::uint64_t>(c.values.size()));
+  for (const Spectral& x : c.values) b.put(x);
+  b.put(static_cast<std::uint64_t>(v.shared.size()));
+  for (const Spectral& x : v.shared) b.put(x);
+  return std::move(b.data());
+}
+
+TaskValue decode_result(const std::vector<char>& bytes, int* id) {
+  Reader r(bytes);
+  TaskValue v;
+  *id = r.get<int>();
+  v.s = r.get<Spectral>();
+  v.present = r.get<int>() != 0;
+  v.seconds = r.get<double>();
+  blocks::MChunk& c = v.chunk;
+  c.m_begin = r.get<int>();
+  c.m_end = r.get<int>();
+  c.seen = r.get<int>() != 0;
+  c.mlimit = r.get<int>();
+  c.fixed_m_max = r.get<int>() != 0;
+  c.order = static_cast<DerivativeOrder>(r.get<int>());
+  c.tol = r.get<double>();
+  c.failed_at = r.get<int>();
+  c.failure = r.get_text();
+  c.values.resize(r.get<std::uint64_t>());
+  for (Spectral& x : c.values) x = r.get<Spectral>();
+  v.shared.resize(r.get<std::uint64_t>());
+  for (Spectral& x : v.shared) x = r.get<Spectral>();
+  return v;
+}
 
 // Waiting without burning a core that an oversubscribed rank may need: spin briefly, then sleep
 // up to 1 ms between polls.
@@ -323,7 +415,8 @@ int Session::finish(int status, const std::string& error) {
 }
 
 std::vector<RunResult> run_sweeps_distributed(const std::vector<SweepInput>& inputs, int threads,
-                                              DistributedStats* stats) {
+                                              DistributedStats* stats,
+                                              const RoundProgress* progress) {
   Session* session = Session::current();
   if (!session || !session->distributed())
     throw std::logic_error("run_sweeps_distributed needs an MPI session");
@@ -347,13 +440,8 @@ std::vector<RunResult> run_sweeps_distributed(const std::vector<SweepInput>& inp
     int idle = 0;
     const auto send_done = [&](const Pool::Done& d) {
       if (d.state == 0) {
-        const double buf[6] = {double(d.id),
-                               d.value.s.value,
-                               d.value.s.d1,
-                               d.value.s.d2,
-                               d.value.present ? 1.0 : 0.0,
-                               d.value.seconds};
-        MPI_Send(buf, 6, MPI_DOUBLE, 0, kResult, MPI_COMM_WORLD);
+        const std::vector<char> buf = encode_result(d.id, d.value);
+        MPI_Send(buf.data(), static_cast<int>(buf.size()), MPI_BYTE, 0, kResult, MPI_COMM_WORLD);
       } else if (d.state == 2) {
         MPI_Send(d.error.data(), static_cast<int>(d.error.size()), MPI_CHAR, 0, kFailed,
                  MPI_COMM_WORLD);
@@ -372,11 +460,12 @@ std::vector<RunResult> run_sweeps_distributed(const std::vector<SweepInput>& inp
       if (flag) {
         any = true;
         if (st.MPI_TAG == kTask) {
-          double b[6];
-          MPI_Recv(b, 6, MPI_DOUBLE, 0, kTask, MPI_COMM_WORLD, MPI_STATUS_IGNORE);
+          double b[kTaskDoubles];
+          MPI_Recv(b, kTaskDoubles, MPI_DOUBLE, 0, kTask, MPI_COMM_WORLD, MPI_STATUS_IGNORE);
           pool.submit(static_cast<int>(b[0]),
                       Task{static_cast<TaskKind>(static_cast<int>(b[1])), static_cast<int>(b[2]),
-                           static_cast<int>(b[3]), b[4], b[5], 0.0});
+                           static_cast<int>(b[3]), b[4], b[5], 0.0, static_cast<int>(b[6]),
+                           static_cast<int>(b[7])});
         } else {
           int interrupted = 0;
           MPI_Recv(&interrupted, 1, MPI_INT, 0, kStop, MPI_COMM_WORLD, MPI_STATUS_IGNORE);
@@ -403,7 +492,8 @@ std::vector<RunResult> run_sweeps_distributed(const std::vector<SweepInput>& inp
   }
 
   // Rank 0: replay the rules, hand out tasks largest first, gather the values.
-  SweepRounds rounds(inputs);
+  SweepRounds rounds(inputs, size * slots);
+  rounds.set_progress(progress);
   Pool pool(inputs, slots, omp_threads);
   std::vector<int> free_slots(size, 0);
   free_slots[0] = slots;
@@ -429,9 +519,13 @@ std::vector<RunResult> run_sweeps_distributed(const std::vector<SweepInput>& inp
         break;
       }
       case kResult: {
-        double b[6];
-        MPI_Recv(b, 6, MPI_DOUBLE, src, kResult, MPI_COMM_WORLD, MPI_STATUS_IGNORE);
-        deliver(src, static_cast<int>(b[0]), TaskValue{{b[1], b[2], b[3]}, b[4] != 0.0, b[5]});
+        int n = 0;
+        MPI_Get_count(&st, MPI_BYTE, &n);
+        std::vector<char> bytes(static_cast<std::size_t>(n));
+        MPI_Recv(bytes.data(), n, MPI_BYTE, src, kResult, MPI_COMM_WORLD, MPI_STATUS_IGNORE);
+        int id = 0;
+        const TaskValue v = decode_result(bytes, &id);
+        deliver(src, id, v);
         ++free_slots[src];
         break;
       }
@@ -498,10 +592,15 @@ std::vector<RunResult> run_sweeps_distributed(const std::vector<SweepInput>& inp
         if (to == 0) {
           pool.submit(static_cast<int>(next), t);
         } else {
-          const double b[6] = {
-              double(next), double(static_cast<int>(t.kind)), double(t.point), double(t.gap), t.xi,
-              t.rel_tol};
-          MPI_Send(b, 6, MPI_DOUBLE, to, kTask, MPI_COMM_WORLD);
+          const double b[kTaskDoubles] = {double(next),
+                                          double(static_cast<int>(t.kind)),
+                                          double(t.point),
+                                          double(t.gap),
+                                          t.xi,
+                                          t.rel_tol,
+                                          double(t.m_begin),
+                                          double(t.m_end)};
+          MPI_Send(b, kTaskDoubles, MPI_DOUBLE, to, kTask, MPI_COMM_WORLD);
         }
         --free_slots[to];
         ++outstanding;

@@ -104,7 +104,9 @@ struct DistributedStats {
 /// results of every input (complete = false for gaps a stop left unfinished); the other ranks
 /// return an empty vector. `threads`: OpenMP threads per rank (0: the OpenMP default). The
 /// cancel flag of inputs[0].options (the signal flag) is watched on every rank.
+/// `progress` (rank 0 only, may be null): called on rank 0's main thread as values arrive.
 std::vector<RunResult> run_sweeps_distributed(const std::vector<SweepInput>& inputs, int threads,
-                                              DistributedStats* stats = nullptr);
+                                              DistributedStats* stats = nullptr,
+                                              const RoundProgress* progress = nullptr);
 
 }  // namespace roundtrip::parallel

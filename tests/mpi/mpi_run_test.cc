@@ -136,7 +136,50 @@ TEST_F(MpiRun, AScanSpreadsOverRanksAndMatchesTheSerialScan) {
               column(dir_ / "mpi.h5", "scan/" + std::to_string(p) + "/results/force"));
 }
 
-// Start mpirun in the background; SIGTERM it once the journal holds `records` records; the
+// One gap with few frequencies and many m blocks (sphere-plate, R = 30 um, L = 3 um at 300 K:
+// ~6 frequencies): 2 and 4
+// ranks cut the frequencies into m-block tasks (the stats line says so) and give the serial
+// numbers. Invented values.
+TEST_F(MpiRun, MBlockTasksOfOneGapGiveTheSerialNumbers) {
+  std::string text = small_case(*roundtrip::io::find_geometry_kind("sphere-plate"), "");
+  text.replace(text.find("radius = \"1 um\""), 15, "radius = \"30 um\"");
+  const std::string gaps = "values = [\"400 nm\", \"700 nm\"]";
+  text.replace(text.find(gaps), gaps.size(), "values = [\"3 um\"]");
+  const fs::path c = write("blocks.toml", text);
+  ASSERT_EQ(run(0, c, dir_ / "serial.h5", "serial"), 0) << slurp(dir_ / "serial.err");
+  for (int ranks : {2, 4}) {
+    SCOPED_TRACE(ranks);
+    const fs::path out = dir_ / (std::to_string(ranks) + ".h5");
+    ASSERT_EQ(run(ranks, c, out, "mpi"), 0) << slurp(dir_ / "mpi.err");
+    const std::string err = slurp(dir_ / "mpi.err");
+    EXPECT_NE(err.find("split into"), std::string::npos) << err;
+    EXPECT_NE(err.find("m-block tasks"), std::string::npos) << err;
+    for (const char* q : {"results/energy", "results/force", "results/gradient"})
+      EXPECT_EQ(column(dir_ / "serial.h5", q), column(out, q)) << q;
+  }
+}
+
+// A material scan of a sphere-plate is computed together under MPI as in the serial run
+// (solver/run.h, SharedFrequencyValues) and gives the serial numbers of both points; rank 0
+// prints progress lines like the serial run's. Invented values.
+TEST_F(MpiRun, AMaterialScanIsComputedTogetherAndShowsProgress) {
+  const fs::path c =
+      write("scan.toml", small_case(*roundtrip::io::find_geometry_kind("sphere-plate"),
+                                    "[scan]\nmaterial = [\"gold-drude\", \"gold-plasma\"]\n"));
+  ASSERT_EQ(run(0, c, dir_ / "serial.h5", "serial"), 0) << slurp(dir_ / "serial.err");
+  ASSERT_EQ(run(2, c, dir_ / "mpi.h5", "mpi", "--progress"), 0) << slurp(dir_ / "mpi.err");
+  const std::string err = slurp(dir_ / "mpi.err");
+  EXPECT_NE(err.find("computed together with point 1"), std::string::npos) << err;
+  EXPECT_NE(err.find("roundtrip: 2 scan points together, starting gap"), std::string::npos) << err;
+  EXPECT_NE(err.find("gap 4 of 4 done"), std::string::npos) << err;
+  for (int p = 0; p < 2; ++p)
+    for (const char* q : {"/results/energy", "/results/force", "/results/gradient"})
+      EXPECT_EQ(column(dir_ / "serial.h5", "scan/" + std::to_string(p) + q),
+                column(dir_ / "mpi.h5", "scan/" + std::to_string(p) + q))
+          << p << q;
+}
+
+// Start mpirun in the background; SIGUSR1 it once the journal holds `records` records; the
 // rerun under MPI resumes and gives the serial numbers.
 TEST_F(MpiRun, AStoppedRunResumesUnderMpiWithTheSerialNumbers) {
   const auto& k = *roundtrip::io::find_geometry_kind("sphere-plate");
@@ -172,14 +215,17 @@ TEST_F(MpiRun, AStoppedRunResumesUnderMpiWithTheSerialNumbers) {
     if (lines > 30) break;
     std::this_thread::sleep_for(std::chrono::milliseconds(50));
   }
-  kill(pid, SIGTERM);  // mpirun passes SIGTERM on to every rank
+  // mpirun passes SIGUSR1 on to every rank (a SIGTERM to mpirun itself makes OpenMPI 4 exit
+  // with 1 and kill the ranks a second later, README "Clusters (MPI)").
+  kill(pid, SIGUSR1);
   int status = 0;
   waitpid(pid, &status, 0);
   ASSERT_TRUE(fs::exists(journal)) << slurp(dir_ / "first.err");
   const std::string first_err = slurp(dir_ / "first.err");
-  // Rank 0 wrote the finished gaps and kept the journal (mpirun itself exits with its own status
-  // after passing the signal on).
+  // Rank 0 wrote the finished gaps and kept the journal; every rank returned 130, so mpirun did.
   EXPECT_NE(first_err.find("roundtrip: interrupted:"), std::string::npos) << first_err;
+  ASSERT_TRUE(WIFEXITED(status)) << first_err;
+  EXPECT_EQ(WEXITSTATUS(status), 130) << first_err;
   const std::string journal_before = slurp(journal);
   ASSERT_EQ(run(4, c, out, "second"), 0) << slurp(dir_ / "second.err");
   EXPECT_NE(slurp(dir_ / "second.err").find("resuming from"), std::string::npos)

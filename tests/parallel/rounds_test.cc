@@ -5,10 +5,15 @@
 // rule); compared exactly, as the README's "results identical for 1 and 2 threads" row.
 #include <gtest/gtest.h>
 
+#include <algorithm>
+#include <cmath>
+#include <map>
+#include <optional>
 #include <string>
 
 #include "io/case_file.h"
 #include "io/kinds/kind.h"
+#include "solver/blocks/m_sum.h"
 #include "solver/parallel/frequency_rounds.h"
 
 namespace roundtrip {
@@ -132,6 +137,138 @@ TEST(FrequencyRounds, AResumedRunUsesTheJournalLikeTheSerialRunAndRecordsEveryVa
   expect_same(reference, r[0]);
   // Every value the serial run computes, plus those a stand-in asked for and the rule did not use.
   EXPECT_EQ(half_rounds.records - stats.speculative, half_serial.records);
+}
+
+// The m sum computed in chunks and replayed (solver/blocks/m_sum.h) is sum_over_m bit for bit
+// and stops at the same block, for a geometric fall-off (as the sphere's m terms beyond
+// sqrt(R/L)) and for a fixed m_max. Synthetic blocks: their values only need to be exact
+// functions of m.
+TEST(MChunks, ReplayedChunksGiveTheWholeSumBitForBit) {
+  for (const bool fixed : {false, true}) {
+    SCOPED_TRACE(fixed);
+    std::vector<int> calls;
+    const auto block = [&](int m) {
+      LogDetResult r;
+      r.s = Spectral{-std::exp(-0.3 * m) * (1.0 + 1e-3 * m), 0.2 * std::exp(-0.31 * m),
+                     -0.05 * std::exp(-0.29 * m)};
+      return r;
+    };
+    const auto fail = [](int, const LogDetResult&) { return std::string("failed"); };
+    const int mlimit = 200;
+    const Spectral whole =
+        blocks::sum_over_m(mlimit, fixed, DerivativeOrder::kGradient, 1e-6, block, fail);
+    std::map<int, blocks::MChunk> chunks;
+    for (int b = 0; b <= mlimit; b += 24) {
+      blocks::MChunk c;
+      c.m_begin = b;
+      c.m_end = b + 24;
+      const blocks::MChunkScope scope(&c);
+      EXPECT_EQ(
+          blocks::sum_over_m(mlimit, fixed, DerivativeOrder::kGradient, 1e-6, block, fail).value,
+          0.0);
+      ASSERT_TRUE(c.seen);
+      EXPECT_EQ(c.mlimit, mlimit);
+      chunks[b] = c;
+    }
+    // Only the first chunk known: the replay asks for block 24.
+    int missing = -1, used = 0;
+    const auto value = [&](bool all) {
+      return [&, all](int m) -> std::optional<Spectral> {
+        const int b = m - m % 24;
+        if (!all && b > 0) return std::nullopt;
+        used = std::max(used, m + 1);
+        return chunks.at(b).values.at(m - b);
+      };
+    };
+    EXPECT_FALSE(blocks::replay_sum_over_m(mlimit, fixed, DerivativeOrder::kGradient, 1e-6,
+                                           value(false), &missing));
+    EXPECT_EQ(missing, 24);
+    const auto total = blocks::replay_sum_over_m(mlimit, fixed, DerivativeOrder::kGradient, 1e-6,
+                                                 value(true), &missing);
+    ASSERT_TRUE(total);
+    EXPECT_EQ(total->value, whole.value);
+    EXPECT_EQ(total->d1, whole.d1);
+    EXPECT_EQ(total->d2, whole.d2);
+    if (fixed)
+      EXPECT_EQ(used, mlimit + 1);
+    else
+      EXPECT_LT(used, mlimit / 2);  // stopped by the tail test, as the whole sum
+  }
+}
+
+// A sphere-plate and a sphere-sphere with many m blocks and few frequencies (R = 30 um, L = 3 um,
+// 300 K: ~6 frequencies, fewer than kItemsPerSlot x 2 slots): with 2 and 4 slots the rounds cut the
+// frequencies into m-block tasks and still give the serial numbers bit for bit. Invented values.
+TEST(FrequencyRounds, MBlockTasksGiveTheSerialNumbersBitForBit) {
+  for (const char* kind : {"sphere-plate", "sphere-sphere"}) {
+    SCOPED_TRACE(kind);
+    std::string text = small_case(*io::find_geometry_kind(kind), "300 K");
+    const auto swap = [&](const std::string& from, const std::string& to) {
+      for (std::size_t at = text.find(from); at != std::string::npos; at = text.find(from, at))
+        text.replace(at, from.size(), to), at += to.size();
+    };
+    swap("radius = \"1 um\"", "radius = \"30 um\"");
+    swap("values = [\"400 nm\", \"700 nm\"]", "values = [\"3 um\"]");
+    const io::CaseSpec spec = io::parse_case(text, "blocks.toml");
+    const auto g = io::build_geometry(spec);
+    RunOptions o;
+    o.frequency = spec.frequency;
+    o.quantities = spec.quantities;
+    const RunResult serial = run_sweep(*g, spec.gaps, o);
+    for (int slots : {2, 4}) {
+      SCOPED_TRACE(slots);
+      MapStore store;
+      o.store = &store;
+      parallel::RoundStats stats;
+      const auto r = parallel::run_sweeps_in_rounds({{g.get(), spec.gaps, o, {}}}, slots, &stats);
+      o.store = nullptr;
+      expect_same(serial, r[0]);
+      EXPECT_GT(stats.split_frequencies, 0);
+      EXPECT_GT(stats.block_tasks, stats.split_frequencies);
+      // Every frequency the serial sum used is in the journal, split or not.
+      for (const auto& t : serial.points[0].frequencies.terms)
+        EXPECT_TRUE(store.written.count({0, t.xi})) << t.xi;
+    }
+  }
+}
+
+// A material scan of a sphere-plate (Drude and plasma gold) computed together, as the serial
+// run computes its first point with the companions (solver/run.h): the rounds give both points'
+// serial numbers bit for bit, with 1, 2 and 4 slots, and take most companion values from the
+// lead's tasks. Invented values.
+TEST(FrequencyRounds, AMaterialScanComputedTogetherGivesTheSerialNumbersBitForBit) {
+  const auto& k = *io::find_geometry_kind("sphere-plate");
+  std::string text = small_case(k, "300 K");
+  const std::string drude = "material = \"gold-drude\"";
+  const auto at = text.find(drude);
+  ASSERT_NE(at, std::string::npos);
+  std::string plasma = text;
+  plasma.replace(at, drude.size(), "material = \"gold-plasma\"");
+  const io::CaseSpec a = io::parse_case(text, "a.toml"), b = io::parse_case(plasma, "b.toml");
+  const auto ga = io::build_geometry(a), gb = io::build_geometry(b);
+  ASSERT_TRUE(ga->shares_frequency_work_with(*gb));
+  RunOptions o;
+  o.frequency = a.frequency;
+  o.quantities = a.quantities;
+  o.threads = 1;
+  SharedFrequencyValues shared;
+  RunOptions o0 = o, o1 = o;
+  o0.shared = o1.shared = &shared;
+  o0.companions = {gb.get()};
+  const RunResult serial_a = run_sweep(*ga, a.gaps, o0);
+  const RunResult serial_b = run_sweep(*gb, b.gaps, o1);
+  ASSERT_GT(shared.hits(), 0);
+  for (int slots : {1, 2, 4}) {
+    SCOPED_TRACE(slots);
+    std::vector<parallel::SweepInput> inputs{{ga.get(), a.gaps, o, {}}, {gb.get(), b.gaps, o, {}}};
+    inputs[0].companions = {1};
+    inputs[1].lead = 0;
+    parallel::RoundStats stats;
+    const auto r = parallel::run_sweeps_in_rounds(inputs, slots, &stats);
+    expect_same(serial_a, r[0]);
+    expect_same(serial_b, r[1]);
+    EXPECT_EQ(stats.shared_values, shared.hits());
+  }
 }
 
 }  // namespace
