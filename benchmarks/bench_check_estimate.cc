@@ -112,7 +112,10 @@ int main(int argc, char** argv) {
     else
       cases.emplace_back(a);
   }
-  const fs::path source = fs::path(__FILE__).parent_path().parent_path();
+  // __FILE__ may be relative to the directory the compiler ran in (this program's own).
+  fs::path source = fs::path(__FILE__).parent_path().parent_path();
+  if (source.is_relative())
+    source = (fs::read_symlink("/proc/self/exe").parent_path() / source).lexically_normal();
   if (cases.empty()) {
     for (const fs::path dir : {source / "cases", source / "benchmarks" / "cases"}) {
       std::vector<fs::path> found;
@@ -146,7 +149,11 @@ int main(int argc, char** argv) {
     const double est = sorted[1];
     const double spread = (sorted[2] - sorted[0]) / sorted[0];
     std::string actual_text = "not run", wall_text = "-", ratio_text = "-", result = "-";
-    if (sorted[0] > 0.0 && sorted[2] <= max_run) {
+    if (!(sorted[0] > 0.0)) {
+      actual_text = "check failed";
+      result = "FAIL";
+      ++fail;
+    } else if (sorted[2] <= max_run) {
       const fs::path out = tmp / (c.stem().string() + ".h5");
       const Output r = run_program(
           fmt::format("{} run {} -o {} --quiet --restart{}", shell_quote(program.string()),
