@@ -44,9 +44,9 @@ Plan timed_plan(const Geometry& geometry, const std::vector<double>& gaps,
 /// Geometry::at_frequency_shared) cost only their marginal work. Measured at `gap` and its
 /// frequency scale xi_c = Geometry::frequency_scale(gap): the CPU time of one shared call with
 /// every companion minus that of `first` alone, per companion, over that of `first` alone
-/// (median of up to kRepeats pairs within `budget_seconds`, at least one pair). 1 if there are
-/// no companions.
+/// (medians of up to 9 alternating pairs within `budget_seconds`, at least kRepeats). 1 if
+/// there are no companions.
 double shared_marginal_share(const Geometry& first, const std::vector<const Geometry*>& companions,
-                             double gap, const RunOptions& options, double budget_seconds = 0.5);
+                             double gap, const RunOptions& options, double budget_seconds = 1.0);
 
 }  // namespace roundtrip
