@@ -45,6 +45,12 @@ double gemm_seconds_per_flop() {
 
 double cpu_seconds();
 
+double thread_cpu_seconds() {
+  timespec ts{};
+  clock_gettime(CLOCK_THREAD_CPUTIME_ID, &ts);
+  return static_cast<double>(ts.tv_sec) + 1e-9 * static_cast<double>(ts.tv_nsec);
+}
+
 // Wall time of single-threaded work, or its CPU time if the process got less (Timer below).
 template <class F>
 double single_thread_seconds(F f) {
@@ -82,6 +88,7 @@ struct Sample {
   double surrogate_gap = 0.0;  // > 0: extrapolated from there as flops^alpha
   double alpha = 1.0;
   int calls = 0, repeats = 0;
+  int probe_blocks = 0;  // > 0: timed by parts, this many blocks per frequency
 };
 
 double cpu_seconds() {
@@ -90,11 +97,11 @@ double cpu_seconds() {
   return static_cast<double>(ts.tv_sec) + 1e-9 * static_cast<double>(ts.tv_nsec);
 }
 
-// One call of s(xi) timed as the run would see it on a machine it has to itself: the wall time
-// when the call ran in parallel (wall < CPU time: it had the cores), else its CPU time over the
-// threads it may use (one thread, or other programs held the cores: a loaded 2-core machine
-// stretched wall times 5-10x while the CPU time stayed put). So repeat calls agree under
-// changing load; under load the parallel speed-up is taken as ideal.
+// One call of s(xi) timed as the run would see it on a machine it has to itself: the process's
+// CPU time over the threads it may use (parallel speed-up taken as ideal). Not the wall time:
+// a loaded 2-core machine stretched wall times 5-10x while the CPU time stayed put, and a wall
+// time that was used whenever it was below the CPU time (the call had both cores part of the
+// time) made repeat checks of the R/L = 10^4 case differ by 39 %.
 class Timer {
  public:
   Timer(const Geometry& g, DerivativeOrder order, int threads)
@@ -104,19 +111,146 @@ class Timer {
     const double c0 = cpu_seconds();
     const auto t0 = Clock::now();
     (void)g_.at_frequency_within(xi, gap, order_, tol);
-    const double wall = since(t0), cpu = cpu_seconds() - c0;
-    spent += wall;
+    const double cpu = cpu_seconds() - c0;
+    spent += since(t0);
     ++calls;
-    return wall < cpu ? wall : cpu / threads_;
+    return cpu / threads_;
   }
+  int threads() const { return threads_; }
   double spent = 0.0;
   int calls = 0;
+  int probed_blocks = 0;  // blocks timed one by one (time_by_blocks)
 
  private:
   const Geometry& g_;
   DerivativeOrder order_;
   int threads_;
 };
+
+// Keeps Eigen on one thread while a probe's block runs on the calling thread (in the run the
+// blocks run inside the parallel m loop, where Eigen does not add threads).
+class OneEigenThread {
+ public:
+  OneEigenThread() : saved_(Eigen::nbThreads()) { Eigen::setNbThreads(1); }
+  ~OneEigenThread() { Eigen::setNbThreads(saved_); }
+
+ private:
+  int saved_;
+};
+
+// One frequency too long to time whole, timed by parts (Geometry::probe): its set-up (process
+// CPU time) and `count` of its blocks spread evenly over m = 0 .. B - 1 (each on this thread,
+// its thread CPU time, so other programs' load does not enter), B the cost model's block count
+// (Geometry::cost; the run's m sum stops by its own tail test near there). The time of every
+// block is its model flops times the measured seconds per model flop, interpolated linearly in
+// m between the timed blocks; the blocks run in parallel on the run's threads, the set-up does
+// not. Returns < 0 if the geometry does not split this frequency.
+struct ProbeTime {
+  double set_up = 0.0, blocks = 0.0;  // seconds on one thread
+  double per_block = 0.0;             // mean of the timed blocks
+};
+ProbeTime time_by_blocks(const Geometry& g, double xi, double gap, double tol,
+                         DerivativeOrder order, const FrequencyCost& cost, int count,
+                         Timer& timer) {
+  ProbeTime r;
+  throw_if_cancelled();
+  const double c0 = cpu_seconds();
+  const auto t0 = Clock::now();
+  const std::unique_ptr<FrequencyProbe> p = g.probe(xi, gap, order, tol);
+  r.set_up = cpu_seconds() - c0;
+  timer.spent += since(t0);
+  if (!p) return ProbeTime{-1.0, -1.0, -1.0};
+  // The model's listed blocks (each entry may stand for `stride` blocks, geometry.h).
+  const int listed = static_cast<int>(cost.block_flops.size());
+  const double stride = std::max(1.0, cost.blocks / std::max(listed, 1));
+  const int B = std::max(1, std::min(p->blocks(), static_cast<int>(std::ceil(cost.blocks))));
+  count = std::clamp(count, 1, B);
+  std::vector<double> m_at, ratio;
+  OneEigenThread one;
+  for (int k = 0; k < count; ++k) {
+    throw_if_cancelled();
+    const int m =
+        count == 1 ? B / 2
+                   : static_cast<int>(std::lround(static_cast<double>(k) * (B - 1) / (count - 1)));
+    if (!m_at.empty() && m == m_at.back()) continue;
+    const int entry = std::min(listed - 1, static_cast<int>(m / stride));
+    const double flops = std::max(cost.block_flops[entry] / stride, 1.0);
+    const auto w0 = Clock::now();
+    const double b0 = thread_cpu_seconds();
+    (void)p->block(m);
+    const double t = thread_cpu_seconds() - b0;
+    timer.spent += since(w0);
+    ++timer.probed_blocks;
+    r.per_block += t;
+    m_at.push_back(m);
+    ratio.push_back(t / flops);
+  }
+  r.per_block /= static_cast<double>(m_at.size());
+  for (int i = 0; i < listed; ++i) {
+    const double m = i * stride;
+    double q = ratio.front();
+    if (m >= m_at.back()) {
+      q = ratio.back();
+    } else if (m > m_at.front()) {
+      std::size_t k = 1;
+      while (m_at[k] < m) ++k;
+      const double w = (m - m_at[k - 1]) / (m_at[k] - m_at[k - 1]);
+      q = (1.0 - w) * ratio[k - 1] + w * ratio[k];
+    }
+    // Only the blocks below B (the last listed entry may reach past it).
+    const double share = std::clamp((B - m) / stride, 0.0, 1.0);
+    r.blocks += share * cost.block_flops[i] * q;
+  }
+  return r;
+}
+
+// The gap's frequencies timed by parts (time_by_blocks): the middle group first with 3 blocks,
+// which fixes the time per block; then every group with as many blocks (3 to kMaxProbeBlocks)
+// as the budget allows (at least 3 each, even beyond the budget: a frequency of the R/L = 10^4
+// case costs minutes, one of its blocks about a second). Fills s like the direct timing.
+constexpr int kMaxProbeBlocks = 9;
+bool measure_gap_by_blocks(const Geometry& g, const GapModel& m,
+                           const std::vector<std::size_t>& rep, const std::vector<double>& count,
+                           std::size_t static_index, DerivativeOrder order, double rel_tol,
+                           double budget, Timer& timer, Sample& s) {
+  const int groups = static_cast<int>(rep.size());
+  const int middle = groups / 2;
+  const FrequencyCost cost = g.cost(s.gap, order, rel_tol);
+  const double threads = static_cast<double>(timer.threads());
+  const double c0 = cpu_seconds();
+  const ProbeTime first =
+      time_by_blocks(g, m.xi[rep[middle]], s.gap, m.tol[rep[middle]], order, cost, 3, timer);
+  if (first.blocks < 0.0) return false;
+  const double used = cpu_seconds() - c0;
+  const double left = std::max(0.0, budget - used);
+  const int affordable =
+      static_cast<int>((left / groups - first.set_up) / std::max(first.per_block, 1e-9));
+  const int n = std::clamp(affordable, 3, kMaxProbeBlocks);
+  std::vector<double> t_group(groups, 0.0);
+  for (int k = 0; k < groups; ++k) {
+    const ProbeTime t =
+        k == middle && n == 3
+            ? first
+            : time_by_blocks(g, m.xi[rep[k]], s.gap, m.tol[rep[k]], order, cost, n, timer);
+    t_group[k] = t.set_up + t.blocks / threads;
+  }
+  double sum = 0.0, total = 0.0;
+  for (int k = 0; k < groups; ++k) {
+    sum += count[k] * t_group[k];
+    total += count[k];
+  }
+  s.per_frequency = total > 0.0 ? sum / total : 0.0;
+  s.t_middle = t_group[middle];
+  s.middle_ratio = s.t_middle > 0.0 ? s.per_frequency / s.t_middle : 1.0;
+  s.set_up = 0.0;  // in each probe's set-up
+  if (static_index < m.xi.size()) {
+    const ProbeTime t = time_by_blocks(g, 0.0, s.gap, m.tol[static_index], order, cost, n, timer);
+    s.static_term = t.blocks < 0.0 ? timer.call(0.0, s.gap, m.tol[static_index])
+                                   : t.set_up + t.blocks / threads;
+  }
+  s.probe_blocks = n;
+  return true;
+}
 
 Sample measure_gap(const Geometry& g, double gap, const GapModel& m, const RunOptions& options,
                    double budget, double gemm_rate, const std::vector<Sample>& done, Timer& timer) {
@@ -150,8 +284,22 @@ Sample measure_gap(const Geometry& g, double gap, const GapModel& m, const RunOp
   for (const Sample& d : done)
     if (!near || std::abs(std::log(d.gap / gap)) < std::abs(std::log(near->gap / gap))) near = &d;
   const double predicted = near ? near->t_middle * s.flops / near->flops : s.flops * gemm_rate;
+  // Too long to time whole (the model's guess, with a factor 2 of margin): timed by parts at
+  // this gap itself, if the geometry splits its frequencies (Geometry::probe); else a ladder.
+  if (modelled && groups > 0 && 2.0 * predicted > budget &&
+      measure_gap_by_blocks(g, m, rep, count, static_index, order, rel_tol, budget, timer, s)) {
+    s.pfa = single_thread_seconds([&] { (void)g.pfa(gap, options.frequency); });
+    s.calls = timer.calls;
+    s.repeats = 1;
+    return s;
+  }
+  // A call predicted up to kDirectFactor x the budget is timed directly (a warm-up and one
+  // call of the middle group): the ladder's extrapolation is for calls far beyond it. With the
+  // ladder from just above the budget, fibre_over_mirror's 500 nm gap (0.6 s per call against
+  // a 0.67 s share of the budget) was estimated 9 s or 20 min depending on timer noise.
+  constexpr double kDirectFactor = 4.0;
   Sample anchor;
-  if (modelled && groups > 0 && !near && predicted > budget) {
+  if (modelled && groups > 0 && !near && predicted > kDirectFactor * budget) {
     // Nothing timed yet: an anchor at a larger gap that the model puts well inside the budget.
     double la = gap, fa = s.flops;
     for (int k = 0; k < 60 && fa * gemm_rate > budget / 16.0; ++k) {
@@ -171,7 +319,7 @@ Sample measure_gap(const Geometry& g, double gap, const GapModel& m, const RunOp
     near = &anchor;
   }
   if (modelled && groups > 0 && near &&
-      (near == &anchor || near->t_middle * s.flops / near->flops > budget)) {
+      (near == &anchor || near->t_middle * s.flops / near->flops > kDirectFactor * budget)) {
     // A ladder of gaps from the nearest timed one towards this one (geometric steps, the middle
     // frequency scaled with Geometry::frequency_scale), each timed (median of kRepeats after a
     // warm-up) while the next step is predicted affordable; from the last step the time is
@@ -265,6 +413,36 @@ double interpolate(const std::vector<Sample>& s, double gap, F y) {
 
 }  // namespace
 
+double shared_marginal_share(const Geometry& first, const std::vector<const Geometry*>& companions,
+                             double gap, const RunOptions& options, double budget_seconds) {
+  if (companions.empty()) return 1.0;
+  const double xi = first.frequency_scale(gap), tol = options.frequency.rel_tol;
+  const DerivativeOrder order = options.quantities.order();
+  const auto cpu_of = [&](auto f) {
+    throw_if_cancelled();
+    const double c0 = cpu_seconds();
+    f();
+    return cpu_seconds() - c0;
+  };
+  const auto alone = [&] { (void)first.at_frequency_within(xi, gap, order, tol); };
+  const auto shared = [&] { (void)first.at_frequency_shared(xi, gap, order, tol, companions); };
+  alone();  // warm-up: first-call set-up at this gap
+  // Pairs alternate so that a change of load hits both; the share is taken from the medians
+  // (a median of per-pair differences varied 0.57-0.88 between checks of the Drude/plasma case).
+  std::vector<double> ta, tb;
+  double spent = 0.0;
+  constexpr int kMaxPairs = 9;
+  for (int r = 0; r < kMaxPairs; ++r) {
+    ta.push_back(cpu_of(alone));
+    tb.push_back(cpu_of(shared));
+    spent += ta.back() + tb.back();
+    if (r + 1 >= kRepeats && spent * (r + 2) / (r + 1) > budget_seconds) break;
+  }
+  const double a = median(ta), b = median(tb);
+  return std::clamp(
+      std::max(0.0, b - a) / static_cast<double>(companions.size()) / std::max(a, 1e-9), 0.0, 1.0);
+}
+
 Plan timed_plan(const Geometry& g, const std::vector<double>& gaps, const RunOptions& options,
                 double budget_seconds) {
   Plan plan = make_plan(g, gaps, options, PlanCalibration{});
@@ -326,7 +504,8 @@ Plan timed_plan(const Geometry& g, const std::vector<double>& gaps, const RunOpt
   }
 
   bool surrogate = false;
-  int repeats = kRepeats;
+  int repeats = kRepeats, probe_blocks = 0;
+  for (const Sample& s : samples) probe_blocks = std::max(probe_blocks, s.probe_blocks);
   double alpha = 1.0;
   std::string surrogate_text;
   for (const Sample& s : samples) {
@@ -345,14 +524,22 @@ Plan timed_plan(const Geometry& g, const std::vector<double>& gaps, const RunOpt
   c.how = fmt::format(
       "{} timed calls of this case's frequencies ({:.2g} s) at L = {} m (the frequencies the "
       "rule asks for, in {} groups, median of {} after a warm-up; the xi = 0 term, first-call "
-      "set-up and PFA apart){}{}, interpolated between those gaps by the cost model; the "
+      "set-up and PFA apart){}{}{}, interpolated between those gaps by the cost model; the "
       "frequency rule timed at every gap",
       timer.calls, timer.spent, where, kSampleGroups, repeats,
       surrogate ? fmt::format("; {} too long to time, extrapolated from a ladder of larger gaps as "
                               "flops^{:.2f}",
                               surrogate_text, alpha)
                 : "",
-      g.parallel_inside() ? fmt::format(", on {} threads", omp_get_max_threads()) : "");
+      probe_blocks > 0
+          ? fmt::format("; frequencies too long to time whole timed by parts: their set-up and {} "
+                        "of their blocks spread over m ({} blocks in all), the other blocks "
+                        "interpolated by the cost model",
+                        probe_blocks, timer.probed_blocks)
+          : "",
+      g.parallel_inside() ? fmt::format(", CPU time over {} thread{}", omp_get_max_threads(),
+                                        omp_get_max_threads() == 1 ? "" : "s")
+                          : ", CPU time");
   return plan;
 }
 

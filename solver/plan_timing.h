@@ -40,4 +40,13 @@ inline constexpr int kRepeats = 3;
 Plan timed_plan(const Geometry& geometry, const std::vector<double>& gaps,
                 const RunOptions& options, double budget_seconds = 2.0);
 
+/// The points of a scan that run_sweep computes together with the first (RunOptions::companions,
+/// Geometry::at_frequency_shared) cost only their marginal work. Measured at `gap` and its
+/// frequency scale xi_c = Geometry::frequency_scale(gap): the CPU time of one shared call with
+/// every companion minus that of `first` alone, per companion, over that of `first` alone
+/// (medians of up to 9 alternating pairs within `budget_seconds`, at least kRepeats). 1 if
+/// there are no companions.
+double shared_marginal_share(const Geometry& first, const std::vector<const Geometry*>& companions,
+                             double gap, const RunOptions& options, double budget_seconds = 1.0);
+
 }  // namespace roundtrip

@@ -10,6 +10,7 @@
 // where s(xi) = sum_b log det(1 - M_b). For plates s is per unit area (1/m^2) and E is J/m^2.
 // Sign: E < 0 is attraction; force F = -dE/dL (F < 0 attractive); gradient dF/dL = -d2E/dL2.
 #include <map>
+#include <memory>
 #include <optional>
 #include <string>
 #include <vector>
@@ -62,6 +63,20 @@ inline constexpr double kMaxListedBlocks = 4096;
 /// The largest multipole order in a truncation map ("l_max", or "l_max1"/"l_max2" for two
 /// spheres); 0 if there is none.
 double max_multipole_order(const std::map<std::string, double>& truncation);
+
+/// One frequency split into parts that can be timed apart (Geometry::probe; for `check`,
+/// solver/plan_timing.h): constructing it does the frequency's set-up shared by its blocks
+/// (Mie amplitudes, momentum nodes, plate reflections), block(b) computes symmetry block b
+/// (its matrix and log det) on the calling thread, as the run does inside its parallel loop.
+class FrequencyProbe {
+ public:
+  virtual ~FrequencyProbe() = default;
+  /// Blocks the frequency's sum may visit (b = 0 .. blocks() - 1; the run may stop earlier).
+  virtual int blocks() const = 0;
+  /// Block b's log det(1 - M_b) and its gap derivatives, unweighted (the sum's weights are
+  /// the geometry's: for an axially symmetric pair m > 0 counts twice).
+  virtual Spectral block(int b) const = 0;
+};
 
 class Geometry {
  public:
@@ -141,6 +156,14 @@ class Geometry {
   /// trips from truncation()'s "l_max" and "quadrature_nodes" (geometry.cc); a geometry
   /// without them costs one unit per frequency.
   virtual FrequencyCost cost(double gap, DerivativeOrder order, double rel_tol) const;
+  /// The frequency xi at gap L split into set-up and blocks (FrequencyProbe), for timing a
+  /// frequency too long to time whole by a few of its blocks; nullptr (the default) if the
+  /// geometry does not split it (then it is timed whole).
+  virtual std::unique_ptr<FrequencyProbe> probe(double /*xi*/, double /*gap*/,
+                                                DerivativeOrder /*order*/,
+                                                double /*rel_tol*/) const {
+    return nullptr;
+  }
 };
 
 }  // namespace roundtrip

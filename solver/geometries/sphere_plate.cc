@@ -175,6 +175,18 @@ class SpherePlate final : public Geometry {
     });
   }
 
+  /// The frequency as at_frequency_within computes it, split into the set-up (prepare_dynamic
+  /// or prepare_static: Mie amplitudes, nodes, plate reflections) and the m blocks 0 .. mlimit.
+  /// The static closed form (one Bessel-kernel matrix per m, cheap) is not split.
+  std::unique_ptr<FrequencyProbe> probe(double xi, double gap, DerivativeOrder order,
+                                        double rel_tol) const override {
+    const double tol = rel_tol > 0.0 && rel_tol < 0.1 ? rel_tol : o_.rel_tol;
+    if (xi == 0.0 && static_closed_form_applies(gap, tol, order)) return nullptr;
+    if (o_.w_build != WBuild::kBand) return nullptr;
+    auto p = std::make_unique<Probe>(*this, xi, gap, order, tol);
+    return p;
+  }
+
   /// Spheres over plates that differ only in materials (the points of a material scan): same
   /// radius, shell thicknesses, field and numerics. The medium is compared at each frequency.
   bool shares_frequency_work_with(const Geometry& other) const override {
@@ -333,6 +345,57 @@ class SpherePlate final : public Geometry {
   }
 
  private:
+  class Probe final : public FrequencyProbe {
+   public:
+    Probe(const SpherePlate& g, double xi, double gap, DerivativeOrder order, double tol)
+        : g_(g), xi_(xi), gap_(gap), order_(order), lmax_(g.lmax_for(gap, tol, xi, order)) {
+      if (xi == 0.0)
+        g.prepare_static(gap, lmax_, tol, nodes_, st_);
+      else
+        g.prepare_dynamic(xi, gap, lmax_, tol, nodes_, mie_);
+      mlimit_ = g.o_.m_max >= 0 ? std::min(g.o_.m_max, lmax_) : lmax_;
+    }
+    int blocks() const override { return mlimit_ + 1; }
+    Spectral block(int m) const override {
+      const LowRankBlock b =
+          xi_ == 0.0 ? sphere_static_block(g_.o_.field, m, g_.o_.radius,
+                                           2.0 * (g_.o_.radius + gap_), lmax_, nodes_, st_, true)
+                     : sphere_dynamic_block(g_.o_.field, m, lmax_, nodes_, mie_, false);
+      const LogDetResult r = logdet_one_minus(b, order_, g_.o_.node_solver);
+      if (!r.ok)
+        throw std::runtime_error(
+            fmt::format("sphere-plate probe: xi = {:.6g} rad/s, m = {}: {}", xi_, m, r.message));
+      return r.s;
+    }
+
+   private:
+    const SpherePlate& g_;
+    double xi_, gap_;
+    DerivativeOrder order_;
+    int lmax_, mlimit_ = 0;
+    NodeSet nodes_;
+    MieLog mie_;
+    StaticSphere st_;
+  };
+
+  /// True if static_closed_form(gap, tol, order) returns a value (not the multipole path).
+  bool static_closed_form_applies(double gap, double tol, DerivativeOrder order) const {
+    if (o_.l_max > 0 || o_.field == FieldKind::kNeumann) return false;
+    const bool em = o_.field == FieldKind::kElectromagnetic;
+    if (em && !static_tm_is_unit(body_)) return false;
+    const int lmax = lmax_for(gap, tol, 0.0, order);
+    NodeSet nodes;
+    StaticSphere st;
+    prepare_static(gap, lmax, tol, nodes, st);
+    const std::vector<double>& g2 = em ? st.g2_tm : st.g2_te;
+    for (int l = em ? 1 : 0; l <= lmax; ++l)
+      if (g2[l] != 1.0) return false;
+    const std::vector<double>& c = em ? nodes.c_tm : nodes.c_te;
+    for (double v : c)
+      if (!(v > 0.0) || v != c.front()) return false;
+    return true;
+  }
+
   void prepare_dynamic(double xi, double gap, int lmax, double tol, NodeSet& nodes,
                        MieLog& mie) const {
     const double eps_m = o_.medium->epsilon(xi);
