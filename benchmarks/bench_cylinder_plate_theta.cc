@@ -26,6 +26,7 @@ namespace {
 double channel_energy(FieldKind ch, double R, double L, double rel_tol, int* m, int* j) {
   const Spectral s = cylinder::de_integrate(
       [&](double u) {
+        u = std::max(u, 1e-3 * rel_tol / 30.0);  // floor as in cylinder_plate.cc kz_floor
         int mm = 0, jj = 0;
         const double v = cylinder_plate_logdet(ch, u / L, R, R + L, DerivativeOrder::kEnergy,
                                                rel_tol, 0, &mm, RoundTripBasis::kAuto, &jj)
