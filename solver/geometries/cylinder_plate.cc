@@ -47,6 +47,7 @@
 #include <algorithm>
 #include <boost/math/special_functions/bessel.hpp>
 #include <cmath>
+#include <functional>
 #include <limits>
 #include <stdexcept>
 #include <vector>
@@ -102,12 +103,304 @@ struct KzSum {
   Spectral total;
   int m_max = 0;
   int nodes = 0;
+  int plane_wave_nodes = 0;  // largest J of the plane-wave path (0: orders only)
 };
 
 }  // namespace
 
+// ---------------------------------------------------------------------------------------------
+// log det(1 + X) with its H-derivatives, X1 = dX/dH, X2 = d2X/dH2 (null when not asked).
+// The value is formed from the factor's off-diagonal entries as sum log1p(y_i), y_i the small
+// part of the i-th pivot (Cholesky: L_ii^2 = 1 + X_ii - sum_k<i L_ik^2; LU without row
+// exchanges: U_ii = 1 + X_ii - sum_k<i L_ik U_ki), so log det keeps its relative precision when
+// the round trip is weak (far distances, large k_z; derived) instead of losing it in 1 - 1e-12.
+// Derivatives: d log det = Tr(A^-1 A'), d2 = Tr(A^-1 A'') - Tr((A^-1 A')^2), A = 1 + X.
+namespace {
+
+template <class What>
+Spectral logdet_one_plus(const Eigen::MatrixXd& X, const Eigen::MatrixXd* X1,
+                         const Eigen::MatrixXd* X2, bool symmetric, What&& what) {
+  const int n = static_cast<int>(X.rows());
+  Eigen::MatrixXd A = X;
+  A.diagonal().array() += 1.0;
+  Spectral out;
+  if (symmetric) {
+    Eigen::LLT<Eigen::MatrixXd> llt(A);
+    if (llt.info() != Eigen::Success)
+      throw std::runtime_error(what() + ": 1 - N is not positive definite");
+    const Eigen::MatrixXd& L = llt.matrixLLT();
+    for (int i = 0; i < n; ++i) {
+      double y = -X(i, i);
+      for (int k = 0; k < i; ++k) y += L(i, k) * L(i, k);
+      out.value += std::log1p(-y);
+    }
+    if (X1) {
+      const Eigen::MatrixXd M1 = llt.solve(*X1);
+      out.d1 = M1.trace();
+      if (X2) out.d2 = llt.solve(*X2).trace() - M1.cwiseProduct(M1.transpose()).sum();
+    }
+    if (!std::isfinite(out.value))
+      throw std::runtime_error(what() + ": 1 - N is not positive definite");
+    return out;
+  }
+  Eigen::PartialPivLU<Eigen::MatrixXd> lu(A);
+  const Eigen::MatrixXd& LU = lu.matrixLU();
+  const auto& perm = lu.permutationP().indices();
+  bool identity = true;
+  for (int i = 0; i < n && identity; ++i) identity = perm(i) == i;
+  double sign = identity ? 1.0 : lu.permutationP().determinant();
+  for (int i = 0; i < n; ++i) {
+    double piv;
+    if (identity) {
+      double y = X(i, i);
+      for (int k = 0; k < i; ++k) y -= LU(i, k) * LU(k, i);
+      piv = 1.0 + y;
+      if (piv > 0.0) {
+        out.value += std::log1p(y);
+        continue;
+      }
+    } else {
+      piv = LU(i, i);
+    }
+    sign *= piv < 0.0 ? -1.0 : 1.0;
+    out.value += std::log(std::abs(piv));
+  }
+  if (!(sign > 0.0) || !std::isfinite(out.value))
+    throw std::runtime_error(what() + ": det(1 - T U) is not positive");
+  if (X1) {
+    const Eigen::MatrixXd M1 = lu.solve(*X1);
+    out.d1 = M1.trace();
+    if (X2) out.d2 = lu.solve(*X2).trace() - M1.cwiseProduct(M1.transpose()).sum();
+  }
+  return out;
+}
+
+// The plane-wave (Nystrom) round trip (derived). The plate's round trip is a superposition of
+// plane waves, U_{m m'} = (1/2) \int dt e^{-z cosh t + (m + m') t} R(t) (z = 2pH, k_x = p sinh
+// t; scalar channels: K_n(z) = (1/2) \int dt e^{-z cosh t + n t}, DLMF 10.32.9, with R = -1).
+// The trapezoid rule t_j = j h, |j| <= J, weights w_j = (h/2) e^{-z cosh t_j}, writes it as
+// U = F W R F^T with F_{m j} = sqrt(t_m) e^{m t_j}, so by Sylvester's determinant identity
+//   det(1 + tau F W R F^T) = det(1 + W^1/2 R G W^1/2),  G(t_i + t_j) = sum_m t_m tau_m e^{m(t_i +
+//   t_j)},
+// a matrix over the 2J + 1 nodes (times 2 polarisations) instead of the 2M + 1 orders (the
+// plane-wave representation of the round trip; compare Spreng, Ingold, Maia Neto, J. Chem. Phys.
+// 153, 024115 (2020), for spheres). G depends only on s = t_i + t_j, i.e. on 4J + 1 values on
+// the grid, each a sum over m formed from logarithms around its peak (t_m e^{m s} is
+// log-concave in m: Turan-type inequalities of I_m and K_m), so nothing overflows at m ~ 1e4.
+// The kernel is a band of width ~ (pH)^-1/2 around t_i = t_j with the diagonal ~ e^{-2pL cosh t}
+// (uniform expansions, DLMF 10.41.3-4), so the step scales like sqrt(L/H) and J like sqrt(H/L),
+// against M ~ H/L orders. Parity t -> -t (k_x -> -k_x) with s_E = 1, s_H = -1 splits the
+// matrix as the m -> -m parity does in the order basis. H-derivatives act on the weights only:
+// d/dH sqrt(w_i w_j) = sqrt(w_i w_j) (f_i + f_j)/2, f = -2p cosh t.
+// The truncated m-sum is the order basis's own cut-off M, so both paths discretise the same
+// matrix; the step is halved until two steps agree to kPwShare rel_tol (trapezoid error
+// e^{-2 pi^2 sigma^2/h^2} for a Gaussian of width sigma: each halving squares it twice).
+constexpr double kPwShare = 0.05;
+// First step tried: h0 = kPwStepConst (z^2 + M^2)^-1/4, the Gaussian width of the narrowest
+// peak e^{-z cosh t + n t} (n <= M; at small z the orders reach M through the slow decay
+// (R/H)^{2m}, so M, not z, sets the width). 1.5: fewest nodes after the step check over R/L =
+// 1 ... 1e3 and pL = 1e-6 ... 3 (tried 0.9, 1.5, 2.5).
+constexpr double kPwStepConst = 1.5;
+constexpr double kPwMaxStep = 0.3;     // strip pi/2 of the plate's branch points: e^{-pi^2/h}
+constexpr double kPwTermCut = -46.0;   // terms below e^-46 of the peak are dropped
+constexpr double kPwMaxRange = 120.0;  // largest t_max tried: z down to ~1e-50
+
+class PlaneWaveKernel {
+ public:
+  // lt[m] = log t_m (m = 0..M); tau null for a scalar channel.
+  PlaneWaveKernel(const std::vector<double>& lt, const std::vector<cylinder::Tau>* tau)
+      : lt_(lt), tau_(tau), nc_(tau ? 2 : 1) {}
+  int components() const { return nc_; }
+
+  // G(s), s >= 0, as exp(scale) * g[nc x nc] (row-major).
+  void eval(double s, double& scale, double* g) const {
+    const int M = static_cast<int>(lt_.size()) - 1;
+    int m = std::clamp(hint_, 0, M);
+    const auto e = [&](int k) { return lt_[k] + k * s; };
+    while (m < M && e(m + 1) >= e(m)) ++m;
+    while (m > 0 && e(m - 1) > e(m)) --m;
+    hint_ = m;
+    scale = e(m);
+    for (int c = 0; c < nc_ * nc_; ++c) g[c] = 0.0;
+    const auto add = [&](int k) {
+      const double ek = e(k) - scale;
+      if (ek < kPwTermCut) return false;
+      const double w = std::exp(ek);
+      if (k == 0) {
+        if (nc_ == 1) {
+          g[0] += w;
+        } else {
+          const auto& t = (*tau_)[0];
+          g[0] += w * t[0];
+          g[3] += w * t[3];  // cross entries vanish at m = 0 (Delta ~ m)
+        }
+        return true;
+      }
+      const double x = std::exp(-2.0 * k * s);  // e^{-ks} / e^{ks}
+      const double even = w * (1.0 + x), odd = w * (1.0 - x);
+      if (nc_ == 1) {
+        g[0] += even;
+      } else {
+        const auto& t = (*tau_)[k];
+        g[0] += even * t[0];
+        g[1] += odd * t[1];
+        g[2] += odd * t[2];
+        g[3] += even * t[3];
+      }
+      return true;
+    };
+    for (int k = m; k <= M && add(k); ++k) {
+    }
+    for (int k = m - 1; k >= 0 && add(k); --k) {
+    }
+  }
+
+ private:
+  const std::vector<double>& lt_;
+  const std::vector<cylinder::Tau>* tau_;
+  int nc_;
+  mutable int hint_ = 0;
+};
+
+// R(t) at node t (nc x nc row-major), for t >= 0.
+using PlateAt = std::function<void(double t, double* r)>;
+
+struct PwSetup {
+  double z = 0.0, p = 0.0;  // z = 2pH
+  DerivativeOrder order = DerivativeOrder::kEnergy;
+  double t_max = 0.0;
+  int m_max = 0;  // the order cut-off M of the kernel's m-sum
+};
+
+// log det(1 + W^1/2 R G W^1/2) on the grid t_j = j h, |j| <= J.
+template <class What>
+Spectral plane_wave_logdet(const PlaneWaveKernel& kernel, const PlateAt& plate, const PwSetup& su,
+                           double h, int J, What&& what) {
+  const int nc = kernel.components(), ord = static_cast<int>(su.order);
+  std::vector<double> lsw(J + 1), f1(J + 1), R((J + 1) * nc * nc);
+  for (int j = 0; j <= J; ++j) {
+    const double ch = std::cosh(j * h);
+    lsw[j] = 0.5 * (std::log(0.5 * h) - su.z * ch);
+    f1[j] = -2.0 * su.p * ch;
+    plate(j * h, &R[j * nc * nc]);
+  }
+  std::vector<double> gs(2 * J + 1), gm((2 * J + 1) * nc * nc);
+  for (int k = 0; k <= 2 * J; ++k) {
+    if ((k & 31) == 0) throw_if_cancelled();
+    kernel.eval(k * h, gs[k], &gm[k * nc * nc]);
+  }
+  const auto sgn = [](int c) { return c == 0 ? 1.0 : -1.0; };
+  // E((j, c), (jp, b)) for j >= 0, any jp: sqrt(w_j w_jp) sum_d R_j^{cd} G^{db}(t_j + t_jp).
+  const auto entry = [&](int j, int c, int jp, int b) {
+    const int k = j + jp;
+    const int ka = std::abs(k);
+    double v = 0.0;
+    for (int d = 0; d < nc; ++d) {
+      double g = gm[ka * nc * nc + d * nc + b];
+      if (k < 0) g *= sgn(d) * sgn(b);  // G^{db}(-s) = s_d s_b G^{db}(s)
+      v += R[j * nc * nc + c * nc + d] * g;
+    }
+    return v * std::exp(lsw[j] + lsw[std::abs(jp)] + gs[ka]);
+  };
+  Spectral out;
+  for (int sigma : {1, -1}) {
+    std::vector<std::pair<int, int>> idx;
+    for (int j = 0; j <= J; ++j)
+      for (int c = 0; c < nc; ++c)
+        if (j > 0 || sigma * sgn(c) == 1) idx.push_back({j, c});
+    const int dim = static_cast<int>(idx.size());
+    if (dim == 0) continue;
+    Eigen::MatrixXd X(dim, dim), X1, X2;
+    if (ord >= 1) X1.resize(dim, dim);
+    if (ord >= 2) X2.resize(dim, dim);
+    for (int i = 0; i < dim; ++i) {
+      const auto [j, c] = idx[i];
+      for (int l = 0; l < dim; ++l) {
+        const auto [jp, b] = idx[l];
+        const double f = 2.0 * (j == 0 ? 0.5 : M_SQRT1_2) * (jp == 0 ? 0.5 : M_SQRT1_2);
+        const double v = f * (entry(j, c, jp, b) + sigma * sgn(b) * entry(j, c, -jp, b));
+        X(i, l) = v;
+        const double g1 = 0.5 * (f1[j] + f1[jp]);
+        if (ord >= 1) X1(i, l) = g1 * v;
+        if (ord >= 2) X2(i, l) = g1 * g1 * v;
+      }
+    }
+    out += logdet_one_plus(X, ord >= 1 ? &X1 : nullptr, ord >= 2 ? &X2 : nullptr, nc == 1, what);
+  }
+  return out;
+}
+
+// The node range: the diagonal w_j |G(2 t_j)| (times cosh^ord t for the derivatives) marched
+// out in steps h until below 1e-3 kMTailShare rel_tol of its peak, past the peak; infinite when
+// not reached by kPwMaxRange (z = 2pH << 1, where the order basis is small anyway).
+double plane_wave_range(const PlaneWaveKernel& kernel, const PwSetup& su, double h,
+                        double rel_tol) {
+  const int nc = kernel.components();
+  const double cut = std::log(1e-3 * kMTailShare * rel_tol);
+  double peak = -std::numeric_limits<double>::infinity();
+  double g[4];
+  for (int j = 0;; ++j) {
+    const double t = j * h;
+    double sc;
+    kernel.eval(2.0 * t, sc, g);
+    double mag = 0.0;
+    for (int c = 0; c < nc; ++c) mag += std::abs(g[c * nc + c]);
+    const double l = sc + std::log(mag) - su.z * std::cosh(t) +
+                     static_cast<int>(su.order) * std::log(std::cosh(t));
+    peak = std::max(peak, l);
+    if (j > 0 && l < peak + cut && l < peak) return t;
+    if (t > kPwMaxRange) return std::numeric_limits<double>::infinity();
+  }
+}
+
+double plane_wave_first_step(double z, int M) {
+  return std::min(kPwMaxStep, kPwStepConst * std::pow(z * z + double(M) * M, -0.25));
+}
+
+template <class What>
+Spectral plane_wave_converged(const PlaneWaveKernel& kernel, const PlateAt& plate,
+                              const PwSetup& su, double rel_tol, int* j_used, What&& what) {
+  if (!std::isfinite(su.t_max))
+    throw std::runtime_error(what() + ": no plane-wave range below t = 120 (use the order basis)");
+  double h = plane_wave_first_step(su.z, su.m_max);
+  const auto run = [&](double hh) {
+    const int J = std::max(2, static_cast<int>(std::ceil(su.t_max / hh)));
+    return plane_wave_logdet(kernel, plate, su, hh, J, what);
+  };
+  const double tol = kPwShare * rel_tol;
+  const int ord = static_cast<int>(su.order);
+  const auto agree = [&](const Spectral& a, const Spectral& b) {
+    if (std::abs(a.value - b.value) > tol * std::abs(b.value)) return false;
+    if (ord >= 1 && std::abs(a.d1 - b.d1) > tol * std::abs(b.d1)) return false;
+    if (ord >= 2 && std::abs(a.d2 - b.d2) > tol * std::abs(b.d2)) return false;
+    return true;
+  };
+  Spectral coarse = run(2.0 * h), fine = run(h);
+  for (int attempt = 0; !agree(coarse, fine); ++attempt) {
+    if (attempt >= 5) throw std::runtime_error(what() + ": the plane-wave step does not converge");
+    coarse = fine;
+    h *= 0.5;
+    fine = run(h);
+  }
+  if (j_used) *j_used = std::max(2, static_cast<int>(std::ceil(su.t_max / h)));
+  return fine;
+}
+
+// The automatic choice: the plane-wave path when its matrices (about J + 1 nodes per parity
+// block and component against M + 1 orders; the step check adds an eighth) are cheaper.
+bool plane_waves_cheaper(RoundTripBasis basis, int M, double t_max, double z) {
+  if (basis == RoundTripBasis::kOrders) return false;
+  if (basis == RoundTripBasis::kPlaneWaves) return true;
+  if (!std::isfinite(t_max)) return false;
+  const double J = std::ceil(t_max / plane_wave_first_step(z, M));
+  return 1.25 * (J + 1.0) < M + 1.0;
+}
+
+}  // namespace
+
 Spectral cylinder_plate_logdet(FieldKind channel, double p, double radius, double axis_height,
-                               DerivativeOrder order, double rel_tol, int m_fixed, int* m_used) {
+                               DerivativeOrder order, double rel_tol, int m_fixed, int* m_used,
+                               RoundTripBasis basis, int* nodes_used) {
   if (channel == FieldKind::kElectromagnetic)
     throw std::invalid_argument("cylinder_plate_logdet: one scalar channel at a time");
   const double x = p * radius, y = 2.0 * p * axis_height;
@@ -116,8 +409,8 @@ Spectral cylinder_plate_logdet(FieldKind channel, double p, double radius, doubl
   int M = m_fixed > 0 ? m_fixed : 16;
   for (;;) {
     log_sqrt_t(channel, x, M, a, li, lk);
-    log_k_range(y, 2 * M + 2, ky);
     if (m_fixed > 0) break;
+    log_k_range(y, 2 * M + 2, ky);
     std::vector<double> diag(M + 1);
     double trace = 0.0;
     for (int m = 0; m <= M; ++m) {
@@ -132,7 +425,6 @@ Spectral cylinder_plate_logdet(FieldKind channel, double p, double radius, doubl
       while (cut > 1 && tail + diag[cut] <= target) tail += diag[cut--];
       M = std::max(cut, 2);
       log_sqrt_t(channel, x, M, a, li, lk);
-      log_k_range(y, 2 * M + 2, ky);
       break;
     }
     if (M >= kMaxOrder)
@@ -142,7 +434,25 @@ Spectral cylinder_plate_logdet(FieldKind channel, double p, double radius, doubl
     M = std::min(2 * M, kMaxOrder);
   }
   if (m_used) *m_used = M;
+  if (nodes_used) *nodes_used = 0;
+  const auto what = [&] {
+    return fmt::format(
+        "cylinder-plate ({}) at p = {:.6g} 1/m (R = {:.6g} m, H = {:.6g} m, m_max = {})",
+        to_string(channel), p, radius, axis_height, M);
+  };
 
+  if (basis != RoundTripBasis::kOrders) {
+    std::vector<double> lt(M + 1);
+    for (int m = 0; m <= M; ++m) lt[m] = 2.0 * a[m];
+    const PlaneWaveKernel kernel(lt, nullptr);
+    PwSetup su{y, p, order, 0.0, M};
+    su.t_max = plane_wave_range(kernel, su, plane_wave_first_step(y, M), rel_tol);
+    if (plane_waves_cheaper(basis, M, su.t_max, y))
+      return plane_wave_converged(
+          kernel, [](double, double* r) { r[0] = -1.0; }, su, rel_tol, nodes_used, what);
+  }
+
+  log_k_range(y, 2 * M + 2, ky);
   const int ord = static_cast<int>(order);
   // K-derivative ratios K'_n/K_n, K''_n/K_n at argument y (n = 0..2M), with K_{-n} = K_n.
   const auto lkn = [&](int n) { return ky[std::abs(n)]; };
@@ -151,9 +461,10 @@ Spectral cylinder_plate_logdet(FieldKind channel, double p, double radius, doubl
     const int m0 = parity == 0 ? 0 : 1;
     const int dim = M - m0 + 1;
     if (dim <= 0) continue;
-    Eigen::MatrixXd A(dim, dim), A1, A2;
-    if (ord >= 1) A1.resize(dim, dim);
-    if (ord >= 2) A2.resize(dim, dim);
+    // X = -N (symmetrised), X1 = -dN/dH, X2 = -d2N/dH2.
+    Eigen::MatrixXd X(dim, dim), X1, X2;
+    if (ord >= 1) X1.resize(dim, dim);
+    if (ord >= 2) X2.resize(dim, dim);
     const double sign = parity == 0 ? 1.0 : -1.0;
     for (int i = 0; i < dim; ++i) {
       const int m = m0 + i;
@@ -174,28 +485,12 @@ Spectral cylinder_plate_logdet(FieldKind channel, double p, double radius, doubl
             v2 += e * 4.0 * p * p * 0.25 *
                   (std::exp(lkn(n - 2) - ky[n]) + 2.0 + std::exp(ky[n + 2] - ky[n]));
         }
-        A(i, j) = A(j, i) = -v;
-        if (ord >= 1) A1(i, j) = A1(j, i) = v1;
-        if (ord >= 2) A2(i, j) = A2(j, i) = v2;
-      }
-      A(i, i) += 1.0;
-    }
-    Eigen::LLT<Eigen::MatrixXd> llt(A);
-    if (llt.info() != Eigen::Success)
-      throw std::runtime_error(fmt::format(
-          "cylinder-plate: 1 - N is not positive definite at p = {:.6g} 1/m (R = {:.6g} m, "
-          "H = {:.6g} m, m_max = {})",
-          p, radius, axis_height, M));
-    const Eigen::MatrixXd& L = llt.matrixLLT();
-    for (int i = 0; i < dim; ++i) out.value += 2.0 * std::log(L(i, i));
-    if (ord >= 1) {
-      const Eigen::MatrixXd X = llt.solve(A1);  // B N'
-      out.d1 -= X.trace();
-      if (ord >= 2) {
-        const Eigen::MatrixXd Y = llt.solve(A2);
-        out.d2 -= Y.trace() + (X.cwiseProduct(X.transpose())).sum();
+        X(i, j) = X(j, i) = -v;
+        if (ord >= 1) X1(i, j) = X1(j, i) = -v1;
+        if (ord >= 2) X2(i, j) = X2(j, i) = -v2;
       }
     }
+    out += logdet_one_plus(X, ord >= 1 ? &X1 : nullptr, ord >= 2 ? &X2 : nullptr, true, what);
   }
   return out;
 }
@@ -230,7 +525,8 @@ constexpr double kNegligibleExponent = -46.0;  // e^-46 ~ 1e-20 of the largest w
 Spectral cylinder_plate_vector_logdet(const Material& cyl, const PlanarAtFrequency& plate,
                                       const Material& medium, double xi, double kz, double radius,
                                       double axis_height, DerivativeOrder order, double rel_tol,
-                                      int m_fixed, int* m_used) {
+                                      int m_fixed, int* m_used, RoundTripBasis basis,
+                                      int* nodes_used) {
   const bool stat = !(xi > 0.0);
   const double eps_m = stat ? medium.static_limit().static_eps : medium.epsilon(xi);
   const double k0 = stat ? 0.0 : xi / kSpeedOfLight;
@@ -271,6 +567,40 @@ Spectral cylinder_plate_vector_logdet(const Material& cyl, const PlanarAtFrequen
     M = std::min(2 * M, kMaxOrder);
   }
   if (m_used) *m_used = M;
+  if (nodes_used) *nodes_used = 0;
+  const auto what = [&] {
+    return fmt::format(
+        "cylinder-plate at xi = {:.6g} rad/s, k_z = {:.6g} 1/m (R = {:.6g} m, H = {:.6g} m, "
+        "m_max = {})",
+        xi, kz, radius, axis_height, M);
+  };
+  if (basis != RoundTripBasis::kOrders) {
+    const PlaneWaveKernel kernel(lt, &tau);
+    PwSetup su{z, p, order, 0.0, M};
+    su.t_max = plane_wave_range(kernel, su, plane_wave_first_step(z, M), rel_tol);
+    if (plane_waves_cheaper(basis, M, su.t_max, z)) {
+      // R(t) in the longitudinal basis (formulas above) at k_x = p sinh t; at k = 0 (k_z = 0,
+      // t = 0) its limit diag(r_TE, r_TM) (the pole at k^2 = 0 is removable: r_TE + r_TM = 0
+      // at normal incidence, so the step needs no map).
+      const auto at = [&](double t, double* R) {
+        const double kx = p * std::sinh(t), q = p * std::cosh(t);
+        const double k2 = kx * kx + kz * kz;
+        const Reflection r = plate.reflect(std::sqrt(k2));
+        if (!(k2 > 0.0)) {
+          R[0] = r.te;
+          R[1] = R[2] = 0.0;
+          R[3] = r.tm;
+          return;
+        }
+        const double den = p * p * k2;
+        R[0] = (kappa2 * kx * kx * r.te - kz * kz * q * q * r.tm) / den;
+        R[1] = -kx * kz * k0 * q * (r.te + r.tm) / den;
+        R[2] = eps_m * kx * kz * k0 * q * (r.te + r.tm) / den;
+        R[3] = (kappa2 * kx * kx * r.tm - kz * kz * q * q * r.te) / den;
+      };
+      return plane_wave_converged(kernel, at, su, rel_tol, nodes_used, what);
+    }
+  }
   const int ord = static_cast<int>(order);
   const int N = 2 * M;  // n = m + m' in [-N, N]
 
@@ -300,10 +630,12 @@ Spectral cylinder_plate_vector_logdet(const Material& cyl, const PlanarAtFrequen
       const double k2 = kx * kx + kz * kz;
       const Reflection r = plate.reflect(std::sqrt(k2));
       const double den = p * p * k2;
-      const double R[4] = {(kappa2 * kx * kx * r.te - kz * kz * q * q * r.tm) / den,
-                           -kx * kz * k0 * q * (r.te + r.tm) / den,
-                           eps_m * kx * kz * k0 * q * (r.te + r.tm) / den,
-                           (kappa2 * kx * kx * r.tm - kz * kz * q * q * r.te) / den};
+      // k = 0 (only at k_z = 0, k_x = 0): the limit diag(r_TE, r_TM).
+      const double R[4] = {
+          k2 > 0.0 ? (kappa2 * kx * kx * r.te - kz * kz * q * q * r.tm) / den : r.te,
+          k2 > 0.0 ? -kx * kz * k0 * q * (r.te + r.tm) / den : 0.0,
+          k2 > 0.0 ? eps_m * kx * kz * k0 * q * (r.te + r.tm) / den : 0.0,
+          k2 > 0.0 ? (kappa2 * kx * kx * r.tm - kz * kz * q * q * r.te) / den : r.tm};
       const double base = std::log(0.5 * h * a * std::cosh(v) / q) - z * ch;
       const double f1 = -2.0 * p * ch, f2 = 4.0 * p * p * ch * ch;
       const auto add = [&](int n) {
@@ -353,7 +685,7 @@ Spectral cylinder_plate_vector_logdet(const Material& cyl, const PlanarAtFrequen
         idx.push_back({m, al});
       }
     const int dim = static_cast<int>(idx.size());
-    Eigen::MatrixXd A = Eigen::MatrixXd::Identity(dim, dim), A1, A2;
+    Eigen::MatrixXd A = Eigen::MatrixXd::Zero(dim, dim), A1, A2;
     if (ord >= 1) A1 = Eigen::MatrixXd::Zero(dim, dim);
     if (ord >= 2) A2 = Eigen::MatrixXd::Zero(dim, dim);
     for (int i = 0; i < dim; ++i) {
@@ -381,25 +713,7 @@ Spectral cylinder_plate_vector_logdet(const Material& cyl, const PlanarAtFrequen
         if (ord >= 2) A2(i, k) = v2;
       }
     }
-    Eigen::PartialPivLU<Eigen::MatrixXd> lu(A);
-    const Eigen::MatrixXd& LU = lu.matrixLU();
-    double sign = lu.permutationP().determinant();
-    double value = 0.0;
-    for (int i = 0; i < dim; ++i) {
-      sign *= LU(i, i) < 0.0 ? -1.0 : 1.0;
-      value += std::log(std::abs(LU(i, i)));
-    }
-    if (!(sign > 0.0) || !std::isfinite(value))
-      throw std::runtime_error(fmt::format(
-          "cylinder-plate: det(1 - T U) is not positive at xi = {:.6g} rad/s, k_z = {:.6g} 1/m "
-          "(R = {:.6g} m, H = {:.6g} m, m_max = {}, parity {})",
-          xi, kz, radius, axis_height, M, sigma));
-    out.value += value;
-    if (ord >= 1) {
-      const Eigen::MatrixXd X = lu.solve(A1);
-      out.d1 += X.trace();
-      if (ord >= 2) out.d2 += lu.solve(A2).trace() - (X.cwiseProduct(X.transpose())).sum();
-    }
+    out += logdet_one_plus(A, ord >= 1 ? &A1 : nullptr, ord >= 2 ? &A2 : nullptr, false, what);
   }
   return out;
 }
@@ -423,11 +737,11 @@ class CylinderPlate final : public Geometry {
   }
 
   Spectral at_frequency(double xi, double gap, DerivativeOrder order) const override {
-    return kz_sum(xi, gap, order, o_.rel_tol).total;
+    return counted(kz_sum(xi, gap, order, o_.rel_tol));
   }
   Spectral at_frequency_within(double xi, double gap, DerivativeOrder order,
                                double rel_tol) const override {
-    return kz_sum(xi, gap, order, std::max(rel_tol, o_.rel_tol)).total;
+    return counted(kz_sum(xi, gap, order, std::max(rel_tol, o_.rel_tol)));
   }
 
   ResultScale scale() const override { return ResultScale::kPerLength; }
@@ -478,32 +792,57 @@ class CylinderPlate final : public Geometry {
   }
 
   FrequencyCost cost(double gap, DerivativeOrder order, double /*rel_tol*/) const override {
-    // About 40 k_z nodes, two parity blocks of M/2... M per channel, Cholesky M^3/3 and the
-    // derivative solves 2 M^3 each.
-    const double M = truncation(gap).at("m_max") + 1.0;
+    // About 40 k_z nodes per channel (80 for the vector path), two parity blocks each: the
+    // order basis has blocks of M + 1 (scalar) or 2M + 1 (vector), the plane-wave path blocks
+    // of J + 1 or 2J + 1 with J its node count at p = 1/(2L) (Neumann channel; the step check
+    // adds an eighth). Cholesky n^3/3 (LU 2n^3/3) and the derivative solves 2 n^3 each.
+    int m = 0, j = 0;
+    (void)cylinder_plate_logdet(
+        o_.field == FieldKind::kDirichlet ? FieldKind::kDirichlet : FieldKind::kNeumann,
+        1.0 / (2.0 * gap), o_.radius, o_.radius + gap, DerivativeOrder::kEnergy, o_.rel_tol,
+        o_.m_max, &m, o_.basis, &j);
+    const double M = (j > 0 ? j : m) + 1.0, extra = j > 0 ? 1.125 : 1.0;
     const double channels = o_.field == FieldKind::kElectromagnetic ? 2.0 : 1.0;
-    const double per = 2.0 * M * M * M * (1.0 / 3.0 + 2.0 * static_cast<int>(order));
+    const int ord = static_cast<int>(order);
     FrequencyCost c;
     if (vector_) {
-      // Vector path: two parity blocks of 2M + 1 per k_z node, LU (2/3) n^3 and the derivative
-      // solves 2 n^3 each.
       const double n = 2.0 * M + 1.0;
       c.blocks = 80.0;
-      c.block_flops.assign(80, n * n * n * (2.0 / 3.0 + 2.0 * static_cast<int>(order)));
+      c.block_flops.assign(80, extra * n * n * n * (2.0 / 3.0 + 2.0 * ord));
       c.memory_bytes = 3.0 * 8.0 * n * n + 13.0 * 8.0 * (4.0 * M + 1.0);
       return c;
     }
     c.blocks = 40.0 * channels;
-    c.block_flops.assign(static_cast<std::size_t>(c.blocks), per);
+    c.block_flops.assign(static_cast<std::size_t>(c.blocks),
+                         extra * 2.0 * M * M * M * (1.0 / 3.0 + 2.0 * ord));
     c.memory_bytes = 3.0 * 8.0 * (M + 1.0) * (M + 1.0) + 64.0 * M;
     return c;
   }
 
  private:
+  Spectral counted(const KzSum& s) const {
+    if (auto* c = o_.counters.get()) {
+      c->kz_nodes += s.nodes;
+      for (int v = c->m_max; v < s.m_max && !c->m_max.compare_exchange_weak(v, s.m_max);) {
+      }
+      for (int v = c->plane_wave_nodes;
+           v < s.plane_wave_nodes &&
+           !c->plane_wave_nodes.compare_exchange_weak(v, s.plane_wave_nodes);) {
+      }
+    }
+    return s.total;
+  }
   double medium_index() const {
     const StaticLimit sm = o_.medium->static_limit();
     return sm.kind == StaticClass::kDielectric ? std::sqrt(sm.static_eps) : 1.0;
   }
+
+  // Below u = 2L k_z = kz_floor the integrand is taken at kz_floor (derived): log det and its
+  // derivatives change there at most like log ln(1/u) (the Dirichlet/TM channel at p -> 0,
+  // t_0 ~ 1/ln(1/pR)), so the part of the integral changed is below ~30 kz_floor of the
+  // integral of |.|, i.e. 1e-3 kKzShare rel_tol; it keeps p = 0 (xi = 0) from asking for the
+  // ~R/L ln(1/rel_tol) orders of the slow image decay (R/H)^{2m} at k_z -> 0.
+  static double kz_floor(double rel_tol) { return 1e-3 * kKzShare * rel_tol / 30.0; }
 
   KzSum kz_sum(double xi, double gap, DerivativeOrder order, double rel_tol) const {
     const double kappa = xi > 0.0 ? std::sqrt(o_.medium->epsilon(xi)) * xi / kSpeedOfLight : 0.0;
@@ -512,11 +851,13 @@ class CylinderPlate final : public Geometry {
       const auto plate = o_.plate->at(xi, *o_.medium);
       KzSum out;
       const auto f = [&](double u) {
-        int m = 0;
+        u = std::max(u, kz_floor(rel_tol));
+        int m = 0, j = 0;
         const Spectral s =
             cylinder_plate_vector_logdet(*o_.cylinder, *plate, *o_.medium, xi, u / (2.0 * gap),
-                                         o_.radius, H, order, rel_tol, o_.m_max, &m);
+                                         o_.radius, H, order, rel_tol, o_.m_max, &m, o_.basis, &j);
         out.m_max = std::max(out.m_max, m);
+        out.plane_wave_nodes = std::max(out.plane_wave_nodes, j);
         return s;
       };
       out.total =
@@ -528,13 +869,14 @@ class CylinderPlate final : public Geometry {
     if (o_.field != FieldKind::kDirichlet) channels.push_back(FieldKind::kNeumann);
     KzSum out;
     const auto f = [&](double u) {
-      const double kz = u / (2.0 * gap);
+      const double kz = std::max(u, kz_floor(rel_tol)) / (2.0 * gap);
       const double p = std::hypot(kz, kappa);
       Spectral s;
       for (FieldKind ch : channels) {
-        int m = 0;
-        s += cylinder_plate_logdet(ch, p, o_.radius, H, order, rel_tol, o_.m_max, &m);
+        int m = 0, j = 0;
+        s += cylinder_plate_logdet(ch, p, o_.radius, H, order, rel_tol, o_.m_max, &m, o_.basis, &j);
         out.m_max = std::max(out.m_max, m);
+        out.plane_wave_nodes = std::max(out.plane_wave_nodes, j);
       }
       return s;
     };

@@ -169,4 +169,3 @@ TEST(CylinderPlate, DirichletChannelAtLargeDistanceFallsLikeOneOverLogarithm) {
 
 }  // namespace
 }  // namespace roundtrip
-
