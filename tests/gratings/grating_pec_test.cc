@@ -427,5 +427,31 @@ TEST(GratingPec, ConvergesInTheOrderCount) {
   EXPECT_LT(d3, 1e-3 * std::abs(v[3]));
 }
 
+TEST(GratingPec, TwoConductingGratingsAreSymmetricInTheOffset) {
+  // Symmetry (derived, even profiles; as tests/gratings/grating_grating_test.cc): ds/db = 0 at
+  // b = 0 and b = period/2, s(b) = s(-b) and s(b + period) = s(b); aligned ridges attract most.
+  // Two perfectly conducting gratings (period 400 nm, f = 0.5, h = 100 nm), xi = c/2L,
+  // L = 150 nm, N = 4, Bloch tolerance 1e-7: agreement asked 1e-6 (s) and 1e-9 G |s| (ds/db).
+  const double L = 150e-9, period = 400e-9, xi = kSpeedOfLight / (2.0 * L);
+  const auto g = pec_grating(period, 0.5, 100e-9);
+  const auto at = [&](double b) {
+    GratingGratingOptions o;
+    o.orders = 4;
+    o.bloch_rel_tol = 1e-7;
+    o.offset = b;
+    return GratingGrating(g, g, nullptr, o).spectral(xi, L, DerivativeOrder::kEnergy, 1e-7);
+  };
+  const double G = 2.0 * kPi / period;
+  const auto s0 = at(0.0), sh = at(0.5 * period), sb = at(70e-9), smb = at(-70e-9),
+             sp = at(70e-9 + period);
+  EXPECT_LT(std::abs(s0.d_offset), 1e-9 * G * std::abs(s0.s.value));
+  EXPECT_LT(std::abs(sh.d_offset), 1e-9 * G * std::abs(s0.s.value));
+  EXPECT_NEAR(sb.s.value, smb.s.value, 1e-6 * std::abs(sb.s.value));
+  EXPECT_NEAR(sb.s.value, sp.s.value, 1e-6 * std::abs(sb.s.value));
+  EXPECT_NEAR(sb.d_offset, -smb.d_offset, 1e-6 * std::abs(sb.d_offset));
+  EXPECT_LT(s0.s.value, sb.s.value);
+  EXPECT_LT(sb.s.value, sh.s.value);
+}
+
 }  // namespace
 }  // namespace roundtrip
