@@ -239,4 +239,36 @@ LamellarGrating grating_from_toml(const toml::table& t, const std::string& tb,
   return g;
 }
 
+std::pair<std::string, std::string> grating_material_problem(const LamellarGrating& g,
+                                                             double temperature_K) {
+  const bool pec_r = g.ridge->is_perfect_conductor(), pec_s = g.substrate->is_perfect_conductor();
+  if (pec_r || pec_s) {
+    // The grooves' modal method (solver/scatterers/grating_pec.h).
+    if (!(pec_r && pec_s))
+      return {pec_r ? "substrate" : "material",
+              fmt::format("a perfectly conducting grating is built only with ridges and substrate "
+                          "both perfect conductors (here {} on {})",
+                          g.ridge->name(), g.substrate->name())};
+    if (g.profile != GratingProfile::kLamellar)
+      return {"material",
+              "a perfectly conducting grating is built for profile = \"lamellar\" only (its modal "
+              "method needs rectangular grooves)"};
+    if (temperature_K > 0.0)
+      return {"material",
+              "the xi = 0 term of a perfectly conducting grating is not built; at T > 0 the "
+              "grating must be a dielectric (T = 0 works)"};
+    return {};
+  }
+  if (g.ridge->static_limit().is_conductor())
+    return {"material",
+            "gratings with conducting ridges are not built (the modal method here is for "
+            "dielectric ridges: a metal's huge eps makes its layer operator singular in double at "
+            "small xi; perfect conductors, ridges and substrate both, have their own method)"};
+  if (g.substrate->static_limit().is_conductor() && temperature_K > 0.0)
+    return {"substrate",
+            "the xi = 0 term of a conducting grating is not built; at T > 0 the grating must be a "
+            "dielectric (T = 0 works)"};
+  return {};
+}
+
 }  // namespace roundtrip::io

@@ -8,6 +8,9 @@
 //           | "table"      table = "profile.csv", table_unit = "nm"  (x, height per line)
 //   material = "silicon"                     the ridges
 //   substrate = "silica"                     optional; default: the ridge material
+// Materials the solver builds (grating_material_problem): dielectric ridges on any substrate
+// (conducting substrates at T = 0 only), or ridges and substrate both perfect conductors with a
+// lamellar profile at T = 0 (the grooves' modal method, solver/scatterers/grating_pec.h).
 // Table profiles: one period of (x, height) points, x strictly increasing (single-valued),
 // last x - first x = period, first height = last height (periodic), symmetric about the first
 // point or the middle of the period (an asymmetric profile has complex Fourier coefficients,
@@ -18,6 +21,7 @@
 #include <functional>
 #include <string>
 #include <string_view>
+#include <utility>
 
 #include "solver/scatterers/grating_fmm.h"
 
@@ -32,5 +36,10 @@ using MaterialLookup = std::function<MaterialPtr(const toml::table& t, std::stri
 LamellarGrating grating_from_toml(const toml::table& t, const std::string& table,
                                   const MaterialLookup& material_at,
                                   const std::filesystem::path& base);
+
+/// Why the grating's materials are not built at this temperature, as (key, sentence) with key
+/// "material" or "substrate"; an empty key when they are built (header).
+std::pair<std::string, std::string> grating_material_problem(const LamellarGrating& g,
+                                                             double temperature_K);
 
 }  // namespace roundtrip::io

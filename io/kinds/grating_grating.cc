@@ -12,22 +12,10 @@
 
 #include "io/case_file.h"
 #include "io/errors.h"
+#include "io/grating_spec.h"
 #include "io/kinds/kind.h"
 
 namespace roundtrip::io {
-namespace {
-
-// Line of table.key in the case text (0 if absent: a defaulted table).
-int line_of(const CaseSpec& spec, const std::string& table, const char* key) {
-  try {
-    const toml::table t = toml::parse(spec.text, spec.path.string());
-    if (const toml::node* n = t[table][key].node()) return static_cast<int>(n->source().begin.line);
-  } catch (const std::exception&) {
-  }
-  return 0;
-}
-
-}  // namespace
 
 GeometryKind grating_grating_kind() {
   GeometryKind k;
@@ -51,28 +39,16 @@ GeometryKind grating_grating_kind() {
             "PFA columns, overlap and order model assume rectangular ridges; a staircase of "
             "slices and its convergence study are not built here; use grating-plate for other "
             "profiles)",
-            spec.path.string(), line_of(spec, b->table, "profile"), b->table,
+            spec.path.string(), case_line_of(spec, b->table, "profile"), b->table,
             g.profile == GratingProfile::kSinusoidal   ? "sinusoidal"
             : g.profile == GratingProfile::kTriangular ? "triangular"
                                                        : "table"));
-      for (const auto& [m, key] : {std::pair{g.ridge, "material"}, {g.substrate, "substrate"}}) {
-        if (m->is_perfect_conductor())
-          throw CaseError(fmt::format(
-              "{}: {}.{} = \"{}\": perfectly conducting gratings need their own modal method, "
-              "which is not built for grating-grating",
-              spec.path.string(), b->table, key, m->name()));
-        if (m->static_limit().is_conductor() && std::string(key) == "material")
-          throw CaseError(fmt::format(
-              "{}: {}.material = \"{}\": gratings with conducting ridges are not built (the "
-              "modal method here is for dielectric ridges: a metal's huge eps makes its layer "
-              "operator singular in double at small xi)",
-              spec.path.string(), b->table, m->name()));
-        if (m->static_limit().is_conductor() && spec.frequency.temperature_K > 0.0)
-          throw CaseError(fmt::format(
-              "{}: {}.{} = \"{}\": the xi = 0 term of a conducting grating is not built; at "
-              "T > 0 the gratings must be dielectrics (T = 0 works)",
-              spec.path.string(), b->table, key, m->name()));
-      }
+      if (const auto [key, why] = grating_material_problem(g, spec.frequency.temperature_K);
+          !key.empty())
+        throw CaseError(fmt::format("{}:{}: {}.{} = \"{}\": {}", spec.path.string(),
+                                    case_line_of(spec, b->table, key.c_str()), b->table, key,
+                                    key == "material" ? g.ridge->name() : g.substrate->name(),
+                                    why));
     }
     if (b2.grating.period != b1.grating.period)
       throw CaseError(fmt::format(

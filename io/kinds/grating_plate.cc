@@ -11,6 +11,7 @@
 
 #include "io/case_file.h"
 #include "io/errors.h"
+#include "io/grating_spec.h"
 #include "io/kinds/kind.h"
 
 namespace roundtrip::io {
@@ -33,25 +34,11 @@ GeometryKind grating_plate_kind() {
   };
   k.build = [](const CaseSpec& spec) {
     const LamellarGrating& g = spec.body("grating").grating;
-    if (g.ridge->static_limit().is_conductor())
-      throw CaseError(fmt::format(
-          "{}: grating.material = \"{}\": gratings with conducting ridges are not built (the "
-          "modal method here is for dielectric ridges: a metal's huge eps makes its layer "
-          "operator singular in double at small xi; perfect conductors need their own modal "
-          "method)",
-          spec.path.string(), g.ridge->name()));
-    for (const auto& [m, key] : {std::pair{g.ridge, "material"}, {g.substrate, "substrate"}}) {
-      if (m->is_perfect_conductor())
-        throw CaseError(fmt::format(
-            "{}: grating.{} = \"{}\": perfectly conducting gratings need their own modal "
-            "method, which is not built",
-            spec.path.string(), key, m->name()));
-      if (m->static_limit().is_conductor() && spec.frequency.temperature_K > 0.0)
-        throw CaseError(fmt::format(
-            "{}: grating.{} = \"{}\": the xi = 0 term of a conducting grating is not built; "
-            "at T > 0 the grating must be a dielectric (T = 0 works)",
-            spec.path.string(), key, m->name()));
-    }
+    if (const auto [key, why] = grating_material_problem(g, spec.frequency.temperature_K);
+        !key.empty())
+      throw CaseError(fmt::format("{}:{}: grating.{} = \"{}\": {}", spec.path.string(),
+                                  case_line_of(spec, "grating", key.c_str()), key,
+                                  key == "material" ? g.ridge->name() : g.substrate->name(), why));
     GratingPlateOptions o;
     o.orders = spec.orders;
     o.bloch_rel_tol = std::clamp(0.3 * spec.frequency.rel_tol, 1e-12, 1e-2);

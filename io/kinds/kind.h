@@ -27,6 +27,9 @@ namespace roundtrip::io {
 
 struct CaseSpec;
 
+/// Line of table.key in the case text (0 if absent: a defaulted table); for error messages.
+int case_line_of(const CaseSpec& spec, const std::string& table, const char* key);
+
 /// One body table a kind reads.
 struct BodySlot {
   std::string table;  ///< "plate", "sphere2": the case-file table and its name

@@ -1,6 +1,10 @@
 // The registry of geometry kinds (kind.h): one line per kind.
-#include <algorithm>
+#include <toml++/toml.h>
 
+#include <algorithm>
+#include <exception>
+
+#include "io/case_file.h"
 #include "io/kinds/kind.h"
 
 namespace roundtrip::io {
@@ -11,6 +15,15 @@ const std::vector<GeometryKind>& geometry_kinds() {
       atom_plate_kind(),  grating_plate_kind(), grating_grating_kind(), cylinder_cylinder_kind(),
   };
   return kinds;
+}
+
+int case_line_of(const CaseSpec& spec, const std::string& table, const char* key) {
+  try {
+    const toml::table t = toml::parse(spec.text, spec.path.string());
+    if (const toml::node* n = t[table][key].node()) return static_cast<int>(n->source().begin.line);
+  } catch (const std::exception&) {
+  }
+  return 0;
 }
 
 const GeometryKind* find_geometry_kind(std::string_view name) {

@@ -35,6 +35,12 @@ constexpr double kH0 = 0.5;
 
 thread_local int g_last_nodes = 0;
 
+// One material for the PFA's columns: the same object, or two perfect conductors (a film of a
+// perfect conductor on a perfect conductor is the perfect conductor).
+bool same_material(const MaterialPtr& a, const MaterialPtr& b) {
+  return a == b || (a->is_perfect_conductor() && b->is_perfect_conductor());
+}
+
 long pow3(int a) {
   long p = 1;
   for (int i = 0; i < a; ++i) p *= 3;
@@ -508,7 +514,7 @@ std::optional<PfaValues> GratingPlate::pfa(double gap, const FrequencyRuleOption
   std::vector<std::pair<double, std::unique_ptr<PlatePlate>>> pp;
   for (const auto& [w, hx] : cols) {
     if (w == 0.0) continue;
-    PlanarPtr body = hx > 0.0 && g_.ridge != g_.substrate
+    PlanarPtr body = hx > 0.0 && !same_material(g_.ridge, g_.substrate)
                          ? make_layered({{g_.ridge, hx}}, g_.substrate)
                          : make_half_space(hx > 0.0 ? g_.ridge : g_.substrate);
     pp.emplace_back(w, std::make_unique<PlatePlate>(body, plate_, medium_));
@@ -533,7 +539,7 @@ double GratingPlate::flat_energy(double gap, const FrequencyRuleOptions& opts) c
   // the substrate (a half-space when they are one material or the height is 0), facing the
   // plate at L (Lifshitz (1956) through PlatePlate).
   const double H = g_.height();
-  PlanarPtr body = H > 0.0 && g_.ridge != g_.substrate
+  PlanarPtr body = H > 0.0 && !same_material(g_.ridge, g_.substrate)
                        ? make_layered({{g_.ridge, H}}, g_.substrate)
                        : make_half_space(H > 0.0 ? g_.ridge : g_.substrate);
   const PlatePlate pp(body, plate_, medium_);

@@ -12,6 +12,7 @@
 #include <vector>
 
 #include "solver/constants.h"
+#include "solver/scatterers/grating_pec.h"
 
 namespace roundtrip {
 namespace {
@@ -265,6 +266,28 @@ GratingAtFrequency::GratingAtFrequency(const LamellarGrating& g, double xi, cons
     throw std::invalid_argument(fmt::format("grating: orders = {} must lie in 0..2000", orders));
   if (!(xi >= 0.0) || !std::isfinite(xi))
     throw std::invalid_argument(fmt::format("grating: xi = {} rad/s must be >= 0", xi));
+  const bool pec_r = g.ridge->is_perfect_conductor(), pec_s = g.substrate->is_perfect_conductor();
+  if (pec_r || pec_s) {
+    // Perfect conductors: their own modal method (grating_pec.h), lamellar and all-PEC only.
+    if (!(pec_r && pec_s))
+      throw std::invalid_argument(fmt::format(
+          "grating: ridge '{}' and substrate '{}': a perfect conductor is built only for ridges "
+          "and substrate both perfectly conducting (grating_pec.h), not mixed with another "
+          "material",
+          g.ridge->name(), g.substrate->name()));
+    if (g.profile != GratingProfile::kLamellar)
+      throw std::invalid_argument(
+          "grating: a perfectly conducting grating is built for the lamellar profile only (its "
+          "modal method needs rectangular grooves)");
+    if (!(xi > 0.0))
+      throw std::invalid_argument(
+          "grating: the xi = 0 term of a perfectly conducting grating is not built (use "
+          "temperature = \"0 K\", which needs no xi = 0 term)");
+    pec_ = true;
+    eps_m_ = epsilon_at(medium, xi, "gap medium");
+    q0_ = xi / kSpeedOfLight;
+    return;
+  }
   eps_m_ = epsilon_at(medium, xi, "gap medium");
   eps_r_ = epsilon_at(*g.ridge, xi, "ridge material");
   eps_s_ = epsilon_at(*g.substrate, xi, "substrate");
@@ -307,6 +330,7 @@ GratingAtFrequency::Line GratingAtFrequency::line(double kx) const {
   // G = C^-1 K (Gram form as in reflect_coupled); xi = 0 generalized symmetric (S, Ee).
   Line out;
   out.kx = kx;
+  if (pec_) return out;  // no layer modes: the grooves' modes are analytic (grating_pec.h)
   const VectorXd k = scaled_orders(kx);
   const auto K = k.asDiagonal();
   for (const Layer& ly : layers_) {
@@ -346,6 +370,7 @@ GratingAtFrequency::Line GratingAtFrequency::line(double kx) const {
 }
 
 Eigen::MatrixXd GratingAtFrequency::reflect(const Line& line, double ky) const {
+  if (pec_) return pec_reflect(line.kx, ky);
   const double unit = xi_ > 0.0 ? 1.0 / q0_ : 1.0;
   const VectorXd k = scaled_orders(line.kx);
   const double kyn = ky * unit, ky2 = kyn * kyn;
@@ -387,7 +412,12 @@ Eigen::MatrixXd GratingAtFrequency::reflect(const Line& line, double ky) const {
   return reflection_from(top.v, y);
 }
 
+Eigen::MatrixXd GratingAtFrequency::pec_reflect(double kx, double ky) const {
+  return pec_lamellar_reflection({g_.period, g_.filling, g_.depth}, xi_, eps_m_, n_, kx, ky);
+}
+
 Eigen::MatrixXd GratingAtFrequency::reflect_coupled(double kx, double ky) const {
+  if (pec_) return pec_reflect(kx, ky);
   const double unit = xi_ > 0.0 ? 1.0 / q0_ : 1.0;
   const VectorXd k = scaled_orders(kx);
   const double kyn = ky * unit;

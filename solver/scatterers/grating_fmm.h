@@ -80,8 +80,11 @@ struct LamellarGrating {
 };
 
 /// A grating bound to one imaginary frequency xi >= 0 (rad/s), a gap medium and an order count
-/// N (orders -N..N). Throws std::invalid_argument for a perfect conductor (not built: it needs
-/// its own modal method) and, at xi = 0, for conducting ridges or substrate (not built).
+/// N (orders -N..N). Ridges and substrate both perfect conductors (lamellar, xi > 0): the
+/// grooves' own modal method (grating_pec.h) instead of the FMM, with the same basis and
+/// interface. Throws std::invalid_argument for a perfect conductor mixed with another material,
+/// a non-lamellar perfect conductor, or xi = 0 with a perfect conductor (not built), and at
+/// xi = 0 for conducting ridges or substrate (not built).
 class GratingAtFrequency {
  public:
   GratingAtFrequency(const LamellarGrating& g, double xi, const Material& medium, int orders);
@@ -126,8 +129,10 @@ class GratingAtFrequency {
     Eigen::MatrixXd ai_l;                // Ai = A A^T (Cholesky factor A)
   };
   Eigen::VectorXd scaled_orders(double kx) const;
+  Eigen::MatrixXd pec_reflect(double kx, double ky) const;
   LamellarGrating g_;
-  double xi_, q0_, eps_m_, eps_r_, eps_s_;
+  bool pec_ = false;  // ridges and substrate perfect conductors: grating_pec.h
+  double xi_, q0_ = 0.0, eps_m_ = 1.0, eps_r_ = 0.0, eps_s_ = 0.0;
   int n_, m_;
   std::vector<Layer> layers_;  // top first
 };

@@ -88,9 +88,21 @@ TEST(GratingCase, BadValuesNameFileLineKeyAndValue) {
 }
 
 TEST(GratingCase, WhatIsNotBuiltIsAClearError) {
+  // Perfect conductors (solver/scatterers/grating_pec.h): ridges and substrate both, lamellar,
+  // T = 0; otherwise a clear error naming file:line, key and value.
   std::string g = kGood;
   g.replace(g.find("\"silicon\""), 9, "\"perfect-conductor\"");
-  EXPECT_NE(error_of(grating_case(g)).find("not built"), std::string::npos);
+  EXPECT_EQ(error_of(grating_case(g)), "no error");
+  std::string m = error_of(grating_case(g, "300 K"));
+  EXPECT_NE(m.find("grating.material = \"perfect-conductor\": the xi = 0 term of a perfectly "
+                   "conducting grating is not built"),
+            std::string::npos)
+      << m;
+  m = error_of(grating_case(g + "substrate = \"silicon\"\n"));
+  EXPECT_NE(m.find("grating.substrate = \"silicon\": a perfectly conducting grating is "
+                   "built only with ridges and substrate both perfect conductors"),
+            std::string::npos)
+      << m;
   std::string au = kGood;
   au.replace(au.find("\"silicon\""), 9, "\"gold-drude\"");
   EXPECT_NE(error_of(grating_case(au, "0 K")).find("conducting ridges are not built"),

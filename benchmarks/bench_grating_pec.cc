@@ -1,0 +1,120 @@
+// A perfectly conducting lamellar grating (ridges and substrate perfect conductors; the grooves'
+// modal method, solver/scatterers/grating_pec.h) against a perfectly conducting plate at T = 0.
+//   scan:     E / E_PFA against period/H at fixed gap L and depth h (H = L + (1 - f) h, the
+//             distance from the plate to the profile's mean plane), with
+//             E_PFA = f E_pp(L) + (1 - f) E_pp(L + h) (grating PFA, Bao et al., PRL 105, 250402
+//             (2010)) and E_pp(x) = -pi^2 hbar c / (720 x^3) (Casimir 1948).
+//   exponent: the correction dE = E - E_pp(H) against H at fixed period and depth, and its
+//             local exponent p = -d ln|dE| / d ln H between successive H: Emig, Hanke,
+//             Golestanian, Kardar, PRL 87, 260402 (2001) report |dE| ~ H^-5 for period >> H
+//             (the PFA regime, pairwise-like) and ~ H^-4 for period << H.
+// Usage: roundtrip_bench_grating_pec [scan|exponent] [rel_tol]
+#include <fmt/format.h>
+#include <omp.h>
+
+#include <chrono>
+#include <cmath>
+#include <cstdio>
+#include <cstdlib>
+#include <string>
+#include <vector>
+
+#include "solver/constants.h"
+#include "solver/frequency/frequency_rule.h"
+#include "solver/geometries/grating_plate.h"
+#include "solver/materials/models.h"
+#include "solver/planar/planar.h"
+
+using namespace roundtrip;
+
+namespace {
+
+double seconds_since(std::chrono::steady_clock::time_point t0) {
+  return std::chrono::duration<double>(std::chrono::steady_clock::now() - t0).count();
+}
+
+double e_pp(double x) { return -kPi * kPi * kHbar * kSpeedOfLight / (720.0 * x * x * x); }
+
+struct Run {
+  double energy;
+  int orders;
+  double seconds;
+};
+
+// E per area (J/m^2) of the grating at gap L against a perfect mirror, orders from the
+// convergence study (numerics as a case file sets them, io/kinds/grating_plate.cc).
+Run energy(double period, double f, double h, double L, double rel_tol) {
+  LamellarGrating g;
+  g.period = period;
+  g.filling = f;
+  g.depth = h;
+  g.ridge = g.substrate = make_perfect_conductor();
+  GratingPlateOptions o;
+  o.bloch_rel_tol = 0.3 * rel_tol;
+  o.rel_tol = rel_tol;
+  o.max_orders = 100;
+  const GratingPlate gp(g, make_half_space(make_perfect_conductor()), nullptr, o);
+  FrequencyRuleOptions fo;
+  fo.temperature_K = 0.0;
+  fo.rel_tol = rel_tol;
+  const auto t0 = std::chrono::steady_clock::now();
+  const FrequencySum s = sum_over_frequencies(
+      [&](double x, double tol) {
+        return gp.at_frequency_within(x, L, DerivativeOrder::kEnergy, tol);
+      },
+      gp.frequency_scale(L), fo);
+  return {s.total.value, gp.orders_at(L), seconds_since(t0)};
+}
+
+}  // namespace
+
+int main(int argc, char** argv) {
+  const std::string mode = argc > 1 ? argv[1] : "scan";
+  const double rel_tol = argc > 2 ? std::atof(argv[2]) : 1e-5;
+  omp_set_num_threads(2);
+  const double f = 0.5;
+  if (mode == "scan") {
+    const double L = 100e-9, h = 100e-9, H = L + (1 - f) * h;
+    std::printf("f = %.2f, L = %.0f nm, h = %.0f nm, H = %.0f nm, rel_tol %.0e\n", f, L * 1e9,
+                h * 1e9, H * 1e9, rel_tol);
+    std::printf("%10s %10s %14s %10s %10s %4s %8s\n", "period/H", "period/h", "E (J/m^2)",
+                "E/E_PFA", "E/E_pp(L)", "N", "time s");
+    const double pfa = f * e_pp(L) + (1 - f) * e_pp(L + h);
+    for (double ratio : {0.125, 0.25, 0.5, 1.0, 2.0, 4.0, 8.0, 16.0}) {
+      const double period = ratio * H;
+      const Run r = energy(period, f, h, L, rel_tol);
+      std::printf("%10.3f %10.3f %14.6e %10.6f %10.6f %4d %8.1f\n", ratio, period / h, r.energy,
+                  r.energy / pfa, r.energy / e_pp(L), r.orders, r.seconds);
+      std::fflush(stdout);
+    }
+    return 0;
+  }
+  if (mode == "exponent") {
+    const double h = 20e-9;  // a = h/2 = 10 nm, shallow against period and H
+    for (double period : {100e-9, 4000e-9}) {
+      std::printf("period %.0f nm, f = %.2f, depth %.0f nm, rel_tol %.0e\n", period * 1e9, f,
+                  h * 1e9, rel_tol);
+      std::printf("%10s %10s %14s %14s %8s %4s %8s\n", "H (nm)", "period/H", "E", "dE = E-E_pp(H)",
+                  "p", "N", "time s");
+      double prev_h = 0.0, prev_de = 0.0;
+      const std::vector<double> hs = period < 1e-6 ? std::vector<double>{200e-9, 400e-9, 800e-9}
+                                                   : std::vector<double>{100e-9, 200e-9, 400e-9};
+      for (double Hm : hs) {
+        const double L = Hm - (1 - f) * h;
+        const Run r = energy(period, f, h, L, rel_tol);
+        const double de = r.energy - e_pp(Hm);
+        std::string p = "-";
+        if (prev_h > 0.0)
+          p = fmt::format("{:.3f}", -std::log(std::abs(de / prev_de)) / std::log(Hm / prev_h));
+        std::printf("%10.0f %10.3f %14.6e %14.6e %8s %4d %8.1f\n", Hm * 1e9, period / Hm, r.energy,
+                    de, p.c_str(), r.orders, r.seconds);
+        std::fflush(stdout);
+        prev_h = Hm;
+        prev_de = de;
+      }
+    }
+    return 0;
+  }
+  std::fprintf(stderr, "usage: roundtrip_bench_grating_pec [scan|exponent] [rel_tol]\n");
+  return 2;
+}
