@@ -62,6 +62,24 @@ const toml::node& need(const toml::table& t, const std::string& key, const std::
                               where.empty() ? "" : ": ", field, key, example));
 }
 
+// `file = "..."` of a `model = "table"` table, relative to the case's folder, read by `read`;
+// errors name the case file:line and key, and (from `read`) the table's file:line and column.
+template <class Read>
+auto read_table_file(const toml::table& t, const std::string& field,
+                     const std::filesystem::path& case_dir, const std::string& example, Read read) {
+  const toml::node& fn = need(t, "file", field, example);
+  const auto* fs = fn.as_string();
+  if (fs == nullptr) throw error_at(fn, field + ".file", "expected a file name in double quotes");
+  const std::filesystem::path path = case_dir / fs->get();
+  if (!std::filesystem::exists(path))
+    throw error_at(fn, field + ".file", fmt::format("no such file: {}", path.string()));
+  try {
+    return read(path);
+  } catch (const InputError& e) {  // the table's file:line, column and value
+    throw error_at(fn, field + ".file", e.what());
+  }
+}
+
 }  // namespace
 
 PlanarPtr sheet_from_toml(const toml::node& node, const std::string& field, MaterialPtr substrate,
@@ -102,17 +120,9 @@ PlanarPtr sheet_from_toml(const toml::node& node, const std::string& field, Mate
                      "above 1e10 S: use material = \"perfect-conductor\" for an ideal mirror");
   } else if (model == "table") {
     check_keys(*t, field, {"model", "file"});
-    const toml::node& fn = need(*t, "file", field, "\"sigma.csv\"");
-    const auto* fs = fn.as_string();
-    if (fs == nullptr) throw error_at(fn, field + ".file", "expected a file name in double quotes");
-    const std::filesystem::path path = case_dir / fs->get();
-    if (!std::filesystem::exists(path))
-      throw error_at(fn, field + ".file", fmt::format("no such file: {}", path.string()));
-    try {
-      s.table = std::make_shared<SheetTable>(read_sheet_conductivity_csv(path));
-    } catch (const InputError& e) {  // the table's file:line, column and value
-      throw error_at(fn, field + ".file", e.what());
-    }
+    s.table = read_table_file(*t, field, case_dir, "\"sigma.csv\"", [](const auto& path) {
+      return std::make_shared<SheetTable>(read_sheet_conductivity_csv(path));
+    });
   } else {
     throw error_at(mn, field + ".model",
                    "unknown sheet model (use \"drude\", \"constant\" or \"table\")");
@@ -226,17 +236,9 @@ PlanarPtr d_parameters_from_toml(const toml::node& node, const std::string& fiel
                      "the only model is \"table\" (constant and one-pole d-parameters are "
                      "given by perpendicular = ..., parallel = ... without a model key)");
     check_keys(*t, field, {"model", "file"});
-    const toml::node& fn = need(*t, "file", field, "\"d_parameters.csv\"");
-    const auto* fs = fn.as_string();
-    if (fs == nullptr) throw error_at(fn, field + ".file", "expected a file name in double quotes");
-    const std::filesystem::path path = case_dir / fs->get();
-    if (!std::filesystem::exists(path))
-      throw error_at(fn, field + ".file", fmt::format("no such file: {}", path.string()));
-    try {
-      d.table = std::make_shared<DParameterTable>(read_d_parameters_csv(path));
-    } catch (const InputError& e) {  // the table's file:line, column and value
-      throw error_at(fn, field + ".file", e.what());
-    }
+    d.table = read_table_file(*t, field, case_dir, "\"d_parameters.csv\"", [](const auto& path) {
+      return std::make_shared<DParameterTable>(read_d_parameters_csv(path));
+    });
   } else {
     check_keys(*t, field, {"perpendicular", "parallel", "model"});
     d.perpendicular =
