@@ -603,7 +603,9 @@ int run_command(const RunArgs& args, std::ostream& out, std::ostream& err) {
   if (!lead) {  // a worker rank: compute tasks for rank 0, print and write nothing
     std::vector<parallel::SweepInput> inputs;
     for (std::size_t k = 0; k < points.size(); ++k) {
-      parallel::SweepInput in{geometries[k].get(), points[k].spec.gaps, {}, {}};
+      parallel::SweepInput in;
+      in.geometry = geometries[k].get();
+      in.gaps = points[k].spec.gaps;
       in.options.frequency = points[k].spec.frequency;
       in.options.quantities = points[k].spec.quantities;
       in.options.cancel = &cancel_requested();
@@ -638,7 +640,9 @@ int run_command(const RunArgs& args, std::ostream& out, std::ostream& err) {
   if (distributed) {
     std::vector<parallel::SweepInput> inputs;
     for (std::size_t k = 0; k < points.size(); ++k) {
-      parallel::SweepInput in{geometries[k].get(), points[k].spec.gaps, {}, {}};
+      parallel::SweepInput in;
+      in.geometry = geometries[k].get();
+      in.gaps = points[k].spec.gaps;
       in.options.frequency = points[k].spec.frequency;
       in.options.quantities = points[k].spec.quantities;
       in.options.store = journal.store(static_cast<int>(k));
