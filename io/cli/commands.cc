@@ -335,6 +335,29 @@ JournalKey journal_key(const CaseSpec& spec) {
   for (auto& kv : case_key_fields(spec)) key.push_back(std::move(kv));
   return key;
 }
+
+// Scan points computed together with the first (solver/run.h, SharedFrequencyValues): those
+// that differ only where the geometry can share a frequency's work (a material scan of a
+// sphere-plate). Together, each thread holds one W block per point (bounded above by the whole
+// per-thread figure of `first_plan` times the points); if that does not fit the limit, none.
+std::vector<int> points_computed_together(const std::vector<ScanPoint>& points,
+                                          const std::vector<std::shared_ptr<Geometry>>& geometries,
+                                          const Plan& first_plan, const MemoryLimit& limit) {
+  std::vector<int> together;
+  for (std::size_t k = 1; k < points.size(); ++k) {
+    const CaseSpec &p0 = points[0].spec, &pk = points[k].spec;
+    if (pk.gaps == p0.gaps && pk.frequency.temperature_K == p0.frequency.temperature_K &&
+        pk.frequency.rel_tol == p0.frequency.rel_tol &&
+        pk.quantities.order() == p0.quantities.order() &&
+        geometries[0]->shares_frequency_work_with(*geometries[k]))
+      together.push_back(static_cast<int>(k));
+  }
+  if (together.empty()) return together;
+  Plan plan = first_plan;
+  plan.memory_bytes *= 1.0 + static_cast<double>(together.size());
+  if (!memory_problem(plan, limit).empty()) together.clear();
+  return together;
+}
 }  // namespace
 
 namespace {
@@ -576,25 +599,10 @@ int run_command(const RunArgs& args, std::ostream& out, std::ostream& err) {
   // Scan points that differ only where the geometry can share a frequency's work (a material
   // scan of a sphere-plate) are computed together while the first point runs (solver/run.h);
   // under MPI the first point's tasks compute them together (frequency_rounds.h).
+  const std::vector<int> companion_points =
+      points_computed_together(points, geometries, plans[0], limit);
   std::vector<const Geometry*> companions;
-  std::vector<int> companion_points;
-  for (std::size_t k = 1; k < points.size(); ++k) {
-    const CaseSpec &p0 = points[0].spec, &pk = points[k].spec;
-    if (pk.gaps == p0.gaps && pk.frequency.temperature_K == p0.frequency.temperature_K &&
-        pk.frequency.rel_tol == p0.frequency.rel_tol &&
-        pk.quantities.order() == p0.quantities.order() &&
-        geometries[0]->shares_frequency_work_with(*geometries[k])) {
-      companions.push_back(geometries[k].get());
-      companion_points.push_back(static_cast<int>(k));
-    }
-  }
-  // Together, each thread holds one W block per point (bounded above by the whole per-thread
-  // figure times the points); if that does not fit, each point runs alone.
-  if (!companions.empty()) {
-    Plan together = plans[0];
-    together.memory_bytes *= 1.0 + static_cast<double>(companions.size());
-    if (!memory_problem(together, limit).empty()) companions.clear(), companion_points.clear();
-  }
+  for (int k : companion_points) companions.push_back(geometries[k].get());
   const auto share_work = [&](std::vector<parallel::SweepInput>& inputs) {
     if (companion_points.empty()) return;
     inputs[0].companions = companion_points;
@@ -1025,23 +1033,9 @@ int check_command(const CheckArgs& args, std::ostream& out, std::ostream& err) {
     // only their measured marginal share of the shared frequencies.
     std::vector<const Geometry*> companions;
     std::vector<char> is_companion(points.size(), 0);
-    for (std::size_t k = 1; k < points.size(); ++k) {
-      const CaseSpec &p0 = points[0].spec, &pk = points[k].spec;
-      if (pk.gaps == p0.gaps && pk.frequency.temperature_K == p0.frequency.temperature_K &&
-          pk.frequency.rel_tol == p0.frequency.rel_tol &&
-          pk.quantities.order() == p0.quantities.order() &&
-          geometries[0]->shares_frequency_work_with(*geometries[k])) {
-        companions.push_back(geometries[k].get());
-        is_companion[k] = 1;
-      }
-    }
-    if (!companions.empty()) {
-      Plan together = model_plans[0];
-      together.memory_bytes *= 1.0 + static_cast<double>(companions.size());
-      if (!memory_problem(together, limit).empty()) {
-        companions.clear();
-        std::fill(is_companion.begin(), is_companion.end(), 0);
-      }
+    for (int k : points_computed_together(points, geometries, model_plans[0], limit)) {
+      companions.push_back(geometries[k].get());
+      is_companion[k] = 1;
     }
     double marginal = 1.0;
     if (!companions.empty() && truncation_problem(*geometries[0], model_plans[0]).empty()) {

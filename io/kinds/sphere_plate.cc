@@ -11,6 +11,20 @@
 #include "solver/planar/electrolyte.h"
 
 namespace roundtrip::io {
+namespace {
+// The bodies, medium and field of a case (what both the electrolyte check and the build read).
+SpherePlateOptions bodies_of(const CaseSpec& spec) {
+  const BodySpec& s = spec.body("sphere");
+  SpherePlateOptions o;
+  o.radius = s.radius;
+  o.sphere = s.material;
+  o.shells = s.solver_shells();
+  o.plate = spec.body("plate").plate;
+  o.medium = spec.medium;
+  o.field = field_kind_from_string(spec.field);
+  return o;
+}
+}  // namespace
 
 GeometryKind sphere_plate_kind() {
   GeometryKind k;
@@ -23,26 +37,12 @@ GeometryKind sphere_plate_kind() {
   k.numerics_keys = {"l_max"};
   k.electrolyte = true;  // conducting sphere and plate only (SpherePlateOptions::kappa_ion)
   k.electrolyte_problem = [](const CaseSpec& spec) -> std::string {
-    const BodySpec& s = spec.body("sphere");
-    SpherePlateOptions o;
-    o.radius = s.radius;
-    o.sphere = s.material;
-    o.shells = s.solver_shells();
-    o.plate = spec.body("plate").plate;
-    o.medium = spec.medium;
-    o.field = field_kind_from_string(spec.field);
+    SpherePlateOptions o = bodies_of(spec);
     o.kappa_ion = 1.0;  // any kappa > 0: which bodies take ions (SpherePlateOptions::validate)
     return o.validate();
   };
   k.build = [](const CaseSpec& spec) {
-    const BodySpec& s = spec.body("sphere");
-    SpherePlateOptions o;
-    o.radius = s.radius;
-    o.sphere = s.material;
-    o.shells = s.solver_shells();
-    o.plate = spec.body("plate").plate;
-    o.medium = spec.medium;
-    o.field = field_kind_from_string(spec.field);
+    SpherePlateOptions o = bodies_of(spec);
     o.rel_tol = spec.frequency.rel_tol;
     o.l_max = spec.l_max;
     // Ions in the medium (planar/electrolyte.h): kappa from I, the medium's eps(0) and this T.
