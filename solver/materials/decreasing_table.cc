@@ -48,13 +48,7 @@ DecreasingTable read_decreasing_csv(const std::filesystem::path& path,
   std::string xi_name, value_name;
   DecreasingTable t;
   t.origin = file;
-  std::string text;
-  int line_no = 0;
-  while (std::getline(in, text)) {
-    ++line_no;
-    if (line_no == 1 && text.starts_with("\xEF\xBB\xBF")) text.erase(0, 3);
-    const std::string_view line = trim(text);
-    if (line.empty() || line.front() == '#') continue;
+  const int last_line = csv_text::for_each_record(in, [&](int line_no, std::string_view line) {
     const auto cells = split(line);
     if (xi_scale == 0.0) {
       if (cells.size() != 2)
@@ -72,15 +66,14 @@ DecreasingTable read_decreasing_csv(const std::filesystem::path& path,
       if (value_scale == 0.0)
         throw error(line_no, fmt::format("unknown column '{}' (second column: {})", cells[1],
                                          names(value_columns)));
-      continue;
+      return;
     }
     if (cells.size() != 2)
       throw error(line_no, fmt::format("expected 2 values, found {}", cells.size()));
     double v[2];
     for (int j = 0; j < 2; ++j) {
       const auto s = cells[j];
-      const auto res = std::from_chars(s.data(), s.data() + s.size(), v[j]);
-      if (res.ec != std::errc() || res.ptr != s.data() + s.size() || !std::isfinite(v[j]))
+      if (!csv_text::parse_finite(s, v[j]))
         throw error(line_no, fmt::format("column {}: '{}' is not a finite number", j + 1, s));
     }
     const double xi = v[0] * xi_scale, a = v[1] * value_scale;
@@ -101,11 +94,11 @@ DecreasingTable read_decreasing_csv(const std::filesystem::path& path,
                                        value_name, v[1], what));
     t.xi.push_back(xi);
     t.value.push_back(a);
-  }
-  if (xi_scale == 0.0) throw error(line_no, fmt::format("no header line (e.g. '{}')", example));
+  });
+  if (xi_scale == 0.0) throw error(last_line, fmt::format("no header line (e.g. '{}')", example));
   constexpr std::size_t kMinRows = 2;
   if (t.xi.size() < kMinRows)
-    throw error(line_no,
+    throw error(last_line,
                 fmt::format("{} data rows; at least {} are needed", t.xi.size(), kMinRows));
   return t;
 }

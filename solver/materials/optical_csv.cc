@@ -55,14 +55,7 @@ OpticalData read_optical_csv(const std::filesystem::path& path) {
   bool header = false, nk = false;
   std::vector<double> x, c1, c2;
   std::vector<int> lines;
-  std::string text;
-  int line_no = 0;
-  while (std::getline(in, text)) {
-    ++line_no;
-    // A UTF-8 byte-order mark (spreadsheet exports write one) is not part of the first cell.
-    if (line_no == 1 && text.starts_with("\xEF\xBB\xBF")) text.erase(0, 3);
-    const std::string_view line = trim(text);
-    if (line.empty() || line.front() == '#') continue;
+  const int last_line = csv_text::for_each_record(in, [&](int line_no, std::string_view line) {
     const auto cells = split(line);
     if (!header) {
       if (cells.size() != 3)
@@ -88,15 +81,14 @@ OpticalData read_optical_csv(const std::filesystem::path& path) {
         throw error(line_no, fmt::format("unknown columns '{}, {}' (expected n, k or eps1, eps2)",
                                          cells[1], cells[2]));
       header = true;
-      continue;
+      return;
     }
     if (cells.size() != 3)
       throw error(line_no, fmt::format("expected 3 values, found {}", cells.size()));
     double v[3];
     for (int j = 0; j < 3; ++j) {
       const auto s = cells[j];
-      const auto res = std::from_chars(s.data(), s.data() + s.size(), v[j]);
-      if (res.ec != std::errc() || res.ptr != s.data() + s.size() || !std::isfinite(v[j]))
+      if (!csv_text::parse_finite(s, v[j]))
         throw error(line_no, fmt::format("column {}: '{}' is not a finite number", j + 1, s));
     }
     if (!(v[0] > 0.0)) throw error(line_no, fmt::format("abscissa {} must be > 0", v[0]));
@@ -113,11 +105,11 @@ OpticalData read_optical_csv(const std::filesystem::path& path) {
     c1.push_back(v[1]);
     c2.push_back(v[2]);
     lines.push_back(line_no);
-  }
-  if (!header) throw error(line_no, "no header line (e.g. 'energy_eV, n, k')");
+  });
+  if (!header) throw error(last_line, "no header line (e.g. 'energy_eV, n, k')");
   constexpr std::size_t kMinRows = 4;  // same minimum as TabulatedMaterial
   if (x.size() < kMinRows)
-    throw error(line_no, fmt::format("{} data rows; at least {} are needed", x.size(), kMinRows));
+    throw error(last_line, fmt::format("{} data rows; at least {} are needed", x.size(), kMinRows));
   OpticalData d;
   d.origin = file;
   const std::size_t n = x.size();

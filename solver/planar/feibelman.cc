@@ -180,13 +180,7 @@ DParameterTable read_d_parameters_csv(const std::filesystem::path& path) {
   bool have_header = false;
   DParameterTable t;
   t.origin = file;
-  std::string text;
-  int line_no = 0;
-  while (std::getline(in, text)) {
-    ++line_no;
-    if (line_no == 1 && text.starts_with("\xEF\xBB\xBF")) text.erase(0, 3);
-    const std::string_view line = csv_text::trim(text);
-    if (line.empty() || line.front() == '#') continue;
+  const int last_line = csv_text::for_each_record(in, [&](int line_no, std::string_view line) {
     const auto cells = csv_text::split(line);
     if (!have_header) {
       for (std::size_t c = 0; c < cells.size(); ++c) {
@@ -211,15 +205,14 @@ DParameterTable read_d_parameters_csv(const std::filesystem::path& path) {
           throw error(line_no, fmt::format("header '{}': missing column {} (one of {}), e.g. '{}'",
                                            line, kinds[k].quantity, unit_list(k), kExample));
       have_header = true;
-      continue;
+      return;
     }
     if (cells.size() != 3)
       throw error(line_no, fmt::format("expected 3 values, found {}", cells.size()));
     double v[3], si[3];
     for (int c = 0; c < 3; ++c) {
       const auto s = cells[c];
-      const auto res = std::from_chars(s.data(), s.data() + s.size(), v[c]);
-      if (res.ec != std::errc() || res.ptr != s.data() + s.size() || !std::isfinite(v[c]))
+      if (!csv_text::parse_finite(s, v[c]))
         throw error(line_no, fmt::format("{} = '{}': not a finite number", header[c], s));
       si[c] = v[c] * scale[c];
     }
@@ -244,10 +237,10 @@ DParameterTable read_d_parameters_csv(const std::filesystem::path& path) {
     t.xi.push_back(x);
     t.perpendicular.push_back(si[column_of[1]]);
     t.parallel.push_back(si[column_of[2]]);
-  }
-  if (!have_header) throw error(line_no, fmt::format("no header line (e.g. '{}')", kExample));
+  });
+  if (!have_header) throw error(last_line, fmt::format("no header line (e.g. '{}')", kExample));
   if (t.xi.size() < 2)
-    throw error(line_no, fmt::format("{} data rows; at least 2 are needed", t.xi.size()));
+    throw error(last_line, fmt::format("{} data rows; at least 2 are needed", t.xi.size()));
   return t;
 }
 
