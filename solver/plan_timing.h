@@ -12,7 +12,8 @@
 //    each of up to kSampleGroups equal-count groups of the gap's frequencies (the middle one of
 //    each group, with the accuracy the rule asks for it), after a warm-up call (the first call
 //    at a new gap is timed separately as the gap's set-up), as the median of up to kRepeats
-//    calls; the xi = 0 term separately; and the PFA partner;
+//    calls; the xi = 0 term separately; and the PFA partner; each sampled gap gets a third of
+//    the budget plus what the gaps timed before it left unused (the largest, first, is cheap);
 //  - between the sampled gaps, seconds per frequency divided by Geometry::cost's model flops is
 //    interpolated linearly in log L (so steps of l_max show), and multiplied by each gap's flops.
 // A frequency too expensive for the budget (model flops at a timed flop rate) is timed at a
