@@ -5,17 +5,25 @@
 // [0.5, 2] and the spread is at most 20 %.
 //
 //   ./build/benchmarks/roundtrip_bench_check_estimate [--max-run SECONDS] [--threads N]
-//                                                     [CASE.toml ...]
+//       [--run-threads N] [--actual NAME=SECONDS ...] [CASE.toml ...]
 //
 // --threads N (default 1) is passed to both commands. CPU time, not wall time, is the actual
 // figure: on a machine shared with other programs the wall time is stretched by their load, the
 // CPU time is not (on a machine the run has to itself and one thread the two agree). With N > 1
 // the CPU time is divided by N (the estimate is for N threads with ideal speed-up).
+// --run-threads N: a CPU-time comparison for cases whose one-thread run is too long to wait
+// for (the benchmark cases): `check` estimates for one thread (its estimate is then the CPU
+// time the run needs), the run uses N threads (less wall time), and its whole process CPU time,
+// not divided, is the actual figure (the parallel run's overhead counts against the estimate).
+// --actual NAME=SECONDS: the run of case NAME (file name without .toml) is not started; SECONDS
+// is its process CPU time measured apart (e.g. user + sys of `/usr/bin/time -v roundtrip run`
+// with the same threads as the comparison), printed as "(given)".
 //
 // Without cases: every cases/*.toml and benchmarks/cases/*.toml of the source tree. A case whose
-// estimate is above --max-run (default 600 s) is checked but not run; those are named at the
-// end. The programs are those of this build (../roundtrip beside this benchmark's directory).
-// The load average (/proc/loadavg) is printed at the start, after each case and at the end.
+// estimate (divided by --run-threads) is above --max-run (default 600 s) is checked but not run;
+// those are named at the end. The programs are those of this build (../roundtrip beside this
+// benchmark's directory). The load average (/proc/loadavg) is printed at the start, after each
+// case and at the end.
 #include <fmt/format.h>
 #include <sys/resource.h>
 #include <sys/wait.h>
@@ -27,6 +35,7 @@
 #include <cstdio>
 #include <cstdlib>
 #include <filesystem>
+#include <map>
 #include <regex>
 #include <string>
 #include <vector>
@@ -101,17 +110,34 @@ std::string load_average() {
 
 int main(int argc, char** argv) {
   double max_run = 600.0;
-  int threads = 1;
+  int threads = 1, run_threads = 0;
+  std::map<std::string, double> given;  // --actual NAME=SECONDS
   std::vector<fs::path> cases;
   for (int i = 1; i < argc; ++i) {
     const std::string a = argv[i];
-    if (a == "--max-run" && i + 1 < argc)
+    if (a == "--max-run" && i + 1 < argc) {
       max_run = std::stod(argv[++i]);
-    else if (a == "--threads" && i + 1 < argc)
+    } else if (a == "--threads" && i + 1 < argc) {
       threads = std::stoi(argv[++i]);
-    else
+    } else if (a == "--run-threads" && i + 1 < argc) {
+      run_threads = std::stoi(argv[++i]);
+    } else if (a == "--actual" && i + 1 < argc) {
+      const std::string v = argv[++i];
+      const auto eq = v.find('=');
+      if (eq == std::string::npos || eq == 0) {
+        fmt::print(stderr, "--actual \"{}\": expected NAME=SECONDS\n", v);
+        return 2;
+      }
+      given[v.substr(0, eq)] = std::stod(v.substr(eq + 1));
+    } else {
       cases.emplace_back(a);
+    }
   }
+  // --run-threads: check on one thread (a CPU-time estimate), run on run_threads, CPU not
+  // divided. Otherwise both on `threads`, the run's CPU divided by `threads`.
+  const int check_threads = run_threads > 0 ? 1 : threads;
+  const int runs_on = run_threads > 0 ? run_threads : threads;
+  const double cpu_divisor = run_threads > 0 ? 1.0 : static_cast<double>(threads);
   // __FILE__ may be relative to the directory the compiler ran in (this program's own).
   fs::path source = fs::path(__FILE__).parent_path().parent_path();
   if (source.is_relative())
@@ -130,18 +156,18 @@ int main(int argc, char** argv) {
   const fs::path tmp = fs::temp_directory_path() / fmt::format("rt_check_bench_{}", getpid());
   fs::create_directories(tmp);
   fmt::print(
-      "load average (1, 5, 15 min) at start: {}; {} thread{}; actual = the run's process "
-      "CPU time{}\n",
-      load_average(), threads, threads == 1 ? "" : "s",
-      threads == 1 ? "" : fmt::format(" / {}", threads));
+      "load average (1, 5, 15 min) at start: {}; check on {} thread{}, run on {}; actual = the "
+      "run's process CPU time{}\n",
+      load_average(), check_threads, check_threads == 1 ? "" : "s", runs_on,
+      cpu_divisor == 1.0 ? "" : fmt::format(" / {}", threads));
   fmt::print("{:<36} {:>9} {:>9} {:>9} {:>6} {:>9} {:>9} {:>6} {:>6}  {}\n", "case", "check 1",
              "check 2", "check 3", "spread", "actual", "run wall", "ratio", "result", "load");
   int pass = 0, fail = 0;
   std::vector<std::string> not_run;
-  const std::string thread_option = fmt::format(" --threads {}", threads);
   for (const auto& c : cases) {
-    const std::string check_cmd = fmt::format("{} check {}{}", shell_quote(program.string()),
-                                              shell_quote(c.string()), thread_option);
+    const std::string check_cmd =
+        fmt::format("{} check {} --threads {}", shell_quote(program.string()),
+                    shell_quote(c.string()), check_threads);
     std::vector<double> e;
     for (int k = 0; k < 3; ++k) e.push_back(check_estimate(run_program(check_cmd).text));
     std::vector<double> sorted = e;
@@ -153,15 +179,22 @@ int main(int argc, char** argv) {
       actual_text = "check failed";
       result = "FAIL";
       ++fail;
-    } else if (sorted[2] <= max_run) {
-      const fs::path out = tmp / (c.stem().string() + ".h5");
-      const Output r = run_program(
-          fmt::format("{} run {} -o {} --quiet --restart{}", shell_quote(program.string()),
-                      shell_quote(c.string()), shell_quote(out.string()), thread_option));
+    } else if (given.count(c.stem().string()) || sorted[2] * check_threads / runs_on <= max_run) {
+      const auto it = given.find(c.stem().string());
+      Output r;
+      if (it != given.end()) {
+        r.status = 0;
+        r.cpu = it->second;  // the process CPU time, divided like a run of its own below
+      } else {
+        const fs::path out = tmp / (c.stem().string() + ".h5");
+        r = run_program(fmt::format("{} run {} -o {} --quiet --restart --threads {}",
+                                    shell_quote(program.string()), shell_quote(c.string()),
+                                    shell_quote(out.string()), runs_on));
+      }
       if (r.status == 0 || r.status == 3) {  // 3: finished, a gap short of rel_tol (still timed)
-        const double cpu = r.cpu / threads;
-        actual_text = fmt::format("{:.3g} s", cpu);
-        wall_text = fmt::format("{:.3g} s", r.wall);
+        const double cpu = r.cpu / cpu_divisor;
+        actual_text = fmt::format("{:.3g} s{}", cpu, it != given.end() ? " (given)" : "");
+        wall_text = it != given.end() ? std::string("-") : fmt::format("{:.3g} s", r.wall);
         const double ratio = est / cpu;
         ratio_text = fmt::format("{:.2f}", ratio);
         const bool ok = ratio >= 0.5 && ratio <= 2.0 && spread <= 0.2;
@@ -186,7 +219,8 @@ int main(int argc, char** argv) {
   if (!not_run.empty()) {
     std::string names;
     for (const auto& n : not_run) names += (names.empty() ? "" : ", ") + n;
-    fmt::print("not run (an estimate above --max-run {:.0f} s): {}\n", max_run, names);
+    fmt::print("not run (an estimate above --max-run {:.0f} s on {} thread{}): {}\n", max_run,
+               runs_on, runs_on == 1 ? "" : "s", names);
   }
   fmt::print("load average at the end: {}\n", load_average());
   std::error_code ec;

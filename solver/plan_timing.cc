@@ -20,6 +20,21 @@ double since(Clock::time_point t0) {
   return std::chrono::duration<double>(Clock::now() - t0).count();
 }
 
+double median(std::vector<double> v);
+
+}  // namespace
+
+double lower_half_mean(std::vector<double> v) {
+  if (v.empty()) return 0.0;
+  std::sort(v.begin(), v.end());
+  const std::size_t n = (v.size() + 1) / 2;
+  double sum = 0.0;
+  for (std::size_t i = 0; i < n; ++i) sum += v[i];
+  return sum / static_cast<double>(n);
+}
+
+namespace {
+
 double median(std::vector<double> v) {
   if (v.empty()) return 0.0;
   std::sort(v.begin(), v.end());
@@ -427,18 +442,24 @@ double shared_marginal_share(const Geometry& first, const std::vector<const Geom
   const auto alone = [&] { (void)first.at_frequency_within(xi, gap, order, tol); };
   const auto shared = [&] { (void)first.at_frequency_shared(xi, gap, order, tol, companions); };
   alone();  // warm-up: first-call set-up at this gap
-  // Pairs alternate so that a change of load hits both; the share is taken from the medians
-  // (a median of per-pair differences varied 0.57-0.88 between checks of the Drude/plasma case).
+  // Pairs alternate (and swap their order every pair) so that a change of load hits both; the
+  // share is taken from the means of the lower halves of the two samples (lower_half_mean): a
+  // median of per-pair differences varied 0.57-0.88 between checks of the Drude/plasma case
+  // under load, medians of 3-9 pairs gave estimates 16 % apart.
   std::vector<double> ta, tb;
   double spent = 0.0;
-  constexpr int kMaxPairs = 9;
-  for (int r = 0; r < kMaxPairs; ++r) {
-    ta.push_back(cpu_of(alone));
-    tb.push_back(cpu_of(shared));
+  for (int r = 0; r < kMaxSharePairs; ++r) {
+    if (r % 2 == 0) {
+      ta.push_back(cpu_of(alone));
+      tb.push_back(cpu_of(shared));
+    } else {
+      tb.push_back(cpu_of(shared));
+      ta.push_back(cpu_of(alone));
+    }
     spent += ta.back() + tb.back();
-    if (r + 1 >= kRepeats && spent * (r + 2) / (r + 1) > budget_seconds) break;
+    if (r + 1 >= kMinSharePairs && spent * (r + 2) / (r + 1) > budget_seconds) break;
   }
-  const double a = median(ta), b = median(tb);
+  const double a = lower_half_mean(ta), b = lower_half_mean(tb);
   return std::clamp(
       std::max(0.0, b - a) / static_cast<double>(companions.size()) / std::max(a, 1e-9), 0.0, 1.0);
 }
@@ -464,11 +485,20 @@ Plan timed_plan(const Geometry& g, const std::vector<double>& gaps, const RunOpt
 
   const double gemm_rate = gemm_seconds_per_flop();
   Timer timer(g, order, g.parallel_inside() ? omp_get_max_threads() : 1);
+  // Each sampled gap gets its share of the budget plus what the gaps before it left unused
+  // (CPU time over the timer's threads): the largest gap, timed first, is the cheapest, and the
+  // smallest, which dominates most runs, gets more repeats (with a third of the budget it was
+  // timed by one call of one frequency in the Drude/plasma sphere case).
   std::vector<Sample> samples;
-  for (std::size_t i : sample_index)
-    samples.push_back(measure_gap(g, gaps[i], models[i], options,
-                                  budget_seconds / static_cast<double>(sample_index.size()),
+  const double loop_cpu0 = cpu_seconds();
+  const double even_share = budget_seconds / static_cast<double>(sample_index.size());
+  for (std::size_t k = 0; k < sample_index.size(); ++k) {
+    const std::size_t i = sample_index[k];
+    const double used = (cpu_seconds() - loop_cpu0) / static_cast<double>(timer.threads());
+    const double left = (budget_seconds - used) / static_cast<double>(sample_index.size() - k);
+    samples.push_back(measure_gap(g, gaps[i], models[i], options, std::max(even_share, left),
                                   gemm_rate, samples, timer));
+  }
   std::sort(samples.begin(), samples.end(),
             [](const Sample& a, const Sample& b) { return a.gap < b.gap; });
 

@@ -12,7 +12,8 @@
 //    each of up to kSampleGroups equal-count groups of the gap's frequencies (the middle one of
 //    each group, with the accuracy the rule asks for it), after a warm-up call (the first call
 //    at a new gap is timed separately as the gap's set-up), as the median of up to kRepeats
-//    calls; the xi = 0 term separately; and the PFA partner;
+//    calls; the xi = 0 term separately; and the PFA partner; each sampled gap gets a third of
+//    the budget plus what the gaps timed before it left unused (the largest, first, is cheap);
 //  - between the sampled gaps, seconds per frequency divided by Geometry::cost's model flops is
 //    interpolated linearly in log L (so steps of l_max show), and multiplied by each gap's flops.
 // A frequency too expensive for the budget (model flops at a timed flop rate) is timed at a
@@ -33,6 +34,16 @@ namespace roundtrip {
 inline constexpr int kSampleGaps = 3;
 inline constexpr int kSampleGroups = 3;
 inline constexpr int kRepeats = 3;
+/// Pairs of calls (alone, shared) timed by shared_marginal_share: at least kMinSharePairs, more
+/// while the budget allows, at most kMaxSharePairs.
+inline constexpr int kMinSharePairs = 5;
+inline constexpr int kMaxSharePairs = 15;
+
+/// Mean of the lower half (the ceil(n/2) smallest) of CPU times of repeated equal calls: the
+/// load of other programs only adds to a call's CPU time (cache and TLB refills after being
+/// switched out), so the lower half is the calls least disturbed, and its mean is steadier than
+/// the minimum (one value) or the median (one value, moved by the disturbed half). 0 if empty.
+double lower_half_mean(std::vector<double> v);
 
 /// The plan of run_sweep(geometry, gaps, options) with times measured as above, spending about
 /// `budget_seconds` on timing (more only when a single work item is longer than that: then
@@ -44,8 +55,8 @@ Plan timed_plan(const Geometry& geometry, const std::vector<double>& gaps,
 /// Geometry::at_frequency_shared) cost only their marginal work. Measured at `gap` and its
 /// frequency scale xi_c = Geometry::frequency_scale(gap): the CPU time of one shared call with
 /// every companion minus that of `first` alone, per companion, over that of `first` alone
-/// (medians of up to 9 alternating pairs within `budget_seconds`, at least kRepeats). 1 if
-/// there are no companions.
+/// (lower_half_mean of kMinSharePairs to kMaxSharePairs alternating pairs, as many as
+/// `budget_seconds` allows), clamped to [0, 1]. 1 if there are no companions.
 double shared_marginal_share(const Geometry& first, const std::vector<const Geometry*>& companions,
                              double gap, const RunOptions& options, double budget_seconds = 1.0);
 
