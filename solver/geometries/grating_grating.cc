@@ -11,7 +11,9 @@
 #include <cmath>
 #include <complex>
 #include <exception>
+#include <map>
 #include <stdexcept>
+#include <tuple>
 #include <utility>
 #include <vector>
 
@@ -171,6 +173,49 @@ GratingStudy GratingGrating::run_study(double gap) const {
       });
 }
 
+void GratingGrating::study_together(double gap,
+                                    const std::vector<const GratingGrating*>& group) const {
+  if (opts_.orders > 0) return;
+  std::vector<const GratingGrating*> todo;  // members without a study of this gap
+  for (const GratingGrating* g : group) {
+    const std::lock_guard<std::mutex> lock(g->study_mutex_);
+    if (!g->studies_.count(gap)) todo.push_back(g);
+  }
+  if (todo.size() < 2) return;  // study() alone does it
+  // Each member's study runs as run_study would (same xi*, tolerance and level sequence); a
+  // value it asks for is computed together with the same level(s) of the members after it
+  // (terms_at: one term per offset, each with its own Bloch test, so each value is the one
+  // run_study gets alone). The level sequence is fixed (4, 6, 8, 11, ...), so the later members
+  // find most of theirs; a member that stops earlier leaves at most the values of the levels
+  // the others went on to.
+  const double xi = frequency_scale(gap);
+  const double tol = std::clamp(0.01 * opts_.rel_tol, 1e-10, 1e-4);
+  std::map<std::tuple<std::size_t, int, int>, std::pair<double, double>> values;
+  const auto value = [&](std::size_t k, int lo, int hi) {
+    if (!values.count({k, lo, hi})) {
+      std::vector<Term> terms;
+      for (std::size_t j = k; j < todo.size(); ++j)
+        terms.push_back(lo > 0 ? Term{todo[j]->opts_.offset, {lo, hi}, {0.0, 1.0}}
+                               : Term{todo[j]->opts_.offset, {hi}, {1.0}});
+      const auto v = terms_at(xi, gap, DerivativeOrder::kEnergy, tol, terms);
+      for (std::size_t j = k; j < todo.size(); ++j) {
+        const auto& t = v[j - k];
+        values[{j, lo, hi}] =
+            lo > 0 ? std::pair{t[1].s.value, t[2].s.value} : std::pair{0.0, t[0].s.value};
+      }
+    }
+    return values.at({k, lo, hi});
+  };
+  for (std::size_t k = 0; k < todo.size(); ++k) {
+    const GratingStudy st = study_orders(
+        GratingStudy{}, g1_.period, gap, opts_.rel_tol, opts_.max_orders,
+        [&](int N) { return value(k, 0, N).second; },
+        [&](int lo, int hi) { return value(k, lo, hi); });
+    const std::lock_guard<std::mutex> lock(todo[k]->study_mutex_);
+    todo[k]->studies_.emplace(gap, st);
+  }
+}
+
 std::string GratingGrating::unverified_truncation(double gap) const {
   return study_unverified(study(gap), opts_.orders > 0, opts_.max_orders);
 }
@@ -223,6 +268,7 @@ std::vector<Spectral> GratingGrating::at_frequency_shared(
   if (!together) return Geometry::at_frequency_shared(xi, gap, order, rel_tol, others);
   // The tolerance of at_frequency_within (the options are equal, so one for all).
   const double tol = std::max(opts_.bloch_rel_tol, 0.3 * rel_tol);
+  study_together(gap, all);
   std::vector<Term> terms;
   for (const GratingGrating* g : all) {
     const auto [orders, weights] = study_levels(g->study(gap));

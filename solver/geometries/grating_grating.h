@@ -123,6 +123,10 @@ class GratingGrating final : public Geometry {
 
  private:
   GratingStudy run_study(double gap) const;
+  /// The studies of gap L of the members of `group` (geometries that share frequency work)
+  /// that have none yet, each equal to its run_study, with their values at each level computed
+  /// together (one FMM per Bloch node and level).
+  void study_together(double gap, const std::vector<const GratingGrating*>& group) const;
   LamellarGrating g1_, g2_;
   MaterialPtr medium_;
   GratingGratingOptions opts_;

@@ -191,6 +191,38 @@ TEST(GratingGrating, OffsetsComputedTogetherEqualEachAlone) {
   }
 }
 
+TEST(GratingGrating, StudiesOfOffsetsComputedTogetherEqualEachAlone) {
+  // Derived (as above): at_frequency_shared runs the order studies of the offsets that have
+  // none with their levels evaluated together; each study (levels, rate, estimate, chosen N)
+  // equals that of the geometry alone, bit for bit. rel_tol 1e-2 keeps the studies short.
+  GratingGratingOptions o;
+  o.rel_tol = 1e-2;
+  o.bloch_rel_tol = 1e-4;
+  const auto g = grating(0.5, 100e-9, si());
+  const auto with_offset = [&](double b) {
+    GratingGratingOptions ob = o;
+    ob.offset = b;
+    return GratingGrating(g, g, nullptr, ob);
+  };
+  const double L = 200e-9, xi = 3e14;
+  const GratingGrating a = with_offset(0.0), b = with_offset(100e-9);
+  const auto all = a.at_frequency_shared(xi, L, DerivativeOrder::kEnergy, 1e-2, {&b});
+  int k = 0;
+  for (double off : {0.0, 100e-9}) {
+    SCOPED_TRACE(off);
+    const GratingGrating alone = with_offset(off);
+    const GratingStudy s1 = (k == 0 ? a : b).study(L), s2 = alone.study(L);
+    EXPECT_EQ(s1.orders, s2.orders);
+    EXPECT_EQ(s1.orders_low, s2.orders_low);
+    EXPECT_EQ(s1.rate, s2.rate);
+    EXPECT_EQ(s1.error, s2.error);
+    EXPECT_EQ(s1.verified, s2.verified);
+    EXPECT_EQ(s1.levels, s2.levels);
+    EXPECT_EQ(all[k].value, alone.at_frequency_within(xi, L, DerivativeOrder::kEnergy, 1e-2).value);
+    ++k;
+  }
+}
+
 TEST(GratingGrating, OrderStudyIsVerifiedWithItsObservedRate) {
   // The order study of grating-plate (grating_orders.h: Richardson 1911, Roache 1994) on two
   // silicon-like gratings (period 400 nm, f = 0.5, h = 100 nm, b = 100 nm) at L = 200 nm,
