@@ -14,7 +14,8 @@
 // k_y = a sinh(t), a = min(1/(2L), sqrt(k_x^2 + eps_m xi^2/c^2)), t >= 0 (trapezoid, step
 // halving, t = 0 weighted 1/2); each direction is refined until its change is below
 // bloch_rel_tol of \int |f| for every requested component; the returned value adds both
-// refinements' corrections.
+// refinements' corrections (blocks::BlochIntegral, solver/blocks/bloch_integral.h, shared with
+// grating-grating).
 // PFA (Bao et al., PRL 105, 250402 (2010)): E_PFA = f E_pp(L; ridge) + (1 - f) E_pp(L + h;
 // substrate), per area, with the same frequency rule.
 #include <map>
