@@ -1129,12 +1129,14 @@ int check_command(const CheckArgs& args, std::ostream& out, std::ostream& err) {
           timed.size(), points.size());
     row("time from", lengths_in_case_units(how, spec.text));
     if (!companions.empty())
-      row("", fmt::format("{} of the other scan points are computed together with point 1 "
-                          "(they share each frequency's momentum nodes and Legendre "
-                          "recurrences): each costs its measured marginal share, {:.0f} % of "
-                          "its own time (CPU time at the largest gap and xi = c/2L, a shared "
-                          "call against point 1 alone)",
-                          companions.size(), 100.0 * marginal));
+      row("", fmt::format(
+                  "{} of the other scan points are computed together with point 1 "
+                  "(they share work inside each frequency: a sphere-plate its "
+                  "momentum nodes and Legendre recurrences, grating-grating offsets "
+                  "the gratings' operators): each costs its measured marginal share, {:.0f} % of "
+                  "its own time (CPU time at the largest gap and xi = c/2L, a shared "
+                  "call against point 1 alone)",
+                  companions.size(), 100.0 * marginal));
     row("", fmt::format("plus work outside the frequencies, measured here (CPU time): program "
                         "start and reading the case {}, bodies and model plans {}, writing a "
                         "results file and checkpoint of this case's size {}",

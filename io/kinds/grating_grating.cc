@@ -58,6 +58,7 @@ GeometryKind grating_grating_kind() {
     GratingGratingOptions o;
     o.orders = spec.orders;
     o.bloch_rel_tol = std::clamp(0.3 * spec.frequency.rel_tol, 1e-12, 1e-2);
+    o.rel_tol = spec.frequency.rel_tol;
     o.offset = spec.offsets.empty() ? 0.0 : spec.offsets.front();
     return std::make_shared<GratingGrating>(b1.grating, b2.grating, spec.medium, o);
   };

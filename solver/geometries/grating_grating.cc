@@ -1,6 +1,7 @@
 // Grating-grating round trip per unit area with a lateral offset (formulas, conventions and
-// sources in grating_grating.h). The Bloch integral follows grating_plate.cc (same maps and
-// nested levels) with ds/db as a fourth component.
+// sources in grating_grating.h). The Bloch integral is the shared one (solver/blocks/
+// bloch_integral.h) with ds/db as a fourth component; the order study is grating-plate's
+// (grating_orders.h).
 #include "solver/geometries/grating_grating.h"
 
 #include <fmt/format.h>
@@ -10,10 +11,13 @@
 #include <cmath>
 #include <complex>
 #include <exception>
+#include <map>
 #include <stdexcept>
+#include <tuple>
 #include <utility>
 #include <vector>
 
+#include "solver/blocks/bloch_integral.h"
 #include "solver/constants.h"
 #include "solver/frequency/frequency_rule.h"
 #include "solver/geometries/plate_plate.h"
@@ -30,20 +34,10 @@ using Eigen::VectorXd;
 using Quad = std::array<double, 4>;  // s, ds/dL, d2s/dL2, ds/db
 using cd = std::complex<double>;
 
-constexpr int kMaxXLevel = 5;  // n_x = 4 * 3^5 midpoints on [0, G/2] (as grating_plate.cc)
-constexpr int kMaxTLevel = 7;
-constexpr int kX0 = 4;
-constexpr double kH0 = 0.5;
 // The lateral component vanishes at b = 0 and Lambda/2 (pointwise, by symmetry); its Bloch
 // tolerance is relative to max(\int |ds/db|, kLateralScale G \int |s|), so that near those
 // offsets it is controlled on the scale of a typical lateral force, not on rounding.
 constexpr double kLateralScale = 1e-3;
-
-long pow3(int a) {
-  long p = 1;
-  for (int i = 0; i < a; ++i) p *= 3;
-  return p;
-}
 
 // Re ln det(1 - M), its L-derivatives (n components) and d/db at one Bloch vector (header).
 Quad round_trip(const MatrixXd& r1, const MatrixXd& r2, const VectorXd& kap, const VectorXd& ord,
@@ -145,20 +139,85 @@ GratingGrating::GratingGrating(LamellarGrating lower, LamellarGrating upper, Mat
     throw std::invalid_argument("grating-grating: the offset must be finite");
 }
 
-int GratingGrating::orders_at(double gap) const {
-  if (opts_.orders > 0) return opts_.orders;
-  // The grating-plate model (grating_plate.cc): e^{-2 |n| G L} < 1e-6, at least 8, at most 100.
-  const double G = 2.0 * kPi / g1_.period;
-  const double n = std::ceil(std::log(1e6) / (2.0 * G * gap));
-  return static_cast<int>(std::clamp(n, 8.0, 100.0));
+int GratingGrating::orders_at(double gap) const { return study(gap).orders; }
+
+GratingStudy GratingGrating::study(double gap) const {
+  if (opts_.orders > 0) {
+    GratingStudy st;
+    st.orders = opts_.orders;
+    return st;
+  }
+  std::lock_guard<std::mutex> lock(study_mutex_);
+  const auto it = studies_.find(gap);
+  if (it != studies_.end()) return it->second;
+  GratingStudy st = run_study(gap);
+  studies_.emplace(gap, st);
+  return st;
+}
+
+GratingStudy GratingGrating::run_study(double gap) const {
+  // As grating-plate (grating_plate.cc): tight Bloch nodes, so that the study's noise
+  // (<= tol |s|) is far below the differences it measures; each pair on the same nodes.
+  const double xi = frequency_scale(gap);
+  const double tol = std::clamp(0.01 * opts_.rel_tol, 1e-10, 1e-4);
+  const double b = opts_.offset;
+  return study_orders(
+      GratingStudy{}, g1_.period, gap, opts_.rel_tol, opts_.max_orders,
+      [&](int N) {
+        return terms_at(xi, gap, DerivativeOrder::kEnergy, tol, {{b, {N}, {1.0}}})[0][0].s.value;
+      },
+      [&](int lo, int hi) {
+        const auto v =
+            terms_at(xi, gap, DerivativeOrder::kEnergy, tol, {{b, {lo, hi}, {0.0, 1.0}}})[0];
+        return std::pair{v[1].s.value, v[2].s.value};
+      });
+}
+
+void GratingGrating::study_together(double gap,
+                                    const std::vector<const GratingGrating*>& group) const {
+  if (opts_.orders > 0) return;
+  std::vector<const GratingGrating*> todo;  // members without a study of this gap
+  for (const GratingGrating* g : group) {
+    const std::lock_guard<std::mutex> lock(g->study_mutex_);
+    if (!g->studies_.count(gap)) todo.push_back(g);
+  }
+  if (todo.size() < 2) return;  // study() alone does it
+  // Each member's study runs as run_study would (same xi*, tolerance and level sequence); a
+  // value it asks for is computed together with the same level(s) of the members after it
+  // (terms_at: one term per offset, each with its own Bloch test, so each value is the one
+  // run_study gets alone). The level sequence is fixed (4, 6, 8, 11, ...), so the later members
+  // find most of theirs; a member that stops earlier leaves at most the values of the levels
+  // the others went on to.
+  const double xi = frequency_scale(gap);
+  const double tol = std::clamp(0.01 * opts_.rel_tol, 1e-10, 1e-4);
+  std::map<std::tuple<std::size_t, int, int>, std::pair<double, double>> values;
+  const auto value = [&](std::size_t k, int lo, int hi) {
+    if (!values.count({k, lo, hi})) {
+      std::vector<Term> terms;
+      for (std::size_t j = k; j < todo.size(); ++j)
+        terms.push_back(lo > 0 ? Term{todo[j]->opts_.offset, {lo, hi}, {0.0, 1.0}}
+                               : Term{todo[j]->opts_.offset, {hi}, {1.0}});
+      const auto v = terms_at(xi, gap, DerivativeOrder::kEnergy, tol, terms);
+      for (std::size_t j = k; j < todo.size(); ++j) {
+        const auto& t = v[j - k];
+        values[{j, lo, hi}] =
+            lo > 0 ? std::pair{t[1].s.value, t[2].s.value} : std::pair{0.0, t[0].s.value};
+      }
+    }
+    return values.at({k, lo, hi});
+  };
+  for (std::size_t k = 0; k < todo.size(); ++k) {
+    const GratingStudy st = study_orders(
+        GratingStudy{}, g1_.period, gap, opts_.rel_tol, opts_.max_orders,
+        [&](int N) { return value(k, 0, N).second; },
+        [&](int lo, int hi) { return value(k, lo, hi); });
+    const std::lock_guard<std::mutex> lock(todo[k]->study_mutex_);
+    todo[k]->studies_.emplace(gap, st);
+  }
 }
 
 std::string GratingGrating::unverified_truncation(double gap) const {
-  return fmt::format(
-      "diffraction orders -{0}..{0} {1}, not a convergence test: the truncation error is not "
-      "verified against rel_tol (lamellar edges: algebraic convergence in N); compare runs with "
-      "larger numerics.orders",
-      orders_at(gap), opts_.orders > 0 ? "as set" : "from a model");
+  return study_unverified(study(gap), opts_.orders > 0, opts_.max_orders);
 }
 
 Spectral GratingGrating::at_frequency(double xi, double gap, DerivativeOrder order) const {
@@ -172,155 +231,164 @@ Spectral GratingGrating::at_frequency_within(double xi, double gap, DerivativeOr
 
 GratingGratingSpectral GratingGrating::spectral(double xi, double gap, DerivativeOrder order,
                                                 double tol) const {
+  const auto [orders, weights] = study_levels(study(gap));
+  GratingGratingSpectral out =
+      terms_at(xi, gap, order, tol, {{opts_.offset, orders, weights}})[0][0];
+  {
+    const std::lock_guard<std::mutex> lock(cache_mutex_);
+    d_offset_cache_[{xi, gap}] = out.d_offset;
+  }
+  return out;
+}
+
+bool GratingGrating::shares_frequency_work_with(const Geometry& other) const {
+  const auto* p = dynamic_cast<const GratingGrating*>(&other);
+  if (p == nullptr || p == this) return false;
+  const GratingGratingOptions &a = opts_, &b = p->opts_;
+  // The medium by name here; its epsilon at each frequency in at_frequency_shared.
+  return same_grating(g1_, p->g1_) && same_grating(g2_, p->g2_) &&
+         medium_->name() == p->medium_->name() && a.orders == b.orders &&
+         a.bloch_rel_tol == b.bloch_rel_tol && a.rel_tol == b.rel_tol &&
+         a.max_orders == b.max_orders;
+}
+
+std::vector<Spectral> GratingGrating::at_frequency_shared(
+    double xi, double gap, DerivativeOrder order, double rel_tol,
+    const std::vector<const Geometry*>& others) const {
+  std::vector<const GratingGrating*> all{this};
+  bool together = true;
+  for (const Geometry* g : others) {
+    const auto* p = dynamic_cast<const GratingGrating*>(g);
+    together =
+        together && p != nullptr && shares_frequency_work_with(*p) &&
+        (xi > 0.0 ? p->medium_->epsilon(xi) == medium_->epsilon(xi)
+                  : p->medium_->static_limit().static_eps == medium_->static_limit().static_eps);
+    all.push_back(p);
+  }
+  if (!together) return Geometry::at_frequency_shared(xi, gap, order, rel_tol, others);
+  // The tolerance of at_frequency_within (the options are equal, so one for all).
+  const double tol = std::max(opts_.bloch_rel_tol, 0.3 * rel_tol);
+  study_together(gap, all);
+  std::vector<Term> terms;
+  for (const GratingGrating* g : all) {
+    const auto [orders, weights] = study_levels(g->study(gap));
+    terms.push_back({g->opts_.offset, orders, weights});
+  }
+  const auto v = terms_at(xi, gap, order, tol, terms);
+  std::vector<Spectral> out;
+  for (std::size_t k = 0; k < all.size(); ++k) {
+    {
+      const std::lock_guard<std::mutex> lock(all[k]->cache_mutex_);
+      all[k]->d_offset_cache_[{xi, gap}] = v[k][0].d_offset;
+    }
+    out.push_back(v[k][0].s);
+  }
+  return out;
+}
+
+std::vector<std::vector<GratingGratingSpectral>> GratingGrating::terms_at(
+    double xi, double gap, DerivativeOrder order, double tol,
+    const std::vector<Term>& terms) const {
   if (!(gap > 0.0) || !std::isfinite(gap))
     throw std::invalid_argument(
         fmt::format("grating-grating: gap = {} m must be > 0 (the ridge tops may not touch)", gap));
   if (!(xi >= 0.0) || !std::isfinite(xi))
     throw std::invalid_argument(fmt::format("grating-grating: xi = {} rad/s must be >= 0", xi));
+  // The order levels of all terms (ascending): one FMM per node and level serves every term.
+  std::vector<int> levels;
+  std::vector<int> base;  // first component of each term
+  int n_values = 0;
+  for (const Term& t : terms) {
+    if (t.orders.empty() || t.orders.size() != t.weights.size())
+      throw std::invalid_argument("grating-grating: orders and weights of a term must match");
+    for (int N : t.orders) {
+      if (N < 1) throw std::invalid_argument("grating-grating: orders must be >= 1");
+      levels.push_back(N);
+    }
+    base.push_back(n_values);
+    n_values += 4 * (static_cast<int>(t.orders.size()) + 1);
+  }
+  std::sort(levels.begin(), levels.end());
+  levels.erase(std::unique(levels.begin(), levels.end()), levels.end());
   const int n_comp = 1 + static_cast<int>(order);
-  const int N = orders_at(gap);
-  const GratingAtFrequency gf1(g1_, xi, *medium_, N);
+  const int nl = static_cast<int>(levels.size());
   const bool twin = same_grating(g1_, g2_);
-  std::unique_ptr<GratingAtFrequency> gf2;
-  if (!twin) gf2 = std::make_unique<GratingAtFrequency>(g2_, xi, *medium_, N);
+  const int n_g = twin ? 1 : 2;
+  std::vector<GratingAtFrequency> gf1, gf2;
+  for (int N : levels) {
+    gf1.emplace_back(g1_, xi, *medium_, N);
+    if (!twin) gf2.emplace_back(g2_, xi, *medium_, N);
+  }
   const double eps_m = xi > 0.0 ? medium_->epsilon(xi) : medium_->static_limit().static_eps;
   const double G = 2.0 * kPi / g1_.period;
-  const double half_bz = 0.5 * G;
-  const double b = opts_.offset;
-  const double y_max = std::log(1e3 / tol) + 10.0;
   const double q2 = eps_m * (xi / kSpeedOfLight) * (xi / kSpeedOfLight);
-  const long x_fine = pow3(kMaxXLevel);
-  const long t_fine = 1L << kMaxTLevel;
   // Order index of each basis entry (E_x and E_y blocks at xi > 0, the potential at xi = 0).
-  const int m = 2 * N + 1;
-  VectorXd ord(xi > 0.0 ? 2 * m : m);
-  for (int i = 0; i < ord.size(); ++i) ord[i] = (i % m) - N;
-
-  std::map<std::pair<long, long>, Quad> memo;
-  const double nfine = kX0 * static_cast<double>(x_fine);
-  auto kx_of = [&](double u) { return half_bz * (u - std::sin(2.0 * kPi * u) / (2.0 * kPi)); };
-  // Layer modes per k_x line (GratingAtFrequency::Line, the conical decoupling), kept only for
-  // the lines of the batch being evaluated: [0] lower grating, [1] upper (unless twin).
-  using Lines = std::array<GratingAtFrequency::Line, 2>;
-  auto node = [&](long p, long q, const Lines& lines) {
-    const double u = static_cast<double>(p) / (2.0 * nfine);
-    const double kx = kx_of(u);
-    const double wu = half_bz * (1.0 - std::cos(2.0 * kPi * u));
-    const double a = std::min(0.5 / gap, std::sqrt(kx * kx + q2));
-    const double t = q * (kH0 / t_fine);
-    const double ky = a * std::sinh(t);
-    const MatrixXd r1 = gf1.reflect(lines[0], ky);
-    const MatrixXd r2 = twin ? r1 : gf2->reflect(lines[1], ky);
-    const VectorXd kap = orders_decay(xi, eps_m, g1_.period, N, kx, ky);
-    Quad v = round_trip(r1, r2, kap, ord, G, b, gap, n_comp);
-    const double jac = a * std::cosh(t) * wu;
-    for (double& c : v) c *= jac;
-    return v;
-  };
-  auto keys_of = [&](int ax, int bt) {
-    std::vector<std::pair<long, long>> keys;
-    const long nx = kX0 * pow3(ax);
-    const long xs = pow3(kMaxXLevel - ax);
-    const long ts = 1L << (kMaxTLevel - bt);
-    const double h = kH0 / (1 << bt);
-    for (long i = 0; i < nx; ++i) {
-      const long p = (2 * i + 1) * xs;
-      const double kx = kx_of(static_cast<double>(p) / (2.0 * nfine));
-      const double a = std::min(0.5 / gap, std::sqrt(kx * kx + q2));
-      const double t_max = std::asinh(y_max / (2.0 * gap * a));
-      const long J = static_cast<long>(std::ceil(t_max / h));
-      for (long j = 0; j <= J; ++j) keys.emplace_back(p, j * ts);
-    }
-    return keys;
-  };
-  auto ensure = [&](const std::vector<std::pair<long, long>>& keys) {
-    std::vector<std::pair<long, long>> todo;
-    for (const auto& k : keys)
-      if (!memo.count(k)) todo.push_back(k);
-    std::sort(todo.begin(), todo.end());
-    std::vector<Quad> vals(todo.size());
-    // Batches of whole k_x lines as grating_plate.cc: the lines' modes first, then their nodes.
-    constexpr std::size_t kLinesPerBatch = 8;
-    const int n_g = twin ? 1 : 2;
-    std::size_t b0 = 0;
-    while (b0 < todo.size()) {
-      throw_if_cancelled();
-      std::vector<long> ps;
-      std::size_t b1 = b0;
-      while (b1 < todo.size()) {
-        if (ps.empty() || ps.back() != todo[b1].first) {
-          if (ps.size() == kLinesPerBatch) break;
-          ps.push_back(todo[b1].first);
+  std::vector<VectorXd> ords;
+  for (int N : levels) {
+    const int m = 2 * N + 1;
+    VectorXd ord(xi > 0.0 ? 2 * m : m);
+    for (int i = 0; i < ord.size(); ++i) ord[i] = (i % m) - N;
+    ords.push_back(ord);
+  }
+  // Line slot u n_g + j: level u's layer modes of grating j (0 lower, 1 upper unless twin).
+  blocks::BlochIntegral bloch(
+      g1_.period, gap, q2, tol, n_values, nl * n_g,
+      [&](int slot, double kx) { return (slot % n_g == 0 ? gf1 : gf2)[slot / n_g].line(kx); },
+      [&](double kx, double ky, double jac, const blocks::BlochIntegral::Lines& lines) {
+        blocks::BlochIntegral::Values out(n_values, 0.0);
+        for (int u = 0; u < nl; ++u) {
+          const int N = levels[u];
+          const MatrixXd r1 = gf1[u].reflect(lines[u * n_g], ky);
+          const MatrixXd r2 = twin ? r1 : gf2[u].reflect(lines[u * n_g + 1], ky);
+          const VectorXd kap = orders_decay(xi, eps_m, g1_.period, N, kx, ky);
+          for (std::size_t k = 0; k < terms.size(); ++k) {
+            const Term& t = terms[k];
+            for (std::size_t l = 0; l < t.orders.size(); ++l) {
+              if (t.orders[l] != N) continue;
+              Quad v = round_trip(r1, r2, kap, ords[u], G, t.offset, gap, n_comp);
+              for (int c = 0; c < 4; ++c) {
+                v[c] *= jac;
+                out[base[k] + 4 * (static_cast<int>(l) + 1) + c] = v[c];
+                out[base[k] + c] += t.weights[l] * v[c];
+              }
+            }
+          }
         }
-        ++b1;
-      }
-      std::vector<Lines> lines(ps.size());
-      const long n_line_tasks = static_cast<long>(ps.size()) * n_g;
-      parallel_for(0, n_line_tasks, [&](long t) {
-        const double kx = kx_of(static_cast<double>(ps[t / n_g]) / (2.0 * nfine));
-        lines[t / n_g][t % n_g] = (t % n_g == 0 ? gf1 : *gf2).line(kx);
+        return out;
       });
-      parallel_for(static_cast<long>(b0), static_cast<long>(b1), [&](long i) {
-        const std::size_t li = std::lower_bound(ps.begin(), ps.end(), todo[i].first) - ps.begin();
-        vals[i] = node(todo[i].first, todo[i].second, lines[li]);
-      });
-      b0 = b1;
-    }
-    for (std::size_t i = 0; i < todo.size(); ++i) memo[todo[i]] = vals[i];
-  };
-  auto sum = [&](int ax, int bt, Quad& absum) {
-    const auto keys = keys_of(ax, bt);
-    ensure(keys);
-    const long nx = kX0 * pow3(ax);
-    const double wx = 1.0 / nx;
-    const double h = kH0 / (1 << bt);
-    const double pref = 4.0 / (4.0 * kPi * kPi);  // both halves in k_x and k_y; 1/(2 pi)^2
-    Quad s{}, ab{};
-    for (const auto& k : keys) {
-      const double w = wx * h * (k.second == 0 ? 0.5 : 1.0) * pref;
-      const Quad& v = memo.at(k);
-      for (int c = 0; c < 4; ++c) {
-        s[c] += w * v[c];
-        ab[c] += w * std::abs(v[c]);
-      }
-    }
-    absum = ab;
-    return s;
-  };
-  int ax = 0, bt = 0;
-  for (;;) {
-    Quad ab0, abx, aby;
-    const Quad s0 = sum(ax, bt, ab0), sx = sum(ax + 1, bt, abx), sy = sum(ax, bt + 1, aby);
-    bool ok_x = true, ok_y = true;
-    // Absolute floor as grating_plate.cc: 1e-10 tol / L^2 per L^c (and G / L^2 for d/db).
-    const auto check = [&](int c, double scale_x, double scale_y, double floor) {
-      if (!(std::abs(sx[c] - s0[c]) <= std::max(tol * scale_x, floor))) ok_x = false;
-      if (!(std::abs(sy[c] - s0[c]) <= std::max(tol * scale_y, floor))) ok_y = false;
+  std::vector<std::vector<GratingGratingSpectral>> result;
+  for (std::size_t k = 0; k < terms.size(); ++k) {
+    const int b0 = base[k];
+    // Absolute floor as grating-plate: 1e-10 tol / L^2 per L^c (and G / L^2 for d/db); the
+    // test is on the term's weighted sum.
+    const auto accept = [&](const blocks::BlochIntegral::Values& fine,
+                            const blocks::BlochIntegral::Values& coarse,
+                            const blocks::BlochIntegral::Values& fine_abs) {
+      const auto ok = [&](int c, double scale, double floor) {
+        return std::abs(fine[b0 + c] - coarse[b0 + c]) <= std::max(tol * scale, floor);
+      };
+      for (int c = 0; c < n_comp; ++c)
+        if (!ok(c, fine_abs[b0 + c], 1e-10 * tol / (gap * gap * std::pow(gap, c)))) return false;
+      return ok(3, std::max(fine_abs[b0 + 3], kLateralScale * G * fine_abs[b0]),
+                1e-10 * tol * G / (gap * gap));
     };
-    for (int c = 0; c < n_comp; ++c)
-      check(c, abx[c], aby[c], 1e-10 * tol / (gap * gap * std::pow(gap, c)));
-    check(3, std::max(abx[3], kLateralScale * G * abx[0]),
-          std::max(aby[3], kLateralScale * G * aby[0]), 1e-10 * tol * G / (gap * gap));
-    if (ok_x && ok_y) {
-      GratingGratingSpectral out;
-      out.s = {sx[0] + sy[0] - s0[0], sx[1] + sy[1] - s0[1], sx[2] + sy[2] - s0[2]};
-      if (n_comp < 2) out.s.d1 = 0.0;
-      if (n_comp < 3) out.s.d2 = 0.0;
-      out.d_offset = sx[3] + sy[3] - s0[3];
-      {
-        const std::lock_guard<std::mutex> lock(cache_mutex_);
-        d_offset_cache_[{xi, gap}] = out.d_offset;
-      }
-      return out;
-    }
-    if (!ok_x) ++ax;
-    if (!ok_y) ++bt;
-    if (ax + 1 > kMaxXLevel || bt + 1 > kMaxTLevel)
-      throw std::runtime_error(fmt::format(
+    const auto v = bloch.integrate(accept, [&](long nodes) {
+      return fmt::format(
           "grating-grating: the Bloch integral did not reach {:g} at xi = {:g} rad/s, L = {:g} "
           "m, b = {:g} m ({} nodes)",
-          tol, xi, gap, b, memo.size()));
+          tol, xi, gap, terms[k].offset, nodes);
+    });
+    std::vector<GratingGratingSpectral> r;
+    for (std::size_t l = 0; l <= terms[k].orders.size(); ++l) {
+      const int i = b0 + 4 * static_cast<int>(l);
+      GratingGratingSpectral g;
+      g.s = {v[i], n_comp >= 2 ? v[i + 1] : 0.0, n_comp >= 3 ? v[i + 2] : 0.0};
+      g.d_offset = v[i + 3];
+      r.push_back(g);
+    }
+    result.push_back(std::move(r));
   }
+  return result;
 }
 
 double GratingGrating::frequency_scale(double gap) const {
@@ -435,7 +503,15 @@ std::vector<ExtraQuantity> GratingGrating::extra_quantities(
 }
 
 std::map<std::string, double> GratingGrating::truncation(double gap) const {
-  return {{"orders", static_cast<double>(orders_at(gap))}, {"bloch_rel_tol", opts_.bloch_rel_tol}};
+  if (opts_.orders > 0) return study_truncation(study(gap), opts_.bloch_rel_tol, false);
+  {
+    std::lock_guard<std::mutex> lock(study_mutex_);
+    if (const auto it = studies_.find(gap); it != studies_.end())
+      return study_truncation(it->second, opts_.bloch_rel_tol, false);
+  }
+  // Before the study (plans, `check`): the damping model's N.
+  return {{"orders", static_cast<double>(model_orders(g1_.period, gap))},
+          {"bloch_rel_tol", opts_.bloch_rel_tol}};
 }
 
 }  // namespace roundtrip

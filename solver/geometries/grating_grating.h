@@ -21,9 +21,19 @@
 //   d/db ln det = -Tr[B R_1 D X' D],  X = Phi R_2 Phi^+,  X' = -i G (N X - X N),  N = diag(n).
 // E(L, b) = frequency rule over s; normal force per area F = -dE/dL (Pa; < 0 attraction);
 // lateral force per area F_b = -dE/db (Pa; > 0 pushes the upper grating towards +x).
-// Bloch integral: the maps and nested refinement of grating_plate.h, with the lateral
-// derivative as a fourth component whose tolerance is taken relative to G \int |f| (it vanishes
-// at b = 0 and b = Lambda/2).
+// Bloch integral: the shared adaptive rule (blocks::BlochIntegral, solver/blocks/
+// bloch_integral.h; maps and nested refinement as grating-plate), with the lateral derivative as
+// a fourth component whose tolerance is taken relative to max(\int |ds/db|, 1e-3 G \int |s|) (it
+// vanishes at b = 0 and b = Lambda/2).
+// Orders N: the convergence test of grating-plate (study_orders, grating_orders.h) on
+// s(xi*; L, b) of this offset, at xi* = frequency_scale(L): levels 4, 6, 8, 11, 16, ... (each
+// pair on the same Bloch nodes), observed algebraic rate from three levels, accepted on Roache's
+// GCI or on two agreeing Richardson extrapolations (then every frequency is the extrapolated
+// pair). ds/db is computed with the same levels and weights; the test is on s.
+// Lateral offsets share the gratings' operators: R_1, R_2 do not depend on b (the offset enters
+// only through Phi), so at_frequency_shared evaluates the offsets of a scan on one set of Bloch
+// nodes (one FMM per node and level for all of them; each offset keeps its own adaptive test,
+// so its value is the one it has alone, bit for bit).
 // PFA (derived, in the spirit of Bao et al., PRL 105, 250402 (2010)): the period is split into
 // the four columns (ridge|groove of 1) x (ridge|groove of 2), of widths set by the overlap o(b)
 // of the ridges (per period):
@@ -33,16 +43,20 @@
 #include <map>
 #include <memory>
 #include <mutex>
+#include <vector>
 
 #include "solver/geometries/geometry.h"
+#include "solver/geometries/grating_orders.h"
 #include "solver/scatterers/grating_fmm.h"
 
 namespace roundtrip {
 
 struct GratingGratingOptions {
-  int orders = 0;               ///< N (orders -N..N); 0 = automatic (the grating-plate model)
+  int orders = 0;               ///< N (orders -N..N); 0 = chosen by the convergence test
   double bloch_rel_tol = 1e-6;  ///< relative accuracy of the Bloch integral per frequency
   double offset = 0.0;          ///< b (m): the upper grating's ridges centred at x = b
+  double rel_tol = 1e-4;        ///< target of the convergence test in orders
+  int max_orders = 64;          ///< the order study stops here (unverified beyond)
 };
 
 /// s and its derivatives with respect to L and b at one frequency.
@@ -58,8 +72,28 @@ class GratingGrating final : public Geometry {
   Spectral at_frequency(double xi, double gap, DerivativeOrder order) const override;
   Spectral at_frequency_within(double xi, double gap, DerivativeOrder order,
                                double rel_tol) const override;
-  /// s, its L-derivatives and ds/db at one frequency, Bloch integral to relative tol.
+  /// s, its L-derivatives and ds/db at one frequency, Bloch integral to relative tol, with the
+  /// orders of study(gap).
   GratingGratingSpectral spectral(double xi, double gap, DerivativeOrder order, double tol) const;
+  /// One integrand of terms_at: offset b (m) and the order levels with their weights.
+  struct Term {
+    double offset = 0.0;
+    std::vector<int> orders;
+    std::vector<double> weights;
+  };
+  /// Several terms at xi on shared Bloch nodes (one FMM per node and level; each term's own
+  /// adaptive test, so each equals its value alone): per term, sum_i w_i s_i first, then each
+  /// level's s_i.
+  std::vector<std::vector<GratingGratingSpectral>> terms_at(double xi, double gap,
+                                                            DerivativeOrder order, double tol,
+                                                            const std::vector<Term>& terms) const;
+  /// The same gratings, medium and numerics, any offset (the points of an [offsets] scan).
+  bool shares_frequency_work_with(const Geometry& other) const override;
+  /// This offset and the others' on shared Bloch nodes (terms_at); each value and its ds/db
+  /// (kept for extra_quantities) equal those of the geometry alone.
+  std::vector<Spectral> at_frequency_shared(
+      double xi, double gap, DerivativeOrder order, double rel_tol,
+      const std::vector<const Geometry*>& others) const override;
   ResultScale scale() const override { return ResultScale::kPerArea; }
   double frequency_scale(double gap) const override;
   std::string kind() const override { return "grating-grating"; }
@@ -69,10 +103,17 @@ class GratingGrating final : public Geometry {
   /// (ds/db of frequencies already computed by at_frequency is reused).
   std::vector<ExtraQuantity> extra_quantities(double gap,
                                               const FrequencyRuleOptions& opts) const override;
+  /// "orders", "orders_low", "order_rate", "order_error", "bloch_rel_tol" (after the study of
+  /// that gap; before it, the damping model's N).
   std::map<std::string, double> truncation(double gap) const override;
+  /// Empty when the order test met rel_tol; else why not.
   std::string unverified_truncation(double gap) const override;
   bool parallel_inside() const override { return true; }
+  /// The order count N used at gap L (runs the study if needed).
   int orders_at(double gap) const;
+  /// The convergence test in orders at gap L for this offset (cached; runs it on first use).
+  /// With orders set by hand: that N, no test.
+  GratingStudy study(double gap) const;
   double offset() const { return opts_.offset; }
   /// PFA energy per area (J/m^2) and lateral force -dE_PFA/db (Pa) at gap L, offset b.
   std::pair<double, double> pfa_energy_and_lateral(double gap, double b,
@@ -81,11 +122,18 @@ class GratingGrating final : public Geometry {
   std::pair<double, double> overlap(double b) const;
 
  private:
+  GratingStudy run_study(double gap) const;
+  /// The studies of gap L of the members of `group` (geometries that share frequency work)
+  /// that have none yet, each equal to its run_study, with their values at each level computed
+  /// together (one FMM per Bloch node and level).
+  void study_together(double gap, const std::vector<const GratingGrating*>& group) const;
   LamellarGrating g1_, g2_;
   MaterialPtr medium_;
   GratingGratingOptions opts_;
   mutable std::mutex cache_mutex_;
   mutable std::map<std::pair<double, double>, double> d_offset_cache_;  // (xi, L) -> ds/db
+  mutable std::mutex study_mutex_;
+  mutable std::map<double, GratingStudy> studies_;
 };
 
 }  // namespace roundtrip

@@ -13,6 +13,7 @@
 #include <utility>
 #include <vector>
 
+#include "solver/blocks/bloch_integral.h"
 #include "solver/constants.h"
 #include "solver/frequency/frequency_rule.h"
 #include "solver/geometries/plate_plate.h"
@@ -28,23 +29,12 @@ using Eigen::MatrixXd;
 using Eigen::VectorXd;
 using Triple = std::array<double, 3>;
 
-constexpr int kMaxXLevel = 5;  // n_x = 4 * 3^5 = 972 midpoints on [0, G/2]
-constexpr int kMaxTLevel = 7;  // h = 0.5 / 2^7
-constexpr int kX0 = 4;
-constexpr double kH0 = 0.5;
-
 thread_local int g_last_nodes = 0;
 
 // One material for the PFA's columns: the same object, or two perfect conductors (a film of a
 // perfect conductor on a perfect conductor is the perfect conductor).
 bool same_material(const MaterialPtr& a, const MaterialPtr& b) {
   return a == b || (a->is_perfect_conductor() && b->is_perfect_conductor());
-}
-
-long pow3(int a) {
-  long p = 1;
-  for (int i = 0; i < a; ++i) p *= 3;
-  return p;
 }
 
 // ln det(1 - M), d/dL, d2/dL2 at one Bloch vector (header).
@@ -120,14 +110,6 @@ GratingPlate::GratingPlate(LamellarGrating grating, PlanarPtr plate, MaterialPtr
         "grating-plate: bloch_rel_tol = {} must lie in [1e-12, 1e-2]", opts_.bloch_rel_tol));
 }
 
-int GratingPlate::model_orders(double gap) const {
-  // The orders |n| G > ln(1e6)/(2L) are damped by e^{-2 kappa_n L} < 1e-6 on the round trip; at
-  // least 8 for the grating's own (algebraic, Li 1996) convergence; at most 100.
-  const double G = 2.0 * kPi / g_.period;
-  const double n = std::ceil(std::log(1e6) / (2.0 * G * gap));
-  return static_cast<int>(std::clamp(n, 8.0, 100.0));
-}
-
 int GratingPlate::orders_at(double gap) const { return study(gap).orders; }
 
 GratingStudy GratingPlate::study(double gap) const {
@@ -144,35 +126,6 @@ GratingStudy GratingPlate::study(double gap) const {
   studies_.emplace(gap, st);
   return st;
 }
-
-namespace {
-
-// Observed algebraic rate p from three levels n1 < n2 < n3 with s(n) = s_inf + a n^-p:
-// (s2 - s1)/(s3 - s2) = (n1^-p - n2^-p)/(n2^-p - n3^-p), solved by bisection on [0.1, 8]
-// (the right side grows monotonically with p for n1 < n2 < n3); 0 when the differences do not
-// shrink with the same sign or p falls outside.
-double observed_rate(double n1, double n2, double n3, double d_prev, double d) {
-  if (!(d_prev * d > 0.0) || !(std::abs(d) < std::abs(d_prev))) return 0.0;
-  const double target = d_prev / d;
-  const auto ratio = [&](double p) {
-    return (std::pow(n1, -p) - std::pow(n2, -p)) / (std::pow(n2, -p) - std::pow(n3, -p));
-  };
-  double lo = 0.1, hi = 8.0;
-  if (!(ratio(lo) < target && ratio(hi) > target)) return 0.0;
-  for (int i = 0; i < 100; ++i) {
-    const double mid = 0.5 * (lo + hi);
-    (ratio(mid) < target ? lo : hi) = mid;
-  }
-  return 0.5 * (lo + hi);
-}
-
-// The order sequence of the study: N_0 and then factors ~sqrt(2) (4, 6, 8, 11, 16, 23, 32, 45,
-// 64, ...), so that three successive levels cost little more than the last.
-int next_orders(int n) {
-  return std::max(n + 1, static_cast<int>(std::lround(n * std::sqrt(2.0))));
-}
-
-}  // namespace
 
 GratingStudy GratingPlate::run_study(double gap) const {
   GratingStudy st;
@@ -214,80 +167,18 @@ GratingStudy GratingPlate::run_study(double gap) const {
     st.verified = false;
     return st;
   }
-  // Orders: N_0 = max(4, a quarter of the damping model), then factors ~sqrt(2).
-  int n0 = 4;
-  while (4 * n0 < model_orders(gap) && n0 < 32) n0 *= 2;
-  double d_prev = 0.0, p_prev = 0.0, r_prev = 0.0;
-  int n_prev = 0, n_prev2 = 0;
-  bool have_r = false;
-  for (int N = n0;; N = next_orders(N)) {
-    if (N == n0) {
-      const double s = levels_at(xi, gap, DerivativeOrder::kEnergy, tol, {{N, S}}, {1.0})[0].value;
-      st.levels.emplace_back(N, s);
-      st.orders = N;
-      st.error = 1.0;
-      n_prev = N;
-      continue;
-    }
-    const auto [lo, hi] = pair_at({n_prev, S}, {N, S});
-    const double s = hi;
-    st.levels.emplace_back(N, s);
-    st.orders = N;
-    const double d = hi - lo;
-    const double p = n_prev2 > 0 ? observed_rate(n_prev2, n_prev, N, d_prev, d) : 0.0;
-    if (p > 0.0) {
-      // Richardson with the level ratio r = N/N_prev: R = s + d/(r^p - 1).
-      const double c = 1.0 / (std::pow(static_cast<double>(N) / n_prev, p) - 1.0);
-      const double plain = 1.25 * std::abs(d) * c / std::abs(s);
-      const double r = s + d * c;
-      st.rate = p;
-      if (plain <= 0.3 * tau) {
-        st.error = plain;
-        st.orders_low = 0;
-        st.verified = st.slice_error <= 0.2 * tau;
-        return st;
-      }
-      if (have_r && std::abs(p - p_prev) <= 0.5 &&
-          std::abs(r - r_prev) <= 0.3 * tau * std::abs(r)) {
-        st.error = std::abs(r - r_prev) / std::abs(r);
-        st.orders_low = n_prev;
-        st.verified = st.slice_error <= 0.2 * tau;
-        return st;
-      }
-      st.error = plain;
-      r_prev = r;
-      have_r = true;
-      p_prev = p;
-    } else {
-      st.error = std::abs(d / s);
-      have_r = false;
-    }
-    if (next_orders(N) > opts_.max_orders) break;
-    d_prev = d;
-    n_prev2 = n_prev;
-    n_prev = N;
-  }
-  st.orders_low = 0;
-  st.verified = false;
-  return st;
+  return study_orders(
+      st, g_.period, gap, tau, opts_.max_orders,
+      [&](int N) {
+        return levels_at(xi, gap, DerivativeOrder::kEnergy, tol, {{N, S}}, {1.0})[0].value;
+      },
+      [&](int lo, int hi) {
+        return pair_at({lo, S}, {hi, S});
+      });
 }
 
 std::string GratingPlate::unverified_truncation(double gap) const {
-  const GratingStudy st = study(gap);
-  if (st.verified) return {};
-  if (opts_.orders > 0)
-    return fmt::format(
-        "diffraction orders -{0}..{0} as set (numerics.orders), not a convergence test: the "
-        "truncation error is not verified against rel_tol (lamellar profiles converge like "
-        "N^-1.7; leave orders unset for the automatic test)",
-        st.orders);
-  return fmt::format(
-      "the convergence test in diffraction orders stopped at N = {} (numerics limit {}) with an "
-      "estimated relative error {:.2g} (observed rate N^-{:.2g}){}, above its share of rel_tol",
-      st.orders, opts_.max_orders, st.error, st.rate,
-      st.slices > 0
-          ? fmt::format("; staircase slices {} with error {:.2g}", st.slices, st.slice_error)
-          : std::string());
+  return study_unverified(study(gap), opts_.orders > 0, opts_.max_orders);
 }
 
 int GratingPlate::last_node_count() { return g_last_nodes; }
@@ -303,14 +194,10 @@ Spectral GratingPlate::at_frequency_within(double xi, double gap, DerivativeOrde
 
 Spectral GratingPlate::compute(double xi, double gap, DerivativeOrder order, double tol) const {
   const GratingStudy st = study(gap);
-  if (st.orders_low > 0) {
-    // Richardson in N with the observed rate (GratingStudy).
-    const double c =
-        1.0 / (std::pow(static_cast<double>(st.orders) / st.orders_low, st.rate) - 1.0);
-    return levels_at(xi, gap, order, tol, {{st.orders_low, st.slices}, {st.orders, st.slices}},
-                     {-c, 1.0 + c})[0];
-  }
-  return levels_at(xi, gap, order, tol, {{st.orders, st.slices}}, {1.0})[0];
+  const auto [orders, weights] = study_levels(st);
+  std::vector<Level> levels;
+  for (int N : orders) levels.push_back({N, st.slices});
+  return levels_at(xi, gap, order, tol, levels, weights)[0];
 }
 
 std::vector<Spectral> GratingPlate::levels_at(double xi, double gap, DerivativeOrder order,
@@ -332,157 +219,50 @@ std::vector<Spectral> GratingPlate::levels_at(double xi, double gap, DerivativeO
   }
   const auto pat = plate_->at(xi, *medium_);
   const double eps_m = xi > 0.0 ? medium_->epsilon(xi) : medium_->static_limit().static_eps;
-  const double G = 2.0 * kPi / g_.period;
-  const double half_bz = 0.5 * G;
-  // k_y = sinh(t)/(2L) up to y = 2 L k_y where e^{-y} < 1e-3 tol (every order decays at least
-  // as fast as e^{-2 k_y L}).
-  const double y_max = std::log(1e3 / tol) + 10.0;
   const double q2 = eps_m * (xi / kSpeedOfLight) * (xi / kSpeedOfLight);
-  const long x_fine = pow3(kMaxXLevel);
-  const long t_fine = 1L << kMaxTLevel;
-
-  // Node values: the weighted sum first, then each level.
-  using Values = std::vector<Triple>;
-  std::map<std::pair<long, long>, Values> memo;
-  const double nfine = kX0 * static_cast<double>(x_fine);
-  // Layer modes per k_x line and level (GratingAtFrequency::Line: the conical decoupling), kept
-  // only for the lines of the batch being evaluated.
-  using Lines = std::vector<GratingAtFrequency::Line>;
-  auto kx_of_p = [&](long p) {
-    const double u = static_cast<double>(p) / (2.0 * nfine);
-    return half_bz * (u - std::sin(2.0 * kPi * u) / (2.0 * kPi));
-  };
-  auto node = [&](long p, long q, const Lines& lines) {
-    // k_x = (G/2) w(u), w(u) = u - sin(2 pi u)/(2 pi), u = p/(2 n_fine) (Sidi's sin^2
-    // transformation, Sidi, Numer. Math. 9 (1993), from memory): w' vanishes at both ends, so the
-    // kink of the n = 0 order at k = 0 (xi = 0: |k|) is pushed to high order in u.
-    const double u = static_cast<double>(p) / (2.0 * nfine);
-    const double kx = half_bz * (u - std::sin(2.0 * kPi * u) / (2.0 * kPi));
-    const double wu = half_bz * (1.0 - std::cos(2.0 * kPi * u));
-    // k_y = a sinh(t), a = min(1/(2L), sqrt(k_x^2 + eps_m q0^2)): the n = 0 branch points
-    // k_y = +-i sqrt(k_x^2 + eps_m q0^2) stay a fixed distance from the real t axis.
-    const double a = std::min(0.5 / gap, std::sqrt(kx * kx + q2));
-    const double t = q * (kH0 / t_fine);
-    const double ky = a * std::sinh(t);
-    const double jac = a * std::cosh(t) * wu;
-    Values out(nl + 1, Triple{0.0, 0.0, 0.0});
-    for (int l = 0; l < nl; ++l) {
-      const int N = levels[l].orders;
-      const MatrixXd rg = gfs[l].reflect(lines[l], ky);
-      const MatrixXd rp = planar_reflection_in_orders(*pat, xi, g_.period, N, kx, ky);
-      const VectorXd kap = orders_decay(xi, eps_m, g_.period, N, kx, ky);
-      Triple v = round_trip(rg, rp, kap, gap, n_comp);
-      for (int c = 0; c < 3; ++c) {
-        v[c] *= jac;
-        out[l + 1][c] = v[c];
-        out[0][c] += weights[l] * v[c];
-      }
-    }
-    return out;
-  };
-  auto keys_of = [&](int a, int b) {
-    std::vector<std::pair<long, long>> keys;
-    const long nx = kX0 * pow3(a);
-    const long xs = pow3(kMaxXLevel - a);
-    const long ts = 1L << (kMaxTLevel - b);
-    const double h = kH0 / (1 << b);
-    for (long i = 0; i < nx; ++i) {
-      const long p = (2 * i + 1) * xs;
-      const double u = static_cast<double>(p) / (2.0 * nfine);
-      const double kx = half_bz * (u - std::sin(2.0 * kPi * u) / (2.0 * kPi));
-      const double a = std::min(0.5 / gap, std::sqrt(kx * kx + q2));
-      const double t_max = std::asinh(y_max / (2.0 * gap * a));
-      const long J = static_cast<long>(std::ceil(t_max / h));
-      for (long j = 0; j <= J; ++j) keys.emplace_back(p, j * ts);
-    }
-    return keys;
-  };
-  auto ensure = [&](const std::vector<std::pair<long, long>>& keys) {
-    std::vector<std::pair<long, long>> todo;
-    for (const auto& k : keys)
-      if (!memo.count(k)) todo.push_back(k);
-    std::sort(todo.begin(), todo.end());
-    std::vector<Values> vals(todo.size());
-    // Batches of whole k_x lines (up to kLinesPerBatch): first the lines' layer modes (one task
-    // per line and level), then their nodes; every node's value is independent of the batching.
-    constexpr std::size_t kLinesPerBatch = 8;
-    std::size_t b0 = 0;
-    while (b0 < todo.size()) {
-      throw_if_cancelled();
-      std::vector<long> ps;
-      std::size_t b1 = b0;
-      while (b1 < todo.size()) {
-        if (ps.empty() || ps.back() != todo[b1].first) {
-          if (ps.size() == kLinesPerBatch) break;
-          ps.push_back(todo[b1].first);
+  // Node values (blocks::BlochIntegral, flat): the weighted sum's three components first, then
+  // each level's; line slot l holds level l's layer modes.
+  blocks::BlochIntegral bloch(
+      g_.period, gap, q2, tol, 3 * (nl + 1), nl, [&](int l, double kx) { return gfs[l].line(kx); },
+      [&](double kx, double ky, double jac, const blocks::BlochIntegral::Lines& lines) {
+        blocks::BlochIntegral::Values out(3 * (nl + 1), 0.0);
+        for (int l = 0; l < nl; ++l) {
+          const int N = levels[l].orders;
+          const MatrixXd rg = gfs[l].reflect(lines[l], ky);
+          const MatrixXd rp = planar_reflection_in_orders(*pat, xi, g_.period, N, kx, ky);
+          const VectorXd kap = orders_decay(xi, eps_m, g_.period, N, kx, ky);
+          Triple v = round_trip(rg, rp, kap, gap, n_comp);
+          for (int c = 0; c < 3; ++c) {
+            v[c] *= jac;
+            out[3 * (l + 1) + c] = v[c];
+            out[c] += weights[l] * v[c];
+          }
         }
-        ++b1;
-      }
-      std::vector<Lines> lines(ps.size(), Lines(nl));
-      const long n_line_tasks = static_cast<long>(ps.size()) * nl;
-      parallel_for(0, static_cast<long>(n_line_tasks),
-                   [&](long t) { lines[t / nl][t % nl] = gfs[t % nl].line(kx_of_p(ps[t / nl])); });
-      parallel_for(static_cast<long>(b0), static_cast<long>(b1), [&](long i) {
-        const std::size_t li = std::lower_bound(ps.begin(), ps.end(), todo[i].first) - ps.begin();
-        vals[i] = node(todo[i].first, todo[i].second, lines[li]);
+        return out;
       });
-      b0 = b1;
-    }
-    for (std::size_t i = 0; i < todo.size(); ++i) memo[todo[i]] = vals[i];
-  };
-  // S(a, b) per component of each value set and \int |f| on the same grid; 4 = both halves in
-  // k_x and k_y; 1/(2 pi)^2.
-  auto sum = [&](int a, int b, Values& absum) {
-    const auto keys = keys_of(a, b);
-    ensure(keys);
-    const long nx = kX0 * pow3(a);
-    const double wx = 1.0 / nx;  // du; the k_x Jacobian is in the node
-    const double h = kH0 / (1 << b);
-    const double pref = 4.0 / (4.0 * kPi * kPi);
-    Values s(nl + 1, Triple{0.0, 0.0, 0.0}), ab(nl + 1, Triple{0.0, 0.0, 0.0});
-    for (const auto& k : keys) {
-      const double w = wx * h * (k.second == 0 ? 0.5 : 1.0) * pref;
-      const Values& v = memo.at(k);
-      for (int l = 0; l <= nl; ++l)
-        for (int c = 0; c < 3; ++c) {
-          s[l][c] += w * v[l][c];
-          ab[l][c] += w * std::abs(v[l][c]);
-        }
-    }
-    absum = ab;
-    return s;
-  };
-  int a = 0, b = 0;
-  for (;;) {
-    Values ab0, abx, aby;
-    const Values s0 = sum(a, b, ab0), sx = sum(a + 1, b, abx), sy = sum(a, b + 1, aby);
-    // Absolute floor: 1e-10 tol / L^2 (per L^c for derivative c) is 1e-10 tol of the perfect-
-    // mirror scale 1/(8 pi L^2) x 8 pi; a term below it (far beyond the frequency scale, where s
-    // falls like e^{-2 xi L/c} and the FMM's rounding dominates) is negligible in any sum whose
-    // reflection coefficients are above ~1e-4. The test is on the weighted sum (index 0).
-    bool ok_x = true, ok_y = true;
+  // Absolute floor: 1e-10 tol / L^2 (per L^c for derivative c) is 1e-10 tol of the perfect-
+  // mirror scale 1/(8 pi L^2) x 8 pi; a term below it (far beyond the frequency scale, where s
+  // falls like e^{-2 xi L/c} and the FMM's rounding dominates) is negligible in any sum whose
+  // reflection coefficients are above ~1e-4. The test is on the weighted sum (index 0).
+  const auto accept = [&](const blocks::BlochIntegral::Values& fine,
+                          const blocks::BlochIntegral::Values& coarse,
+                          const blocks::BlochIntegral::Values& fine_abs) {
     for (int c = 0; c < n_comp; ++c) {
       const double floor = 1e-10 * tol / (gap * gap * std::pow(gap, c));
-      if (!(std::abs(sx[0][c] - s0[0][c]) <= std::max(tol * abx[0][c], floor))) ok_x = false;
-      if (!(std::abs(sy[0][c] - s0[0][c]) <= std::max(tol * aby[0][c], floor))) ok_y = false;
+      if (!(std::abs(fine[c] - coarse[c]) <= std::max(tol * fine_abs[c], floor))) return false;
     }
-    if (ok_x && ok_y) {
-      g_last_nodes = static_cast<int>(memo.size());
-      // The two refinements' corrections are independent (product rule): add both.
-      std::vector<Spectral> out;
-      for (int l = 0; l <= nl; ++l)
-        out.push_back({sx[l][0] + sy[l][0] - s0[l][0], sx[l][1] + sy[l][1] - s0[l][1],
-                       sx[l][2] + sy[l][2] - s0[l][2]});
-      return out;
-    }
-    if (!ok_x) ++a;
-    if (!ok_y) ++b;
-    if (a + 1 > kMaxXLevel || b + 1 > kMaxTLevel)
-      throw std::runtime_error(fmt::format(
-          "grating-plate: the Bloch integral did not reach {:g} at xi = {:g} rad/s, L = {:g} m "
-          "({} nodes)",
-          tol, xi, gap, memo.size()));
-  }
+    return true;
+  };
+  const auto v = bloch.integrate(accept, [&](long nodes) {
+    return fmt::format(
+        "grating-plate: the Bloch integral did not reach {:g} at xi = {:g} rad/s, L = {:g} m "
+        "({} nodes)",
+        tol, xi, gap, nodes);
+  });
+  g_last_nodes = static_cast<int>(bloch.nodes());
+  std::vector<Spectral> out;
+  for (int l = 0; l <= nl; ++l) out.push_back({v[3 * l], v[3 * l + 1], v[3 * l + 2]});
+  return out;
 }
 
 double GratingPlate::frequency_scale(double gap) const {
@@ -598,20 +378,10 @@ std::map<std::string, double> GratingPlate::truncation(double gap) const {
     }
   }
   if (!known) {  // before the study (plans, `check`): the model's N
-    return {{"orders", static_cast<double>(model_orders(gap))},
+    return {{"orders", static_cast<double>(model_orders(g_.period, gap))},
             {"bloch_rel_tol", opts_.bloch_rel_tol}};
   }
-  std::map<std::string, double> t{{"orders", static_cast<double>(st.orders)},
-                                  {"orders_low", static_cast<double>(st.orders_low)},
-                                  {"order_rate", st.rate},
-                                  {"order_error", st.error},
-                                  {"bloch_rel_tol", opts_.bloch_rel_tol}};
-  if (g_.profile != GratingProfile::kLamellar) {
-    t["slices"] = st.slices;
-    t["slice_rate"] = st.slice_rate;
-    t["slice_error"] = st.slice_error;
-  }
-  return t;
+  return study_truncation(st, opts_.bloch_rel_tol, g_.profile != GratingProfile::kLamellar);
 }
 
 FrequencyCost GratingPlate::cost(double gap, DerivativeOrder order, double /*rel_tol*/) const {

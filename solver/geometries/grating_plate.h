@@ -14,7 +14,8 @@
 // k_y = a sinh(t), a = min(1/(2L), sqrt(k_x^2 + eps_m xi^2/c^2)), t >= 0 (trapezoid, step
 // halving, t = 0 weighted 1/2); each direction is refined until its change is below
 // bloch_rel_tol of \int |f| for every requested component; the returned value adds both
-// refinements' corrections.
+// refinements' corrections (blocks::BlochIntegral, solver/blocks/bloch_integral.h, shared with
+// grating-grating).
 // PFA (Bao et al., PRL 105, 250402 (2010)): E_PFA = f E_pp(L; ridge) + (1 - f) E_pp(L + h;
 // substrate), per area, with the same frequency rule.
 #include <map>
@@ -24,6 +25,7 @@
 #include <vector>
 
 #include "solver/geometries/geometry.h"
+#include "solver/geometries/grating_orders.h"
 #include "solver/scatterers/grating_fmm.h"
 
 namespace roundtrip {
@@ -42,31 +44,10 @@ struct GratingPlateOptions {
   double sphere_radius = 0.0;
 };
 
-/// The cut-offs of one gap, chosen by convergence tests at xi* = frequency_scale(L) (c/2L in
-/// vacuum). Orders: N = N_0, then factors ~sqrt(2) (4, 6, 8, 11, 16, 23, ...); each level is
-/// evaluated together with the previous one on the same Bloch nodes, d_k = s(N_k) - s(N_{k-1});
-/// the observed algebraic rate p_k solves d_{k-1}/d_k = (N_{k-2}^-p - N_{k-1}^-p)/(N_{k-1}^-p -
-/// N_k^-p) (s = s_inf + a N^-p), and Richardson's extrapolation is R_k = s(N_k) + d_k/(r^p_k - 1),
-/// r = N_k/N_{k-1} (Richardson, Phil. Trans. R. Soc. A 210, 307 (1911)). Accepted at the first k
-/// where either the plain value's error estimate 1.25 |d_k|/(r^p_k - 1) (Roache's grid
-/// convergence index with safety factor 1.25, Roache, J. Fluids Eng. 116, 405 (1994)) is
-/// <= 0.3 rel_tol |s|, or two successive extrapolations agree, |R_k - R_{k-1}| <= 0.3 rel_tol |R_k|
-/// with |p_k - p_{k-1}| <= 0.5; in the second case every frequency is computed at N_{k-1} and N_k
-/// on the same Bloch nodes and extrapolated with p_k. Slices (non-lamellar profiles, at N = 4
-/// before the orders): S = 4, 8, 16, ... with the plain criterion at 0.2 rel_tol (no
-/// extrapolation in S). Relative errors are those of s(xi*), taken to hold for E.
-struct GratingStudy {
-  int orders = 0;      ///< N used (the finer of the pair when extrapolating)
-  int orders_low = 0;  ///< the coarser N of the pair (0: no extrapolation)
-  double rate = 0.0;   ///< observed algebraic rate p in N (0: not observed)
-  double error = 0.0;  ///< estimated relative truncation error in orders (of E at xi*)
-  int slices = 0;      ///< staircase slices (0: lamellar)
-  double slice_rate = 0.0;
-  double slice_error = 0.0;
-  bool verified = false;                       ///< both estimates within their share of rel_tol
-  std::vector<std::pair<int, double>> levels;  ///< (N, s(xi*)) of the order study
-};
-
+/// The cut-offs of one gap (GratingStudy, grating_orders.h) are chosen by convergence tests at
+/// xi* = frequency_scale(L): slices first (non-lamellar profiles, at N = 4: S = 4, 8, 16, ... with
+/// the plain criterion at 0.2 rel_tol, no extrapolation in S), then the orders by the shared
+/// order study (study_orders, grating_orders.h).
 class GratingPlate final : public Geometry {
  public:
   GratingPlate(LamellarGrating grating, PlanarPtr plate, MaterialPtr medium,
@@ -116,7 +97,6 @@ class GratingPlate final : public Geometry {
  private:
   Spectral compute(double xi, double gap, DerivativeOrder order, double tol) const;
   GratingStudy run_study(double gap) const;
-  int model_orders(double gap) const;
   LamellarGrating g_;
   PlanarPtr plate_;
   MaterialPtr medium_;
