@@ -96,7 +96,8 @@ Quad round_trip(const MatrixXd& r1, const MatrixXd& r2, const VectorXd& kap, con
 
 bool same_grating(const LamellarGrating& a, const LamellarGrating& b) {
   return a.period == b.period && a.filling == b.filling && a.depth == b.depth &&
-         a.ridge == b.ridge && a.substrate == b.substrate;
+         a.ridge == b.ridge && a.substrate == b.substrate && a.coating == b.coating &&
+         a.coating_thickness == b.coating_thickness;
 }
 
 void check_grating(const LamellarGrating& g, const char* which) {
@@ -104,6 +105,11 @@ void check_grating(const LamellarGrating& g, const char* which) {
     throw std::invalid_argument(fmt::format(
         "grating-grating: the {} grating's profile is not lamellar; only lamellar profiles are "
         "built (the PFA and the overlap assume rectangular ridges)",
+        which));
+  if (g.coated())
+    throw std::invalid_argument(fmt::format(
+        "grating-grating: the {} grating is coated; coatings are built for grating-plate only "
+        "(the PFA columns and the ridge overlap assume uncoated ridges)",
         which));
   if (!(g.period > 0.0) || !std::isfinite(g.period))
     throw std::invalid_argument(
