@@ -43,13 +43,6 @@ GeometryKind grating_grating_kind() {
             g.profile == GratingProfile::kSinusoidal   ? "sinusoidal"
             : g.profile == GratingProfile::kTriangular ? "triangular"
                                                        : "table"));
-      if (g.coated())
-        throw CaseError(fmt::format(
-            "{}:{}: {}.coating.material = \"{}\": coated gratings are built for grating-plate "
-            "only (grating-grating's PFA columns and ridge overlaps assume uncoated ridges; use "
-            "grating-plate)",
-            spec.path.string(), case_line_of(spec, b->table, "coating"), b->table,
-            g.coating->name()));
       if (const auto [key, why] = grating_material_problem(g, spec.frequency.temperature_K);
           !key.empty())
         throw CaseError(

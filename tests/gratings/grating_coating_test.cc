@@ -10,6 +10,7 @@
 #include <cstdio>
 
 #include "solver/constants.h"
+#include "solver/geometries/grating_grating.h"
 #include "solver/geometries/grating_plate.h"
 #include "solver/geometries/plate_plate.h"
 #include "solver/materials/models.h"
@@ -315,6 +316,65 @@ TEST(GratingCoating, UnsupportedCoatingsAreRefused) {
   EXPECT_THROW(
       GratingAtFrequency(coat(lamellar(0.5, 100e-9, pec, pec), sio2, 10e-9), 1e14, *vac, 2),
       std::invalid_argument);
+}
+
+TEST(GratingCoating, CoatedGratingGratingLimitsSymmetryAndPfaColumns) {
+  // Lifshitz (1956) through PlatePlate: two coated f = 1 gratings are the two layered plates at
+  // L; a coated f = 0 upper grating is its coating film on its substrate h2 above (grating-plate
+  // at L + h2 with that plate, the independent GratingPlate engine). Symmetry (derived): ds/db
+  // vanishes at b = 0 and Lambda/2. PFA columns (derived): the pair weights sum to 1 and their b
+  // derivatives to 0 at any b.
+  const auto si = silicon_like(), sio2 = silica_like(), sub = make_constant("sub", 5.0);
+  const double L = 180e-9, h2 = 90e-9, t1 = 20e-9, t2 = 30e-9, P = 400e-9;
+  GratingGratingOptions o;
+  o.bloch_rel_tol = kBlochTol;
+  const auto gg = [&](const LamellarGrating& a, const LamellarGrating& b, double off, int n) {
+    GratingGratingOptions q = o;
+    q.orders = n;
+    q.offset = off;
+    return GratingGrating(a, b, nullptr, q);
+  };
+  const auto lower = coat(lamellar(0.5, 100e-9, si, si), sio2, t1);
+  for (double xi : {0.0, 3e14}) {
+    SCOPED_TRACE(xi);
+    const PlatePlate pp(make_layered({{sio2, t1}}, si),
+                        make_layered({{sio2, t2}, {si, 70e-9}}, sub), nullptr);
+    const Spectral ref = pp.at_frequency(xi, L, DerivativeOrder::kGradient);
+    // N = 4 carries the orders up to e^{-2 (4.5 G) L} ~ 3e-12 (grating_grating_test.cc).
+    const auto s = gg(coat(lamellar(1.0, 50e-9, si, si), sio2, t1),
+                      coat(lamellar(1.0, 70e-9, si, sub), sio2, t2), 90e-9, 4)
+                       .spectral(xi, L, DerivativeOrder::kGradient, kBlochTol);
+    EXPECT_NEAR(s.s.value, ref.value, kPlateAgreement * std::abs(ref.value));
+    EXPECT_NEAR(s.s.d1, ref.d1, kPlateAgreement * std::abs(ref.d1));
+    GratingPlateOptions po;
+    po.orders = 2;
+    po.bloch_rel_tol = kBlochTol;
+    const GratingPlate gp(lower, make_layered({{sio2, t2}}, sub), nullptr, po);
+    const Spectral ref2 = gp.at_frequency(xi, L + h2, DerivativeOrder::kGradient);
+    const auto u = gg(lower, coat(lamellar(0.0, h2, si, sub), sio2, t2), 55e-9, 2)
+                       .spectral(xi, L, DerivativeOrder::kGradient, kBlochTol);
+    EXPECT_NEAR(u.s.value, ref2.value, kPlateAgreement * std::abs(ref2.value));
+    EXPECT_NEAR(u.s.d1, ref2.d1, kPlateAgreement * std::abs(ref2.d1));
+  }
+  const auto upper = coat(lamellar(0.3, 60e-9, si, sub), sio2, t2);
+  const double xi = 4e14;
+  const auto s0 = gg(lower, upper, 0.0, 2).spectral(xi, L, DerivativeOrder::kGradient, 1e-5);
+  const double scale = 2.0 * kPi / P * std::abs(s0.s.value);
+  EXPECT_LE(std::abs(s0.d_offset), 1e-12 * scale);
+  EXPECT_LE(
+      std::abs(
+          gg(lower, upper, 0.5 * P, 2).spectral(xi, L, DerivativeOrder::kGradient, 1e-5).d_offset),
+      1e-12 * scale);
+  const auto g = gg(lower, upper, 0.0, 2);
+  for (double b : {0.0, 37e-9, 110e-9, 200e-9, 333e-9}) {
+    double w = 0.0, dw = 0.0;
+    for (const auto& term : g.coated_pfa_terms(b)) {
+      w += term.weight;
+      dw += term.d_weight;
+    }
+    EXPECT_NEAR(w, 1.0, 1e-14) << b;
+    EXPECT_NEAR(dw, 0.0, 1e-6 / P) << b;
+  }
 }
 
 }  // namespace
