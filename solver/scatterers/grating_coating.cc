@@ -168,10 +168,25 @@ std::vector<GratingLayer> grating_layers(const LamellarGrating& g) {
         "grating: the staircase slice count of a non-lamellar profile must be set (>= 1)");
   const LamellarGrating outer = outer_table(g);
   const auto outer_at = [&](double z) { return outer.ridge_set(z); };
-  const double dz = top / g.slices;
-  for (int j = g.slices - 1; j >= 0; --j)
-    out.push_back({dz, segments_of(mean_set(outer_at, j * dz, (j + 1) * dz),
-                                   mean_set(inner, j * dz, (j + 1) * dz))});
+  // The ridge's crest H is a slice boundary: S_out = ceil(S t/(H + t)) slices over [H, H + t]
+  // and S_in = ceil(S H/(H + t)) over [0, H], none thicker than (H + t)/S (S or S + 1 layers in
+  // all; S_out + S_in = S when S t/(H + t) is whole). Equal slices over [0, H + t], with H
+  // inside a slice, gave irregular relative changes of s (1.7e-2, 3.2e-3, 2.0e-3 for S = 4 -> 8
+  // -> 16 -> 32, rates 2.4, 0.7); these give 6.6e-3, 2.0e-3, 4.2e-4, 1.5e-4 up to S = 64 (rates
+  // 1.7, 2.3, 1.5; the coated sinusoid of grating_coating_test.cc).
+  const double H = g.height();
+  const auto count = [&](double part) {
+    return std::max(1, static_cast<int>(std::ceil(g.slices * part / top - 1e-9)));
+  };
+  const int s_out = count(t), s_in = count(H);
+  const auto stack = [&](double z0, double z1, int n) {
+    const double dz = (z1 - z0) / n;
+    for (int j = n - 1; j >= 0; --j)
+      out.push_back({dz, segments_of(mean_set(outer_at, z0 + j * dz, z0 + (j + 1) * dz),
+                                     mean_set(inner, z0 + j * dz, z0 + (j + 1) * dz))});
+  };
+  stack(H, top, s_out);
+  stack(0.0, H, s_in);
   return out;
 }
 

@@ -21,8 +21,11 @@
 //              evaluated at kOuterSamples + 1 points over a period (a scan of the maximum and a
 //              golden-section refinement) and interpolated linearly (error ~ dx^2/(8 t) at a
 //              rounded crest: 1e-3 nm at Lambda = 400 nm, t = 20 nm). Both surfaces are cut
-//              into `slices` equal slices over 0 < z < H + t, each slice holding the mean level
-//              sets of both (as LamellarGrating::layers). Supported: t < Lambda / 2.
+//              into slices of at most (H + t)/`slices`, with the ridge's crest H a slice
+//              boundary (ceil(S t/(H + t)) slices above it, ceil(S H/(H + t)) below), each slice
+//              holding the mean level sets of both (as LamellarGrating::layers; a single
+//              interval that closes inside the slice counts as [0, 0] there, which keeps the
+//              crest's area). Supported: t < Lambda / 2.
 // L is measured from the top of the coated crest (z = H + t).
 #include <string>
 #include <utility>

@@ -262,11 +262,10 @@ TEST(GratingCoating, CoatedStaircaseConvergesInSlices) {
   // Staircase slicing of both surfaces (Moharam & Gaylord, JOSA 72, 1385 (1982)): the coated
   // sinusoid (A = 50 nm, 20 nm of an eps = 2.1 coating, period 400 nm, L = 150 nm, N = 4,
   // xi = 6e14 rad/s) converges in S: the change must fall at each doubling and the last one be
-  // below 1e-2 of s. Observed: changes 1.7e-2, 3.2e-3, 2.0e-3 of s for S = 4 -> 8 -> 16 -> 32
-  // (rates 2.4, 0.7); a manual run to S = 128 gave rates 1.8 and 1.3 for 32 -> 64 -> 128
-  // (eps = 6 plate; relative changes 6.8e-4, 2.7e-4), slower and less regular than the uncoated
-  // sinusoid's 1.5-2.5 (the slice study of grating-plate uses the observed rate, not an assumed
-  // one).
+  // below 1e-2 of s. Observed (slices aligned on the ridge's crest, grating_coating.cc):
+  // relative changes 6.6e-3, 2.0e-3, 4.2e-4 for S = 4 -> 8 -> 16 -> 32 (rates 1.7, 2.3), and
+  // 1.5e-4 to S = 64 (rate 1.5) in a manual run; the uncoated sinusoid gives 1.5-2.5 (the slice
+  // study of grating-plate uses the observed rate, not an assumed one).
   const double L = 150e-9, xi = 6e14;
   LamellarGrating g = coat(sinusoid(50e-9, 1, silicon_like()), silica_like(), 20e-9);
   GratingPlateOptions o;
