@@ -5,6 +5,7 @@
 #include <fmt/format.h>
 
 #include <algorithm>
+#include <boost/math/special_functions/sin_pi.hpp>
 #include <cmath>
 #include <functional>
 #include <limits>
@@ -198,8 +199,11 @@ Eigen::MatrixXd segment_toeplitz(double background, double ridge, double coating
     double sr = 0.0, sc = 0.0;
     bool any_r = false, any_c = false;
     for (const GratingSegment& s : segments) {
+      // sin_pi is exact at the integers: segments that fill the period give c_p = 0 exactly
+      // (std::sin(pi p) ~ 1e-16 p would leave rounding in every off-diagonal of a full layer).
       const double v =
-          p == 0 ? s.hi - s.lo : std::sin(2.0 * kPi * p * s.hi) - std::sin(2.0 * kPi * p * s.lo);
+          p == 0 ? s.hi - s.lo
+                 : boost::math::sin_pi(2.0 * p * s.hi) - boost::math::sin_pi(2.0 * p * s.lo);
       if (s.phase == GratingPhase::kRidge) {
         sr += v;
         any_r = true;

@@ -59,7 +59,8 @@ std::vector<GratingLayer> grating_layers(const LamellarGrating& g);
 /// function that is `background` off the segments and value(phase) on them:
 ///   c_p = background delta_p0 + sum_phases (v_k - background) sum_i (sin 2 pi p b_i -
 ///   sin 2 pi p a_i) / (2 pi p),  c_0 = background + sum_k (v_k - background) sum_i (b_i - a_i)
-/// (exact coefficients of each segment; real for an even function; standard).
+/// (exact coefficients of each segment; real for an even function; standard). The sines by
+/// Boost's sin_pi, exact at the integers (a full period gives c_p = 0 exactly).
 Eigen::MatrixXd segment_toeplitz(double background, double ridge, double coating,
                                  const std::vector<GratingSegment>& segments, int m);
 
