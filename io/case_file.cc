@@ -923,6 +923,7 @@ CaseSpec parse_root(toml::table& root, CaseSpec spec) {
                           path.has_parent_path() ? path.parent_path() : std::filesystem::path("."));
     used.add(b.grating.ridge);
     used.add(b.grating.substrate);
+    if (b.grating.coating) used.add(b.grating.coating);
     b.material = b.grating.ridge;
   };
   for (const BodySlot* slot : {&kind.lower, &kind.upper}) {

@@ -13,6 +13,7 @@
 #include "io/errors.h"
 #include "io/units.h"
 #include "solver/constants.h"
+#include "solver/scatterers/grating_coating.h"
 
 namespace roundtrip::io {
 namespace {
@@ -95,14 +96,43 @@ double interp(const std::vector<std::pair<double, double>>& pts, double P, doubl
   return pts.back().second;
 }
 
+// coating = { material = "...", thickness = "20 nm" } (grating_spec.h; the geometry's limits in
+// solver/scatterers/grating_coating.h).
+void read_coating(const toml::node& n, const std::string& field, const MaterialLookup& material_at,
+                  LamellarGrating& g) {
+  const toml::table* c = n.as_table();
+  if (c == nullptr)
+    throw error_at(n, field,
+                   "expected a table, e.g. coating = { material = \"gold-drude\", thickness = "
+                   "\"20 nm\" }");
+  for (const auto& [key, node] : *c)
+    if (key.str() != "material" && key.str() != "thickness")
+      throw error_at(node, field + "." + std::string(key.str()),
+                     "unknown key of a coating (allowed here: material, thickness)");
+  for (const char* key : {"material", "thickness"})
+    if (!c->contains(key))
+      throw table_error(*c, field + "." + key,
+                        "missing required key (a coating needs material and thickness)");
+  const toml::node& tn = *c->get("thickness");
+  g.coating_thickness = parse_quantity(tn, Dimension::kLength, field + ".thickness");
+  if (!(g.coating_thickness > 0.0))
+    throw error_at(tn, field + ".thickness",
+                   "a coating thickness must be > 0 (leave the coating out instead)");
+  if (const std::string p = geometry::thickness_problem(g.coating_thickness); !p.empty())
+    throw error_at(tn, field + ".thickness", p);
+  g.coating = material_at(*c, "material", field + ".material");
+  if (const std::string p = coating_problem(g); !p.empty())
+    throw error_at(tn, field + ".thickness", p);
+}
+
 }  // namespace
 
 LamellarGrating grating_from_toml(const toml::table& t, const std::string& tb,
                                   const MaterialLookup& material_at,
                                   const std::filesystem::path& base) {
-  static const std::vector<std::string> kAllowed = {"period",     "profile",   "filling",
-                                                    "depth",      "amplitude", "table",
-                                                    "table_unit", "material",  "substrate"};
+  static const std::vector<std::string> kAllowed = {
+      "period", "profile",    "filling",  "depth",     "amplitude",
+      "table",  "table_unit", "material", "substrate", "coating"};
   for (const auto& [key, node] : t)
     if (std::find(kAllowed.begin(), kAllowed.end(), key.str()) == kAllowed.end()) {
       std::string list;
@@ -236,12 +266,30 @@ LamellarGrating grating_from_toml(const toml::table& t, const std::string& tb,
   }
   g.ridge = material_at(t, "material", tb + ".material");
   g.substrate = t.contains("substrate") ? material_at(t, "substrate", tb + ".substrate") : g.ridge;
+  if (t.contains("coating")) read_coating(*t.get("coating"), tb + ".coating", material_at, g);
   return g;
+}
+
+std::string grating_material_of(const LamellarGrating& g, const std::string& key) {
+  if (key == "material") return g.ridge ? g.ridge->name() : "";
+  if (key == "substrate") return g.substrate ? g.substrate->name() : "";
+  return g.coating ? g.coating->name() : "";
 }
 
 std::pair<std::string, std::string> grating_material_problem(const LamellarGrating& g,
                                                              double temperature_K) {
   const bool pec_r = g.ridge->is_perfect_conductor(), pec_s = g.substrate->is_perfect_conductor();
+  if (g.coated()) {
+    if (pec_r || pec_s)
+      return {"coating.material",
+              "a coating on a perfectly conducting grating is not built (the grooves' modal "
+              "method of a perfect conductor has empty grooves)"};
+    if (g.coating->is_perfect_conductor() || g.coating->static_limit().is_conductor())
+      return {"coating.material",
+              "coatings that conduct are not built (the layer operator of the modal method here "
+              "is for dielectrics: a metal's huge eps makes it singular in double at small xi, as "
+              "for conducting ridges); a dielectric coating works"};
+  }
   if (pec_r || pec_s) {
     // The grooves' modal method (solver/scatterers/grating_pec.h).
     if (!(pec_r && pec_s))

@@ -8,6 +8,10 @@
 //           | "table"      table = "profile.csv", table_unit = "nm"  (x, height per line)
 //   material = "silicon"                     the ridges
 //   substrate = "silica"                     optional; default: the ridge material
+//   coating = { material = "silica", thickness = "20 nm" }  optional conformal coating
+//                                            (solver/scatterers/grating_coating.h: t > 0;
+//                                            lamellar 2t < (1 - f) period unless f = 0 or 1,
+//                                            other profiles t < period/2; dielectric only)
 // Materials the solver builds (grating_material_problem): dielectric ridges on any substrate
 // (conducting substrates at T = 0 only), or ridges and substrate both perfect conductors with a
 // lamellar profile at T = 0 (the grooves' modal method, solver/scatterers/grating_pec.h).
@@ -38,8 +42,11 @@ LamellarGrating grating_from_toml(const toml::table& t, const std::string& table
                                   const std::filesystem::path& base);
 
 /// Why the grating's materials are not built at this temperature, as (key, sentence) with key
-/// "material" or "substrate"; an empty key when they are built (header).
+/// "material", "substrate" or "coating.material"; an empty key when they are built (header).
 std::pair<std::string, std::string> grating_material_problem(const LamellarGrating& g,
                                                              double temperature_K);
+
+/// The material name a key of grating_material_problem names (for the error's value).
+std::string grating_material_of(const LamellarGrating& g, const std::string& key);
 
 }  // namespace roundtrip::io

@@ -45,10 +45,10 @@ GeometryKind grating_grating_kind() {
                                                        : "table"));
       if (const auto [key, why] = grating_material_problem(g, spec.frequency.temperature_K);
           !key.empty())
-        throw CaseError(fmt::format("{}:{}: {}.{} = \"{}\": {}", spec.path.string(),
-                                    case_line_of(spec, b->table, key.c_str()), b->table, key,
-                                    key == "material" ? g.ridge->name() : g.substrate->name(),
-                                    why));
+        throw CaseError(
+            fmt::format("{}:{}: {}.{} = \"{}\": {}", spec.path.string(),
+                        case_line_of(spec, b->table, key.substr(0, key.find('.')).c_str()),
+                        b->table, key, grating_material_of(g, key), why));
     }
     if (b2.grating.period != b1.grating.period)
       throw CaseError(fmt::format(

@@ -36,9 +36,10 @@ GeometryKind grating_plate_kind() {
     const LamellarGrating& g = spec.body("grating").grating;
     if (const auto [key, why] = grating_material_problem(g, spec.frequency.temperature_K);
         !key.empty())
-      throw CaseError(fmt::format("{}:{}: grating.{} = \"{}\": {}", spec.path.string(),
-                                  case_line_of(spec, "grating", key.c_str()), key,
-                                  key == "material" ? g.ridge->name() : g.substrate->name(), why));
+      throw CaseError(
+          fmt::format("{}:{}: grating.{} = \"{}\": {}", spec.path.string(),
+                      case_line_of(spec, "grating", key.substr(0, key.find('.')).c_str()), key,
+                      grating_material_of(g, key), why));
     GratingPlateOptions o;
     o.orders = spec.orders;
     o.bloch_rel_tol = std::clamp(0.3 * spec.frequency.rel_tol, 1e-12, 1e-2);

@@ -13,6 +13,7 @@
 #include <exception>
 #include <map>
 #include <stdexcept>
+#include <string>
 #include <tuple>
 #include <utility>
 #include <vector>
@@ -24,6 +25,8 @@
 #include "solver/guards.h"
 #include "solver/materials/models.h"
 #include "solver/parallel_for.h"
+#include "solver/planar/layered.h"
+#include "solver/scatterers/grating_coating.h"
 
 namespace roundtrip {
 namespace {
@@ -90,7 +93,8 @@ Quad round_trip(const MatrixXd& r1, const MatrixXd& r2, const VectorXd& kap, con
 
 bool same_grating(const LamellarGrating& a, const LamellarGrating& b) {
   return a.period == b.period && a.filling == b.filling && a.depth == b.depth &&
-         a.ridge == b.ridge && a.substrate == b.substrate;
+         a.ridge == b.ridge && a.substrate == b.substrate && a.coating == b.coating &&
+         a.coating_thickness == b.coating_thickness;
 }
 
 void check_grating(const LamellarGrating& g, const char* which) {
@@ -99,6 +103,8 @@ void check_grating(const LamellarGrating& g, const char* which) {
         "grating-grating: the {} grating's profile is not lamellar; only lamellar profiles are "
         "built (the PFA and the overlap assume rectangular ridges)",
         which));
+  if (const std::string p = coating_problem(g); !p.empty())
+    throw std::invalid_argument(fmt::format("grating-grating: {} grating: {}", which, p));
   if (!(g.period > 0.0) || !std::isfinite(g.period))
     throw std::invalid_argument(
         fmt::format("grating-grating: {} period = {} m must be > 0", which, g.period));
@@ -111,6 +117,44 @@ void check_grating(const LamellarGrating& g, const char* which) {
   if (!g.ridge || !g.substrate)
     throw std::invalid_argument(
         fmt::format("grating-grating: {} ridge and substrate materials must be given", which));
+}
+
+// PFA columns of a coated lamellar grating (Bao et al., PRL 105, 250402 (2010), per column;
+// derived for the coating): intervals of x (m, one period about the ridge centre), the depth of
+// the column's top below the coated tops, and its planar body, with the ridge material taken as
+// semi-infinite under the ridge as in the uncoated columns: ridge (coating t on the ridge),
+// coated walls (the coating), groove (coating t on the substrate, h lower).
+struct PfaColumn {
+  std::vector<std::pair<double, double>> xs;
+  double below = 0.0;
+  PlanarPtr body;
+};
+
+std::vector<PfaColumn> coated_columns(const LamellarGrating& g) {
+  const double lam = g.period, t = g.coating_thickness, a = 0.5 * g.filling * lam;
+  const double o = g.filling > 0.0 ? std::min(a + t, 0.5 * lam) : 0.0;  // outer half-width
+  std::vector<PfaColumn> c;
+  if (a > 0.0) c.push_back({{{-a, a}}, 0.0, make_layered({{g.coating, t}}, g.ridge)});
+  if (o > a) c.push_back({{{-o, -a}, {a, o}}, 0.0, make_half_space(g.coating)});
+  if (o < 0.5 * lam)
+    c.push_back({{{o, lam - o}}, g.depth, make_layered({{g.coating, t}}, g.substrate)});
+  return c;
+}
+
+// Length per period of [a1, a2] and [c1 + b, c2 + b] (periodic in lam) and its b derivative
+// (piecewise linear; as GratingGrating::overlap).
+std::pair<double, double> interval_overlap(double a1, double a2, double c1, double c2, double b,
+                                           double lam) {
+  const double bb = b - lam * std::round(b / lam);
+  double o = 0.0, d = 0.0;
+  for (int k = -3; k <= 3; ++k) {
+    const double lo = std::max(a1, c1 + bb + k * lam), hi = std::min(a2, c2 + bb + k * lam);
+    if (hi > lo) {
+      o += hi - lo;
+      d += (c2 + bb + k * lam < a2 ? 1.0 : 0.0) - (c1 + bb + k * lam > a1 ? 1.0 : 0.0);
+    }
+  }
+  return {o, d};
 }
 
 }  // namespace
@@ -424,6 +468,20 @@ std::pair<double, double> GratingGrating::overlap(double b) const {
 
 std::pair<double, double> GratingGrating::pfa_energy_and_lateral(
     double gap, double b, const FrequencyRuleOptions& opts) const {
+  if (g1_.coated() || g2_.coated()) {
+    const auto terms = coated_pfa_terms(b);
+    double energy = 0.0, lateral = 0.0;
+    for (const auto& [w, dwdb, dz, pp] : terms) {
+      const double e =
+          sum_over_frequencies(
+              [&](double xi) { return pp->at_frequency(xi, gap + dz, DerivativeOrder::kEnergy); },
+              frequency_scale(gap), opts)
+              .total.value;
+      energy += w * e;
+      lateral -= dwdb * e;
+    }
+    return {energy, lateral};
+  }
   const double lam = g1_.period, w1 = g1_.filling * lam, w2 = g2_.filling * lam;
   const double h1 = g1_.depth, h2 = g2_.depth;
   const auto hs = [](const MaterialPtr& m) { return make_half_space(m); };
@@ -446,7 +504,48 @@ std::pair<double, double> GratingGrating::pfa_energy_and_lateral(
   return {energy, lateral};
 }
 
+std::vector<GratingGrating::PfaTerm> GratingGrating::coated_pfa_terms(double b) const {
+  // Column pairs (derived; the uncoated four columns generalised): weight o_ij(b)/Lambda, its b
+  // derivative, the pair's extra gap (depths below the tops) and its plate-plate body pair. An
+  // uncoated grating gives the columns of the uncoated formula (ridge and groove half-spaces).
+  const auto columns = [](const LamellarGrating& g) {
+    if (g.coated()) return coated_columns(g);
+    const double lam = g.period, a = 0.5 * g.filling * lam;
+    std::vector<PfaColumn> c;
+    if (a > 0.0) c.push_back({{{-a, a}}, 0.0, make_half_space(g.ridge)});
+    if (a < 0.5 * lam) c.push_back({{{a, lam - a}}, g.depth, make_half_space(g.substrate)});
+    return c;
+  };
+  const double lam = g1_.period;
+  std::vector<PfaTerm> out;
+  for (const PfaColumn& c1 : columns(g1_))
+    for (const PfaColumn& c2 : columns(g2_)) {
+      double o = 0.0, d = 0.0;
+      for (const auto& [a1, a2] : c1.xs)
+        for (const auto& [e1, e2] : c2.xs) {
+          const auto [oi, di] = interval_overlap(a1, a2, e1, e2, b, lam);
+          o += oi;
+          d += di;
+        }
+      out.push_back({o / lam, d / lam, c1.below + c2.below,
+                     std::make_shared<PlatePlate>(c1.body, c2.body, medium_)});
+    }
+  return out;
+}
+
 std::optional<PfaValues> GratingGrating::pfa(double gap, const FrequencyRuleOptions& opts) const {
+  if (g1_.coated() || g2_.coated()) {
+    const auto terms = coated_pfa_terms(opts_.offset);
+    const FrequencySum s = sum_over_frequencies(
+        [&](double xi) {
+          Spectral v;
+          for (const auto& [w, dwdb, dz, pp] : terms)
+            if (w > 0.0) v += pp->at_frequency(xi, gap + dz, DerivativeOrder::kGradient) * w;
+          return v;
+        },
+        frequency_scale(gap), opts);
+    return PfaValues{s.total.value, -s.total.d1, -s.total.d2};
+  }
   const double lam = g1_.period, w1 = g1_.filling * lam, w2 = g2_.filling * lam;
   const double h1 = g1_.depth, h2 = g2_.depth;
   const auto hs = [](const MaterialPtr& m) { return make_half_space(m); };

@@ -40,6 +40,8 @@
 //   E_PFA = [o E_pp(L; r1, r2) + (w1 - o) E_pp(L + h2; r1, s2) + (w2 - o) E_pp(L + h1; s1, r2)
 //            + (Lambda - w1 - w2 + o) E_pp(L + h1 + h2; s1, s2)] / Lambda,
 // w_i = f_i Lambda, r_i ridge and s_i substrate half-spaces (grooves hold the gap medium).
+// Coated gratings (grating_coating.h): the same sum over pairs of columns (ridge, coated walls,
+// groove) weighted by their overlaps, coated_pfa_terms.
 #include <map>
 #include <memory>
 #include <mutex>
@@ -50,6 +52,8 @@
 #include "solver/scatterers/grating_fmm.h"
 
 namespace roundtrip {
+
+class PlatePlate;
 
 struct GratingGratingOptions {
   int orders = 0;               ///< N (orders -N..N); 0 = chosen by the convergence test
@@ -120,6 +124,13 @@ class GratingGrating final : public Geometry {
                                                    const FrequencyRuleOptions& opts) const;
   /// The ridge overlap o(b) per period (m) of the two gratings and do/db (header).
   std::pair<double, double> overlap(double b) const;
+  /// PFA of coated gratings: per pair of columns (ridge, coated walls, groove; grating.cc) the
+  /// weight o_ij(b)/Lambda, its b derivative, the extra gap (m) and the plate-plate pair.
+  struct PfaTerm {
+    double weight, d_weight, extra_gap;
+    std::shared_ptr<PlatePlate> pp;
+  };
+  std::vector<PfaTerm> coated_pfa_terms(double b) const;
 
  private:
   GratingStudy run_study(double gap) const;

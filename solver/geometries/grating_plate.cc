@@ -21,6 +21,7 @@
 #include "solver/materials/models.h"
 #include "solver/parallel_for.h"
 #include "solver/planar/layered.h"
+#include "solver/scatterers/grating_coating.h"
 
 namespace roundtrip {
 namespace {
@@ -35,6 +36,23 @@ thread_local int g_last_nodes = 0;
 // perfect conductor on a perfect conductor is the perfect conductor).
 bool same_material(const MaterialPtr& a, const MaterialPtr& b) {
   return a == b || (a->is_perfect_conductor() && b->is_perfect_conductor());
+}
+
+// A column of the sample (grating_columns) as a planar body: coating and ridge films on the
+// substrate, films of one material merged, none for zero thickness.
+PlanarPtr column_body(const LamellarGrating& g_, const GratingColumn& c) {
+  std::vector<Layer> films;
+  const auto add = [&](const MaterialPtr& m, double d) {
+    if (!(d > 0.0)) return;
+    if (!films.empty() && same_material(films.back().material, m))
+      films.back().thickness += d;
+    else
+      films.push_back({m, d});
+  };
+  add(g_.coating, c.coating);
+  add(g_.ridge, c.ridge);
+  while (!films.empty() && same_material(films.back().material, g_.substrate)) films.pop_back();
+  return films.empty() ? make_half_space(g_.substrate) : make_layered(films, g_.substrate);
 }
 
 // ln det(1 - M), d/dL, d2/dL2 at one Bloch vector (header).
@@ -99,6 +117,8 @@ GratingPlate::GratingPlate(LamellarGrating grating, PlanarPtr plate, MaterialPtr
     throw std::invalid_argument("grating-plate: ridge and substrate materials must be given");
   if (medium_->static_limit().is_conductor())
     throw std::invalid_argument("grating-plate: the gap medium must be a dielectric");
+  if (const std::string p = coating_problem(g_); !p.empty())
+    throw std::invalid_argument("grating-plate: " + p);
   if (opts_.orders < 0 || opts_.orders > 500)
     throw std::invalid_argument(
         fmt::format("grating-plate: orders = {} must lie in 0..500", opts_.orders));
@@ -272,8 +292,11 @@ double GratingPlate::frequency_scale(double gap) const {
 }
 
 std::string GratingPlate::describe() const {
-  return fmt::format("grating-plate: {} facing {} across {}", g_.describe(), plate_->describe(),
-                     medium_->name());
+  const std::string coat = g_.coated() ? fmt::format(", coated with {:g} m of {}",
+                                                     g_.coating_thickness, g_.coating->name())
+                                       : "";
+  return fmt::format("grating-plate: {}{} facing {} across {}", g_.describe(), coat,
+                     plate_->describe(), medium_->name());
 }
 
 std::optional<PfaValues> GratingPlate::pfa(double gap, const FrequencyRuleOptions& opts) const {
@@ -282,26 +305,16 @@ std::optional<PfaValues> GratingPlate::pfa(double gap, const FrequencyRuleOption
   // substrate (lamellar: f E_pp(L; ridge film of depth h on the substrate) + (1 - f)
   // E_pp(L + h; substrate)). Non-lamellar profiles: midpoint rule in x over half a period
   // (even profile) with kPfaColumns columns; the PFA is a comparison value, not a result.
+  // Coated: each column is the coating (h_out(x) - h(x)) on the ridge film h(x) on the
+  // substrate, at L + H + t - h_out(x) (lamellar: ridge, coated walls, groove; grating_columns).
   constexpr int kPfaColumns = 64;
-  const double H = g_.height();
-  std::vector<std::pair<double, double>> cols;  // (weight, column height)
-  if (g_.profile == GratingProfile::kLamellar) {
-    cols = {{g_.filling, H}, {1.0 - g_.filling, 0.0}};
-  } else {
-    for (int i = 0; i < kPfaColumns; ++i)
-      cols.push_back({1.0 / kPfaColumns, g_.height_at((i + 0.5) / kPfaColumns * 0.5 * g_.period)});
-  }
   std::vector<std::pair<double, std::unique_ptr<PlatePlate>>> pp;
-  for (const auto& [w, hx] : cols) {
-    if (w == 0.0) continue;
-    PlanarPtr body = hx > 0.0 && !same_material(g_.ridge, g_.substrate)
-                         ? make_layered({{g_.ridge, hx}}, g_.substrate)
-                         : make_half_space(hx > 0.0 ? g_.ridge : g_.substrate);
-    pp.emplace_back(w, std::make_unique<PlatePlate>(body, plate_, medium_));
-  }
   std::vector<double> dz;
-  for (const auto& [w, hx] : cols)
-    if (w != 0.0) dz.push_back(H - hx);
+  for (const GratingColumn& c : grating_columns(g_, kPfaColumns)) {
+    if (c.weight == 0.0) continue;
+    pp.emplace_back(c.weight, std::make_unique<PlatePlate>(column_body(g_, c), plate_, medium_));
+    dz.push_back(c.below_top);
+  }
   const FrequencySum s = sum_over_frequencies(
       [&](double xi) {
         Spectral v;
@@ -316,13 +329,12 @@ std::optional<PfaValues> GratingPlate::pfa(double gap, const FrequencyRuleOption
 
 double GratingPlate::flat_energy(double gap, const FrequencyRuleOptions& opts) const {
   // The sample filled to the ridge tops: a film of the ridge material of the profile's height on
-  // the substrate (a half-space when they are one material or the height is 0), facing the
-  // plate at L (Lifshitz (1956) through PlatePlate).
-  const double H = g_.height();
-  PlanarPtr body = H > 0.0 && !same_material(g_.ridge, g_.substrate)
-                       ? make_layered({{g_.ridge, H}}, g_.substrate)
-                       : make_half_space(H > 0.0 ? g_.ridge : g_.substrate);
-  const PlatePlate pp(body, plate_, medium_);
+  // the substrate (a half-space when they are one material or the height is 0), under the
+  // coating's film when coated, facing the plate at L (Lifshitz (1956) through PlatePlate).
+  GratingColumn flat;
+  flat.ridge = g_.height();
+  flat.coating = g_.coated() ? g_.coating_thickness : 0.0;
+  const PlatePlate pp(column_body(g_, flat), plate_, medium_);
   return sum_over_frequencies(
              [&](double xi) { return pp.at_frequency(xi, gap, DerivativeOrder::kEnergy); },
              frequency_scale(gap), opts)
@@ -395,8 +407,9 @@ FrequencyCost GratingPlate::cost(double gap, DerivativeOrder order, double /*rel
   const auto t = truncation(gap);
   const double N = t.at("orders");
   const double n_low = t.count("orders_low") ? t.at("orders_low") : 0.0;
+  // Layers per node: lamellar 1 (coated: the top slab, ridge layer and floor, 3).
   const double S = g_.profile == GratingProfile::kLamellar
-                       ? 1.0
+                       ? (g_.coated() ? 3.0 : 1.0)
                        : std::max(1.0, t.count("slices") ? t.at("slices") : 16.0);
   const double extra = 2.0 * static_cast<int>(order);
   double per_node = 0.0;

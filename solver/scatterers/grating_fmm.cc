@@ -12,6 +12,7 @@
 #include <vector>
 
 #include "solver/constants.h"
+#include "solver/scatterers/grating_coating.h"
 #include "solver/scatterers/grating_pec.h"
 
 namespace roundtrip {
@@ -19,30 +20,6 @@ namespace {
 
 using Eigen::MatrixXd;
 using Eigen::VectorXd;
-
-// Fourier coefficient p of a profile that is a on the ridge set (intervals [a_i, b_i] in units
-// of the period, symmetric about 0) and b elsewhere: c_0 = b + (a - b) sum (b_i - a_i),
-// c_p = (a - b) sum (sin 2 pi p b_i - sin 2 pi p a_i)/(2 pi p) (standard; the imaginary parts
-// cancel for an even set). One interval [-f/2, f/2]: (a - b) sin(pi p f)/(pi p).
-double set_coefficient(double a, double b, const std::vector<std::pair<double, double>>& set,
-                       int p) {
-  double c = 0.0;
-  if (p == 0) {
-    for (const auto& [lo, hi] : set) c += hi - lo;
-    return b + (a - b) * c;
-  }
-  for (const auto& [lo, hi] : set) c += std::sin(2.0 * kPi * p * hi) - std::sin(2.0 * kPi * p * lo);
-  return (a - b) * c / (2.0 * kPi * p);
-}
-
-MatrixXd toeplitz(double a, double b, const std::vector<std::pair<double, double>>& set, int m) {
-  std::vector<double> c(2 * m - 1);
-  for (int p = -(m - 1); p <= m - 1; ++p) c[p + m - 1] = set_coefficient(a, b, set, p);
-  MatrixXd t(m, m);
-  for (int i = 0; i < m; ++i)
-    for (int j = 0; j < m; ++j) t(i, j) = c[i - j + m - 1];
-  return t;
-}
 
 // Modes of one region: e = W (up + down), h = V (down - up) (amplitudes of up-going modes
 // e^{-lambda z}, down-going e^{+lambda z}); lambda in the region's length unit.
@@ -283,6 +260,10 @@ GratingAtFrequency::GratingAtFrequency(const LamellarGrating& g, double xi, cons
       throw std::invalid_argument(
           "grating: the xi = 0 term of a perfectly conducting grating is not built (use "
           "temperature = \"0 K\", which needs no xi = 0 term)");
+    if (g.coated())
+      throw std::invalid_argument(
+          "grating: a coating on a perfectly conducting grating is not built (its modal method "
+          "has empty grooves)");
     pec_ = true;
     eps_m_ = epsilon_at(medium, xi, "gap medium");
     q0_ = xi / kSpeedOfLight;
@@ -292,11 +273,13 @@ GratingAtFrequency::GratingAtFrequency(const LamellarGrating& g, double xi, cons
   eps_r_ = epsilon_at(*g.ridge, xi, "ridge material");
   eps_s_ = epsilon_at(*g.substrate, xi, "substrate");
   q0_ = xi / kSpeedOfLight;
-  for (const auto& [thickness, set] : g.layers()) {
+  // Piecewise-constant eps per layer: gap medium, ridge and coating segments (grating_coating.h).
+  eps_c_ = g.coated() ? epsilon_at(*g.coating, xi, "coating") : eps_m_;
+  for (const GratingLayer& gl : grating_layers(g)) {
     Layer l;
-    l.thickness = thickness;
-    l.ee = toeplitz(eps_r_, eps_m_, set, m_);
-    l.ai = toeplitz(1.0 / eps_r_, 1.0 / eps_m_, set, m_).inverse();
+    l.thickness = gl.thickness;
+    l.ee = segment_toeplitz(eps_m_, eps_r_, eps_c_, gl.segments, m_);
+    l.ai = segment_toeplitz(1.0 / eps_m_, 1.0 / eps_r_, 1.0 / eps_c_, gl.segments, m_).inverse();
     l.ai = 0.5 * (l.ai + l.ai.transpose()).eval();
     l.ee_llt.compute(l.ee);
     const Eigen::LLT<MatrixXd> ai_llt(l.ai);

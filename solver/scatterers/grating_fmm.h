@@ -65,6 +65,12 @@ struct LamellarGrating {
   /// Staircase slices for non-lamellar profiles (equal thickness, ridge set at the slice's
   /// mid-height); 0 = not set (the geometry chooses it by a convergence test).
   int slices = 0;
+  /// Optional conformal coating (additive; geometry, layers and checks in grating_coating.h): a
+  /// film of `coating` (eps_c), `coating_thickness` t (m) thick, over the whole profile (ridge
+  /// tops, walls and groove floors); the top of the coated crest is then z = 0. None when null.
+  MaterialPtr coating;
+  double coating_thickness = 0.0;
+  bool coated() const { return coating != nullptr; }
   /// Crest-to-trough height (m): depth (lamellar, triangular, table), 2A (sinusoidal).
   double height() const;
   /// Height of the profile at x (m), x in m from the crest, any x (periodic).
@@ -132,7 +138,7 @@ class GratingAtFrequency {
   Eigen::MatrixXd pec_reflect(double kx, double ky) const;
   LamellarGrating g_;
   bool pec_ = false;  // ridges and substrate perfect conductors: grating_pec.h
-  double xi_, q0_ = 0.0, eps_m_ = 1.0, eps_r_ = 0.0, eps_s_ = 0.0;
+  double xi_, q0_ = 0.0, eps_m_ = 1.0, eps_r_ = 0.0, eps_s_ = 0.0, eps_c_ = 0.0;
   int n_, m_;
   std::vector<Layer> layers_;  // top first
 };
