@@ -8,7 +8,10 @@
 //             local exponent p = -d ln|dE| / d ln H between successive H: Emig, Hanke,
 //             Golestanian, Kardar, PRL 87, 260402 (2001) report |dE| ~ H^-5 for period >> H
 //             (the PFA regime, pairwise-like) and ~ H^-4 for period << H.
-// Usage: roundtrip_bench_grating_pec [scan|exponent] [rel_tol]
+//   profile:  per Bloch node, the grating's reflection operator alone and the whole node
+//             (operator + plate + round trip), one thread, against N; then one frequency
+//             (xi = c/2L) of grating-plate at fixed N: Bloch nodes and wall time.
+// Usage: roundtrip_bench_grating_pec [scan|exponent|profile] [rel_tol]
 #include <fmt/format.h>
 #include <omp.h>
 
@@ -17,6 +20,7 @@
 #include <cstdio>
 #include <cstdlib>
 #include <string>
+#include <tuple>
 #include <vector>
 
 #include "solver/constants.h"
@@ -24,6 +28,7 @@
 #include "solver/geometries/grating_plate.h"
 #include "solver/materials/models.h"
 #include "solver/planar/planar.h"
+#include "solver/scatterers/grating_pec.h"
 
 using namespace roundtrip;
 
@@ -86,6 +91,46 @@ int main(int argc, char** argv) {
       std::printf("%10.3f %10.3f %14.6e %10.6f %10.6f %4d %8.1f\n", ratio, period / h, r.energy,
                   r.energy / pfa, r.energy / e_pp(L), r.orders, r.seconds);
       std::fflush(stdout);
+    }
+    return 0;
+  }
+  if (mode == "profile") {
+    for (const auto& [period, L, h] :
+         {std::tuple{18.75e-9, 100e-9, 100e-9}, std::tuple{400e-9, 200e-9, 200e-9}}) {
+      std::printf("period %.2f nm, L = %.0f nm, h = %.0f nm, f = %.2f\n", period * 1e9, L * 1e9,
+                  h * 1e9, f);
+      std::printf("%4s %14s %14s %8s %10s\n", "N", "R us/node", "node us", "nodes", "xi* wall s");
+      const double xi = kSpeedOfLight / (2.0 * L);
+      for (int N : {4, 8, 16, 32, 64}) {
+        omp_set_num_threads(1);
+        const int reps = N <= 16 ? 400 : 40;
+        auto t0 = std::chrono::steady_clock::now();
+        double sink = 0.0;
+        for (int i = 0; i < reps; ++i)
+          sink += pec_lamellar_reflection({period, f, h}, xi, 1.0, N, 1e6 + i, 2e6)(0, 0);
+        const double t_r = seconds_since(t0) / reps * 1e6;
+        LamellarGrating g;
+        g.period = period;
+        g.filling = f;
+        g.depth = h;
+        g.ridge = g.substrate = make_perfect_conductor();
+        GratingPlateOptions o;
+        o.orders = N;
+        o.bloch_rel_tol = 1e-6;
+        const GratingPlate gp(g, make_half_space(make_perfect_conductor()), nullptr, o);
+        t0 = std::chrono::steady_clock::now();
+        const double s1 = gp.at_frequency(xi, L, DerivativeOrder::kEnergy).value;
+        const double t_f = seconds_since(t0);
+        const int nodes = GratingPlate::last_node_count();
+        omp_set_num_threads(2);
+        t0 = std::chrono::steady_clock::now();
+        const double s2 = gp.at_frequency(xi, L, DerivativeOrder::kEnergy).value;
+        const double t_f2 = seconds_since(t0);
+        std::printf("%4d %14.1f %14.1f %8d %10.3f  (s = %.10e, %s)\n", N, t_r, t_f / nodes * 1e6,
+                    nodes, t_f2, s2,
+                    s1 == s2 && sink != 0.0 ? "same on 1 and 2 threads" : "DIFFERS");
+        std::fflush(stdout);
+      }
     }
     return 0;
   }

@@ -191,9 +191,18 @@ GratingGratingSpectral GratingGrating::spectral(double xi, double gap, Derivativ
   const double q2 = eps_m * (xi / kSpeedOfLight) * (xi / kSpeedOfLight);
   const long x_fine = pow3(kMaxXLevel);
   const long t_fine = 1L << kMaxTLevel;
-  // Order index of each basis entry (E_x and E_y blocks at xi > 0, the potential at xi = 0).
+  // Order index of each basis entry (E_x and E_y blocks at xi > 0, the potential at xi = 0, the
+  // potentials phi and psi at xi = 0 when a grating is a perfect conductor, grating_pec.h: the
+  // other grating, a dielectric, then reflects psi by 0, as its static TE reflection).
   const int m = 2 * N + 1;
-  VectorXd ord(xi > 0.0 ? 2 * m : m);
+  const bool pair = gf1.static_pair() || (gf2 && gf2->static_pair());
+  const auto in_basis = [&](MatrixXd r) {
+    if (xi > 0.0 || !pair || r.rows() == 2 * m) return r;
+    MatrixXd p = MatrixXd::Zero(2 * m, 2 * m);
+    p.topLeftCorner(m, m) = r;
+    return p;
+  };
+  VectorXd ord(xi > 0.0 || pair ? 2 * m : m);
   for (int i = 0; i < ord.size(); ++i) ord[i] = (i % m) - N;
 
   std::map<std::pair<long, long>, Quad> memo;
@@ -209,9 +218,9 @@ GratingGratingSpectral GratingGrating::spectral(double xi, double gap, Derivativ
     const double a = std::min(0.5 / gap, std::sqrt(kx * kx + q2));
     const double t = q * (kH0 / t_fine);
     const double ky = a * std::sinh(t);
-    const MatrixXd r1 = gf1.reflect(lines[0], ky);
-    const MatrixXd r2 = twin ? r1 : gf2->reflect(lines[1], ky);
-    const VectorXd kap = orders_decay(xi, eps_m, g1_.period, N, kx, ky);
+    const MatrixXd r1 = in_basis(gf1.reflect(lines[0], ky));
+    const MatrixXd r2 = twin ? r1 : in_basis(gf2->reflect(lines[1], ky));
+    const VectorXd kap = orders_decay(xi, eps_m, g1_.period, N, kx, ky, pair);
     Quad v = round_trip(r1, r2, kap, ord, G, b, gap, n_comp);
     const double jac = a * std::cosh(t) * wu;
     for (double& c : v) c *= jac;

@@ -282,7 +282,9 @@ TEST(GratingPec, RefusedCombinations) {
   const auto vac = make_vacuum();
   EXPECT_THROW(GratingAtFrequency(g, 1e15, *vac, 3), std::invalid_argument);  // mixed
   g.substrate = g.ridge;
-  EXPECT_THROW(GratingAtFrequency(g, 0.0, *vac, 3), std::invalid_argument);  // xi = 0
+  // xi = 0 is built: the static pair (phi, psi), dimension 2(2N + 1) (grating_pec.h).
+  EXPECT_TRUE(GratingAtFrequency(g, 0.0, *vac, 3).static_pair());
+  EXPECT_EQ(GratingAtFrequency(g, 0.0, *vac, 3).dim(), 14);
   g.profile = GratingProfile::kTriangular;
   EXPECT_THROW(GratingAtFrequency(g, 1e15, *vac, 3), std::invalid_argument);  // not lamellar
 }
@@ -451,6 +453,116 @@ TEST(GratingPec, TwoConductingGratingsAreSymmetricInTheOffset) {
   EXPECT_NEAR(sb.d_offset, -smb.d_offset, 1e-6 * std::abs(sb.d_offset));
   EXPECT_LT(s0.s.value, sb.s.value);
   EXPECT_LT(sb.s.value, sh.s.value);
+}
+
+// ---- Blocks of orders and the static (xi = 0) term ------------------------------------------
+
+TEST(GratingPec, BlockOfOrdersIsTheBlockOfTheFullOperator) {
+  // The solver forms only the orders that reach the plate (grating_pec.h, grating_plate.cc):
+  // the block lo..hi must be that block of the full operator (exact algebra, derived), at
+  // xi > 0 (tangential-E basis) and xi = 0 (static basis), conical incidence included.
+  const PecLamellar g{300e-9, 0.4, 120e-9};
+  const int N = 6, m = 2 * N + 1;
+  for (double xi : {0.0, 7e14})
+    for (const auto& [kx, ky] : {std::pair{1.3e6, 0.0}, std::pair{-4e6, 5e6}})
+      for (const auto& [lo, hi] : {std::pair{0, m - 1}, std::pair{4, 8}, std::pair{6, 6}}) {
+        const MatrixXd full = pec_lamellar_reflection(g, xi, 1.0, N, kx, ky);
+        const MatrixXd blk = pec_lamellar_reflection(g, xi, 1.0, N, kx, ky, -1, lo, hi);
+        const int na = hi - lo + 1;
+        double worst = 0.0;
+        for (int a = 0; a < 2; ++a)
+          for (int b = 0; b < 2; ++b)
+            worst = std::max(worst, (blk.block(a * na, b * na, na, na) -
+                                     full.block(a * m + lo, b * m + lo, na, na))
+                                        .cwiseAbs()
+                                        .maxCoeff());
+        EXPECT_LT(worst, kIdentityTol) << "xi " << xi << " kx " << kx << " block " << lo;
+      }
+}
+
+TEST(GratingPec, StaticScalarsAreTheLimitOfSmallXi) {
+  // Continuity (common practice; the formulas are analytic in eps~ = eps_m xi^2/c^2, derived):
+  // R_D and R_N at xi = 1e9 rad/s (xi/c = 3.3 /m against k ~ 1e6-1e7 /m: changes ~(xi/ck)^2 <
+  // 1e-11) equal those at xi = 0, and so does the basis-free round trip against a plate, the
+  // tangential-E one at xi > 0 against the static (phi, psi) one at xi = 0: a perfect mirror and
+  // a dielectric plate (eps = 11.7: r_TE -> 0, r_TM -> (eps - 1)/(eps + 1), Fresnel). k_y = 0
+  // included (there gamma = xi/c: the grooves' m = 0 Neumann mode has q = 0 at xi = 0).
+  // Asked 1e-9.
+  const double L = 120e-9, xi = 1e9;
+  const auto vac = make_vacuum();
+  for (const PecLamellar& g : {PecLamellar{400e-9, 0.5, 150e-9}, PecLamellar{250e-9, 0.7, 40e-9}})
+    for (const auto& [kx, ky] : {std::pair{2e6, 0.0}, std::pair{5e5, 3e6}, std::pair{7e6, 1e7}}) {
+      const int N = 5;
+      const auto a = pec_lamellar_scalar(g, xi, 1.0, N, kx, ky);
+      const auto b = pec_lamellar_scalar(g, 0.0, 1.0, N, kx, ky);
+      EXPECT_LT((a.rd - b.rd).cwiseAbs().maxCoeff(), 1e-9);
+      EXPECT_LT((a.rn - b.rn).cwiseAbs().maxCoeff(), 1e-9);
+      for (const auto& plate : {make_half_space(make_perfect_conductor()),
+                                make_half_space(make_constant("si", 11.7))}) {
+        const auto lnd = [&](double x) {
+          const MatrixXd rg = pec_lamellar_reflection(g, x, 1.0, N, kx, ky);
+          const MatrixXd rp =
+              planar_reflection_in_orders(*plate->at(x, *vac), x, g.period, N, kx, ky, true);
+          const VectorXd d = (-orders_decay(x, 1.0, g.period, N, kx, ky, true) * L).array().exp();
+          const MatrixXd mm = rg * d.asDiagonal() * rp * d.asDiagonal();
+          return std::log((MatrixXd::Identity(mm.rows(), mm.cols()) - mm).determinant());
+        };
+        const double s0 = lnd(0.0), s1 = lnd(xi);
+        EXPECT_NEAR(s1, s0, 1e-9 * std::abs(s0)) << "kx " << kx << " ky " << ky;
+      }
+    }
+}
+
+TEST(GratingPec, StaticTermOfFlatConductorsIsLifshitzsZeroFrequencyTerm) {
+  // The n = 0 term of perfect mirrors, both polarizations (Lifshitz (1956), standard; the
+  // energy's term k_B T/2 s(0) is -zeta(3) k_B T/(8 pi L^2)): s(0) = -zeta(3)/(4 pi L^2),
+  // ds/dL = zeta(3)/(2 pi L^3), d2s/dL2 = -3 zeta(3)/(2 pi L^4), through the grating: f = 1 (the
+  // flat conductor at L) and f = 0 (at L + h), N = 8, Bloch tolerance 1e-7 (the integrand has
+  // the k = 0 logarithm ln(2kL) of two ideal mirrors at xi = 0). Asked 1e-6.
+  const double L = 150e-9, h = 80e-9;
+  for (const auto& [g, x] :
+       {std::pair{pec_grating(400e-9, 1.0, h), L}, std::pair{pec_grating(400e-9, 0.0, h), L + h}}) {
+    GratingPlateOptions o;
+    o.orders = 8;
+    o.bloch_rel_tol = 1e-7;
+    const GratingPlate gp(g, make_half_space(make_perfect_conductor()), nullptr, o);
+    const Spectral s = gp.at_frequency(0.0, L, DerivativeOrder::kGradient);
+    const double s0 = -kZeta3 / (4.0 * kPi * x * x);
+    EXPECT_NEAR(s.value, s0, 1e-6 * std::abs(s0));
+    EXPECT_NEAR(s.d1, -2.0 * s0 / x, 1e-6 * std::abs(2.0 * s0 / x));
+    EXPECT_NEAR(s.d2, 6.0 * s0 / (x * x), 1e-6 * std::abs(6.0 * s0 / (x * x)));
+  }
+}
+
+TEST(GratingPec, HighTemperatureIsTheStaticTerm) {
+  // A T > 0 grating-plate run (Matsubara rule) against its own n = 0 term: at T = 4000 K and
+  // L = 2 um, xi_1 L/c = 25, so the n >= 1 terms are ~e^{-50} (Lifshitz, standard): F =
+  // k_B T s(0)/2. Period 2 um, f = 0.5, h = 1 um, N = 6 (fixed: the same operator in both).
+  // Also printed: s(0) against its PFA f s_pp(L) + (1 - f) s_pp(L + h) (Bao et al., PRL 105,
+  // 250402 (2010) applied to the n = 0 term). Asked 1e-6 (rel_tol 1e-7).
+  const double L = 2e-6, T = 4000.0;
+  GratingPlateOptions o;
+  o.orders = 6;
+  o.bloch_rel_tol = 1e-8;
+  const GratingPlate gp(pec_grating(2e-6, 0.5, 1e-6), make_half_space(make_perfect_conductor()),
+                        nullptr, o);
+  FrequencyRuleOptions fo;
+  fo.temperature_K = T;
+  fo.rel_tol = 1e-7;
+  const double f_t = sum_over_frequencies(
+                         [&](double x, double t) {
+                           return gp.at_frequency_within(x, L, DerivativeOrder::kEnergy, t);
+                         },
+                         gp.frequency_scale(L), fo)
+                         .total.value;
+  const double s0 = gp.at_frequency(0.0, L, DerivativeOrder::kEnergy).value;
+  const double n0 = 0.5 * kBoltzmann * T * s0;
+  const auto spp = [](double x) { return -kZeta3 / (4.0 * kPi * x * x); };
+  std::printf("T = %.0f K: F = %.8e J/m^2, k_B T s(0)/2 = %.8e, s(0)/s_PFA(0) = %.6f\n", T, f_t, n0,
+              s0 / (0.5 * spp(L) + 0.5 * spp(3e-6)));
+  EXPECT_NEAR(f_t, n0, 1e-6 * std::abs(n0));
+  EXPECT_LT(std::abs(s0), std::abs(spp(L)));
+  EXPECT_GT(std::abs(s0), std::abs(spp(3e-6)));
 }
 
 }  // namespace
