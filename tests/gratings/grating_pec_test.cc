@@ -455,6 +455,61 @@ TEST(GratingPec, TwoConductingGratingsAreSymmetricInTheOffset) {
   EXPECT_LT(sb.s.value, sh.s.value);
 }
 
+// ---- The two regimes of Emig, Hanke, Golestanian, Kardar, PRL 87, 260402 (2001) ------------
+// Their abstract (also Buscher & Emig, PRA 69, 062101 (2004)): for a flat plate facing a
+// rectangular corrugation, the correction dE = E - E_pp(H) (H the mean distance: here
+// H = L + (1 - f) h, the distance to the profile's mean plane) decays like H^-4 for period << H
+// and like H^-5 for period >> H, the pairwise (PFA) behaviour. The asymptotic forms (derived):
+// period >> H, the grating PFA f E_pp(L) + (1 - f) E_pp(L + h), whose dE for f = 1/2 and
+// amplitude a = h/2 is (E_pp(H - a) + E_pp(H + a))/2 - E_pp(H) = 6 (a/H)^2 E_pp(H) (1 + O(a^2/H^2))
+// ~ a^2 H^-5; period << H, the homogenised surface above (homogenised_energy), whose dE is
+// linear in a: ~ a H^-4.
+
+TEST(GratingPec, SmallPeriodCorrectionFallsLikeHToTheMinus4) {
+  // period 25 nm, f = 0.5, h = 20 nm (a = 10 nm), H = 150 and 300 nm (period/H = 1/6, 1/12):
+  // the local exponent p = -d ln|dE|/d ln H of the exact dE and of the homogenised form's, and
+  // their ratio. N = 4 (only the specular order reaches the plate: e^{-2 G L} < 1e-20; N = 4 ->
+  // 8 moved s by 2.6e-4 at period/L = 0.19, bench profile), tolerance 1e-4 (dE is 5-10 % of E
+  // here, so its error is ~2e-3 and p's ~3e-3). Observed (N = 6, tolerance 1e-5): p = 4.095,
+  // homogenised p = 4.101 (its own a/H correction: p -> 4 as a/H -> 0), dE/dE_hom = 0.888,
+  // 0.892 (the grooves' edges at finite period). Asked: |p - 4| < 0.15 (the a/H share, 0.10 in
+  // the asymptotic form) and |p - p_hom| < 0.03.
+  const double f = 0.5, h = 20e-9, period = 25e-9;
+  std::vector<double> de, dh;
+  for (double H : {150e-9, 300e-9}) {
+    const double L = H - (1.0 - f) * h;
+    de.push_back(energy(pec_grating(period, f, h), L, 4, 1e-4) - e_pp(H));
+    dh.push_back(homogenised_energy(f, h, L) - e_pp(H));
+  }
+  const double p = -std::log(de[1] / de[0]) / std::log(2.0);
+  const double ph = -std::log(dh[1] / dh[0]) / std::log(2.0);
+  std::printf(
+      "period << H: dE(150 nm) = %.6e, dE(300 nm) = %.6e J/m^2, p = %.4f; homogenised "
+      "p = %.4f; dE/dE_hom = %.4f, %.4f\n",
+      de[0], de[1], p, ph, de[0] / dh[0], de[1] / dh[1]);
+  // More attraction than flat mirrors at H: the fields hardly enter narrow grooves, the plate
+  // sees the ridge tops at H - a (the "reduced distance" of Buscher & Emig (2004)).
+  EXPECT_LT(de[0], 0.0);
+  EXPECT_NEAR(p, 4.0, 0.15);
+  EXPECT_NEAR(p, ph, 0.03);
+}
+
+TEST(GratingPec, LargePeriodTendsToTheGratingPfa) {
+  // L = h = 100 nm, f = 0.5 (H = 150 nm), period 4 H and 8 H: E/E_PFA - 1 must shrink, like
+  // 1/period (the edges' share; derived: each edge adds a line energy per length, 2 edges per
+  // period). N = 12 and 16 (the damping model N ~ ln(1e6) period/(4 pi L)), tolerance 1e-4.
+  // Observed: E/E_PFA = 1.0740, 1.0354 (deviation ratio 2.09).
+  const double f = 0.5, L = 100e-9, h = 100e-9, H = L + (1.0 - f) * h;
+  const double pfa = f * e_pp(L) + (1.0 - f) * e_pp(L + h);
+  std::vector<double> dev;
+  for (const auto& [ratio, N] : {std::pair{4.0, 12}, std::pair{8.0, 16}}) {
+    dev.push_back(energy(pec_grating(ratio * H, f, h), L, N, 1e-4) / pfa - 1.0);
+    std::printf("period/H = %.0f: E/E_PFA = %.5f\n", ratio, 1.0 + dev.back());
+  }
+  EXPECT_LT(std::abs(dev[1]), std::abs(dev[0]));
+  EXPECT_NEAR(dev[0] / dev[1], 2.0, 0.5);
+}
+
 // ---- Blocks of orders and the static (xi = 0) term ------------------------------------------
 
 TEST(GratingPec, BlockOfOrdersIsTheBlockOfTheFullOperator) {
