@@ -186,4 +186,11 @@ Eigen::MatrixXd pec_lamellar_reflection(const PecLamellar& g, double xi, double 
   return r;
 }
 
+Eigen::MatrixXd conductor_lamellar_static(const PecLamellar& g, double eps_m, int orders, double kx,
+                                          double ky, int lo, int hi) {
+  // The Dirichlet half of the static pair (header): the potential vanishes on the grounded
+  // conductor; eps_m does not enter the Laplace problem of the gap (checked >= 1 only).
+  return pec_lamellar_scalar(g, 0.0, eps_m, orders, kx, ky, -1, lo, hi).rd;
+}
+
 }  // namespace roundtrip

@@ -100,4 +100,14 @@ Eigen::MatrixXd pec_lamellar_reflection(const PecLamellar& g, double xi, double 
                                         double kx, double ky, int groove_modes = -1, int lo = 0,
                                         int hi = -1);
 
+/// The n = 0 term's operator of a lamellar grating of a Drude (or any static) conductor, ridges
+/// and substrate one connected conductor: an equipotential (the static TM problem is the
+/// Dirichlet problem of the potential), and no static TE reflection (mu = 1: a Drude metal
+/// does not screen a static magnetic field). Returns R_D at xi = 0 on the orders lo..hi, in the
+/// FMM's static potential basis (grating_fmm.h: a planar body reflects the potential by
+/// -r_TM(0), so a flat conductor gives -1). A function only: the geometries still refuse
+/// conducting non-ideal ridges (io/grating_spec.cc).
+Eigen::MatrixXd conductor_lamellar_static(const PecLamellar& g, double eps_m, int orders, double kx,
+                                          double ky, int lo = 0, int hi = -1);
+
 }  // namespace roundtrip
