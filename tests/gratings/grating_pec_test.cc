@@ -670,5 +670,41 @@ TEST(GratingPec, DrudeStaticTermIsTheDirichletHalf) {
   EXPECT_NEAR(a, b, 2e-2 * std::abs(a));
 }
 
+TEST(GratingPec, StaticTermOfTwoGratingsWithAFlatOneIsGratingPlate) {
+  // grating-grating at xi = 0 in the static pair basis (phi, psi): a PEC grating facing a flat
+  // PEC "grating" (f = 1) is the grating facing a perfect mirror (derived: R = diag(-1, +1) is
+  // the mirror's static operator), through the two kinds' own Bloch integrals, N = 4, Bloch
+  // tolerance 1e-8, offsets 0 and 70 nm (nothing depends on b with a flat partner). And a
+  // dielectric partner (its static TE reflection 0) pads the psi block with zeros: the result
+  // is finite and negative. Asked 1e-6.
+  const double L = 150e-9, period = 400e-9;
+  const auto g = pec_grating(period, 0.5, 100e-9), flat = pec_grating(period, 1.0, 100e-9);
+  GratingPlateOptions po;
+  po.orders = 4;
+  po.bloch_rel_tol = 1e-8;
+  const double ref = GratingPlate(g, make_half_space(make_perfect_conductor()), nullptr, po)
+                         .at_frequency(0.0, L, DerivativeOrder::kEnergy)
+                         .value;
+  for (double b : {0.0, 70e-9}) {
+    GratingGratingOptions o;
+    o.orders = 4;
+    o.bloch_rel_tol = 1e-8;
+    o.offset = b;
+    const double v = GratingGrating(g, flat, nullptr, o)
+                         .spectral(0.0, L, DerivativeOrder::kEnergy, 1e-8)
+                         .s.value;
+    EXPECT_NEAR(v, ref, 1e-6 * std::abs(ref)) << "b " << b;
+  }
+  LamellarGrating si = g;
+  si.ridge = si.substrate = make_constant("si-like", 11.7);
+  GratingGratingOptions o;
+  o.orders = 4;
+  o.bloch_rel_tol = 1e-6;
+  const double mixed =
+      GratingGrating(g, si, nullptr, o).spectral(0.0, L, DerivativeOrder::kEnergy, 1e-6).s.value;
+  EXPECT_LT(mixed, 0.0);
+  EXPECT_GT(mixed, ref);  // a dielectric (r_TM < 1, no TE) attracts less than a mirror
+}
+
 }  // namespace
 }  // namespace roundtrip
