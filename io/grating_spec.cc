@@ -301,11 +301,7 @@ std::pair<std::string, std::string> grating_material_problem(const LamellarGrati
       return {"material",
               "a perfectly conducting grating is built for profile = \"lamellar\" only (its modal "
               "method needs rectangular grooves)"};
-    if (temperature_K > 0.0)
-      return {"material",
-              "the xi = 0 term of a perfectly conducting grating is not built; at T > 0 the "
-              "grating must be a dielectric (T = 0 works)"};
-    return {};
+    return {};  // T > 0 too: the xi = 0 term is the static Dirichlet + Neumann pair
   }
   if (g.ridge->static_limit().is_conductor())
     return {"material",

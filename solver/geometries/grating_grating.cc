@@ -366,11 +366,20 @@ std::vector<std::vector<GratingGratingSpectral>> GratingGrating::terms_at(
   const double eps_m = xi > 0.0 ? medium_->epsilon(xi) : medium_->static_limit().static_eps;
   const double G = 2.0 * kPi / g1_.period;
   const double q2 = eps_m * (xi / kSpeedOfLight) * (xi / kSpeedOfLight);
-  // Order index of each basis entry (E_x and E_y blocks at xi > 0, the potential at xi = 0).
+  // Order index of each basis entry (E_x and E_y blocks at xi > 0, the potential at xi = 0, the
+  // potentials phi and psi at xi = 0 when a grating is a perfect conductor, grating_pec.h: the
+  // other grating, a dielectric, then reflects psi by 0, as its static TE reflection).
+  const bool pair = gf1.front().static_pair() || (!twin && gf2.front().static_pair());
+  const auto in_basis = [&](MatrixXd r, int m) {
+    if (xi > 0.0 || !pair || r.rows() == 2 * m) return r;
+    MatrixXd p = MatrixXd::Zero(2 * m, 2 * m);
+    p.topLeftCorner(m, m) = r;
+    return p;
+  };
   std::vector<VectorXd> ords;
   for (int N : levels) {
     const int m = 2 * N + 1;
-    VectorXd ord(xi > 0.0 ? 2 * m : m);
+    VectorXd ord(xi > 0.0 || pair ? 2 * m : m);
     for (int i = 0; i < ord.size(); ++i) ord[i] = (i % m) - N;
     ords.push_back(ord);
   }
@@ -382,9 +391,10 @@ std::vector<std::vector<GratingGratingSpectral>> GratingGrating::terms_at(
         blocks::BlochIntegral::Values out(n_values, 0.0);
         for (int u = 0; u < nl; ++u) {
           const int N = levels[u];
-          const MatrixXd r1 = gf1[u].reflect(lines[u * n_g], ky);
-          const MatrixXd r2 = twin ? r1 : gf2[u].reflect(lines[u * n_g + 1], ky);
-          const VectorXd kap = orders_decay(xi, eps_m, g1_.period, N, kx, ky);
+          const MatrixXd r1 = in_basis(gf1[u].reflect(lines[u * n_g], ky), 2 * N + 1);
+          const MatrixXd r2 =
+              twin ? r1 : in_basis(gf2[u].reflect(lines[u * n_g + 1], ky), 2 * N + 1);
+          const VectorXd kap = orders_decay(xi, eps_m, g1_.period, N, kx, ky, pair);
           for (std::size_t k = 0; k < terms.size(); ++k) {
             const Term& t = terms[k];
             for (std::size_t l = 0; l < t.orders.size(); ++l) {

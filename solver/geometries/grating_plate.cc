@@ -55,6 +55,43 @@ PlanarPtr column_body(const LamellarGrating& g_, const GratingColumn& c) {
   return films.empty() ? make_half_space(g_.substrate) : make_layered(films, g_.substrate);
 }
 
+// The orders that reach the plate: M = R_g D R_p D has the factor D = e^{-kappa L} on the right,
+// so an order whose round-trip decay e^{-2 kappa_n L} is below e^{-kDroppedDecay} of the least
+// decaying order's gives M a column of zeros to that precision, and 1 - M is block triangular:
+// ln det(1 - M) and its L-derivatives (which keep the right factor D) are those of the block of
+// the other orders (derived). kappa_n is convex in n, so that block is one run lo..hi of order
+// indices. e^-60 = 9e-27 leaves 1e10 to the double rounding for any reflection elements up to
+// 1e5 (the tangential-E basis' R_xy ~ k_y k_n/gamma^2; R_D, R_N themselves are contractions).
+constexpr double kDroppedDecay = 60.0;
+
+std::pair<int, int> reaching_orders(const VectorXd& kap, int m, double gap) {
+  double kmin = kap[0];
+  for (int i = 1; i < m; ++i) kmin = std::min(kmin, kap[i]);
+  int lo = 0, hi = m - 1;
+  while (lo < hi && 2.0 * (kap[lo] - kmin) * gap > kDroppedDecay) ++lo;
+  while (hi > lo && 2.0 * (kap[hi] - kmin) * gap > kDroppedDecay) --hi;
+  return {lo, hi};
+}
+
+// The block of order indices lo..hi of each component of a basis of orders 0..m-1 per component.
+MatrixXd order_block(const MatrixXd& full, int m, int lo, int hi) {
+  if (lo == 0 && hi == m - 1) return full;
+  const int na = hi - lo + 1, nb = static_cast<int>(full.rows()) / m;
+  MatrixXd r(nb * na, nb * na);
+  for (int a = 0; a < nb; ++a)
+    for (int b = 0; b < nb; ++b)
+      r.block(a * na, b * na, na, na) = full.block(a * m + lo, b * m + lo, na, na);
+  return r;
+}
+
+VectorXd order_block(const VectorXd& full, int m, int lo, int hi) {
+  if (lo == 0 && hi == m - 1) return full;
+  const int na = hi - lo + 1, nb = static_cast<int>(full.size()) / m;
+  VectorXd r(nb * na);
+  for (int a = 0; a < nb; ++a) r.segment(a * na, na) = full.segment(a * m + lo, na);
+  return r;
+}
+
 // ln det(1 - M), d/dL, d2/dL2 at one Bloch vector (header).
 Triple round_trip(const MatrixXd& rg, const MatrixXd& rp, const VectorXd& kap, double gap, int n) {
   const VectorXd d = (-kap * gap).array().exp();
@@ -248,9 +285,13 @@ std::vector<Spectral> GratingPlate::levels_at(double xi, double gap, DerivativeO
         blocks::BlochIntegral::Values out(3 * (nl + 1), 0.0);
         for (int l = 0; l < nl; ++l) {
           const int N = levels[l].orders;
-          const MatrixXd rg = gfs[l].reflect(lines[l], ky);
-          const MatrixXd rp = planar_reflection_in_orders(*pat, xi, g_.period, N, kx, ky);
-          const VectorXd kap = orders_decay(xi, eps_m, g_.period, N, kx, ky);
+          const bool pair = gfs[l].static_pair();
+          const VectorXd kap_all = orders_decay(xi, eps_m, g_.period, N, kx, ky, pair);
+          const auto [lo, hi] = reaching_orders(kap_all, 2 * N + 1, gap);
+          const MatrixXd rg = gfs[l].reflect(lines[l], ky, lo, hi);
+          const MatrixXd rp = order_block(
+              planar_reflection_in_orders(*pat, xi, g_.period, N, kx, ky, pair), 2 * N + 1, lo, hi);
+          const VectorXd kap = order_block(kap_all, 2 * N + 1, lo, hi);
           Triple v = round_trip(rg, rp, kap, gap, n_comp);
           for (int c = 0; c < 3; ++c) {
             v[c] *= jac;

@@ -256,15 +256,11 @@ GratingAtFrequency::GratingAtFrequency(const LamellarGrating& g, double xi, cons
       throw std::invalid_argument(
           "grating: a perfectly conducting grating is built for the lamellar profile only (its "
           "modal method needs rectangular grooves)");
-    if (!(xi > 0.0))
-      throw std::invalid_argument(
-          "grating: the xi = 0 term of a perfectly conducting grating is not built (use "
-          "temperature = \"0 K\", which needs no xi = 0 term)");
     if (g.coated())
       throw std::invalid_argument(
           "grating: a coating on a perfectly conducting grating is not built (its modal method "
           "has empty grooves)");
-    pec_ = true;
+    pec_ = true;  // xi = 0 included: the static basis (phi, psi) of grating_pec.h
     eps_m_ = epsilon_at(medium, xi, "gap medium");
     q0_ = xi / kSpeedOfLight;
     return;
@@ -352,6 +348,22 @@ GratingAtFrequency::Line GratingAtFrequency::line(double kx) const {
   return out;
 }
 
+Eigen::MatrixXd GratingAtFrequency::reflect(const Line& line, double ky, int lo, int hi) const {
+  if (hi < 0) hi = m_ - 1;
+  if (lo < 0 || lo > hi || hi >= m_)
+    throw std::invalid_argument(
+        fmt::format("grating: order block {}..{} outside 0..{}", lo, hi, m_ - 1));
+  if (pec_) return pec_reflect(line.kx, ky, lo, hi);
+  const MatrixXd full = reflect(line, ky);
+  if (lo == 0 && hi == m_ - 1) return full;
+  const int na = hi - lo + 1, nb = static_cast<int>(full.rows()) / m_;
+  MatrixXd r(nb * na, nb * na);
+  for (int a = 0; a < nb; ++a)
+    for (int b = 0; b < nb; ++b)
+      r.block(a * na, b * na, na, na) = full.block(a * m_ + lo, b * m_ + lo, na, na);
+  return r;
+}
+
 Eigen::MatrixXd GratingAtFrequency::reflect(const Line& line, double ky) const {
   if (pec_) return pec_reflect(line.kx, ky);
   const double unit = xi_ > 0.0 ? 1.0 / q0_ : 1.0;
@@ -395,8 +407,9 @@ Eigen::MatrixXd GratingAtFrequency::reflect(const Line& line, double ky) const {
   return reflection_from(top.v, y);
 }
 
-Eigen::MatrixXd GratingAtFrequency::pec_reflect(double kx, double ky) const {
-  return pec_lamellar_reflection({g_.period, g_.filling, g_.depth}, xi_, eps_m_, n_, kx, ky);
+Eigen::MatrixXd GratingAtFrequency::pec_reflect(double kx, double ky, int lo, int hi) const {
+  return pec_lamellar_reflection({g_.period, g_.filling, g_.depth}, xi_, eps_m_, n_, kx, ky, -1, lo,
+                                 hi);
 }
 
 Eigen::MatrixXd GratingAtFrequency::reflect_coupled(double kx, double ky) const {
@@ -466,14 +479,16 @@ Eigen::MatrixXd GratingAtFrequency::reflect_coupled(double kx, double ky) const 
 }
 
 Eigen::MatrixXd planar_reflection_in_orders(const PlanarAtFrequency& p, double xi, double period,
-                                            int orders, double kx, double ky) {
+                                            int orders, double kx, double ky, bool static_pair) {
   const int m = 2 * orders + 1;
   const double G = 2.0 * kPi / period;
   if (xi == 0.0) {
-    MatrixXd r = MatrixXd::Zero(m, m);
+    MatrixXd r = MatrixXd::Zero(static_pair ? 2 * m : m, static_pair ? 2 * m : m);
     for (int i = 0; i < m; ++i) {
       const double kn = kx + (i - orders) * G;
-      r(i, i) = -p.reflect(std::hypot(kn, ky)).tm;
+      const Reflection rf = p.reflect(std::hypot(kn, ky));
+      r(i, i) = -rf.tm;
+      if (static_pair) r(m + i, m + i) = -rf.te;  // psi (grating_pec.h)
     }
     return r;
   }
@@ -498,15 +513,16 @@ Eigen::MatrixXd planar_reflection_in_orders(const PlanarAtFrequency& p, double x
 }
 
 Eigen::VectorXd orders_decay(double xi, double eps_m, double period, int orders, double kx,
-                             double ky) {
+                             double ky, bool static_pair) {
   const int m = 2 * orders + 1;
   const double G = 2.0 * kPi / period;
   const double q2 = eps_m * (xi / kSpeedOfLight) * (xi / kSpeedOfLight);
-  VectorXd kap(xi > 0.0 ? 2 * m : m);
+  const bool two = xi > 0.0 || static_pair;
+  VectorXd kap(two ? 2 * m : m);
   for (int i = 0; i < m; ++i) {
     const double kn = kx + (i - orders) * G;
     kap[i] = std::sqrt(kn * kn + ky * ky + q2);
-    if (xi > 0.0) kap[m + i] = kap[i];
+    if (two) kap[m + i] = kap[i];
   }
   return kap;
 }

@@ -88,14 +88,18 @@ struct LamellarGrating {
 /// A grating bound to one imaginary frequency xi >= 0 (rad/s), a gap medium and an order count
 /// N (orders -N..N). Ridges and substrate both perfect conductors (lamellar, xi > 0): the
 /// grooves' own modal method (grating_pec.h) instead of the FMM, with the same basis and
-/// interface. Throws std::invalid_argument for a perfect conductor mixed with another material,
-/// a non-lamellar perfect conductor, or xi = 0 with a perfect conductor (not built), and at
-/// xi = 0 for conducting ridges or substrate (not built).
+/// interface (at xi = 0 its static basis (phi, psi) of dimension 2(2N+1), grating_pec.h). Throws
+/// std::invalid_argument for a perfect conductor mixed with another material or a non-lamellar
+/// perfect conductor (not built), and at xi = 0 for conducting (non-ideal) ridges or substrate
+/// (not built).
 class GratingAtFrequency {
  public:
   GratingAtFrequency(const LamellarGrating& g, double xi, const Material& medium, int orders);
-  /// Dimension of the basis: 2(2N+1) at xi > 0, 2N+1 at xi = 0.
-  int dim() const { return xi_ > 0.0 ? 2 * m_ : m_; }
+  /// Dimension of the basis: 2(2N+1) at xi > 0, 2N+1 at xi = 0 (the potential), 2(2N+1) at
+  /// xi = 0 for a perfect conductor (the potentials phi and psi, grating_pec.h).
+  int dim() const { return xi_ > 0.0 || pec_ ? 2 * m_ : m_; }
+  /// True at xi = 0 when the basis holds both static scalars (phi, psi): perfect conductors.
+  bool static_pair() const { return xi_ == 0.0 && pec_; }
   int orders() const { return n_; }
   double xi() const { return xi_; }
   /// The layer modes of one k_x line (conical decoupling, derived from the P~, Q~ forms of the
@@ -123,6 +127,9 @@ class GratingAtFrequency {
   Eigen::MatrixXd reflect(double kx, double ky) const { return reflect(line(kx), ky); }
   /// The same from the modes of the line of k_x (cheap per k_y: no eigenproblem).
   Eigen::MatrixXd reflect(const Line& line, double ky) const;
+  /// The block of the order indices lo..hi (0..2N) of every component (the rows and columns of
+  /// the orders that reach the other body; a perfect conductor forms only those).
+  Eigen::MatrixXd reflect(const Line& line, double ky, int lo, int hi) const;
   /// The same by the coupled 2M x 2M eigenproblem per (k_x, k_y) (the reference of the
   /// decoupled form; tests only).
   Eigen::MatrixXd reflect_coupled(double kx, double ky) const;
@@ -135,7 +142,7 @@ class GratingAtFrequency {
     Eigen::MatrixXd ai_l;                // Ai = A A^T (Cholesky factor A)
   };
   Eigen::VectorXd scaled_orders(double kx) const;
-  Eigen::MatrixXd pec_reflect(double kx, double ky) const;
+  Eigen::MatrixXd pec_reflect(double kx, double ky, int lo = 0, int hi = -1) const;
   LamellarGrating g_;
   bool pec_ = false;  // ridges and substrate perfect conductors: grating_pec.h
   double xi_, q0_ = 0.0, eps_m_ = 1.0, eps_r_ = 0.0, eps_s_ = 0.0, eps_c_ = 0.0;
@@ -144,13 +151,16 @@ class GratingAtFrequency {
 };
 
 /// The same basis for a planar body (block-diagonal in n): at xi > 0 r_TE u u^T - r_TM v v^T
-/// per order, at xi = 0 -r_TM (static). k = 0 exactly: r_TE times the identity.
+/// per order, at xi = 0 -r_TM (static; with static_pair, the basis (phi, psi) of a perfectly
+/// conducting grating: diag(-r_TM, -r_TE), grating_pec.h). k = 0 exactly: r_TE times the
+/// identity.
 Eigen::MatrixXd planar_reflection_in_orders(const PlanarAtFrequency& p, double xi, double period,
-                                            int orders, double kx, double ky);
+                                            int orders, double kx, double ky,
+                                            bool static_pair = false);
 
 /// kappa_n = sqrt(k_n^2 + k_y^2 + eps_m xi^2/c^2) (1/m) in the basis layout (repeated for the two
-/// components at xi > 0).
+/// components at xi > 0, and at xi = 0 with static_pair).
 Eigen::VectorXd orders_decay(double xi, double eps_m, double period, int orders, double kx,
-                             double ky);
+                             double ky, bool static_pair = false);
 
 }  // namespace roundtrip

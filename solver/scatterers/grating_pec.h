@@ -54,7 +54,21 @@
 // Limits handled exactly: f = 1 or h = 0 give the flat conductor at z = 0 (R = -1); f = 0 gives
 //   the flat conductor at z = -h (R = -e^{-2 kappa_n h} per order). Note that f -> 0+ is NOT
 //   f = 0: infinitely thin walls remain, and they matter.
-// xi = 0 is not built (the static electric and magnetic problems of the grooves).
+// xi = 0 (derived): the static fields are gradients, E = -grad phi, H = -grad psi, so E_y =
+//   -i k_y phi and h_y ~ -i k_y psi: the same Dirichlet (phi: the grounded conductor) and Neumann
+//   (psi: no normal B) problems with eps~ = 0 (Laplace; gamma = |k_y|, q_m = sqrt(k_y^2 +
+//   alpha_m^2), kappa_n = |k|). They do not mix at xi = 0 for any planar body either (its static
+//   TM reflection acts on phi, its static TE one on psi), so the static basis is (phi of orders
+//   -N..N, psi of orders -N..N) and R = diag(R_D, R_N); a planar body gives diag(-r_TM(0),
+//   -r_TE(0)) per order (planar_reflection_in_orders with both static scalars). The grooves'
+//   m = 0 Neumann mode at k_y = 0 has q = 0 (its weight q tanh(q h) -> 0, no division); an order
+//   with kappa_n = 0 (k_n = k_y = 0, a uniform potential) is decoupled with its limits R_D = -1,
+//   R_N = +1 (its projections vanish like k; derived).
+// Solved in symmetric positive definite form (Cholesky): R_D = -1 + 2 Z_D Y S^-1 Y with
+//   Y = K^(1/2), S = 1 + Y Z_D Y (Woodbury), R_N = 2 (K + Z_N)^-1 K - 1, Z = A A^T with the
+//   weights' square roots folded into the projections; only the rows and columns of a block of
+//   orders lo..hi are formed when asked (a round trip needs only the orders that reach the other
+//   body; grating_plate.cc).
 #include <Eigen/Dense>
 
 namespace roundtrip {
@@ -68,9 +82,32 @@ struct PecLamellar {
 /// The default groove-mode count M_g (modes m = 0..M_g) for N orders (header).
 int pec_groove_modes(int orders, double filling);
 
-/// The reflection operator (2M x 2M, M = 2N + 1; header) at xi > 0 (rad/s), gap medium eps_m,
-/// Bloch vector (k_x, k_y) (1/m); groove_modes < 0: the default M_g.
+/// The Dirichlet and Neumann scalar reflections (header) on the orders of index lo..hi (0..2N;
+/// hi < 0: all), with k_n and kappa_n (1/m) of every order -N..N.
+struct PecScalarReflection {
+  Eigen::MatrixXd rd, rn;  ///< R_D, R_N on the block lo..hi
+  Eigen::VectorXd k, kappa;
+};
+PecScalarReflection pec_lamellar_scalar(const PecLamellar& g, double xi, double eps_m, int orders,
+                                        double kx, double ky, int groove_modes = -1, int lo = 0,
+                                        int hi = -1);
+
+/// The reflection operator at xi >= 0 (rad/s), gap medium eps_m, Bloch vector (k_x, k_y) (1/m);
+/// groove_modes < 0: the default M_g. xi > 0: the tangential-E basis (2M x 2M, M = 2N + 1;
+/// header); xi = 0: the static basis (phi, psi), diag(R_D, R_N). With a block lo..hi of order
+/// indices (0..2N), only that block of each component (2 (hi - lo + 1) square).
 Eigen::MatrixXd pec_lamellar_reflection(const PecLamellar& g, double xi, double eps_m, int orders,
-                                        double kx, double ky, int groove_modes = -1);
+                                        double kx, double ky, int groove_modes = -1, int lo = 0,
+                                        int hi = -1);
+
+/// The n = 0 term's operator of a lamellar grating of a Drude (or any static) conductor, ridges
+/// and substrate one connected conductor: an equipotential (the static TM problem is the
+/// Dirichlet problem of the potential), and no static TE reflection (mu = 1: a Drude metal
+/// does not screen a static magnetic field). Returns R_D at xi = 0 on the orders lo..hi, in the
+/// FMM's static potential basis (grating_fmm.h: a planar body reflects the potential by
+/// -r_TM(0), so a flat conductor gives -1). A function only: the geometries still refuse
+/// conducting non-ideal ridges (io/grating_spec.cc).
+Eigen::MatrixXd conductor_lamellar_static(const PecLamellar& g, double eps_m, int orders, double kx,
+                                          double ky, int lo = 0, int hi = -1);
 
 }  // namespace roundtrip
