@@ -153,7 +153,7 @@ TEST_F(MpiRun, MBlockTasksOfOneGapGiveTheSerialNumbers) {
     ASSERT_EQ(run(ranks, c, out, "mpi"), 0) << slurp(dir_ / "mpi.err");
     const std::string err = slurp(dir_ / "mpi.err");
     EXPECT_NE(err.find("split into"), std::string::npos) << err;
-    EXPECT_NE(err.find("m-block tasks"), std::string::npos) << err;
+    EXPECT_NE(err.find("block tasks (m blocks or k_z nodes"), std::string::npos) << err;
     for (const char* q : {"results/energy", "results/force", "results/gradient"})
       EXPECT_EQ(column(dir_ / "serial.h5", q), column(out, q)) << q;
   }
