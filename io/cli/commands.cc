@@ -700,10 +700,10 @@ int run_command(const RunArgs& args, std::ostream& out, std::ostream& err) {
       if (ds.rounds.split_frequencies > 0)
         err << fmt::format(
                    "roundtrip: {}: {} frequenc{} split into {} block tasks (m blocks or k_z "
-                   "nodes; {} unit{} computed and not used by the sums)\n",
+                   "nodes: {} computed, {} not used by the sums)\n",
                    team_text, ds.rounds.split_frequencies,
                    ds.rounds.split_frequencies == 1 ? "y" : "ies", ds.rounds.block_tasks,
-                   ds.rounds.unused_blocks, ds.rounds.unused_blocks == 1 ? "" : "s")
+                   ds.rounds.block_units, ds.rounds.unused_blocks)
             << std::flush;
       if (ds.rounds.shared_values > 0)
         err << fmt::format(

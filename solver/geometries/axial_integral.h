@@ -164,7 +164,8 @@ using AxialNodeValue = std::function<std::optional<Spectral>(int g)>;
 /// node the integral will need: the march's extent follows the stand-ins, and a level holding
 /// stand-ins stops where the trapezoid's usual convergence predicts, the relative change
 /// squaring from level to level (the double-exponential rule's error falls like exp(-c/h);
-/// Takahasi & Mori 1974), after at most kAxialLookahead such levels.
+/// Takahasi & Mori 1974), after at most kAxialLookahead such levels; with no measured level yet,
+/// at the first level allowed to stop.
 inline constexpr int kAxialLookahead = 2;
 
 inline std::optional<Spectral> replay_de_integrate(double tol, int min_level, double factor,
@@ -173,8 +174,11 @@ inline std::optional<Spectral> replay_de_integrate(double tol, int min_level, do
   const auto model = [](double t) { return std::exp(-axial_u_of(t)) * axial_du_of(t); };
   std::vector<std::pair<double, Spectral>> known;
   bool complete = true;
-  int ahead = 0;          // levels decided on stand-ins so far
-  double last_rel = 1.0;  // relative change of the last level (measured or predicted)
+  int ahead = 0;  // levels decided on stand-ins so far
+  // Relative change of the last level, measured or predicted; before any level is known, 0:
+  // the first level allowed to stop is taken to stop (smooth k_z integrands do, at h = 1/4),
+  // so a first ask is the march and that level, and the measured change decides further ones.
+  double last_rel = 0.0;
   const auto rel_change = [](const Spectral& change, const Spectral& scale) {
     double r = 0.0;
     for (const auto& [c, s] :

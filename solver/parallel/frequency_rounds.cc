@@ -374,6 +374,7 @@ void SweepRounds::deliver(const Task& task, const TaskValue& value) {
   }
   if (task.kind == TaskKind::kBlocks) {
     ++stats_.block_tasks;
+    stats_.block_units += static_cast<int>(value.chunk.values.size());
     Split& sp = splits_.at(Key{task.point, task.gap, bits(task.xi), bits(task.rel_tol)});
     if (!value.chunk.seen) sp.whole = value.s;
     sp.chunks[task.m_begin] = value.chunk;

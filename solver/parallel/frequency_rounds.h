@@ -113,7 +113,8 @@ struct RoundStats {
   double task_seconds = 0.0;
   int split_frequencies = 0;  ///< frequencies computed as block tasks (m or k_z chunks)
   int block_tasks = 0;        ///< block tasks computed
-  int unused_blocks = 0;      ///< units (m blocks, k_z nodes) computed and not used by the sums
+  int block_units = 0;        ///< units (m blocks, k_z nodes) the block tasks computed
+  int unused_blocks = 0;      ///< of these, units not used by the sums
   int shared_values = 0;      ///< companions' values taken from their lead's tasks
 };
 

@@ -395,7 +395,8 @@ TEST(FrequencyRounds, KzNodeTasksGiveTheSerialNumbersBitForBit) {
       EXPECT_LE(stats.rounds, 8);
       std::cout << kind << ", " << slots << " slots: " << stats.split_frequencies
                 << " frequencies split into " << stats.block_tasks << " node tasks, "
-                << stats.rounds << " rounds, " << stats.unused_blocks << " nodes not used\n";
+                << stats.rounds << " rounds, " << stats.unused_blocks << " of " << stats.block_units
+                << " nodes not used\n";
       for (const auto& t : serial.points[0].frequencies.terms)
         EXPECT_TRUE(store.written.count({0, t.xi})) << t.xi;
     }
