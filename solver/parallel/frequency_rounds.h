@@ -34,10 +34,12 @@
 //    first missing block and the next round asks for chunks from there on.
 //  - k_z integrals (cylinder-plate, cylinder-cylinder; cylinder::replay_de_integrate): the
 //    node set depends on the values (the level-0 march and the number of levels), so the
-//    replay goes on over missing nodes with stand-ins and asks for every node it visited; the
-//    first ask replays with stand-ins only, at the task's rel_tol for the integral's own
-//    tolerance (the chunks then report the real one). The asked nodes, in index order, are cut
-//    into contiguous chunks of about (asked nodes) / parts nodes.
+//    replay goes on over missing nodes with stand-ins and asks for every node it visited (a
+//    level decided on stand-ins stops where the measured convergence predicts, so a first ask
+//    is the level-0 march and level 1); the first ask replays with stand-ins only, at the
+//    task's rel_tol for the integral's own tolerance (the chunks then report the real one). The
+//    asked nodes, in index order, are cut into contiguous chunks of about (asked nodes) / parts
+//    nodes.
 // Material scans. The serial run computes its first scan point together with the points that
 // share its frequency work (run.h): every frequency the first point computes is computed for
 // them too, and each of them takes such a value the first time its own rule asks for it, else
