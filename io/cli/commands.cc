@@ -699,11 +699,11 @@ int run_command(const RunArgs& args, std::ostream& out, std::ostream& err) {
           << std::flush;
       if (ds.rounds.split_frequencies > 0)
         err << fmt::format(
-                   "roundtrip: {}: {} frequenc{} split into {} m-block tasks ({} block{} computed "
-                   "beyond where the m sum stopped)\n",
+                   "roundtrip: {}: {} frequenc{} split into {} block tasks (m blocks or k_z "
+                   "nodes: {} computed, {} not used by the sums)\n",
                    team_text, ds.rounds.split_frequencies,
                    ds.rounds.split_frequencies == 1 ? "y" : "ies", ds.rounds.block_tasks,
-                   ds.rounds.unused_blocks, ds.rounds.unused_blocks == 1 ? "" : "s")
+                   ds.rounds.block_units, ds.rounds.unused_blocks)
             << std::flush;
       if (ds.rounds.shared_values > 0)
         err << fmt::format(

@@ -12,8 +12,6 @@
 namespace roundtrip::blocks {
 namespace {
 
-thread_local MChunk* t_chunk = nullptr;
-
 /// The tail test of sum_over_m on one finished batch of `count` blocks, whose first and last
 /// values are `head` and `tail`, with the running total.
 bool tail_below_tolerance(const Spectral& head, const Spectral& tail, int count,
@@ -39,16 +37,15 @@ bool tail_below_tolerance(const std::vector<LogDetResult>& batch, int count, con
 void compute_chunk(MChunk& c, int mlimit, bool fixed_m_max, DerivativeOrder order, double tol,
                    const std::function<LogDetResult(int)>& block,
                    const std::function<std::string(int, const LogDetResult&)>& fail_message) {
-  if (c.seen) throw std::logic_error("an m chunk met a second m sum in one frequency");
-  if (c.m_begin % kMBatch != 0) throw std::logic_error("an m chunk must start on a batch");
-  c.seen = true;
+  claim_chunk(c, BlockSum::kM);
+  if (c.begin % kMBatch != 0) throw std::logic_error("an m chunk must start on a batch");
   c.mlimit = mlimit;
   c.fixed_m_max = fixed_m_max;
   c.order = order;
   c.tol = tol;
-  const int end = std::min(c.m_end, mlimit + 1);
+  const int end = std::min(c.end, mlimit + 1);
   std::vector<LogDetResult> batch(kMBatch);
-  for (int m0 = c.m_begin; m0 < end; m0 += kMBatch) {
+  for (int m0 = c.begin; m0 < end; m0 += kMBatch) {
     const int m1 = std::min(end, m0 + kMBatch);
     parallel_for(m0, m1, [&](long m) {
       throw_if_cancelled();
@@ -67,9 +64,6 @@ void compute_chunk(MChunk& c, int mlimit, bool fixed_m_max, DerivativeOrder orde
 }
 
 }  // namespace
-
-MChunkScope::MChunkScope(MChunk* chunk) { t_chunk = chunk; }
-MChunkScope::~MChunkScope() { t_chunk = nullptr; }
 
 std::optional<Spectral> replay_sum_over_m(int mlimit, bool fixed_m_max, DerivativeOrder order,
                                           double tol, const BlockValue& value, int* missing) {
@@ -96,8 +90,8 @@ std::optional<Spectral> replay_sum_over_m(int mlimit, bool fixed_m_max, Derivati
 Spectral sum_over_m(int mlimit, bool fixed_m_max, DerivativeOrder order, double tol,
                     const std::function<LogDetResult(int)>& block,
                     const std::function<std::string(int, const LogDetResult&)>& fail_message) {
-  if (t_chunk) {
-    compute_chunk(*t_chunk, mlimit, fixed_m_max, order, tol, block, fail_message);
+  if (Chunk* chunk = current_chunk()) {
+    compute_chunk(*chunk, mlimit, fixed_m_max, order, tol, block, fail_message);
     return Spectral{};
   }
   Spectral total;

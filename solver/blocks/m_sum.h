@@ -6,6 +6,7 @@
 #include <string>
 #include <vector>
 
+#include "solver/blocks/chunk.h"
 #include "solver/logdet/low_rank.h"
 #include "solver/spectral.h"
 
@@ -33,34 +34,12 @@ std::vector<Spectral> sum_over_m_many(
     const std::function<std::vector<LogDetResult>(int, const std::vector<char>&)>& blocks,
     const std::function<std::string(int, int, const LogDetResult&)>& fail_message);
 
-/// Part of one frequency's m sum, computed alone (the block work items of a run spread over
-/// ranks or threads, solver/parallel/frequency_rounds.h). Asked: the blocks m_begin <= m <
-/// m_end (m_begin a multiple of kMBatch, so the batches are those of the whole sum). Filled in
-/// by sum_over_m: the parameters of the sum, which decide where it stops (replay_sum_over_m),
-/// and the block values in order of m, up to the first failed block.
-struct MChunk {
-  int m_begin = 0;
-  int m_end = 0;
-  bool seen = false;  ///< sum_over_m ran (else the geometry summed no m at this frequency)
-  int mlimit = 0;
-  bool fixed_m_max = false;
-  DerivativeOrder order = DerivativeOrder::kEnergy;
-  double tol = 0.0;
-  std::vector<Spectral> values;  ///< blocks m_begin, m_begin + 1, ... (before any failure)
-  int failed_at = -1;            ///< first failed block in the chunk, -1 if none
-  std::string failure;           ///< its fail_message
-};
-
-/// While alive, the sum_over_m called on this thread computes only the blocks of `chunk`, fills
-/// it in and returns zero (a geometry that calls it more than once per frequency throws
-/// std::logic_error). Not nested.
-class MChunkScope {
- public:
-  explicit MChunkScope(MChunk* chunk);
-  ~MChunkScope();
-  MChunkScope(const MChunkScope&) = delete;
-  MChunkScope& operator=(const MChunkScope&) = delete;
-};
+/// Part of one frequency's m sum computed alone (block items, solver/blocks/chunk.h): under a
+/// ChunkScope, sum_over_m computes the blocks chunk.begin <= m < chunk.end (begin a multiple of
+/// kMBatch) and records mlimit, fixed_m_max, order and tol, which decide where the sum stops
+/// (replay_sum_over_m).
+using MChunk = Chunk;
+using MChunkScope = ChunkScope;
 
 /// Block m of a replayed sum: its value, or nothing if not computed yet; a failed block throws.
 using BlockValue = std::function<std::optional<Spectral>(int m)>;

@@ -371,6 +371,8 @@ class CylinderCylinder final : public Geometry {
     return kz_sum(xi, gap, order, std::max(rel_tol, o_.rel_tol));
   }
 
+  // Every path of at_frequency_within is one de_integrate over k_z (kz_sum).
+  blocks::BlockSum block_sum() const override { return blocks::BlockSum::kAxial; }
   ResultScale scale() const override { return ResultScale::kPerLength; }
   double frequency_scale(double gap) const override {
     return kSpeedOfLight / (2.0 * medium_index() * gap);
@@ -461,7 +463,7 @@ class CylinderCylinder final : public Geometry {
                                            u / (2.0 * gap), o_.radius1, o_.radius2, d, order,
                                            rel_tol, o_.m_max);
       };
-      return de_integrate(f, kKzShare * rel_tol, nullptr, nullptr) * jac;
+      return de_integrate(f, kKzShare * rel_tol, nullptr, nullptr, 1, jac);
     }
     std::vector<FieldKind> channels;
     if (o_.field != FieldKind::kNeumann) channels.push_back(FieldKind::kDirichlet);
@@ -473,7 +475,7 @@ class CylinderCylinder final : public Geometry {
         s += cylinder_pair_logdet(ch, p, o_.radius1, o_.radius2, d, order, rel_tol, o_.m_max);
       return s;
     };
-    return de_integrate(f, kKzShare * rel_tol, nullptr, nullptr) * jac;
+    return de_integrate(f, kKzShare * rel_tol, nullptr, nullptr, 1, jac);
   }
 
   CylinderCylinderOptions o_;

@@ -744,6 +744,8 @@ class CylinderPlate final : public Geometry {
     return counted(kz_sum(xi, gap, order, std::max(rel_tol, o_.rel_tol)));
   }
 
+  // Every path of at_frequency_within is one de_integrate over k_z (kz_sum).
+  blocks::BlockSum block_sum() const override { return blocks::BlockSum::kAxial; }
   ResultScale scale() const override { return ResultScale::kPerLength; }
   double frequency_scale(double gap) const override {
     return kSpeedOfLight / (2.0 * medium_index() * gap);
@@ -861,7 +863,7 @@ class CylinderPlate final : public Geometry {
         return s;
       };
       out.total =
-          de_integrate(f, kKzShare * rel_tol, &out.nodes, nullptr) * (1.0 / (2.0 * kPi * gap));
+          de_integrate(f, kKzShare * rel_tol, &out.nodes, nullptr, 1, 1.0 / (2.0 * kPi * gap));
       return out;
     }
     std::vector<FieldKind> channels;
@@ -882,7 +884,7 @@ class CylinderPlate final : public Geometry {
     };
     // s = (1/pi) \int_0^inf dk_z (...) = (1/(2 pi L)) \int du (...).
     out.total =
-        de_integrate(f, kKzShare * rel_tol, &out.nodes, nullptr) * (1.0 / (2.0 * kPi * gap));
+        de_integrate(f, kKzShare * rel_tol, &out.nodes, nullptr, 1, 1.0 / (2.0 * kPi * gap));
     return out;
   }
 

@@ -15,6 +15,7 @@
 #include <string>
 #include <vector>
 
+#include "solver/blocks/chunk.h"
 #include "solver/result_scale.h"
 #include "solver/spectral.h"
 
@@ -151,6 +152,14 @@ class Geometry {
   /// and summed by blocks::replay_sum_over_m to the same number (solver/parallel/
   /// frequency_rounds.h). Default: false.
   virtual bool sums_over_m() const { return false; }
+  /// The one reduction at_frequency_within's value is, if any, so that a frequency can be cut
+  /// into chunks of its units computed apart and replayed to the same number (solver/blocks/
+  /// chunk.h; solver/parallel/frequency_rounds.h): kM for sums_over_m(), kAxial where it
+  /// returns one cylinder::de_integrate over k_z and nothing else (cylinder-plate,
+  /// cylinder-cylinder). Default: kM if sums_over_m(), else kNone (not cut).
+  virtual blocks::BlockSum block_sum() const {
+    return sums_over_m() ? blocks::BlockSum::kM : blocks::BlockSum::kNone;
+  }
   /// The cost model of one frequency at gap L (solver/plan.h uses it for estimates, progress and
   /// the work items a cluster run distributes). The default models blocked plane-wave round
   /// trips from truncation()'s "l_max" and "quadrature_nodes" (geometry.cc); a geometry

@@ -12,6 +12,7 @@
 #include <exception>
 #include <stdexcept>
 
+#include "solver/geometries/axial_integral.h"
 #include "solver/guards.h"
 
 namespace roundtrip::parallel {
@@ -66,9 +67,9 @@ TaskValue compute_task(const std::vector<SweepInput>& inputs, const Task& task) 
     v.s =
         in.geometry->at_frequency_within(task.xi, gap, in.options.quantities.order(), task.rel_tol);
   } else if (task.kind == TaskKind::kBlocks) {
-    v.chunk.m_begin = task.m_begin;
-    v.chunk.m_end = task.m_end;
-    const blocks::MChunkScope scope(&v.chunk);
+    v.chunk.begin = task.m_begin;
+    v.chunk.end = task.m_end;
+    const blocks::ChunkScope scope(&v.chunk);
     v.s =
         in.geometry->at_frequency_within(task.xi, gap, in.options.quantities.order(), task.rel_tol);
   } else {
@@ -168,15 +169,21 @@ bool SweepRounds::replay(int point, int gap, std::vector<Task>* tasks, std::set<
 std::optional<Spectral> SweepRounds::settle(const Key& key, Split& split,
                                             std::vector<Task>* tasks) {
   if (split.whole) return split.whole;
+  return split.sum == blocks::BlockSum::kAxial ? settle_axial(key, split, tasks)
+                                               : settle_m(key, split, tasks);
+}
+
+std::optional<Spectral> SweepRounds::settle_m(const Key& key, Split& split,
+                                              std::vector<Task>* tasks) {
   int missing = 0;
   std::optional<Spectral> total;
   if (!split.chunks.empty()) {
-    const blocks::MChunk& meta = split.chunks.begin()->second;
+    const blocks::Chunk& meta = split.chunks.begin()->second;
     int used = 0;
     const auto value = [&](int m) -> std::optional<Spectral> {
       const auto c = split.chunks.find(m - m % split.chunk_m);
       if (c == split.chunks.end()) return std::nullopt;
-      const std::size_t i = static_cast<std::size_t>(m - c->second.m_begin);
+      const std::size_t i = static_cast<std::size_t>(m - c->second.begin);
       if (i < c->second.values.size()) {
         used = std::max(used, m + 1);
         return c->second.values[i];
@@ -207,6 +214,65 @@ std::optional<Spectral> SweepRounds::settle(const Key& key, Split& split,
   return std::nullopt;
 }
 
+std::optional<Spectral> SweepRounds::settle_axial(const Key& key, Split& split,
+                                                  std::vector<Task>* tasks) {
+  const auto& [point, gap, xi, rel_tol] = key;
+  // The integral's parameters from a delivered chunk; before any, the task's rel_tol (the
+  // first ask only steers which nodes are computed, file comment of frequency_rounds.h).
+  double tol = std::bit_cast<double>(rel_tol), factor = 1.0;
+  int min_level = 1;
+  if (!split.chunks.empty()) {
+    const blocks::Chunk& meta = split.chunks.begin()->second;
+    tol = meta.tol;
+    min_level = meta.min_level;
+    factor = meta.factor;
+  }
+  std::set<int> used;
+  const auto value = [&](int g) -> std::optional<Spectral> {
+    auto c = split.chunks.upper_bound(g);
+    if (c == split.chunks.begin()) return std::nullopt;
+    --c;
+    const std::size_t i = static_cast<std::size_t>(g - c->second.begin);
+    if (i < c->second.values.size()) {
+      used.insert(g);
+      return c->second.values[i];
+    }
+    if (c->second.failed_at == g) throw std::runtime_error(c->second.failure);  // as serial
+    // Nodes after a failed one were not computed (the serial run need not reach the failure:
+    // a chunk may run past the end of the level-0 march): asked again.
+    if (g < c->second.end && c->second.failed_at < 0)
+      throw std::logic_error("a k_z chunk holds fewer nodes than it was asked for");
+    return std::nullopt;
+  };
+  std::vector<int> missing;
+  const std::optional<Spectral> total =
+      cylinder::replay_de_integrate(tol, min_level, factor, value, &missing);
+  if (total) {
+    int computed = 0;
+    for (const auto& [b, c] : split.chunks) computed += static_cast<int>(c.values.size());
+    stats_.unused_blocks += std::max(0, computed - static_cast<int>(used.size()));
+    split.chunks.clear();  // the value is kept in values_
+    return total;
+  }
+  // The nodes asked for, cut into runs of consecutive indices of at most `per` nodes each.
+  std::vector<int> ask;
+  for (int g : missing)
+    if (!chunks_asked_.count({key, g})) ask.push_back(g);
+  if (ask.empty()) return std::nullopt;
+  const int parts = std::max(1, split.parts);
+  const int per = static_cast<int>((ask.size() + parts - 1) / parts);
+  for (std::size_t a = 0; a < ask.size();) {
+    std::size_t b = a + 1;
+    while (b < ask.size() && ask[b] == ask[b - 1] + 1 && static_cast<int>(b - a) < per) ++b;
+    for (std::size_t j = a; j < b; ++j) chunks_asked_.insert({key, ask[j]});
+    tasks->push_back(Task{TaskKind::kBlocks, point, gap, std::bit_cast<double>(xi),
+                          std::bit_cast<double>(rel_tol),
+                          split.unit_cost * static_cast<double>(b - a), ask[a], ask[b - 1] + 1});
+    a = b;
+  }
+  return std::nullopt;
+}
+
 void SweepRounds::split_largest(std::vector<Task>& tasks) {
   if (slots_ < 2) return;
   double total = 0.0;
@@ -215,9 +281,32 @@ void SweepRounds::split_largest(std::vector<Task>& tasks) {
   std::vector<Task> out;
   for (const Task& t : tasks) {
     const SweepInput& in = inputs_[t.point];
-    if (t.kind != TaskKind::kFrequency || !(t.cost > target) || !in.geometry->sums_over_m() ||
+    const blocks::BlockSum kind = in.geometry->block_sum();
+    if (t.kind != TaskKind::kFrequency || !(t.cost > target) || kind == blocks::BlockSum::kNone ||
         !in.companions.empty()) {
       out.push_back(t);
+      continue;
+    }
+    const Key k{t.point, t.gap, bits(t.xi), bits(t.rel_tol)};
+    if (kind == blocks::BlockSum::kAxial) {
+      // The nodes a stand-in replay asks for (settle_axial), in about cost / target chunks.
+      std::vector<int> nodes;
+      (void)cylinder::replay_de_integrate(
+          t.rel_tol, 1, 1.0, [](int) { return std::nullopt; }, &nodes);
+      const int parts = static_cast<int>(
+          std::min<double>(static_cast<double>(nodes.size()), std::ceil(t.cost / target)));
+      if (parts < 2) {
+        out.push_back(t);
+        continue;
+      }
+      Split sp;
+      sp.sum = kind;
+      sp.parts = parts;
+      sp.cost = t.cost;
+      sp.unit_cost = t.cost / static_cast<double>(nodes.size());
+      Split& placed = splits_.emplace(k, std::move(sp)).first->second;
+      (void)settle_axial(k, placed, &out);
+      ++stats_.split_frequencies;
       continue;
     }
     const FrequencyCost fc =
@@ -229,10 +318,10 @@ void SweepRounds::split_largest(std::vector<Task>& tasks) {
       continue;
     }
     Split sp;
+    sp.sum = kind;
     sp.chunk_m = blocks::kMBatch * static_cast<int>(std::ceil(batches / parts));
     sp.parts = static_cast<int>(std::ceil(batches * blocks::kMBatch / sp.chunk_m));
     sp.cost = t.cost;
-    const Key k{t.point, t.gap, bits(t.xi), bits(t.rel_tol)};
     for (int i = 0; i < sp.parts; ++i) {
       chunks_asked_.insert({k, i * sp.chunk_m});
       out.push_back(Task{TaskKind::kBlocks, t.point, t.gap, t.xi, t.rel_tol, t.cost / sp.parts,
@@ -285,6 +374,7 @@ void SweepRounds::deliver(const Task& task, const TaskValue& value) {
   }
   if (task.kind == TaskKind::kBlocks) {
     ++stats_.block_tasks;
+    stats_.block_units += static_cast<int>(value.chunk.values.size());
     Split& sp = splits_.at(Key{task.point, task.gap, bits(task.xi), bits(task.rel_tol)});
     if (!value.chunk.seen) sp.whole = value.s;
     sp.chunks[task.m_begin] = value.chunk;

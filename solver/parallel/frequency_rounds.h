@@ -20,17 +20,26 @@
 // from the journal is used (ContributionStore::lookup); a re-ask is computed anew; every computed
 // value is recorded (ContributionStore::record). Each gap's PFA is a task of its own.
 //
-// Block items. A frequency of a geometry whose s(xi) is one m sum (Geometry::sums_over_m:
-// sphere-plate, sphere-sphere) can be cut into m chunks: tasks that compute the blocks m_begin
-// <= m < m_end alone (blocks::MChunkScope). A round with too few tasks for the slots (a frequency
+// Block items. A frequency whose s(xi) is one reduction over independent units
+// (Geometry::block_sum, solver/blocks/chunk.h) can be cut into chunks: tasks that compute some of
+// its units alone (blocks::ChunkScope). A round with too few tasks for the slots (a frequency
 // task costing more than the round's cost / (kItemsPerSlot x slots)) splits its largest
-// frequency tasks so, over the blocks the cost model expects (Geometry::cost). The frequency's
-// value is then the m sum replayed on the gathered block values in the serial order with the
-// serial stopping test (blocks::replay_sum_over_m), so it is the serial value bit for bit; blocks
-// computed beyond the stop are not used (`unused_blocks`), and a sum that goes on beyond the
-// chunks asked for asks for more in the next round. Chunks are not journaled; the frequency's
-// value is, once known.
-//
+// frequency tasks. The frequency's value is then the reduction replayed on the gathered unit
+// values in the serial order with the serial stopping tests, so it is the serial value bit for
+// bit; units computed beyond where the reduction stopped are not used (`unused_blocks`), and a
+// reduction that goes on beyond the chunks asked for asks for more in the next round. Chunks are
+// not journaled; the frequency's value is, once known.
+//  - m sums (sphere-plate, sphere-sphere; blocks::replay_sum_over_m): chunks of whole batches of
+//    m blocks over the blocks the cost model expects (Geometry::cost); the replay stops at the
+//    first missing block and the next round asks for chunks from there on.
+//  - k_z integrals (cylinder-plate, cylinder-cylinder; cylinder::replay_de_integrate): the
+//    node set depends on the values (the level-0 march and the number of levels), so the
+//    replay goes on over missing nodes with stand-ins and asks for every node it visited (a
+//    level decided on stand-ins stops where the measured convergence predicts, so a first ask
+//    is the level-0 march and level 1); the first ask replays with stand-ins only, at the
+//    task's rel_tol for the integral's own tolerance (the chunks then report the real one). The
+//    asked nodes, in index order, are cut into contiguous chunks of about (asked nodes) / parts
+//    nodes.
 // Material scans. The serial run computes its first scan point together with the points that
 // share its frequency work (run.h): every frequency the first point computes is computed for
 // them too, and each of them takes such a value the first time its own rule asks for it, else
@@ -80,8 +89,8 @@ struct Task {
   double xi = 0.0;       ///< rad/s (frequency tasks)
   double rel_tol = 0.0;  ///< accuracy asked for (frequency tasks)
   double cost = 0.0;     ///< model cost, for largest-first ordering
-  int m_begin = 0;       ///< block tasks: the blocks m_begin <= m < m_end of frequency xi
-  int m_end = 0;
+  int m_begin = 0;       ///< block tasks: the units m_begin <= i < m_end of frequency xi (m
+  int m_end = 0;         ///< blocks or k_z node indices, blocks::Chunk)
 };
 
 /// What a task computed: s(xi) of a frequency task; for a PFA task (energy, force, gradient) in
@@ -91,9 +100,9 @@ struct TaskValue {
   bool present = true;
   double seconds = 0.0;          ///< compute time of the task
   std::vector<Spectral> shared;  ///< the companions' values of a shared frequency task
-  /// Block tasks: the chunk; if the geometry summed no m at this xi (chunk.seen false), the
-  /// whole frequency's value is in s.
-  blocks::MChunk chunk;
+  /// Block tasks: the chunk; if the geometry ran no reduction at this xi (chunk.seen false),
+  /// the whole frequency's value is in s.
+  blocks::Chunk chunk;
 };
 
 /// Compute one task (any rank, any thread): Geometry::at_frequency_within or Geometry::pfa.
@@ -104,9 +113,10 @@ struct RoundStats {
   int tasks = 0;        ///< tasks computed (frequency and PFA)
   int speculative = 0;  ///< computed frequencies the finished rules did not use
   double task_seconds = 0.0;
-  int split_frequencies = 0;  ///< frequencies computed as block tasks (m chunks)
+  int split_frequencies = 0;  ///< frequencies computed as block tasks (m or k_z chunks)
   int block_tasks = 0;        ///< block tasks computed
-  int unused_blocks = 0;      ///< blocks computed beyond where an m sum stopped
+  int block_units = 0;        ///< units (m blocks, k_z nodes) the block tasks computed
+  int unused_blocks = 0;      ///< of these, units not used by the sums
   int shared_values = 0;      ///< companions' values taken from their lead's tasks
 };
 
@@ -153,18 +163,23 @@ class SweepRounds {
     double seconds = 0.0;
     int frequencies = 0;  // values delivered (progress)
   };
-  // A frequency computed in m chunks.
+  // A frequency computed in chunks (m blocks or k_z nodes).
   struct Split {
-    int chunk_m = 0;  // blocks per chunk, a multiple of blocks::kMBatch
+    blocks::BlockSum sum = blocks::BlockSum::kM;
+    int chunk_m = 0;  // m: blocks per chunk, a multiple of blocks::kMBatch
     int parts = 0;    // chunks asked for at once
     double cost = 0.0;
-    std::map<int, blocks::MChunk> chunks;  // delivered, by m_begin
-    std::optional<Spectral> whole;         // the geometry summed no m at this xi
+    double unit_cost = 0.0;               // k_z: model cost of one node
+    std::map<int, blocks::Chunk> chunks;  // delivered, by first unit
+    std::optional<Spectral> whole;        // the geometry ran no reduction at this xi
   };
   // Replay one gap's rule; true if no surrogate was needed. Adds missing values to `tasks`.
   bool replay(int point, int gap, std::vector<Task>* tasks, std::set<Key>* asked_now);
-  // The value of a split frequency if its m sum is complete; else adds the chunks it needs next.
+  // The value of a split frequency if its reduction is complete; else adds the chunks it needs
+  // next.
   std::optional<Spectral> settle(const Key& key, Split& split, std::vector<Task>* tasks);
+  std::optional<Spectral> settle_m(const Key& key, Split& split, std::vector<Task>* tasks);
+  std::optional<Spectral> settle_axial(const Key& key, Split& split, std::vector<Task>* tasks);
   // Cut the largest frequency tasks of a round into block tasks (see the file comment).
   void split_largest(std::vector<Task>& tasks);
 

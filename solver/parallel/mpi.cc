@@ -99,7 +99,7 @@ namespace {
 
 enum Tag : int {
   kReady = 1,      // worker -> 0: int, compute slots free
-  kTask = 2,       // 0 -> worker: double[8] {id, kind, point, gap, xi, rel_tol, m_begin, m_end}
+  kTask = 2,       // 0 -> worker: double[8] {id, kind, point, gap, xi, rel_tol, begin, end}
   kResult = 3,     // worker -> 0: bytes, encode_result
   kStop = 4,       // 0 -> worker: int, 1 if the run was interrupted
   kFailed = 5,     // worker -> 0: chars, the error
@@ -112,7 +112,7 @@ constexpr int kHostChars = 64;
 constexpr int kTaskDoubles = 8;
 
 // A task's value as bytes (MPI_BYTE; every rank runs the same program on the same kind of
-// machine): id, s, present, seconds, then the m chunk of a block task.
+// machine): id, s, present, seconds, then the chunk of a block task (m blocks or k_z nodes).
 class Bytes {
  public:
   template <class T>
@@ -160,14 +160,17 @@ std::vector<char> encode_result(int id, const TaskValue& v) {
   b.put(v.s);
   b.put(static_cast<int>(v.present));
   b.put(v.seconds);
-  const blocks::MChunk& c = v.chunk;
-  b.put(c.m_begin);
-  b.put(c.m_end);
+  const blocks::Chunk& c = v.chunk;
+  b.put(c.begin);
+  b.put(c.end);
+  b.put(static_cast<int>(c.sum));
   b.put(static_cast<int>(c.seen));
   b.put(c.mlimit);
   b.put(static_cast<int>(c.fixed_m_max));
   b.put(static_cast<int>(c.order));
   b.put(c.tol);
+  b.put(c.min_level);
+  b.put(c.factor);
   b.put(c.failed_at);
   b.put_text(c.failure);
   b.put(static_cast<std::uint64_t>(c.values.size()));
@@ -184,14 +187,17 @@ TaskValue decode_result(const std::vector<char>& bytes, int* id) {
   v.s = r.get<Spectral>();
   v.present = r.get<int>() != 0;
   v.seconds = r.get<double>();
-  blocks::MChunk& c = v.chunk;
-  c.m_begin = r.get<int>();
-  c.m_end = r.get<int>();
+  blocks::Chunk& c = v.chunk;
+  c.begin = r.get<int>();
+  c.end = r.get<int>();
+  c.sum = static_cast<blocks::BlockSum>(r.get<int>());
   c.seen = r.get<int>() != 0;
   c.mlimit = r.get<int>();
   c.fixed_m_max = r.get<int>() != 0;
   c.order = static_cast<DerivativeOrder>(r.get<int>());
   c.tol = r.get<double>();
+  c.min_level = r.get<int>();
+  c.factor = r.get<double>();
   c.failed_at = r.get<int>();
   c.failure = r.get_text();
   c.values.resize(r.get<std::uint64_t>());

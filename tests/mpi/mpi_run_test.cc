@@ -153,9 +153,37 @@ TEST_F(MpiRun, MBlockTasksOfOneGapGiveTheSerialNumbers) {
     ASSERT_EQ(run(ranks, c, out, "mpi"), 0) << slurp(dir_ / "mpi.err");
     const std::string err = slurp(dir_ / "mpi.err");
     EXPECT_NE(err.find("split into"), std::string::npos) << err;
-    EXPECT_NE(err.find("m-block tasks"), std::string::npos) << err;
+    EXPECT_NE(err.find("block tasks (m blocks or k_z nodes"), std::string::npos) << err;
     for (const char* q : {"results/energy", "results/force", "results/gradient"})
       EXPECT_EQ(column(dir_ / "serial.h5", q), column(out, q)) << q;
+  }
+}
+
+// One gap with few frequencies (R = 3 um, L = 3 um at 300 K, perfect conductors: ~6
+// frequencies) of a cylinder-plate and a cylinder-cylinder: 2 and 4 ranks cut the frequencies'
+// k_z integrals into node tasks (the stats line says so) and give the serial numbers. Invented
+// values.
+TEST_F(MpiRun, KzNodeTasksOfOneGapGiveTheSerialNumbers) {
+  for (const char* kind : {"cylinder-plate", "cylinder-cylinder"}) {
+    SCOPED_TRACE(kind);
+    std::string text = small_case(*roundtrip::io::find_geometry_kind(kind), "");
+    for (std::size_t at = text.find("radius = \"1 um\""); at != std::string::npos;
+         at = text.find("radius = \"1 um\"", at))
+      text.replace(at, 15, "radius = \"3 um\"");
+    const std::string gaps = "values = [\"400 nm\", \"700 nm\"]";
+    text.replace(text.find(gaps), gaps.size(), "values = [\"3 um\"]");
+    const fs::path c = write("kz.toml", text);
+    ASSERT_EQ(run(0, c, dir_ / "serial.h5", "serial"), 0) << slurp(dir_ / "serial.err");
+    for (int ranks : {2, 4}) {
+      SCOPED_TRACE(ranks);
+      const fs::path out = dir_ / (std::to_string(ranks) + ".h5");
+      ASSERT_EQ(run(ranks, c, out, "mpi"), 0) << slurp(dir_ / "mpi.err");
+      const std::string err = slurp(dir_ / "mpi.err");
+      EXPECT_NE(err.find("split into"), std::string::npos) << err;
+      EXPECT_NE(err.find("block tasks (m blocks or k_z nodes"), std::string::npos) << err;
+      for (const char* q : {"results/energy", "results/force", "results/gradient"})
+        EXPECT_EQ(column(dir_ / "serial.h5", q), column(out, q)) << q;
+    }
   }
 }
 

@@ -7,13 +7,18 @@
 
 #include <algorithm>
 #include <cmath>
+#include <functional>
+#include <iostream>
 #include <map>
 #include <optional>
+#include <stdexcept>
 #include <string>
+#include <vector>
 
 #include "io/case_file.h"
 #include "io/kinds/kind.h"
 #include "solver/blocks/m_sum.h"
+#include "solver/geometries/axial_integral.h"
 #include "solver/parallel/frequency_rounds.h"
 
 namespace roundtrip {
@@ -157,12 +162,12 @@ TEST(MChunks, ReplayedChunksGiveTheWholeSumBitForBit) {
     const int mlimit = 200;
     const Spectral whole =
         blocks::sum_over_m(mlimit, fixed, DerivativeOrder::kGradient, 1e-6, block, fail);
-    std::map<int, blocks::MChunk> chunks;
+    std::map<int, blocks::Chunk> chunks;
     for (int b = 0; b <= mlimit; b += 24) {
-      blocks::MChunk c;
-      c.m_begin = b;
-      c.m_end = b + 24;
-      const blocks::MChunkScope scope(&c);
+      blocks::Chunk c;
+      c.begin = b;
+      c.end = b + 24;
+      const blocks::ChunkScope scope(&c);
       EXPECT_EQ(
           blocks::sum_over_m(mlimit, fixed, DerivativeOrder::kGradient, 1e-6, block, fail).value,
           0.0);
@@ -196,6 +201,129 @@ TEST(MChunks, ReplayedChunksGiveTheWholeSumBitForBit) {
   }
 }
 
+// The k_z integral computed in node chunks and replayed with stand-ins
+// (solver/geometries/axial_integral.h) is de_integrate bit for bit, with the same nodes: each
+// round computes, in chunks of 5 consecutive nodes, the nodes the replay asked for, until the
+// replay needs no stand-in. Synthetic integrands (exact functions of u): e^{-u} times a slow
+// oscillation (a smooth k_z integrand), a sharper peak near u = 0.05 (more levels than the
+// stand-in model needs) and an algebraic u^-3 tail (a longer march than the model's).
+TEST(AxialChunks, ReplayedNodeChunksGiveTheWholeIntegralBitForBit) {
+  const std::vector<std::function<Spectral(double)>> integrands{
+      [](double u) {
+        const double e = std::exp(-u);
+        return Spectral{-e * (1.0 + 0.3 * std::sin(u)), 2.0 * u * e, -4.0 * u * u * e};
+      },
+      [](double u) {
+        const double p = 1.0 / (1.0 + 400.0 * (u - 0.05) * (u - 0.05));
+        return Spectral{-p * std::exp(-u), p * std::exp(-2.0 * u), -p * std::exp(-3.0 * u)};
+      },
+      [](double u) {
+        const double a = 1.0 / ((1.0 + u) * (1.0 + u) * (1.0 + u));
+        return Spectral{-a, 3.0 * a / (1.0 + u), -12.0 * a / ((1.0 + u) * (1.0 + u))};
+      }};
+  for (std::size_t n = 0; n < integrands.size(); ++n)
+    for (const double tol : {1e-5, 1e-8}) {
+      SCOPED_TRACE(n);
+      SCOPED_TRACE(tol);
+      const auto& f = integrands[n];
+      const double factor = 1.0 / (2.0 * 3.141592653589793 * 4e-7);  // as the cylinders' 1/(2 pi L)
+      int serial_nodes = 0;
+      const Spectral whole = cylinder::de_integrate(f, tol, &serial_nodes, nullptr, 1, factor);
+      std::map<int, Spectral> known;
+      int computed = 0, rounds = 0;
+      std::optional<Spectral> total;
+      // The first ask replays on stand-ins only, at a tolerance 10x looser (as SweepRounds,
+      // which asks at the task's rel_tol before a chunk reports the integral's own).
+      double ask_tol = 10.0 * tol;
+      for (; rounds < 10; ++rounds) {
+        std::vector<int> missing;
+        const auto value = [&](int g) -> std::optional<Spectral> {
+          const auto it = known.find(g);
+          if (it == known.end()) return std::nullopt;
+          return it->second;
+        };
+        total = cylinder::replay_de_integrate(ask_tol, 1, factor, value, &missing);
+        if (total) break;
+        ASSERT_FALSE(missing.empty());
+        ASSERT_TRUE(std::is_sorted(missing.begin(), missing.end()));
+        for (std::size_t a = 0; a < missing.size();) {
+          std::size_t b = a + 1;
+          while (b < missing.size() && missing[b] == missing[b - 1] + 1 && b - a < 5) ++b;
+          blocks::Chunk c;
+          c.begin = missing[a];
+          c.end = missing[b - 1] + 1;
+          {
+            const blocks::ChunkScope scope(&c);
+            EXPECT_EQ(cylinder::de_integrate(f, tol, nullptr, nullptr, 1, factor).value, 0.0);
+          }
+          ASSERT_TRUE(c.seen);
+          ASSERT_EQ(c.sum, blocks::BlockSum::kAxial);
+          EXPECT_EQ(c.tol, tol);
+          EXPECT_EQ(c.factor, factor);
+          ASSERT_EQ(static_cast<int>(c.values.size()), c.end - c.begin);
+          for (int g = c.begin; g < c.end; ++g) known[g] = c.values[g - c.begin];
+          computed += c.end - c.begin;
+          ask_tol = c.tol;  // as SweepRounds: the chunk reports the integral's parameters
+          a = b;
+        }
+      }
+      ASSERT_TRUE(total);
+      EXPECT_EQ(total->value, whole.value);
+      EXPECT_EQ(total->d1, whole.d1);
+      EXPECT_EQ(total->d2, whole.d2);
+      EXPECT_LE(rounds, 4);               // stand-ins ask ahead: a few rounds
+      EXPECT_GE(computed, serial_nodes);  // every serial node, plus a few the replay dropped
+      EXPECT_LE(computed, 2 * serial_nodes + 8);
+    }
+}
+
+// A failing node is reported as the serial run reports it, once the replay reaches it.
+TEST(AxialChunks, AFailedNodeFailsTheReplayWithTheSerialMessage) {
+  const auto f = [](double u) -> Spectral {
+    if (u > 0.3 && u < 0.4) throw std::runtime_error("node failed at u in (0.3, 0.4)");
+    return Spectral{-std::exp(-u), 0.0, 0.0};
+  };
+  EXPECT_THROW((void)cylinder::de_integrate(f, 1e-6, nullptr, nullptr), std::runtime_error);
+  blocks::Chunk c;
+  c.begin = 0;
+  c.end = cylinder::kAxialLevel0Nodes;
+  {
+    const blocks::ChunkScope scope(&c);
+    (void)cylinder::de_integrate(f, 1e-6, nullptr, nullptr);
+  }
+  ASSERT_GE(c.failed_at, 0);
+  EXPECT_EQ(static_cast<int>(c.values.size()), c.failed_at);
+  const auto value = [&](int g) -> std::optional<Spectral> {
+    if (g < static_cast<int>(c.values.size())) return c.values[g];
+    if (g == c.failed_at) throw std::runtime_error(c.failure);
+    return std::nullopt;
+  };
+  try {
+    (void)cylinder::replay_de_integrate(1e-6, 1, 1.0, value, nullptr);
+    ADD_FAILURE() << "the replay did not fail";
+  } catch (const std::runtime_error& e) {
+    EXPECT_EQ(std::string(e.what()), "node failed at u in (0.3, 0.4)");
+  }
+}
+
+// Node indices: t of every index is the t the serial loops reach (exact multiples of 2^-9).
+TEST(AxialChunks, NodeIndicesGiveTheSerialAbscissae) {
+  int g = 0;
+  for (int k = 0; k < cylinder::kAxialLevel0Nodes; ++k, ++g)
+    EXPECT_EQ(cylinder::axial_node_t(g), cylinder::kAxialTLeft + 0.5 * k);
+  double h = 0.5;
+  for (int level = 1; level <= cylinder::kAxialMaxLevel; ++level) {
+    const double hn = h / 2.0;
+    int i = 0;
+    for (double t = cylinder::kAxialTLeft + hn; t < 8.5; t += h, ++i, ++g) {
+      ASSERT_EQ(cylinder::axial_node_index(level, i), g);
+      ASSERT_EQ(cylinder::axial_node_t(g), t);
+    }
+    h = hn;
+  }
+  EXPECT_EQ(g, cylinder::axial_node_count());
+}
+
 // A sphere-plate and a sphere-sphere with many m blocks and few frequencies (R = 30 um, L = 3 um,
 // 300 K: ~6 frequencies, fewer than kItemsPerSlot x 2 slots): with 2 and 4 slots the rounds cut the
 // frequencies into m-block tasks and still give the serial numbers bit for bit. Invented values.
@@ -226,6 +354,49 @@ TEST(FrequencyRounds, MBlockTasksGiveTheSerialNumbersBitForBit) {
       EXPECT_GT(stats.split_frequencies, 0);
       EXPECT_GT(stats.block_tasks, stats.split_frequencies);
       // Every frequency the serial sum used is in the journal, split or not.
+      for (const auto& t : serial.points[0].frequencies.terms)
+        EXPECT_TRUE(store.written.count({0, t.xi})) << t.xi;
+    }
+  }
+}
+
+// A cylinder-plate and a cylinder-cylinder with one gap and few frequencies (R = 3 um, L = 3 um,
+// 300 K, perfect conductors: ~6 frequencies, fewer than kItemsPerSlot x 2 slots): with 2 and 4
+// slots the rounds cut the frequencies into k_z node tasks and still give the serial numbers bit
+// for bit, and journal every frequency the serial sum used. Invented values.
+TEST(FrequencyRounds, KzNodeTasksGiveTheSerialNumbersBitForBit) {
+  for (const char* kind : {"cylinder-plate", "cylinder-cylinder"}) {
+    SCOPED_TRACE(kind);
+    std::string text = small_case(*io::find_geometry_kind(kind), "300 K");
+    const auto swap = [&](const std::string& from, const std::string& to) {
+      for (std::size_t at = text.find(from); at != std::string::npos; at = text.find(from, at))
+        text.replace(at, from.size(), to), at += to.size();
+    };
+    swap("radius = \"1 um\"", "radius = \"3 um\"");
+    swap("values = [\"400 nm\", \"700 nm\"]", "values = [\"3 um\"]");
+    const io::CaseSpec spec = io::parse_case(text, "kz.toml");
+    const auto g = io::build_geometry(spec);
+    ASSERT_EQ(g->block_sum(), blocks::BlockSum::kAxial);
+    RunOptions o;
+    o.frequency = spec.frequency;
+    o.quantities = spec.quantities;
+    o.threads = 1;
+    const RunResult serial = run_sweep(*g, spec.gaps, o);
+    for (int slots : {2, 4}) {
+      SCOPED_TRACE(slots);
+      MapStore store;
+      o.store = &store;
+      parallel::RoundStats stats;
+      const auto r = parallel::run_sweeps_in_rounds({{g.get(), spec.gaps, o, {}}}, slots, &stats);
+      o.store = nullptr;
+      expect_same(serial, r[0]);
+      EXPECT_GT(stats.split_frequencies, 0);
+      EXPECT_GT(stats.block_tasks, stats.split_frequencies);
+      EXPECT_LE(stats.rounds, 8);
+      std::cout << kind << ", " << slots << " slots: " << stats.split_frequencies
+                << " frequencies split into " << stats.block_tasks << " node tasks, "
+                << stats.rounds << " rounds, " << stats.unused_blocks << " of " << stats.block_units
+                << " nodes not used\n";
       for (const auto& t : serial.points[0].frequencies.terms)
         EXPECT_TRUE(store.written.count({0, t.xi})) << t.xi;
     }

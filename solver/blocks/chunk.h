@@ -1,0 +1,65 @@
+#pragma once
+// Block items: part of one frequency's s(xi) computed alone, for runs spread over ranks or
+// threads (solver/parallel/frequency_rounds.h). A frequency whose s(xi) is one reduction over
+// independent units (Geometry::block_sum) is cut into chunks of units: m blocks of one sum over
+// m (blocks::sum_over_m, m_sum.h) or nodes of one double-exponential k_z integral
+// (cylinder::de_integrate, solver/geometries/axial_integral.h). While a ChunkScope is alive, the
+// reduction called on that thread computes only the chunk's units, records the parameters that
+// decide where it stops, and returns zero; the full value is then formed elsewhere by the
+// reduction's replay (blocks::replay_sum_over_m, cylinder::replay_de_integrate) on the gathered
+// unit values, with the serial additions in the serial order and the serial stopping tests, so
+// it is the serial value bit for bit.
+#include <string>
+#include <vector>
+
+#include "solver/spectral.h"
+
+namespace roundtrip::blocks {
+
+/// The one reduction a geometry's s(xi) is (Geometry::block_sum), i.e. what a chunk's units are.
+enum class BlockSum : int {
+  kNone = 0,   ///< not cut: one frequency is the smallest item
+  kM = 1,      ///< one sum over m: the units are m blocks (m_sum.h)
+  kAxial = 2,  ///< one DE integral over k_z: the units are its nodes (axial_integral.h)
+};
+
+/// One chunk. Asked: the units begin <= i < end (for m, begin a multiple of kMBatch, so the
+/// batches are those of the whole sum; for k_z nodes, cylinder::axial_node_index). Filled in by
+/// the reduction: which one ran, the parameters that decide where it stops, and the unit values
+/// in order, up to the first failed unit.
+struct Chunk {
+  int begin = 0;
+  int end = 0;
+  BlockSum sum = BlockSum::kNone;  ///< the reduction that filled it in
+  bool seen = false;  ///< the reduction ran (else the geometry reduced nothing at this frequency)
+  // m sums (sum_over_m): the m limit, fixed m_max, derivative order, tolerance.
+  int mlimit = 0;
+  bool fixed_m_max = false;
+  DerivativeOrder order = DerivativeOrder::kEnergy;
+  double tol = 0.0;  ///< both reductions' tolerance
+  // k_z integrals (de_integrate): first level allowed to stop, factor applied to the integral.
+  int min_level = 1;
+  double factor = 1.0;
+  std::vector<Spectral> values;  ///< units begin, begin + 1, ... (before any failure)
+  int failed_at = -1;            ///< first failed unit in the chunk, -1 if none
+  std::string failure;           ///< its message
+};
+
+/// While alive, the reduction (sum_over_m or de_integrate) called on this thread computes only
+/// the units of `chunk`, fills it in and returns zero (a second reduction in the same frequency
+/// throws std::logic_error). Not nested.
+class ChunkScope {
+ public:
+  explicit ChunkScope(Chunk* chunk);
+  ~ChunkScope();
+  ChunkScope(const ChunkScope&) = delete;
+  ChunkScope& operator=(const ChunkScope&) = delete;
+};
+
+/// The chunk of the calling thread's ChunkScope, or nullptr.
+Chunk* current_chunk();
+
+/// Claim the current chunk for reduction `sum` (std::logic_error if it already ran).
+void claim_chunk(Chunk& chunk, BlockSum sum);
+
+}  // namespace roundtrip::blocks
