@@ -132,7 +132,7 @@ class GratingAtFrequency {
   Eigen::MatrixXd pec_reflect(double kx, double ky) const;
   LamellarGrating g_;
   bool pec_ = false;  // ridges and substrate perfect conductors: grating_pec.h
-  double xi_, q0_ = 0.0, eps_m_ = 1.0, eps_r_ = 0.0, eps_s_ = 0.0;
+  double xi_, q0_ = 0.0, q_ = 0.0, eps_m_ = 1.0, eps_r_ = 0.0, eps_s_ = 0.0;
   int n_, m_;
   std::vector<Layer> layers_;  // top first
 };
