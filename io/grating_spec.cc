@@ -259,15 +259,20 @@ std::pair<std::string, std::string> grating_material_problem(const LamellarGrati
               "grating must be a dielectric (T = 0 works)"};
     return {};
   }
-  if (g.ridge->static_limit().is_conductor())
-    return {"material",
-            "gratings with conducting ridges are not built (the modal method here is for "
-            "dielectric ridges: a metal's huge eps makes its layer operator singular in double at "
-            "small xi; perfect conductors, ridges and substrate both, have their own method)"};
-  if (g.substrate->static_limit().is_conductor() && temperature_K > 0.0)
-    return {"substrate",
-            "the xi = 0 term of a conducting grating is not built; at T > 0 the grating must be a "
-            "dielectric (T = 0 works)"};
+  // Conducting (Drude, plasma) ridges and substrates: the FMM at xi > 0 (balanced basis,
+  // grating_fmm.h); the static (xi = 0) term of a conducting grating is not built.
+  if (temperature_K > 0.0) {
+    if (g.ridge->static_limit().is_conductor())
+      return {"material",
+              fmt::format("the xi = 0 term of a grating with conducting ridges ('{}') is not "
+                          "built; at T > 0 the grating must be a dielectric (temperature = "
+                          "\"0 K\" works: it needs no xi = 0 term)",
+                          g.ridge->name())};
+    if (g.substrate->static_limit().is_conductor())
+      return {"substrate",
+              "the xi = 0 term of a conducting grating is not built; at T > 0 the grating must be "
+              "a dielectric (T = 0 works)"};
+  }
   return {};
 }
 

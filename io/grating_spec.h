@@ -8,8 +8,9 @@
 //           | "table"      table = "profile.csv", table_unit = "nm"  (x, height per line)
 //   material = "silicon"                     the ridges
 //   substrate = "silica"                     optional; default: the ridge material
-// Materials the solver builds (grating_material_problem): dielectric ridges on any substrate
-// (conducting substrates at T = 0 only), or ridges and substrate both perfect conductors with a
+// Materials the solver builds (grating_material_problem): dielectric or conducting (Drude,
+// plasma, tabulated metals) ridges on any substrate, conductors at T = 0 only (the xi = 0 term
+// of a conducting grating is not built), or ridges and substrate both perfect conductors with a
 // lamellar profile at T = 0 (the grooves' modal method, solver/scatterers/grating_pec.h).
 // Table profiles: one period of (x, height) points, x strictly increasing (single-valued),
 // last x - first x = period, first height = last height (periodic), symmetric about the first

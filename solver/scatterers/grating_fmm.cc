@@ -19,6 +19,9 @@ namespace roundtrip {
 namespace {
 
 using Eigen::MatrixXd;
+
+// The largest eps the FMM uses at xi > 0 (the constructor).
+constexpr double kEpsCap = 1e9;
 using Eigen::VectorXd;
 
 // Fourier coefficient p of a profile that is a on the ridge set (intervals [a_i, b_i] in units
@@ -298,6 +301,19 @@ GratingAtFrequency::GratingAtFrequency(const LamellarGrating& g, double xi, cons
   eps_s_ = epsilon_at(*g.substrate, xi, "substrate");
   q0_ = xi / kSpeedOfLight;
   q_ = q0_ * g.period / (2.0 * kPi);
+  // At xi > 0 every eps is capped at kEpsCap (one consistent medium of eps = 1e9 in both
+  // polarisations): Li's inverse rule inverts [[1/eps]], whose metal part 1/eps falls below the
+  // vacuum part's rounding as eps -> 1e16 (Drude gold at xi ~ 1e3 rad/s, reached by the T = 0
+  // rule's left probes: negative gamma^2). Beyond the cap a TM reflection changes by O(1/eps)
+  // (Fresnel r_TM = 1 - O(1/eps)) and the TE reflection, nonzero only for k < q0 sqrt(eps)
+  // (q0^2 eps = (omega_p/c)^2 xi/(xi + gamma) for Drude), loses a region that is already
+  // below 0.07/L for gold at L = 200 nm; gold reaches the cap below xi = 3.5e9 rad/s, which
+  // weighs < 1e-5 of E at T = 0 (derived; README "Gratings").
+  if (xi > 0.0) {
+    eps_m_ = std::min(eps_m_, kEpsCap);
+    eps_r_ = std::min(eps_r_, kEpsCap);
+    eps_s_ = std::min(eps_s_, kEpsCap);
+  }
   for (const auto& [thickness, set] : g.layers()) {
     Layer l;
     l.thickness = thickness;
@@ -357,9 +373,20 @@ GratingAtFrequency::Line GratingAtFrequency::line(double kx) const {
         throw std::runtime_error("grating: the layer eigenproblem did not converge");
       lm.g2_te = es_te.eigenvalues();
       lm.g2_tm = es_tm.eigenvalues();
-      if (!(lm.g2_te.minCoeff() > 0.0) || !(lm.g2_tm.minCoeff() > 0.0))
-        throw std::runtime_error(fmt::format("grating: layer mode gamma^2 = {} is not positive",
-                                             std::min(lm.g2_te.minCoeff(), lm.g2_tm.minCoeff())));
+      // Both operators are >= q^2 min(eps) (Ee >= eps_min, Ai = [[1/eps]]^-1 >= eps_min;
+      // derived), a bound of size q^2 ~ 1e-14 at xi = 1e9 rad/s that rounding of the largest
+      // eigenvalue (~ N^2) can push below zero where some k_n = 0: clamp to the bound, and fail
+      // only below -1e-10 of the largest (not rounding).
+      const double floor = q2 * std::min(eps_r_, eps_m_);
+      for (VectorXd* g2 : {&lm.g2_te, &lm.g2_tm}) {
+        const double big = g2->cwiseAbs().maxCoeff();
+        if (!(g2->minCoeff() > -1e-10 * big))
+          throw std::runtime_error(
+              fmt::format("grating: layer mode gamma^2 = {} (largest {}, units G^2) is not "
+                          "positive at xi = {} rad/s, k_x = {} 1/m",
+                          g2->minCoeff(), big, xi_, kx));
+        *g2 = g2->cwiseMax(floor);
+      }
       lm.phi = es_te.eigenvectors();
       lm.zeta = ly.ai_l * es_tm.eigenvectors();
       lm.tm_top = ly.ee * lm.phi;                                       // Ee phi
