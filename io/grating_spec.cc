@@ -284,11 +284,17 @@ std::pair<std::string, std::string> grating_material_problem(const LamellarGrati
       return {"coating.material",
               "a coating on a perfectly conducting grating is not built (the grooves' modal "
               "method of a perfect conductor has empty grooves)"};
-    if (g.coating->is_perfect_conductor() || g.coating->static_limit().is_conductor())
+    if (g.coating->is_perfect_conductor())
       return {"coating.material",
-              "coatings that conduct are not built (the layer operator of the modal method here "
-              "is for dielectrics: a metal's huge eps makes it singular in double at small xi, as "
-              "for conducting ridges); a dielectric coating works"};
+              "a perfectly conducting coating is not built (the FMM needs a finite eps; a metal "
+              "coating such as gold-drude works at T = 0)"};
+    // A metal coating as metal ridges: the FMM at xi > 0 (balanced basis, grating_fmm.h).
+    if (temperature_K > 0.0 && g.coating->static_limit().is_conductor())
+      return {"coating.material",
+              fmt::format("the xi = 0 term of a grating with a conducting coating ('{}') is not "
+                          "built; at T > 0 the coating must be a dielectric (temperature = "
+                          "\"0 K\" works: it needs no xi = 0 term)",
+                          g.coating->name())};
   }
   if (pec_r || pec_s) {
     // The grooves' modal method (solver/scatterers/grating_pec.h).
@@ -303,15 +309,20 @@ std::pair<std::string, std::string> grating_material_problem(const LamellarGrati
               "method needs rectangular grooves)"};
     return {};  // T > 0 too: the xi = 0 term is the static Dirichlet + Neumann pair
   }
-  if (g.ridge->static_limit().is_conductor())
-    return {"material",
-            "gratings with conducting ridges are not built (the modal method here is for "
-            "dielectric ridges: a metal's huge eps makes its layer operator singular in double at "
-            "small xi; perfect conductors, ridges and substrate both, have their own method)"};
-  if (g.substrate->static_limit().is_conductor() && temperature_K > 0.0)
-    return {"substrate",
-            "the xi = 0 term of a conducting grating is not built; at T > 0 the grating must be a "
-            "dielectric (T = 0 works)"};
+  // Conducting (Drude, plasma) ridges and substrates: the FMM at xi > 0 (balanced basis,
+  // grating_fmm.h); the static (xi = 0) term of a conducting grating is not built.
+  if (temperature_K > 0.0) {
+    if (g.ridge->static_limit().is_conductor())
+      return {"material",
+              fmt::format("the xi = 0 term of a grating with conducting ridges ('{}') is not "
+                          "built; at T > 0 the grating must be a dielectric (temperature = "
+                          "\"0 K\" works: it needs no xi = 0 term)",
+                          g.ridge->name())};
+    if (g.substrate->static_limit().is_conductor())
+      return {"substrate",
+              "the xi = 0 term of a conducting grating is not built; at T > 0 the grating must be "
+              "a dielectric (T = 0 works)"};
+  }
   return {};
 }
 

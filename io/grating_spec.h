@@ -11,10 +11,11 @@
 //   coating = { material = "silica", thickness = "20 nm" }  optional conformal coating
 //                                            (solver/scatterers/grating_coating.h: t > 0;
 //                                            lamellar 2t < (1 - f) period unless f = 0 or 1,
-//                                            other profiles t < period/2; dielectric only)
-// Materials the solver builds (grating_material_problem): dielectric ridges on any substrate
-// (conducting substrates at T = 0 only), or ridges and substrate both perfect conductors with a
-// lamellar profile at T = 0 (the grooves' modal method, solver/scatterers/grating_pec.h).
+//                                            other profiles t < period/2; metal coatings at T = 0)
+// Materials the solver builds (grating_material_problem): dielectric or conducting (Drude,
+// plasma, tabulated metals) ridges on any substrate, conductors at T = 0 only (the xi = 0 term
+// of a conducting grating is not built), or ridges and substrate both perfect conductors with a
+// lamellar profile, T = 0 and T > 0 (the grooves' modal method, solver/scatterers/grating_pec.h).
 // Table profiles: one period of (x, height) points, x strictly increasing (single-valued),
 // last x - first x = period, first height = last height (periodic), symmetric about the first
 // point or the middle of the period (an asymmetric profile has complex Fourier coefficients,

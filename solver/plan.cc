@@ -217,7 +217,9 @@ std::string truncation_problem(const Geometry& g, const Plan& plan) {
 
 MemoryLimit memory_limit(double user_bytes) {
   const AvailableMemory a = available_memory();
-  MemoryLimit m{a.bytes, a.bytes > 0.0 ? a.source : std::string()};
+  MemoryLimit m;
+  m.bytes = a.bytes;
+  if (a.bytes > 0.0) m.source = a.source;
   if (user_bytes > 0.0 && (m.bytes <= 0.0 || user_bytes < m.bytes)) {
     m.bytes = user_bytes;
     m.source = "--max-memory";

@@ -6,6 +6,7 @@
 
 #include <Eigen/Eigenvalues>
 #include <algorithm>
+#include <boost/math/special_functions/sin_pi.hpp>
 #include <cmath>
 #include <stdexcept>
 #include <utility>
@@ -19,6 +20,9 @@ namespace roundtrip {
 namespace {
 
 using Eigen::MatrixXd;
+
+// The largest eps the FMM uses at xi > 0 (the constructor).
+constexpr double kEpsCap = 1e9;
 using Eigen::VectorXd;
 
 // Modes of one region: e = W (up + down), h = V (down - up) (amplitudes of up-going modes
@@ -269,8 +273,23 @@ GratingAtFrequency::GratingAtFrequency(const LamellarGrating& g, double xi, cons
   eps_r_ = epsilon_at(*g.ridge, xi, "ridge material");
   eps_s_ = epsilon_at(*g.substrate, xi, "substrate");
   q0_ = xi / kSpeedOfLight;
+  q_ = q0_ * g.period / (2.0 * kPi);
+  // At xi > 0 every eps is capped at kEpsCap (one consistent medium of eps = 1e9 in both
+  // polarisations): Li's inverse rule inverts [[1/eps]], whose metal part 1/eps falls below the
+  // vacuum part's rounding as eps -> 1e16 (Drude gold at xi ~ 1e3 rad/s, reached by the T = 0
+  // rule's left probes: negative gamma^2). Beyond the cap a TM reflection changes by O(1/eps)
+  // (Fresnel r_TM = 1 - O(1/eps)) and the TE reflection, nonzero only for k < q0 sqrt(eps)
+  // (q0^2 eps = (omega_p/c)^2 xi/(xi + gamma) for Drude), loses a region that is already
+  // below 0.07/L for gold at L = 200 nm; gold reaches the cap below xi = 3.5e9 rad/s, which
+  // weighs < 1e-5 of E at T = 0 (derived; README "Gratings").
+  if (xi > 0.0) {
+    eps_m_ = std::min(eps_m_, kEpsCap);
+    eps_r_ = std::min(eps_r_, kEpsCap);
+    eps_s_ = std::min(eps_s_, kEpsCap);
+  }
   // Piecewise-constant eps per layer: gap medium, ridge and coating segments (grating_coating.h).
   eps_c_ = g.coated() ? epsilon_at(*g.coating, xi, "coating") : eps_m_;
+  if (xi > 0.0) eps_c_ = std::min(eps_c_, kEpsCap);
   for (const GratingLayer& gl : grating_layers(g)) {
     Layer l;
     l.thickness = gl.thickness;
@@ -296,8 +315,8 @@ GratingAtFrequency::GratingAtFrequency(const LamellarGrating& g, double xi, cons
 
 Eigen::VectorXd GratingAtFrequency::scaled_orders(double kx) const {
   const double G = 2.0 * kPi / g_.period;
-  // Lengths in units of c/xi at xi > 0 (header); SI (1/m) at xi = 0.
-  const double unit = xi_ > 0.0 ? 1.0 / q0_ : 1.0;
+  // Lengths in units of 1/G at xi > 0 (header); SI (1/m) at xi = 0.
+  const double unit = xi_ > 0.0 ? 1.0 / G : 1.0;
   VectorXd k(m_);
   for (int i = 0; i < m_; ++i) k[i] = (kx + (i - n_) * G) * unit;
   return k;
@@ -305,34 +324,48 @@ Eigen::VectorXd GratingAtFrequency::scaled_orders(double kx) const {
 
 GratingAtFrequency::Line GratingAtFrequency::line(double kx) const {
   // Conical decoupling (header of Line, derived). Each M x M problem is symmetric: TE directly;
-  // TM with Ai = A A^T as (A^T T A) y = gamma^2 y, zeta = A y, T = K Ee^-1 K + 1 = G^T G + 1,
+  // TM with Ai = A A^T as (A^T T A) y = gamma^2 y, zeta = A y, T = K Ee^-1 K + q^2 = G^T G + q^2,
   // G = C^-1 K (Gram form as in reflect_coupled); xi = 0 generalized symmetric (S, Ee).
+  // Lengths in units of 1/G (G = 2 pi / period) and q = xi/(c G): eps enters as q^2 Ee, finite
+  // as xi -> 0 for a Drude metal, and no operator mixes sizes (k/q)^2 and 1 (header).
   Line out;
   out.kx = kx;
   if (pec_) return out;  // no layer modes: the grooves' modes are analytic (grating_pec.h)
   const VectorXd k = scaled_orders(kx);
   const auto K = k.asDiagonal();
+  const double q2 = q_ * q_;
   for (const Layer& ly : layers_) {
     Line::LayerModes lm;
     if (xi_ > 0.0) {
-      MatrixXd te = ly.ee;
+      MatrixXd te = q2 * ly.ee;
       te.diagonal() += k.array().square().matrix();
       Eigen::SelfAdjointEigenSolver<MatrixXd> es_te(te);
       const MatrixXd Gk = ly.ee_llt.matrixL().solve(MatrixXd(K));  // C^-1 K
       MatrixXd T = Gk.transpose() * Gk;
-      T.diagonal().array() += 1.0;
+      T.diagonal().array() += q2;
       const MatrixXd C = ly.ai_l.transpose() * T * ly.ai_l;
       Eigen::SelfAdjointEigenSolver<MatrixXd> es_tm(0.5 * (C + C.transpose()));
       if (es_te.info() != Eigen::Success || es_tm.info() != Eigen::Success)
         throw std::runtime_error("grating: the layer eigenproblem did not converge");
       lm.g2_te = es_te.eigenvalues();
       lm.g2_tm = es_tm.eigenvalues();
-      if (!(lm.g2_te.minCoeff() > 0.0) || !(lm.g2_tm.minCoeff() > 0.0))
-        throw std::runtime_error(fmt::format("grating: layer mode gamma^2 = {} is not positive",
-                                             std::min(lm.g2_te.minCoeff(), lm.g2_tm.minCoeff())));
+      // Both operators are >= q^2 min(eps) (Ee >= eps_min, Ai = [[1/eps]]^-1 >= eps_min;
+      // derived), a bound of size q^2 ~ 1e-14 at xi = 1e9 rad/s that rounding of the largest
+      // eigenvalue (~ N^2) can push below zero where some k_n = 0: clamp to the bound, and fail
+      // only below -1e-10 of the largest (not rounding).
+      const double floor = q2 * std::min(eps_r_, eps_m_);
+      for (VectorXd* g2 : {&lm.g2_te, &lm.g2_tm}) {
+        const double big = g2->cwiseAbs().maxCoeff();
+        if (!(g2->minCoeff() > -1e-10 * big))
+          throw std::runtime_error(
+              fmt::format("grating: layer mode gamma^2 = {} (largest {}, units G^2) is not "
+                          "positive at xi = {} rad/s, k_x = {} 1/m",
+                          g2->minCoeff(), big, xi_, kx));
+        *g2 = g2->cwiseMax(floor);
+      }
       lm.phi = es_te.eigenvectors();
       lm.zeta = ly.ai_l * es_tm.eigenvectors();
-      lm.tm_top = T * lm.zeta;
+      lm.tm_top = ly.ee * lm.phi;                                       // Ee phi
       lm.tm_bot = ly.ee_llt.matrixL().transpose().solve(Gk * lm.zeta);  // C^-T C^-1 K zeta
     } else {
       const MatrixXd S = K * ly.ai * K;
@@ -366,33 +399,81 @@ Eigen::MatrixXd GratingAtFrequency::reflect(const Line& line, double ky, int lo,
 
 Eigen::MatrixXd GratingAtFrequency::reflect(const Line& line, double ky) const {
   if (pec_) return pec_reflect(line.kx, ky);
-  const double unit = xi_ > 0.0 ? 1.0 / q0_ : 1.0;
+  const double unit = xi_ > 0.0 ? 1.0 / (2.0 * kPi / g_.period) : 1.0;
   const VectorXd k = scaled_orders(line.kx);
   const double kyn = ky * unit, ky2 = kyn * kyn;
   const int m = m_;
   if (xi_ > 0.0) {
-    const Modes top = homogeneous_dynamic(k, kyn, eps_m_);
-    MatrixXd y = homogeneous_dynamic(k, kyn, eps_s_).v;
+    // Balanced basis (derived; header "Balanced basis"): per order n the tangential fields are
+    // split along u = (-k_y, k_n)/k_t (TE) and v = (k_n, k_y)/k_t (TM), e' = (e.u, e.v) and
+    // h' = (h~.u / Y_TE, h~.v / Y_TM) with the gap medium's admittances Y_TE = kappa,
+    // Y_TM = q^2 eps_m / kappa (units 1/G). The gap then has V' = 1, and every entry of W', V'
+    // below is a product or a same-sign sum (no cancellation between TE and TM sizes).
+    const double q2 = q_ * q_;
+    VectorXd ux(m), uy(m), vx(m), vy(m), kt(m), kap(m);
+    for (int n = 0; n < m; ++n) {
+      kt[n] = std::hypot(k[n], kyn);
+      ux[n] = 0.0, uy[n] = 1.0, vx[n] = 1.0, vy[n] = 0.0;  // k_t = 0: any pair (planar.h)
+      if (kt[n] > 0.0) {
+        ux[n] = -kyn / kt[n];
+        uy[n] = k[n] / kt[n];
+        vx[n] = k[n] / kt[n];
+        vy[n] = kyn / kt[n];
+      }
+      kap[n] = std::sqrt(kt[n] * kt[n] + q2 * eps_m_);
+    }
+    // Substrate: diagonal admittance kappa_s / kappa (TE), eps_s kappa / (eps_m kappa_s) (TM).
+    MatrixXd y = MatrixXd::Zero(2 * m, 2 * m);
+    for (int n = 0; n < m; ++n) {
+      const double ks = std::sqrt(kt[n] * kt[n] + q2 * eps_s_);
+      y(n, n) = ks / kap[n];
+      y(m + n, m + n) = eps_s_ * kap[n] / (eps_m_ * ks);
+    }
     for (int i = static_cast<int>(layers_.size()) - 1; i >= 0; --i) {
       const Line::LayerModes& lm = line.layers[i];
       Modes md;
       md.lambda.resize(2 * m);
       md.lambda.head(m) = (lm.g2_te.array() + ky2).sqrt();
       md.lambda.tail(m) = (lm.g2_tm.array() + ky2).sqrt();
-      const VectorXd inv_te = md.lambda.head(m).cwiseInverse();
-      const VectorXd inv_tm = md.lambda.tail(m).cwiseInverse();
-      md.w = MatrixXd::Zero(2 * m, 2 * m);
-      md.v = MatrixXd::Zero(2 * m, 2 * m);
-      // Columns 0..M-1: TE modes; M..2M-1: TM modes (Line).
-      md.w.bottomLeftCorner(m, m) = lm.phi;
-      md.w.topRightCorner(m, m) = lm.tm_top * inv_tm.asDiagonal();
-      md.w.bottomRightCorner(m, m) = kyn * lm.tm_bot * inv_tm.asDiagonal();
-      md.v.topLeftCorner(m, m) = -kyn * k.asDiagonal() * lm.phi * inv_te.asDiagonal();
-      md.v.bottomLeftCorner(m, m) = lm.phi * lm.g2_te.cwiseProduct(inv_te).asDiagonal();
-      md.v.topRightCorner(m, m) = lm.zeta;
+      md.w.resize(2 * m, 2 * m);
+      md.v.resize(2 * m, 2 * m);
+      for (int j = 0; j < m; ++j) {
+        const double lte = md.lambda[j], ltm = md.lambda[m + j], g2 = lm.g2_te[j];
+        for (int n = 0; n < m; ++n) {
+          // TE mode (E_x = 0): e = (0, phi), h~ = (-k_y K phi, gamma^2 phi) / lambda, and
+          // h~.v = v_y q^2 (Ee phi)_n / lambda ((K^2 + q^2 Ee) phi = gamma^2 phi).
+          const double ph = lm.phi(n, j);
+          md.w(n, j) = uy[n] * ph;
+          md.w(m + n, j) = vy[n] * ph;
+          md.v(n, j) = (-ux[n] * kyn * k[n] + uy[n] * g2) * ph / (lte * kap[n]);
+          md.v(m + n, j) = vy[n] * lm.tm_top(n, j) * kap[n] / (lte * eps_m_);
+          // TM mode (H_x = 0), column scaled by q^2: h~ = q^2 (zeta, 0),
+          // e = ((K Ee^-1 K + q^2) zeta, k_y Ee^-1 K zeta) / lambda, whose e.u = u_x q^2 zeta /
+          // lambda (the K Ee^-1 K parts cancel exactly: u_x k_n + u_y k_y = 0).
+          const double ze = lm.zeta(n, j);
+          md.w(n, m + j) = ux[n] * q2 * ze / ltm;
+          md.w(m + n, m + j) = (kt[n] * lm.tm_bot(n, j) + vx[n] * q2 * ze) / ltm;
+          md.v(n, m + j) = q2 * ux[n] * ze / kap[n];
+          md.v(m + n, m + j) = vx[n] * ze * kap[n] / eps_m_;
+        }
+      }
       y = admittance_through(md, layers_[i].thickness / unit, y);
     }
-    return reflection_from(top.v, y);
+    const MatrixXd rb = reflection_from(MatrixXd::Identity(2 * m, 2 * m), y);
+    // Back to (E_x, E_y): R = U R' U^T, U the per-order rotation (u, v) -> (x, y).
+    const auto Ux = ux.asDiagonal(), Uy = uy.asDiagonal(), Vx = vx.asDiagonal(),
+               Vy = vy.asDiagonal();
+    const MatrixXd ruu = rb.topLeftCorner(m, m), ruv = rb.topRightCorner(m, m),
+                   rvu = rb.bottomLeftCorner(m, m), rvv = rb.bottomRightCorner(m, m);
+    // Rows: x = u_x (u-part) + v_x (v-part); first the left factor, then the right.
+    const MatrixXd lx_u = Ux * ruu + Vx * rvu, lx_v = Ux * ruv + Vx * rvv;
+    const MatrixXd ly_u = Uy * ruu + Vy * rvu, ly_v = Uy * ruv + Vy * rvv;
+    MatrixXd r(2 * m, 2 * m);
+    r.topLeftCorner(m, m) = lx_u * Ux + lx_v * Vx;
+    r.topRightCorner(m, m) = lx_u * Uy + lx_v * Vy;
+    r.bottomLeftCorner(m, m) = ly_u * Ux + ly_v * Vx;
+    r.bottomRightCorner(m, m) = ly_u * Uy + ly_v * Vy;
+    return r;
   }
   const Modes top = homogeneous_static(k, kyn, eps_m_);
   MatrixXd y = homogeneous_static(k, kyn, eps_s_).v;
@@ -414,8 +495,9 @@ Eigen::MatrixXd GratingAtFrequency::pec_reflect(double kx, double ky, int lo, in
 
 Eigen::MatrixXd GratingAtFrequency::reflect_coupled(double kx, double ky) const {
   if (pec_) return pec_reflect(kx, ky);
+  // The former formulation, kept as the independent reference: lengths in units of c/xi.
   const double unit = xi_ > 0.0 ? 1.0 / q0_ : 1.0;
-  const VectorXd k = scaled_orders(kx);
+  const VectorXd k = xi_ > 0.0 ? VectorXd(scaled_orders(kx) / q_) : scaled_orders(kx);
   const double kyn = ky * unit;
   const int dim = this->dim();
   if (xi_ > 0.0) {

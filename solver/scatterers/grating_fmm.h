@@ -25,6 +25,17 @@
 //   down-going waves ~ e^{+kappa z}, up-going ~ e^{-kappa z}; R maps down-going to up-going.
 //   In this basis a planar body reflects order n as r_TE u u^T - r_TM v v^T, u = (-k_y, k_n)/k,
 //   v = (k_n, k_y)/k (planar.h sign convention: a perfect conductor gives -1).
+// Balanced basis (reflect at xi > 0; derived): in c/xi units the TM admittance of a vacuum order
+//   is (q0/k)^2 times its TE admittance, so one matrix holding both lost (k/q0)^2 digits (1e-2
+//   of a film at 1e8 rad/s) and a metal made it worse. reflect therefore works with lengths in
+//   1/G (G = 2 pi/Lambda), q = xi/(c G), eps entering only as q^2 eps (finite as xi -> 0 for
+//   Drude), and per order the components (e.u, e.v) and (h~.u/Y_TE, h~.v/Y_TM) with the gap
+//   medium's Y_TE = kappa, Y_TM = q^2 eps_m/kappa: the gap's admittance is 1, every W, V entry is
+//   a product or a same-sign sum (the TE mode's h~.v = v_y q^2 (Ee phi)_n/lambda; the TM mode's
+//   e.u = u_x q^2 zeta_n/lambda, its K Ee^-1 K parts cancelling exactly), and R = U R' U^T at the
+//   end (U the per-order rotation). reflect_coupled keeps the c/xi form as the reference. Every
+//   eps is capped at 1e9 at xi > 0 (grating_fmm.cc: Li's inverse rule cannot hold a metal's
+//   1/eps below the vacuum's rounding; gold reaches 1e9 below 3.5e9 rad/s).
 // xi = 0 (electrostatics; only dielectric ridges and substrate): TE does not see a dielectric
 //   (mu = 1, the grating's static TE reflection is 0); TM is the potential phi with
 //   d_z^2 phi = Ee^-1 (K Ai K + k_y^2 Ee) phi and continuity of phi and D_z = -Ee d_z phi (Li's
@@ -145,7 +156,7 @@ class GratingAtFrequency {
   Eigen::MatrixXd pec_reflect(double kx, double ky, int lo = 0, int hi = -1) const;
   LamellarGrating g_;
   bool pec_ = false;  // ridges and substrate perfect conductors: grating_pec.h
-  double xi_, q0_ = 0.0, eps_m_ = 1.0, eps_r_ = 0.0, eps_s_ = 0.0, eps_c_ = 0.0;
+  double xi_, q0_ = 0.0, q_ = 0.0, eps_m_ = 1.0, eps_r_ = 0.0, eps_s_ = 0.0, eps_c_ = 0.0;
   int n_, m_;
   std::vector<Layer> layers_;  // top first
 };

@@ -102,8 +102,14 @@ TEST(GratingCase, WhatIsNotBuiltIsAClearError) {
       << m;
   std::string au = kGood;
   au.replace(au.find("\"silicon\""), 9, "\"gold-drude\"");
-  EXPECT_NE(error_of(grating_case(au, "0 K")).find("conducting ridges are not built"),
-            std::string::npos);
+  // Conducting ridges: T = 0 (every xi > 0, the balanced-basis FMM); at T > 0 the xi = 0 term
+  // is not built.
+  EXPECT_EQ(error_of(grating_case(au, "0 K")), "no error");
+  m = error_of(grating_case(au, "300 K"));
+  EXPECT_NE(m.find("grating.material = \"gold-drude\": the xi = 0 term of a grating with "
+                   "conducting ridges"),
+            std::string::npos)
+      << m;
   // A conducting substrate under dielectric ridges: T = 0 only (no xi = 0 term built).
   const std::string on_gold = kGood + "substrate = \"gold-drude\"\n";
   EXPECT_NE(error_of(grating_case(on_gold, "300 K")).find("xi = 0 term of a conducting grating"),

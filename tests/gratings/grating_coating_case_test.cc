@@ -105,10 +105,17 @@ TEST(GratingCoatingCase, BadCoatingsNameFileLineKeyAndValue) {
 }
 
 TEST(GratingCoatingCase, WhatIsNotBuiltIsAClearError) {
-  // Conducting coatings (as conducting ridges) and coatings on perfect conductors.
-  std::string m = with("\"silica\"", "\"gold-drude\"");
-  EXPECT_NE(m.find("g.toml:14: grating.coating.material = \"gold-drude\": coatings that conduct "
-                   "are not built"),
+  // Conducting coatings as conducting ridges: the FMM at xi > 0 (T = 0), no xi = 0 term (T > 0);
+  // perfectly conducting coatings and coatings on perfect conductors are not built.
+  EXPECT_EQ(with("\"silica\"", "\"gold-drude\""), "no error");
+  std::string m = with("\"silica\"", "\"gold-drude\"", "300 K");
+  EXPECT_NE(m.find("g.toml:14: grating.coating.material = \"gold-drude\": the xi = 0 term of a "
+                   "grating with a conducting coating ('gold-drude') is not built"),
+            std::string::npos)
+      << m;
+  m = with("\"silica\"", "\"perfect-conductor\"");
+  EXPECT_NE(m.find("grating.coating.material = \"perfect-conductor\": a perfectly conducting "
+                   "coating is not built"),
             std::string::npos)
       << m;
   m = with("\"silicon\"", "\"perfect-conductor\"");
