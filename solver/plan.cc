@@ -73,7 +73,8 @@ PlanCalibration calibrate_plan(const Geometry& g, const std::vector<double>& gap
   const auto timed = [&](double gap) {
     const double flops = plan_flops_per_frequency(g, gap, order, rel_tol);
     const auto t = g.truncation(gap);
-    if (flops > 1.0 && !(flops * gemm <= max_seconds && max_multipole_order(t) <= kMaxMultipoleOrder))
+    if (flops > 1.0 &&
+        !(flops * gemm <= max_seconds && max_multipole_order(t) <= kMaxMultipoleOrder))
       return -1.0;
     const double xi = g.frequency_scale(gap);
     (void)g.at_frequency(xi, gap, order);

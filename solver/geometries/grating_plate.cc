@@ -73,25 +73,6 @@ std::pair<int, int> reaching_orders(const VectorXd& kap, int m, double gap) {
   return {lo, hi};
 }
 
-// The block of order indices lo..hi of each component of a basis of orders 0..m-1 per component.
-MatrixXd order_block(const MatrixXd& full, int m, int lo, int hi) {
-  if (lo == 0 && hi == m - 1) return full;
-  const int na = hi - lo + 1, nb = static_cast<int>(full.rows()) / m;
-  MatrixXd r(nb * na, nb * na);
-  for (int a = 0; a < nb; ++a)
-    for (int b = 0; b < nb; ++b)
-      r.block(a * na, b * na, na, na) = full.block(a * m + lo, b * m + lo, na, na);
-  return r;
-}
-
-VectorXd order_block(const VectorXd& full, int m, int lo, int hi) {
-  if (lo == 0 && hi == m - 1) return full;
-  const int na = hi - lo + 1, nb = static_cast<int>(full.size()) / m;
-  VectorXd r(nb * na);
-  for (int a = 0; a < nb; ++a) r.segment(a * na, na) = full.segment(a * m + lo, na);
-  return r;
-}
-
 // ln det(1 - M), d/dL, d2/dL2 at one Bloch vector (header).
 Triple round_trip(const MatrixXd& rg, const MatrixXd& rp, const VectorXd& kap, double gap, int n) {
   const VectorXd d = (-kap * gap).array().exp();

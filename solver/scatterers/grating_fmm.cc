@@ -387,13 +387,24 @@ Eigen::MatrixXd GratingAtFrequency::reflect(const Line& line, double ky, int lo,
     throw std::invalid_argument(
         fmt::format("grating: order block {}..{} outside 0..{}", lo, hi, m_ - 1));
   if (pec_) return pec_reflect(line.kx, ky, lo, hi);
-  const MatrixXd full = reflect(line, ky);
-  if (lo == 0 && hi == m_ - 1) return full;
-  const int na = hi - lo + 1, nb = static_cast<int>(full.rows()) / m_;
+  return order_block(reflect(line, ky), m_, lo, hi);
+}
+
+Eigen::MatrixXd order_block(const Eigen::MatrixXd& full, int m, int lo, int hi) {
+  if (lo == 0 && hi == m - 1) return full;
+  const int na = hi - lo + 1, nb = static_cast<int>(full.rows()) / m;
   MatrixXd r(nb * na, nb * na);
   for (int a = 0; a < nb; ++a)
     for (int b = 0; b < nb; ++b)
-      r.block(a * na, b * na, na, na) = full.block(a * m_ + lo, b * m_ + lo, na, na);
+      r.block(a * na, b * na, na, na) = full.block(a * m + lo, b * m + lo, na, na);
+  return r;
+}
+
+Eigen::VectorXd order_block(const Eigen::VectorXd& full, int m, int lo, int hi) {
+  if (lo == 0 && hi == m - 1) return full;
+  const int na = hi - lo + 1, nb = static_cast<int>(full.size()) / m;
+  VectorXd r(nb * na);
+  for (int a = 0; a < nb; ++a) r.segment(a * na, na) = full.segment(a * m + lo, na);
   return r;
 }
 

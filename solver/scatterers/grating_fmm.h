@@ -161,6 +161,12 @@ class GratingAtFrequency {
   std::vector<Layer> layers_;  // top first
 };
 
+/// The block of order indices lo..hi (0-based) of each component of an operator (or vector) in
+/// a basis of m orders per component (E_x, E_y at xi > 0; the potentials at xi = 0): the
+/// orders that reach the partner body (grating_plate.cc).
+Eigen::MatrixXd order_block(const Eigen::MatrixXd& full, int m, int lo, int hi);
+Eigen::VectorXd order_block(const Eigen::VectorXd& full, int m, int lo, int hi);
+
 /// The same basis for a planar body (block-diagonal in n): at xi > 0 r_TE u u^T - r_TM v v^T
 /// per order, at xi = 0 -r_TM (static; with static_pair, the basis (phi, psi) of a perfectly
 /// conducting grating: diag(-r_TM, -r_TE), grating_pec.h). k = 0 exactly: r_TE times the
