@@ -310,18 +310,40 @@ std::pair<std::string, std::string> grating_material_problem(const LamellarGrati
     return {};  // T > 0 too: the xi = 0 term is the static Dirichlet + Neumann pair
   }
   // Conducting (Drude, plasma) ridges and substrates: the FMM at xi > 0 (balanced basis,
-  // grating_fmm.h); the static (xi = 0) term of a conducting grating is not built.
+  // grating_fmm.h). The xi = 0 term is built for lamellar Drude ridges on a Drude substrate
+  // (one equipotential conductor: conductor_lamellar_static, grating_pec.h); every other static
+  // conductor is not built.
   if (temperature_K > 0.0) {
-    if (g.ridge->static_limit().is_conductor())
-      return {"material",
-              fmt::format("the xi = 0 term of a grating with conducting ridges ('{}') is not "
-                          "built; at T > 0 the grating must be a dielectric (temperature = "
-                          "\"0 K\" works: it needs no xi = 0 term)",
-                          g.ridge->name())};
-    if (g.substrate->static_limit().is_conductor())
-      return {"substrate",
-              "the xi = 0 term of a conducting grating is not built; at T > 0 the grating must be "
-              "a dielectric (T = 0 works)"};
+    const StaticClass kr = g.ridge->static_limit().kind, ks = g.substrate->static_limit().kind;
+    const bool cr = kr != StaticClass::kDielectric, cs = ks != StaticClass::kDielectric;
+    if (cr || cs) {
+      const bool plasma_r = kr == StaticClass::kPlasmaConductor;
+      if (plasma_r || ks == StaticClass::kPlasmaConductor)
+        return {plasma_r ? "material" : "substrate",
+                fmt::format("the xi = 0 term of a plasma-model grating ('{}') is not built (a "
+                            "plasma-model metal has a static TE reflection); at T > 0 use a Drude "
+                            "metal (e.g. gold-drude) or a dielectric (temperature = \"0 K\" "
+                            "works: it needs no xi = 0 term)",
+                            plasma_r ? g.ridge->name() : g.substrate->name())};
+      if (!(cr && cs))
+        return {
+            cr ? "material" : "substrate",
+            fmt::format("the xi = 0 term of a grating with conducting {} ('{}') on a "
+                        "dielectric {} ('{}') is not built; at T > 0 ridges and substrate "
+                        "must both be Drude metals or both dielectrics (temperature = \"0 "
+                        "K\" works: it needs no xi = 0 term)",
+                        cr ? "ridges" : "substrate", cr ? g.ridge->name() : g.substrate->name(),
+                        cr ? "substrate" : "ridges", cr ? g.substrate->name() : g.ridge->name())};
+      if (g.coated())
+        return {"coating.material",
+                "the xi = 0 term of a coated conducting grating is not built; at T > 0 a Drude "
+                "grating must be uncoated (temperature = \"0 K\" works)"};
+      if (g.profile != GratingProfile::kLamellar)
+        return {"material",
+                "the xi = 0 term of a conducting grating is built for profile = \"lamellar\" "
+                "only (the equipotential's modal method needs rectangular grooves; temperature "
+                "= \"0 K\" works)"};
+    }
   }
   return {};
 }

@@ -13,9 +13,12 @@
 //                                            lamellar 2t < (1 - f) period unless f = 0 or 1,
 //                                            other profiles t < period/2; metal coatings at T = 0)
 // Materials the solver builds (grating_material_problem): dielectric or conducting (Drude,
-// plasma, tabulated metals) ridges on any substrate, conductors at T = 0 only (the xi = 0 term
-// of a conducting grating is not built), or ridges and substrate both perfect conductors with a
-// lamellar profile, T = 0 and T > 0 (the grooves' modal method, solver/scatterers/grating_pec.h).
+// plasma, tabulated metals) ridges on any substrate at T = 0; at T > 0 dielectrics, or lamellar
+// uncoated Drude-like ridges on a Drude-like substrate (the xi = 0 term is the equipotential
+// conductor, conductor_lamellar_static in solver/scatterers/grating_pec.h); other conductors
+// (plasma-model metals, a metal with a dielectric, coated or non-lamellar metal gratings) at
+// T = 0 only; or ridges and substrate both perfect conductors with a lamellar profile, T = 0
+// and T > 0 (the grooves' modal method, solver/scatterers/grating_pec.h).
 // Table profiles: one period of (x, height) points, x strictly increasing (single-valued),
 // last x - first x = period, first height = last height (periodic), symmetric about the first
 // point or the middle of the period (an asymmetric profile has complex Fourier coefficients,

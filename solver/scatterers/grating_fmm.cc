@@ -269,6 +269,37 @@ GratingAtFrequency::GratingAtFrequency(const LamellarGrating& g, double xi, cons
     q0_ = xi / kSpeedOfLight;
     return;
   }
+  if (xi == 0.0) {
+    // The n = 0 term of a conducting grating: ridges and substrate Drude-like conductors (one
+    // connected equipotential, no static TE reflection) form the Dirichlet problem of the
+    // potential, conductor_lamellar_static (grating_pec.h), in the potential basis of the
+    // dielectric static path. Every other static conductor is not built.
+    const StaticClass kr = g.ridge->static_limit().kind, ks = g.substrate->static_limit().kind;
+    const bool cr = kr != StaticClass::kDielectric, cs = ks != StaticClass::kDielectric;
+    const bool cc = g.coated() && g.coating->static_limit().is_conductor();
+    if (cr || cs || cc) {
+      if (kr == StaticClass::kPlasmaConductor || ks == StaticClass::kPlasmaConductor ||
+          (cc && g.coating->static_limit().kind == StaticClass::kPlasmaConductor))
+        throw std::invalid_argument(fmt::format(
+            "grating: ridge '{}' / substrate '{}'{}: a plasma-model metal screens a static "
+            "magnetic field (nonzero static TE reflection); the n = 0 term of a plasma-model "
+            "grating is not built (use a Drude metal, or temperature = \"0 K\")",
+            g.ridge->name(), g.substrate->name(),
+            g.coated() ? fmt::format(" / coating '{}'", g.coating->name()) : std::string()));
+      if (!(kr == StaticClass::kDrudeConductor && ks == StaticClass::kDrudeConductor) ||
+          g.coated() || g.profile != GratingProfile::kLamellar)
+        throw std::invalid_argument(fmt::format(
+            "grating: ridge '{}' on substrate '{}'{}: the static (n = 0) term of a conducting "
+            "grating is built only for lamellar Drude ridges on a Drude substrate without a "
+            "coating (an equipotential conductor, grating_pec.h); this mix is not built (use "
+            "temperature = \"0 K\", which needs no xi = 0 term)",
+            g.ridge->name(), g.substrate->name(),
+            g.coated() ? fmt::format(" coated with '{}'", g.coating->name()) : std::string()));
+      conductor_static_ = true;
+      eps_m_ = epsilon_at(medium, xi, "gap medium");
+      return;
+    }
+  }
   eps_m_ = epsilon_at(medium, xi, "gap medium");
   eps_r_ = epsilon_at(*g.ridge, xi, "ridge material");
   eps_s_ = epsilon_at(*g.substrate, xi, "substrate");
@@ -330,7 +361,7 @@ GratingAtFrequency::Line GratingAtFrequency::line(double kx) const {
   // as xi -> 0 for a Drude metal, and no operator mixes sizes (k/q)^2 and 1 (header).
   Line out;
   out.kx = kx;
-  if (pec_) return out;  // no layer modes: the grooves' modes are analytic (grating_pec.h)
+  if (pec_ || conductor_static_) return out;  // no layer modes: grating_pec.h is analytic
   const VectorXd k = scaled_orders(kx);
   const auto K = k.asDiagonal();
   const double q2 = q_ * q_;
@@ -387,6 +418,7 @@ Eigen::MatrixXd GratingAtFrequency::reflect(const Line& line, double ky, int lo,
     throw std::invalid_argument(
         fmt::format("grating: order block {}..{} outside 0..{}", lo, hi, m_ - 1));
   if (pec_) return pec_reflect(line.kx, ky, lo, hi);
+  if (conductor_static_) return conductor_reflect(line.kx, ky, lo, hi);
   return order_block(reflect(line, ky), m_, lo, hi);
 }
 
@@ -410,6 +442,7 @@ Eigen::VectorXd order_block(const Eigen::VectorXd& full, int m, int lo, int hi) 
 
 Eigen::MatrixXd GratingAtFrequency::reflect(const Line& line, double ky) const {
   if (pec_) return pec_reflect(line.kx, ky);
+  if (conductor_static_) return conductor_reflect(line.kx, ky);
   const double unit = xi_ > 0.0 ? 1.0 / (2.0 * kPi / g_.period) : 1.0;
   const VectorXd k = scaled_orders(line.kx);
   const double kyn = ky * unit, ky2 = kyn * kyn;
@@ -504,8 +537,13 @@ Eigen::MatrixXd GratingAtFrequency::pec_reflect(double kx, double ky, int lo, in
                                  hi);
 }
 
+Eigen::MatrixXd GratingAtFrequency::conductor_reflect(double kx, double ky, int lo, int hi) const {
+  return conductor_lamellar_static({g_.period, g_.filling, g_.depth}, eps_m_, n_, kx, ky, lo, hi);
+}
+
 Eigen::MatrixXd GratingAtFrequency::reflect_coupled(double kx, double ky) const {
   if (pec_) return pec_reflect(kx, ky);
+  if (conductor_static_) return conductor_reflect(kx, ky);
   // The former formulation, kept as the independent reference: lengths in units of c/xi.
   const double unit = xi_ > 0.0 ? 1.0 / q0_ : 1.0;
   const VectorXd k = xi_ > 0.0 ? VectorXd(scaled_orders(kx) / q_) : scaled_orders(kx);

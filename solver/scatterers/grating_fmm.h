@@ -36,7 +36,9 @@
 //   end (U the per-order rotation). reflect_coupled keeps the c/xi form as the reference. Every
 //   eps is capped at 1e9 at xi > 0 (grating_fmm.cc: Li's inverse rule cannot hold a metal's
 //   1/eps below the vacuum's rounding; gold reaches 1e9 below 3.5e9 rad/s).
-// xi = 0 (electrostatics; only dielectric ridges and substrate): TE does not see a dielectric
+// xi = 0 (electrostatics; dielectric ridges and substrate; lamellar Drude conductors instead use
+//   the equipotential of grating_pec.h, conductor_lamellar_static, in this same potential
+//   basis): TE does not see a dielectric
 //   (mu = 1, the grating's static TE reflection is 0); TM is the potential phi with
 //   d_z^2 phi = Ee^-1 (K Ai K + k_y^2 Ee) phi and continuity of phi and D_z = -Ee d_z phi (Li's
 //   rules as above; derived). Basis: potential amplitudes of orders -N..N; a planar body
@@ -101,8 +103,11 @@ struct LamellarGrating {
 /// grooves' own modal method (grating_pec.h) instead of the FMM, with the same basis and
 /// interface (at xi = 0 its static basis (phi, psi) of dimension 2(2N+1), grating_pec.h). Throws
 /// std::invalid_argument for a perfect conductor mixed with another material or a non-lamellar
-/// perfect conductor (not built), and at xi = 0 for conducting (non-ideal) ridges or substrate
-/// (not built).
+/// perfect conductor (not built). At xi = 0, lamellar Drude-like ridges on a Drude-like
+/// substrate (no coating) are one equipotential conductor: conductor_lamellar_static
+/// (grating_pec.h) in the potential basis (dimension 2N+1; TE is zero for Drude); other static
+/// conductors (plasma-model metals, mixes with a dielectric, coatings, non-lamellar profiles)
+/// throw (not built).
 class GratingAtFrequency {
  public:
   GratingAtFrequency(const LamellarGrating& g, double xi, const Material& medium, int orders);
@@ -154,8 +159,10 @@ class GratingAtFrequency {
   };
   Eigen::VectorXd scaled_orders(double kx) const;
   Eigen::MatrixXd pec_reflect(double kx, double ky, int lo = 0, int hi = -1) const;
+  Eigen::MatrixXd conductor_reflect(double kx, double ky, int lo = 0, int hi = -1) const;
   LamellarGrating g_;
-  bool pec_ = false;  // ridges and substrate perfect conductors: grating_pec.h
+  bool pec_ = false;               // ridges and substrate perfect conductors: grating_pec.h
+  bool conductor_static_ = false;  // xi = 0, Drude ridges and substrate: the equipotential
   double xi_, q0_ = 0.0, q_ = 0.0, eps_m_ = 1.0, eps_r_ = 0.0, eps_s_ = 0.0, eps_c_ = 0.0;
   int n_, m_;
   std::vector<Layer> layers_;  // top first

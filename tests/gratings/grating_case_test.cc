@@ -2,6 +2,7 @@
 #include <gtest/gtest.h>
 
 #include <cmath>
+#include <cstdio>
 #include <filesystem>
 #include <fstream>
 #include <string>
@@ -102,18 +103,40 @@ TEST(GratingCase, WhatIsNotBuiltIsAClearError) {
       << m;
   std::string au = kGood;
   au.replace(au.find("\"silicon\""), 9, "\"gold-drude\"");
-  // Conducting ridges: T = 0 (every xi > 0, the balanced-basis FMM); at T > 0 the xi = 0 term
-  // is not built.
+  // Conducting ridges: T = 0 (every xi > 0, the balanced-basis FMM); at T > 0 Drude ridges on a
+  // Drude substrate (the xi = 0 term is the equipotential conductor, grating_pec.h); plasma-model
+  // metals (a static TE reflection) are refused at T > 0.
   EXPECT_EQ(error_of(grating_case(au, "0 K")), "no error");
-  m = error_of(grating_case(au, "300 K"));
-  EXPECT_NE(m.find("grating.material = \"gold-drude\": the xi = 0 term of a grating with "
-                   "conducting ridges"),
+  EXPECT_EQ(error_of(grating_case(au, "300 K")), "no error");
+  std::string pl = kGood;
+  pl.replace(pl.find("\"silicon\""), 9, "\"gold-plasma\"");
+  EXPECT_EQ(error_of(grating_case(pl, "0 K")), "no error");
+  m = error_of(grating_case(pl, "300 K"));
+  EXPECT_NE(m.find("g.toml:13: grating.material = \"gold-plasma\": the xi = 0 term of a "
+                   "plasma-model grating ('gold-plasma') is not built"),
             std::string::npos)
       << m;
+  // Gold ridges on a silicon substrate: T = 0 only.
+  m = error_of(grating_case(au + "substrate = \"silicon\"\n", "300 K"));
+  EXPECT_NE(m.find("grating.material = \"gold-drude\": the xi = 0 term of a grating with "
+                   "conducting ridges ('gold-drude') on a dielectric substrate ('silicon') is not "
+                   "built"),
+            std::string::npos)
+      << m;
+  // A non-lamellar gold grating: T = 0 only.
+  std::string tri = au;
+  tri.replace(tri.find("\"lamellar\""), 10, "\"triangular\"");
+  tri.replace(tri.find("filling = 0.5\n"), 14, "");
+  m = error_of(grating_case(tri, "300 K"));
+  EXPECT_NE(m.find("built for profile = \"lamellar\" only"), std::string::npos) << m;
+  EXPECT_EQ(error_of(grating_case(tri, "0 K")), "no error");
   // A conducting substrate under dielectric ridges: T = 0 only (no xi = 0 term built).
   const std::string on_gold = kGood + "substrate = \"gold-drude\"\n";
-  EXPECT_NE(error_of(grating_case(on_gold, "300 K")).find("xi = 0 term of a conducting grating"),
-            std::string::npos);
+  m = error_of(grating_case(on_gold, "300 K"));
+  EXPECT_NE(m.find("grating.substrate = \"gold-drude\": the xi = 0 term of a grating with "
+                   "conducting substrate"),
+            std::string::npos)
+      << m;
   EXPECT_EQ(error_of(grating_case(on_gold, "0 K")), "no error");
 }
 
@@ -141,6 +164,32 @@ TEST(GratingCase, FillingOneIsThePlatePlateEnergyAndItsPfa) {
   ASSERT_TRUE(pfa.has_value());
   EXPECT_NEAR(pfa->energy, r.total.value, 1e-5 * std::abs(r.total.value));
   EXPECT_NEAR(pfa->force, -r.total.d1, 1e-5 * std::abs(r.total.d1));
+}
+
+TEST(GratingCase, GoldFillingOneAt300KIsTheDrudePlatePlateEnergyAndPressure) {
+  // Lifshitz (1956) through PlatePlate (its n = 0 term for Drude plates: r_TM(0) = 1,
+  // r_TE(0) = 0), summed by the same frequency rule (300 K, rel_tol 1e-5): a gold-drude grating
+  // with f = 1 is the gold half-space at L, its n = 0 term the equipotential conductor
+  // (grating_pec.h), its n >= 1 terms the balanced-basis FMM. E and P to rel_tol.
+  std::string g = kGood;
+  g.replace(g.find("filling = 0.5"), 13, "filling = 1.0");
+  g.replace(g.find("\"silicon\""), 9, "\"gold-drude\"");
+  const CaseSpec s =
+      parse_case(grating_case(g + "[numerics]\nrel_tol = 1e-5\norders = 3\n", "300 K"), "g.toml");
+  const auto geo = build_geometry(s);
+  const double L = 200e-9;
+  const FrequencySum e = sum_over_frequencies(
+      [&](double xi) { return geo->at_frequency(xi, L, DerivativeOrder::kForce); },
+      geo->frequency_scale(L), s.frequency);
+  const PlatePlate pp(make_half_space(builtin_material("gold-drude")),
+                      make_half_space(builtin_material("gold-drude")), nullptr);
+  const FrequencySum r = sum_over_frequencies(
+      [&](double xi) { return pp.at_frequency(xi, L, DerivativeOrder::kForce); },
+      pp.frequency_scale(L), s.frequency);
+  std::printf("gold f = 1, 300 K: E = %.10e (plates %.10e), dE/dL = %.10e (plates %.10e)\n",
+              e.total.value, r.total.value, e.total.d1, r.total.d1);
+  EXPECT_NEAR(e.total.value, r.total.value, 1e-5 * std::abs(r.total.value));
+  EXPECT_NEAR(e.total.d1, r.total.d1, 1e-5 * std::abs(r.total.d1));
 }
 
 TEST(GratingCase, PfaSphereGivesTheSphereForcesBesideTheExactEnergy) {

@@ -108,18 +108,22 @@ TEST(GratingGratingCase, BadInputNamesFileLineKeyAndValue) {
   g2f.replace(g2f.find("filling = 0.5"), 13, "filling = 2");
   m = error_of(gg_case("", g2f));
   EXPECT_NE(m.find("gg.toml:15: grating2.filling = 2"), std::string::npos) << m;
-  // Conducting ridges: built at T = 0 (the balanced-basis FMM); the xi = 0 term of a conducting
-  // grating (T > 0) is not built (perfect conductors: solver/scatterers/grating_pec.h).
+  // Conducting ridges: built at T = 0 (the balanced-basis FMM) and, Drude ridges on a Drude
+  // substrate, at T > 0 (the xi = 0 term is the equipotential conductor, grating_pec.h);
+  // plasma-model metals are refused at T > 0.
   std::string au = g2;
   au.replace(au.find("\"silicon\""), 9, "\"gold-drude\"");
   au.replace(au.find("300 nm"), 6, "400 nm");
   EXPECT_EQ(error_of(gg_case("", au)), "no error");
   std::string au_warm = gg_case("", au);
   au_warm.replace(au_warm.find("\"0 K\""), 5, "\"300 K\"");
+  EXPECT_EQ(error_of(au_warm), "no error");
   {
-    const std::string m = error_of(au_warm);
-    EXPECT_NE(m.find("grating2.material = \"gold-drude\": the xi = 0 term of a grating with "
-                     "conducting ridges"),
+    std::string pl = au_warm;
+    pl.replace(pl.find("\"gold-drude\""), 12, "\"gold-plasma\"");
+    const std::string m = error_of(pl);
+    EXPECT_NE(m.find("grating2.material = \"gold-plasma\": the xi = 0 term of a plasma-model "
+                     "grating"),
               std::string::npos)
         << m;
   }

@@ -7,6 +7,7 @@
 #include <vector>
 
 #include "solver/constants.h"
+#include "solver/frequency/frequency_rule.h"
 #include "solver/geometries/grating_plate.h"
 #include "solver/geometries/plate_plate.h"
 #include "solver/materials/models.h"
@@ -229,6 +230,89 @@ TEST(GratingMetal, FillingOneAndZeroGiveThePlatePlateIntegrandAtEveryFrequency) 
       EXPECT_NEAR(s.value, ref.value, 2e-6 * std::abs(ref.value)) << f << " " << xi;
       EXPECT_NEAR(s.d1, ref.d1, 2e-6 * std::abs(ref.d1)) << f << " " << xi;
     }
+}
+
+TEST(GratingMetal, DrudeStaticTermIsThePecGratingsDirichletHalf) {
+  // The n = 0 term of a Drude gold grating (lamellar, ridges and substrate gold: one
+  // equipotential, conductor_lamellar_static) in GratingPlate. Identity (derived): the perfect
+  // conductor's static operator is diag(R_D, R_N) in (phi, psi) (grating_pec.h), a Drude
+  // plate's is diag(-r_TM(0), -r_TE(0)) = diag(-1, 0), so ln det(1 - R M R_p M) splits into the
+  // phi block alone: s0(PEC grating, Drude plate) = s0(Drude grating, Drude plate) =
+  // s0(Drude grating, PEC plate) (the Drude grating reflects no psi). The same Bloch rule on the
+  // same integrand: asked 1e-10. And the flat limits f = 1 (x = L) and f = 0 (x = L + h) against
+  // the Lifshitz (1956) n = 0 term of Drude plates, -zeta(3)/(8 pi x^2) per unit s (half the
+  // perfect mirrors'; standard), asked 1e-6 (Bloch tolerance 1e-8).
+  const double L = 200e-9, h = 100e-9;
+  GratingPlateOptions o;
+  o.orders = 6;
+  o.bloch_rel_tol = 1e-8;
+  const auto au = gold(), pec = make_perfect_conductor();
+  const auto s0 = [&](MaterialPtr grating, MaterialPtr plate, double f) {
+    return GratingPlate(lamellar(f, h, grating, grating), make_half_space(plate), nullptr, o)
+        .at_frequency(0.0, L, DerivativeOrder::kGradient);
+  };
+  const Spectral d = s0(au, au, 0.5), p = s0(pec, au, 0.5), q = s0(au, pec, 0.5);
+  std::printf("s0: Drude-Drude %.12e, PEC-Drude %.12e, Drude-PEC %.12e\n", d.value, p.value,
+              q.value);
+  EXPECT_NEAR(d.value, p.value, 1e-10 * std::abs(p.value));
+  EXPECT_NEAR(d.d1, p.d1, 1e-10 * std::abs(p.d1));
+  EXPECT_NEAR(q.value, p.value, 1e-10 * std::abs(p.value));
+  // Strictly between the flat conductors at L and L + h, and above the perfect mirrors' n = 0
+  // (which adds the Neumann block).
+  const double s0_pec = s0(pec, pec, 0.5).value;
+  EXPECT_LT(s0_pec, d.value);
+  for (double f : {1.0, 0.0}) {
+    const double x = f == 1.0 ? L : L + h;
+    const double ref = -kZeta3 / (8.0 * kPi * x * x);
+    const Spectral s = s0(au, au, f);
+    EXPECT_NEAR(s.value, ref, 1e-6 * std::abs(ref)) << f;
+    EXPECT_NEAR(s.d1, -2.0 * ref / x, 1e-6 * std::abs(2.0 * ref / x)) << f;
+  }
+  // Plasma-model metals (a static TE reflection) and mixes are not built at xi = 0.
+  const auto vac = make_vacuum();
+  const auto plasma = make_plasma("gold-plasma-like", 9.0 * kRadPerSecondPerEv);
+  EXPECT_THROW(GratingAtFrequency(lamellar(0.5, h, plasma, plasma), 0.0, *vac, 2),
+               std::invalid_argument);
+  EXPECT_THROW(
+      GratingAtFrequency(lamellar(0.5, h, au, make_constant("si-like", 11.7)), 0.0, *vac, 2),
+      std::invalid_argument);
+  EXPECT_THROW(
+      GratingAtFrequency(lamellar(0.5, h, make_constant("si-like", 11.7), au), 0.0, *vac, 2),
+      std::invalid_argument);
+  LamellarGrating sine = lamellar(0.5, h, au, au);
+  sine.profile = GratingProfile::kSinusoidal;
+  sine.amplitude = h / 2;
+  EXPECT_THROW(GratingAtFrequency(sine, 0.0, *vac, 2), std::invalid_argument);
+  // In the potential basis of the dielectric static path (dimension 2N + 1, no static pair).
+  const GratingAtFrequency gf(lamellar(0.5, h, au, au), 0.0, *vac, 3);
+  EXPECT_EQ(gf.dim(), 7);
+  EXPECT_FALSE(gf.static_pair());
+}
+
+TEST(GratingMetal, DrudeGratingAtHighTemperatureIsItsStaticTerm) {
+  // A T > 0 gold grating-plate run (Matsubara rule) against its own n = 0 term: at T = 4000 K and
+  // L = 2 um, xi_1 L/c = 25, so the n >= 1 terms are ~e^{-50} (Lifshitz, standard): F =
+  // k_B T s(0)/2 (as the perfect conductor's test in grating_pec_test.cc). Period 2 um, f = 0.5,
+  // h = 1 um, N = 6 (fixed). Asked 1e-6 (rel_tol 1e-7).
+  const double L = 2e-6, T = 4000.0;
+  GratingPlateOptions o;
+  o.orders = 6;
+  o.bloch_rel_tol = 1e-8;
+  LamellarGrating g = lamellar(0.5, 1e-6, gold(), gold());
+  g.period = 2e-6;
+  const GratingPlate gp(g, make_half_space(gold()), nullptr, o);
+  FrequencyRuleOptions fo;
+  fo.temperature_K = T;
+  fo.rel_tol = 1e-7;
+  const double f_t = sum_over_frequencies(
+                         [&](double x, double t) {
+                           return gp.at_frequency_within(x, L, DerivativeOrder::kEnergy, t);
+                         },
+                         gp.frequency_scale(L), fo)
+                         .total.value;
+  const double n0 = 0.5 * kBoltzmann * T * gp.at_frequency(0.0, L, DerivativeOrder::kEnergy).value;
+  std::printf("T = %.0f K: F = %.8e J/m^2, k_B T s(0)/2 = %.8e\n", T, f_t, n0);
+  EXPECT_NEAR(f_t, n0, 1e-6 * std::abs(n0));
 }
 
 }  // namespace
