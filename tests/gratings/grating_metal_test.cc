@@ -8,6 +8,7 @@
 
 #include "solver/constants.h"
 #include "solver/frequency/frequency_rule.h"
+#include "solver/geometries/grating_grating.h"
 #include "solver/geometries/grating_plate.h"
 #include "solver/geometries/plate_plate.h"
 #include "solver/materials/models.h"
@@ -313,6 +314,41 @@ TEST(GratingMetal, DrudeGratingAtHighTemperatureIsItsStaticTerm) {
   const double n0 = 0.5 * kBoltzmann * T * gp.at_frequency(0.0, L, DerivativeOrder::kEnergy).value;
   std::printf("T = %.0f K: F = %.8e J/m^2, k_B T s(0)/2 = %.8e\n", T, f_t, n0);
   EXPECT_NEAR(f_t, n0, 1e-6 * std::abs(n0));
+}
+
+TEST(GratingMetal, DrudeStaticTermOfTwoGratingsWithAFlatOneIsGratingPlate) {
+  // grating-grating at xi = 0 with Drude gold gratings (the equipotential's potential basis): a
+  // gold grating facing a flat gold "grating" (f = 1) is the gold grating facing a gold plate
+  // (derived: the flat conductor's R_D is -1, a Drude plate's -r_TM(0) = -1), through the two
+  // kinds' own Bloch integrals, N = 4, Bloch tolerance 1e-8, offsets 0 and 70 nm (nothing
+  // depends on b with a flat partner); and a PEC grating partner (static pair basis: the gold
+  // grating's psi block padded by zeros) is the PEC grating facing a gold plate. Asked 1e-6.
+  const double L = 150e-9, h = 100e-9;
+  const auto au = gold(), pec = make_perfect_conductor();
+  GratingPlateOptions po;
+  po.orders = 4;
+  po.bloch_rel_tol = 1e-8;
+  const auto gp = [&](MaterialPtr m) {
+    return GratingPlate(lamellar(0.5, h, m, m), make_half_space(au), nullptr, po)
+        .at_frequency(0.0, L, DerivativeOrder::kEnergy)
+        .value;
+  };
+  const double ref = gp(au), ref_pec = gp(pec);
+  for (double b : {0.0, 70e-9}) {
+    GratingGratingOptions o;
+    o.orders = 4;
+    o.bloch_rel_tol = 1e-8;
+    o.offset = b;
+    const double v = GratingGrating(lamellar(0.5, h, au, au), lamellar(1.0, h, au, au), nullptr, o)
+                         .spectral(0.0, L, DerivativeOrder::kEnergy, 1e-8)
+                         .s.value;
+    EXPECT_NEAR(v, ref, 1e-6 * std::abs(ref)) << "b " << b;
+    const double w =
+        GratingGrating(lamellar(0.5, h, pec, pec), lamellar(1.0, h, au, au), nullptr, o)
+            .spectral(0.0, L, DerivativeOrder::kEnergy, 1e-8)
+            .s.value;
+    EXPECT_NEAR(w, ref_pec, 1e-6 * std::abs(ref_pec)) << "b " << b;
+  }
 }
 
 }  // namespace
