@@ -198,12 +198,14 @@ TEST_F(MpiRun, BlochNodeTasksOfOneGapGiveTheSerialNumbers) {
     const std::string gaps = "values = [\"400 nm\", \"700 nm\"]";
     text.replace(text.find(gaps), gaps.size(), "values = [\"3 um\"]");
     const fs::path c = write("bloch.toml", text);
-    ASSERT_EQ(run(0, c, dir_ / "serial.h5", "serial"), 0) << slurp(dir_ / "serial.err");
+    // Status 3 (a truncation not verified against rel_tol: the coarse grating) must be the same.
+    const int serial = run(0, c, dir_ / "serial.h5", "serial");
+    ASSERT_TRUE(serial == 0 || serial == 3) << slurp(dir_ / "serial.err");
     const bool lateral = std::string(kind) == "grating-grating";
     for (int ranks : {2, 4}) {
       SCOPED_TRACE(ranks);
       const fs::path out = dir_ / (std::to_string(ranks) + ".h5");
-      ASSERT_EQ(run(ranks, c, out, "mpi"), 0) << slurp(dir_ / "mpi.err");
+      ASSERT_EQ(run(ranks, c, out, "mpi"), serial) << slurp(dir_ / "mpi.err");
       const std::string err = slurp(dir_ / "mpi.err");
       EXPECT_NE(err.find("split into"), std::string::npos) << err;
       EXPECT_NE(err.find("block tasks (m blocks, k_z or Bloch nodes"), std::string::npos) << err;
