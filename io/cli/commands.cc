@@ -699,8 +699,8 @@ int run_command(const RunArgs& args, std::ostream& out, std::ostream& err) {
           << std::flush;
       if (ds.rounds.split_frequencies > 0)
         err << fmt::format(
-                   "roundtrip: {}: {} frequenc{} split into {} block tasks (m blocks or k_z "
-                   "nodes: {} computed, {} not used by the sums)\n",
+                   "roundtrip: {}: {} frequenc{} split into {} block tasks (m blocks, k_z or "
+                   "Bloch nodes: {} computed, {} not used by the sums)\n",
                    team_text, ds.rounds.split_frequencies,
                    ds.rounds.split_frequencies == 1 ? "y" : "ies", ds.rounds.block_tasks,
                    ds.rounds.block_units, ds.rounds.unused_blocks)

@@ -63,11 +63,42 @@ std::vector<BlochIntegral::Key> BlochIntegral::keys_of(int ax, int bt) const {
   return keys;
 }
 
+std::vector<BlochIntegral::Key> BlochIntegral::step_keys(int ax, int bt) const {
+  std::vector<Key> keys = keys_of(ax, bt);
+  for (const auto& more : {keys_of(ax + 1, bt), keys_of(ax, bt + 1)})
+    keys.insert(keys.end(), more.begin(), more.end());
+  std::sort(keys.begin(), keys.end());
+  keys.erase(std::unique(keys.begin(), keys.end()), keys.end());
+  return keys;
+}
+
 void BlochIntegral::ensure(const std::vector<Key>& keys) {
   std::vector<Key> todo;
   for (const auto& k : keys)
     if (!memo_.count(k)) todo.push_back(k);
   std::sort(todo.begin(), todo.end());
+  todo.erase(std::unique(todo.begin(), todo.end()), todo.end());
+  if (todo.empty()) return;
+  if (Chunk* c = current_chunk(); c && c->bloch_replay) {  // replay: gathered values only
+    std::vector<Key> missing;
+    for (const auto& k : todo)
+      if (const auto it = c->bloch_replay->find(k); it != c->bloch_replay->end()) {
+        memo_[k] = it->second;
+        ++c->bloch_used;
+      } else {
+        missing.push_back(k);
+      }
+    if (missing.empty()) return;
+    c->seen = true;
+    c->sum = BlockSum::kBloch;
+    c->bloch_missing = std::move(missing);
+    throw BlochNodesMissing{};
+  }
+  std::vector<Values> vals = evaluate(todo);
+  for (std::size_t i = 0; i < todo.size(); ++i) memo_[todo[i]] = std::move(vals[i]);
+}
+
+std::vector<BlochIntegral::Values> BlochIntegral::evaluate(const std::vector<Key>& todo) {
   std::vector<Values> vals(todo.size());
   const auto node = [&](long p, long q, const Lines& lines) {
     const double u = static_cast<double>(p) / (2.0 * nfine_);
@@ -105,7 +136,7 @@ void BlochIntegral::ensure(const std::vector<Key>& keys) {
     });
     b0 = b1;
   }
-  for (std::size_t i = 0; i < todo.size(); ++i) memo_[todo[i]] = std::move(vals[i]);
+  return vals;
 }
 
 // S(ax, bt) per component and \int |f| on the same grid; 4 = both halves in k_x and k_y;
@@ -132,8 +163,23 @@ BlochIntegral::Values BlochIntegral::sum(int ax, int bt, Values& absum) {
 
 BlochIntegral::Values BlochIntegral::integrate(const AcceptFn& accept,
                                                const std::function<std::string(long)>& failure) {
+  if (Chunk* c = current_chunk(); c && !c->bloch_replay) {  // compute a chunk's nodes
+    if (!chunk_done_) {
+      claim_chunk(*c, BlockSum::kBloch);
+      chunk_done_ = true;
+      if (!std::is_sorted(c->bloch_keys.begin(), c->bloch_keys.end()))
+        throw std::logic_error("a Bloch chunk's nodes must be sorted");
+      const std::vector<Values> vals = evaluate(c->bloch_keys);
+      c->bloch_components = components_;
+      c->bloch_values.clear();
+      for (const Values& v : vals)
+        c->bloch_values.insert(c->bloch_values.end(), v.begin(), v.end());
+    }
+    return Values(components_, 0.0);
+  }
   int ax = 0, bt = 0;
   for (;;) {
+    ensure(step_keys(ax, bt));  // the step's whole node set first (one batch of work)
     Values ab0, abx, aby;
     const Values s0 = sum(ax, bt, ab0), sx = sum(ax + 1, bt, abx), sy = sum(ax, bt + 1, aby);
     const bool ok_x = accept(sx, s0, abx), ok_y = accept(sy, s0, aby);

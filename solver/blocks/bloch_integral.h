@@ -19,12 +19,21 @@
 // Evaluation: new nodes in batches of <= 8 whole k_x lines; per batch the lines' layer modes
 // first (GratingAtFrequency::Line, one task per line and per line slot), then the nodes, in
 // parallel; every value is independent of the batching and the thread count.
+// Walk: step (a, b) compares S(a, b) with S(a + 1, b) and S(a, b + 1); its node set (the three
+// grids) depends on nothing but (a, b), and all of it is evaluated before the step's sums.
+// Block items (solver/blocks/chunk.h, BlockSum::kBloch): under a ChunkScope whose chunk lists
+// nodes (Chunk::bloch_keys), the first integrate() evaluates exactly those nodes into the chunk
+// and every integrate() returns zeros; under a scope with gathered values (Chunk::bloch_replay)
+// the walk takes its nodes from them and throws BlochNodesMissing at the first step with nodes
+// missing (listed in the chunk), else returns the serial value bit for bit (same nodes, same
+// additions in the same order, same tests).
 #include <functional>
 #include <map>
 #include <string>
 #include <utility>
 #include <vector>
 
+#include "solver/blocks/chunk.h"
 #include "solver/scatterers/grating_fmm.h"
 
 namespace roundtrip::blocks {
@@ -51,9 +60,11 @@ class BlochIntegral {
   long nodes() const { return static_cast<long>(memo_.size()); }
 
  private:
-  using Key = std::pair<long, long>;
+  using Key = BlochKey;
   std::vector<Key> keys_of(int ax, int bt) const;
+  std::vector<Key> step_keys(int ax, int bt) const;
   void ensure(const std::vector<Key>& keys);
+  std::vector<Values> evaluate(const std::vector<Key>& sorted_keys);
   Values sum(int ax, int bt, Values& absum);
   double kx_of(long p) const;
 
@@ -62,6 +73,7 @@ class BlochIntegral {
   LineFn line_;
   NodeFn node_;
   std::map<Key, Values> memo_;
+  bool chunk_done_ = false;  // a chunk's nodes were evaluated (ChunkScope)
 };
 
 }  // namespace roundtrip::blocks

@@ -8,8 +8,13 @@
 // decide where it stops, and returns zero; the full value is then formed elsewhere by the
 // reduction's replay (blocks::replay_sum_over_m, cylinder::replay_de_integrate) on the gathered
 // unit values, with the serial additions in the serial order and the serial stopping tests, so
-// it is the serial value bit for bit.
+// it is the serial value bit for bit. The Bloch-vector integral of gratings
+// (blocks::BlochIntegral) is replayed by the geometry itself: rank 0 calls at_frequency_within
+// under a scope whose chunk holds the gathered node values (Chunk::bloch_replay); the integral's
+// walk takes its nodes from there and stops at the first refinement step with missing nodes.
+#include <map>
 #include <string>
+#include <utility>
 #include <vector>
 
 #include "solver/spectral.h"
@@ -21,7 +26,15 @@ enum class BlockSum : int {
   kNone = 0,   ///< not cut: one frequency is the smallest item
   kM = 1,      ///< one sum over m: the units are m blocks (m_sum.h)
   kAxial = 2,  ///< one DE integral over k_z: the units are its nodes (axial_integral.h)
+  kBloch = 3,  ///< one Bloch-vector integral: the units are its (p, q) nodes (bloch_integral.h)
 };
+
+/// A node of the Bloch-vector integral (blocks::BlochIntegral): k_x index p, k_y index q.
+using BlochKey = std::pair<long, long>;
+
+/// Thrown by a BlochIntegral replayed under a ChunkScope (Chunk::bloch_replay) at the first
+/// refinement step with nodes not among the gathered ones (listed in Chunk::bloch_missing).
+struct BlochNodesMissing {};
 
 /// One chunk. Asked: the units begin <= i < end (for m, begin a multiple of kMBatch, so the
 /// batches are those of the whole sum; for k_z nodes, cylinder::axial_node_index). Filled in by
@@ -43,6 +56,17 @@ struct Chunk {
   std::vector<Spectral> values;  ///< units begin, begin + 1, ... (before any failure)
   int failed_at = -1;            ///< first failed unit in the chunk, -1 if none
   std::string failure;           ///< its message
+  // Bloch integrals (BlochIntegral). Computing a chunk: the nodes asked for (sorted) and their
+  // values, `bloch_components` doubles per node, concatenated in that order.
+  std::vector<BlochKey> bloch_keys;
+  std::vector<double> bloch_values;
+  int bloch_components = 0;
+  // Replaying (rank 0): the gathered node values; the integral takes its nodes from there and
+  // throws BlochNodesMissing at the first step with nodes missing, listed sorted in
+  // bloch_missing; bloch_used counts the gathered nodes it took.
+  const std::map<BlochKey, std::vector<double>>* bloch_replay = nullptr;
+  std::vector<BlochKey> bloch_missing;
+  long bloch_used = 0;
 };
 
 /// While alive, the reduction (sum_over_m or de_integrate) called on this thread computes only

@@ -156,7 +156,8 @@ class Geometry {
   /// into chunks of its units computed apart and replayed to the same number (solver/blocks/
   /// chunk.h; solver/parallel/frequency_rounds.h): kM for sums_over_m(), kAxial where it
   /// returns one cylinder::de_integrate over k_z and nothing else (cylinder-plate,
-  /// cylinder-cylinder). Default: kM if sums_over_m(), else kNone (not cut).
+  /// cylinder-cylinder), kBloch where it computes one blocks::BlochIntegral (grating-plate,
+  /// grating-grating). Default: kM if sums_over_m(), else kNone (not cut).
   virtual blocks::BlockSum block_sum() const {
     return sums_over_m() ? blocks::BlockSum::kM : blocks::BlockSum::kNone;
   }

@@ -113,6 +113,9 @@ class GratingGrating final : public Geometry {
   /// Empty when the order test met rel_tol; else why not.
   std::string unverified_truncation(double gap) const override;
   bool parallel_inside() const override { return true; }
+  /// s(xi) is one Bloch-vector integral (blocks::BlochIntegral): cut into node chunks on
+  /// clusters (solver/parallel/frequency_rounds.h).
+  blocks::BlockSum block_sum() const override { return blocks::BlockSum::kBloch; }
   /// The order count N used at gap L (runs the study if needed).
   int orders_at(double gap) const;
   /// The convergence test in orders at gap L for this offset (cached; runs it on first use).

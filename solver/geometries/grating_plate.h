@@ -73,6 +73,9 @@ class GratingPlate final : public Geometry {
   /// study ended at max_orders / max_slices), with the estimate.
   std::string unverified_truncation(double gap) const override;
   bool parallel_inside() const override { return true; }
+  /// s(xi) is one Bloch-vector integral (blocks::BlochIntegral): cut into node chunks on
+  /// clusters (solver/parallel/frequency_rounds.h).
+  blocks::BlockSum block_sum() const override { return blocks::BlockSum::kBloch; }
   /// Bloch nodes x layers x levels of the plane-wave round trip (model, geometry.h).
   FrequencyCost cost(double gap, DerivativeOrder order, double rel_tol) const override;
   /// The order count N used at gap L (runs the study if needed).

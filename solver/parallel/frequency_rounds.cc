@@ -69,6 +69,7 @@ TaskValue compute_task(const std::vector<SweepInput>& inputs, const Task& task) 
   } else if (task.kind == TaskKind::kBlocks) {
     v.chunk.begin = task.m_begin;
     v.chunk.end = task.m_end;
+    v.chunk.bloch_keys = task.bloch_keys;
     const blocks::ChunkScope scope(&v.chunk);
     v.s =
         in.geometry->at_frequency_within(task.xi, gap, in.options.quantities.order(), task.rel_tol);
@@ -169,8 +170,51 @@ bool SweepRounds::replay(int point, int gap, std::vector<Task>* tasks, std::set<
 std::optional<Spectral> SweepRounds::settle(const Key& key, Split& split,
                                             std::vector<Task>* tasks) {
   if (split.whole) return split.whole;
+  if (split.sum == blocks::BlockSum::kBloch) return settle_bloch(key, split, tasks);
   return split.sum == blocks::BlockSum::kAxial ? settle_axial(key, split, tasks)
                                                : settle_m(key, split, tasks);
+}
+
+std::optional<Spectral> SweepRounds::settle_bloch(const Key& key, Split& split,
+                                                  std::vector<Task>* tasks) {
+  const auto& [point, gap, xi, rel_tol] = key;
+  const SweepInput& in = inputs_[point];
+  // The geometry's own walk on the gathered nodes (frequency_rounds.h): the serial value, or
+  // the nodes of the first step not gathered yet.
+  blocks::Chunk replay;
+  replay.bloch_replay = &split.bloch;
+  try {
+    const blocks::ChunkScope scope(&replay);
+    const Spectral v = in.geometry->at_frequency_within(std::bit_cast<double>(xi), in.gaps.at(gap),
+                                                        in.options.quantities.order(),
+                                                        std::bit_cast<double>(rel_tol));
+    stats_.unused_blocks +=
+        static_cast<int>(static_cast<long>(split.bloch.size()) - replay.bloch_used);
+    split.bloch.clear();  // the value is kept in values_
+    return v;
+  } catch (const blocks::BlochNodesMissing&) {
+  }
+  // One step per round: ask once per round (a gap's replay may ask for xi again).
+  if (!chunks_asked_.insert({key, -1}).second) return std::nullopt;
+  const std::vector<blocks::BlochKey>& ask = replay.bloch_missing;
+  const int parts = std::max(1, std::min(split.parts, static_cast<int>(ask.size())));
+  const std::size_t per = (ask.size() + parts - 1) / parts;
+  for (std::size_t a = 0; a < ask.size(); a += per) {
+    const std::size_t b = std::min(ask.size(), a + per);
+    Task t{TaskKind::kBlocks,
+           point,
+           gap,
+           std::bit_cast<double>(xi),
+           std::bit_cast<double>(rel_tol),
+           split.unit_cost * static_cast<double>(b - a),
+           split.next_chunk,
+           split.next_chunk + 1};
+    ++split.next_chunk;
+    t.bloch_keys.assign(ask.begin() + static_cast<std::ptrdiff_t>(a),
+                        ask.begin() + static_cast<std::ptrdiff_t>(b));
+    tasks->push_back(std::move(t));
+  }
+  return std::nullopt;
 }
 
 std::optional<Spectral> SweepRounds::settle_m(const Key& key, Split& split,
@@ -288,6 +332,36 @@ void SweepRounds::split_largest(std::vector<Task>& tasks) {
       continue;
     }
     const Key k{t.point, t.gap, bits(t.xi), bits(t.rel_tol)};
+    if (kind == blocks::BlockSum::kBloch) {
+      // The first step's nodes (settle_bloch), in about cost / target chunks; later steps in as
+      // many. The node cost: the task's cost over the nodes of the first step and the next one
+      // (a walk takes about two steps at the tolerances in use).
+      const int parts = static_cast<int>(std::ceil(t.cost / target));
+      if (parts < 2) {
+        out.push_back(t);
+        continue;
+      }
+      Split sp;
+      sp.sum = kind;
+      sp.parts = parts;
+      sp.cost = t.cost;
+      Split& placed = splits_.emplace(k, std::move(sp)).first->second;
+      std::vector<Task> first;
+      if (settle_bloch(k, placed, &first)) {  // no Bloch integral at this xi: not cut
+        splits_.erase(k);
+        out.push_back(t);
+        continue;
+      }
+      long nodes = 0;
+      for (const Task& b : first) nodes += static_cast<long>(b.bloch_keys.size());
+      placed.unit_cost = t.cost / (2.0 * static_cast<double>(std::max(1L, nodes)));
+      for (Task& b : first) {
+        b.cost = placed.unit_cost * static_cast<double>(b.bloch_keys.size());
+        out.push_back(std::move(b));
+      }
+      ++stats_.split_frequencies;
+      continue;
+    }
     if (kind == blocks::BlockSum::kAxial) {
       // The nodes a stand-in replay asks for (settle_axial), in about cost / target chunks.
       std::vector<int> nodes;
@@ -377,6 +451,19 @@ void SweepRounds::deliver(const Task& task, const TaskValue& value) {
     stats_.block_units += static_cast<int>(value.chunk.values.size());
     Split& sp = splits_.at(Key{task.point, task.gap, bits(task.xi), bits(task.rel_tol)});
     if (!value.chunk.seen) sp.whole = value.s;
+    if (sp.sum == blocks::BlockSum::kBloch) {
+      const blocks::Chunk& c = value.chunk;
+      const std::size_t nc = static_cast<std::size_t>(c.bloch_components);
+      if (c.seen && c.bloch_values.size() != nc * task.bloch_keys.size())
+        throw std::logic_error("a Bloch chunk holds other nodes than it was asked for");
+      stats_.block_units -= static_cast<int>(c.values.size());
+      stats_.block_units += static_cast<int>(task.bloch_keys.size());
+      for (std::size_t i = 0; c.seen && i < task.bloch_keys.size(); ++i)
+        sp.bloch[task.bloch_keys[i]].assign(
+            c.bloch_values.begin() + static_cast<std::ptrdiff_t>(i * nc),
+            c.bloch_values.begin() + static_cast<std::ptrdiff_t>((i + 1) * nc));
+      return;
+    }
     sp.chunks[task.m_begin] = value.chunk;
     return;
   }

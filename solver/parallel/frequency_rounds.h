@@ -40,6 +40,13 @@
 //    task's rel_tol for the integral's own tolerance (the chunks then report the real one). The
 //    asked nodes, in index order, are cut into contiguous chunks of about (asked nodes) / parts
 //    nodes.
+//  - Bloch-vector integrals (grating-plate, grating-grating; blocks::BlochIntegral): each step
+//    (a, b) of the refinement walk has a fixed node set, so the frequency's value is replayed by
+//    calling the geometry on rank 0 under a scope holding the gathered node values
+//    (Chunk::bloch_replay): the walk stops at the first step with missing nodes, and those
+//    (sorted) are cut into `parts` contiguous chunks; one round per step. When the walk
+//    completes, the value is the serial one bit for bit. The replay builds the geometry's
+//    per-frequency set-up (layer structure, plate) on rank 0 each round.
 // Material scans. The serial run computes its first scan point together with the points that
 // share its frequency work (run.h): every frequency the first point computes is computed for
 // them too, and each of them takes such a value the first time its own rule asks for it, else
@@ -91,6 +98,8 @@ struct Task {
   double cost = 0.0;     ///< model cost, for largest-first ordering
   int m_begin = 0;       ///< block tasks: the units m_begin <= i < m_end of frequency xi (m
   int m_end = 0;         ///< blocks or k_z node indices, blocks::Chunk)
+  /// Bloch node tasks: the (p, q) nodes to compute, sorted (m_begin numbers the chunk).
+  std::vector<blocks::BlochKey> bloch_keys = {};
 };
 
 /// What a task computed: s(xi) of a frequency task; for a PFA task (energy, force, gradient) in
@@ -172,6 +181,8 @@ class SweepRounds {
     double unit_cost = 0.0;               // k_z: model cost of one node
     std::map<int, blocks::Chunk> chunks;  // delivered, by first unit
     std::optional<Spectral> whole;        // the geometry ran no reduction at this xi
+    std::map<blocks::BlochKey, std::vector<double>> bloch;  // Bloch: gathered node values
+    int next_chunk = 0;                                     // Bloch: number of the next chunk
   };
   // Replay one gap's rule; true if no surrogate was needed. Adds missing values to `tasks`.
   bool replay(int point, int gap, std::vector<Task>* tasks, std::set<Key>* asked_now);
@@ -180,6 +191,7 @@ class SweepRounds {
   std::optional<Spectral> settle(const Key& key, Split& split, std::vector<Task>* tasks);
   std::optional<Spectral> settle_m(const Key& key, Split& split, std::vector<Task>* tasks);
   std::optional<Spectral> settle_axial(const Key& key, Split& split, std::vector<Task>* tasks);
+  std::optional<Spectral> settle_bloch(const Key& key, Split& split, std::vector<Task>* tasks);
   // Cut the largest frequency tasks of a round into block tasks (see the file comment).
   void split_largest(std::vector<Task>& tasks);
 

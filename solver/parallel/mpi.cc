@@ -99,7 +99,8 @@ namespace {
 
 enum Tag : int {
   kReady = 1,      // worker -> 0: int, compute slots free
-  kTask = 2,       // 0 -> worker: double[8] {id, kind, point, gap, xi, rel_tol, begin, end}
+  kTask = 2,       // 0 -> worker: double[8 + 2n] {id, kind, point, gap, xi, rel_tol, begin,
+                   // end, then n Bloch nodes (p, q)}
   kResult = 3,     // worker -> 0: bytes, encode_result
   kStop = 4,       // 0 -> worker: int, 1 if the run was interrupted
   kFailed = 5,     // worker -> 0: chars, the error
@@ -173,6 +174,9 @@ std::vector<char> encode_result(int id, const TaskValue& v) {
   b.put(c.factor);
   b.put(c.failed_at);
   b.put_text(c.failure);
+  b.put(c.bloch_components);
+  b.put(static_cast<std::uint64_t>(c.bloch_values.size()));
+  for (double x : c.bloch_values) b.put(x);
   b.put(static_cast<std::uint64_t>(c.values.size()));
   for (const Spectral& x : c.values) b.put(x);
   b.put(static_cast<std::uint64_t>(v.shared.size()));
@@ -200,6 +204,9 @@ TaskValue decode_result(const std::vector<char>& bytes, int* id) {
   c.factor = r.get<double>();
   c.failed_at = r.get<int>();
   c.failure = r.get_text();
+  c.bloch_components = r.get<int>();
+  c.bloch_values.resize(r.get<std::uint64_t>());
+  for (double& x : c.bloch_values) x = r.get<double>();
   c.values.resize(r.get<std::uint64_t>());
   for (Spectral& x : c.values) x = r.get<Spectral>();
   v.shared.resize(r.get<std::uint64_t>());
@@ -466,12 +473,22 @@ std::vector<RunResult> run_sweeps_distributed(const std::vector<SweepInput>& inp
       if (flag) {
         any = true;
         if (st.MPI_TAG == kTask) {
-          double b[kTaskDoubles];
-          MPI_Recv(b, kTaskDoubles, MPI_DOUBLE, 0, kTask, MPI_COMM_WORLD, MPI_STATUS_IGNORE);
-          pool.submit(static_cast<int>(b[0]),
-                      Task{static_cast<TaskKind>(static_cast<int>(b[1])), static_cast<int>(b[2]),
-                           static_cast<int>(b[3]), b[4], b[5], 0.0, static_cast<int>(b[6]),
-                           static_cast<int>(b[7])});
+          int n = 0;
+          MPI_Get_count(&st, MPI_DOUBLE, &n);
+          std::vector<double> b(static_cast<std::size_t>(std::max(n, kTaskDoubles)));
+          MPI_Recv(b.data(), n, MPI_DOUBLE, 0, kTask, MPI_COMM_WORLD, MPI_STATUS_IGNORE);
+          Task t{static_cast<TaskKind>(static_cast<int>(b[1])),
+                 static_cast<int>(b[2]),
+                 static_cast<int>(b[3]),
+                 b[4],
+                 b[5],
+                 0.0,
+                 static_cast<int>(b[6]),
+                 static_cast<int>(b[7])};
+          // Bloch node tasks: the (p, q) pairs follow (exact in a double, < 2^53).
+          for (int i = kTaskDoubles; i + 1 < n; i += 2)
+            t.bloch_keys.emplace_back(static_cast<long>(b[i]), static_cast<long>(b[i + 1]));
+          pool.submit(static_cast<int>(b[0]), t);
         } else {
           int interrupted = 0;
           MPI_Recv(&interrupted, 1, MPI_INT, 0, kStop, MPI_COMM_WORLD, MPI_STATUS_IGNORE);
@@ -598,15 +615,19 @@ std::vector<RunResult> run_sweeps_distributed(const std::vector<SweepInput>& inp
         if (to == 0) {
           pool.submit(static_cast<int>(next), t);
         } else {
-          const double b[kTaskDoubles] = {double(next),
-                                          double(static_cast<int>(t.kind)),
-                                          double(t.point),
-                                          double(t.gap),
-                                          t.xi,
-                                          t.rel_tol,
-                                          double(t.m_begin),
-                                          double(t.m_end)};
-          MPI_Send(b, kTaskDoubles, MPI_DOUBLE, to, kTask, MPI_COMM_WORLD);
+          std::vector<double> b = {double(next),
+                                   double(static_cast<int>(t.kind)),
+                                   double(t.point),
+                                   double(t.gap),
+                                   t.xi,
+                                   t.rel_tol,
+                                   double(t.m_begin),
+                                   double(t.m_end)};
+          for (const blocks::BlochKey& k : t.bloch_keys) {
+            b.push_back(double(k.first));
+            b.push_back(double(k.second));
+          }
+          MPI_Send(b.data(), static_cast<int>(b.size()), MPI_DOUBLE, to, kTask, MPI_COMM_WORLD);
         }
         --free_slots[to];
         ++outstanding;

@@ -403,6 +403,55 @@ TEST(FrequencyRounds, KzNodeTasksGiveTheSerialNumbersBitForBit) {
   }
 }
 
+// A grating-plate and a grating-grating with one gap and few frequencies (L = 3 um, 300 K: ~3
+// Matsubara terms, fewer than kItemsPerSlot x 2 slots): with 2 and 4 slots the rounds cut the
+// frequencies into Bloch node tasks (one round per refinement step), replay each integral on
+// the gathered nodes and still give the serial numbers bit for bit (and the lateral force of
+// grating-grating, from the replayed d/db component), and journal every frequency the serial
+// sum used. Invented values.
+TEST(FrequencyRounds, BlochNodeTasksGiveTheSerialNumbersBitForBit) {
+  for (const char* kind : {"grating-plate", "grating-grating"}) {
+    SCOPED_TRACE(kind);
+    std::string text = small_case(*io::find_geometry_kind(kind), "300 K");
+    const auto swap = [&](const std::string& from, const std::string& to) {
+      for (std::size_t at = text.find(from); at != std::string::npos; at = text.find(from, at))
+        text.replace(at, from.size(), to), at += to.size();
+    };
+    swap("values = [\"400 nm\", \"700 nm\"]", "values = [\"3 um\"]");
+    const io::CaseSpec spec = io::parse_case(text, "bloch.toml");
+    const auto g = io::build_geometry(spec);
+    ASSERT_EQ(g->block_sum(), blocks::BlockSum::kBloch);
+    RunOptions o;
+    o.frequency = spec.frequency;
+    o.quantities = spec.quantities;
+    const RunResult serial = run_sweep(*g, spec.gaps, o);
+    for (int slots : {2, 4}) {
+      SCOPED_TRACE(slots);
+      MapStore store;
+      o.store = &store;
+      parallel::RoundStats stats;
+      // A fresh geometry: grating-grating keeps ds/db per frequency for the lateral force.
+      const auto fresh = io::build_geometry(spec);
+      const auto r =
+          parallel::run_sweeps_in_rounds({{fresh.get(), spec.gaps, o, {}}}, slots, &stats);
+      o.store = nullptr;
+      expect_same(serial, r[0]);
+      ASSERT_EQ(serial.points[0].extra.size(), r[0].points[0].extra.size());
+      for (std::size_t i = 0; i < serial.points[0].extra.size(); ++i)
+        EXPECT_EQ(serial.points[0].extra[i].value, r[0].points[0].extra[i].value) << i;
+      EXPECT_GT(stats.split_frequencies, 0);
+      EXPECT_GT(stats.block_tasks, stats.split_frequencies);
+      EXPECT_LE(stats.rounds, 12);
+      std::cout << kind << ", " << slots << " slots: " << stats.split_frequencies
+                << " frequencies split into " << stats.block_tasks << " node tasks, "
+                << stats.rounds << " rounds, " << stats.unused_blocks << " of " << stats.block_units
+                << " nodes not used\n";
+      for (const auto& t : serial.points[0].frequencies.terms)
+        EXPECT_TRUE(store.written.count({0, t.xi})) << t.xi;
+    }
+  }
+}
+
 // A material scan of a sphere-plate (Drude and plasma gold) computed together, as the serial
 // run computes its first point with the companions (solver/run.h): the rounds give both points'
 // serial numbers bit for bit, with 1, 2 and 4 slots, and take most companion values from the
