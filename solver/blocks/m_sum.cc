@@ -6,32 +6,12 @@
 #include <stdexcept>
 #include <vector>
 
+#include "solver/blocks/m_walk.h"
 #include "solver/guards.h"
 #include "solver/parallel_for.h"
 
 namespace roundtrip::blocks {
 namespace {
-
-/// The tail test of sum_over_m on one finished batch of `count` blocks, whose first and last
-/// values are `head` and `tail`, with the running total.
-bool tail_below_tolerance(const Spectral& head, const Spectral& tail, int count,
-                          const Spectral& total, DerivativeOrder order, double tol) {
-  bool done = true;
-  for (int c = 0; c < 1 + static_cast<int>(order); ++c) {
-    auto comp = [&](const Spectral& v) { return c == 0 ? v.value : (c == 1 ? v.d1 : v.d2); };
-    const double first = std::abs(comp(head)), last = std::abs(comp(tail));
-    const double sum = std::abs(comp(total));
-    if (last == 0.0) continue;
-    const double r = std::pow(last / first, 1.0 / (count - 1));
-    if (!(r < 0.95) || !(2.0 * last * r / (1.0 - r) <= 0.1 * tol * sum)) done = false;
-  }
-  return done;
-}
-
-bool tail_below_tolerance(const std::vector<LogDetResult>& batch, int count, const Spectral& total,
-                          DerivativeOrder order, double tol) {
-  return tail_below_tolerance(batch[0].s, batch[count - 1].s, count, total, order, tol);
-}
 
 // sum_over_m under an MChunkScope: the chunk's blocks only, batch by batch as the whole sum.
 void compute_chunk(MChunk& c, int mlimit, bool fixed_m_max, DerivativeOrder order, double tol,
@@ -63,28 +43,44 @@ void compute_chunk(MChunk& c, int mlimit, bool fixed_m_max, DerivativeOrder orde
   }
 }
 
+/// Computes the walk's next blocks in parallel (fixed order of the values) and feeds them.
+void step(MWalk& w, const std::function<LogDetResult(int)>& block,
+          const std::function<std::string(int, const LogDetResult&)>& fail_message) {
+  const std::vector<int>& ms = w.next();
+  std::vector<LogDetResult> r(ms.size());
+  // A cancellation request (guards.h) is seen before each block and inside the W builders;
+  // the first exception is rethrown after the parallel loop (solver/parallel_for.h). The
+  // frequency is then abandoned as a whole (never recorded). Polling changes no number.
+  parallel_for(0, static_cast<long>(ms.size()), [&](long i) {
+    throw_if_cancelled();
+    r[i] = block(ms[i]);
+  });
+  std::vector<Spectral> v(ms.size());
+  for (std::size_t i = 0; i < ms.size(); ++i) {
+    if (!r[i].ok) throw std::runtime_error(fail_message(ms[i], r[i]));
+    v[i] = r[i].s;
+  }
+  w.feed(v);
+}
+
 }  // namespace
 
 std::optional<Spectral> replay_sum_over_m(int mlimit, bool fixed_m_max, DerivativeOrder order,
                                           double tol, const BlockValue& value, int* missing) {
-  Spectral total;
-  for (int m0 = 0; m0 <= mlimit; m0 += kMBatch) {
-    const int m1 = std::min(mlimit + 1, m0 + kMBatch);
-    Spectral head, tail;
-    for (int m = m0; m < m1; ++m) {
-      const std::optional<Spectral> v = value(m);
-      if (!v) {
+  MWalk w(mlimit, fixed_m_max, order, tol);
+  while (!w.done()) {
+    std::vector<Spectral> v;
+    for (int m : w.next()) {
+      const std::optional<Spectral> x = value(m);
+      if (!x) {
         if (missing) *missing = m;
         return std::nullopt;
       }
-      if (m == m0) head = *v;
-      tail = *v;
-      total += *v * (m == 0 ? 1.0 : 2.0);  // as sum_over_m
+      v.push_back(*x);
     }
-    if (fixed_m_max || m1 - m0 < 2) continue;
-    if (tail_below_tolerance(head, tail, m1 - m0, total, order, tol)) break;
+    w.feed(v);
   }
-  return total;
+  return w.total();
 }
 
 Spectral sum_over_m(int mlimit, bool fixed_m_max, DerivativeOrder order, double tol,
@@ -94,58 +90,49 @@ Spectral sum_over_m(int mlimit, bool fixed_m_max, DerivativeOrder order, double 
     compute_chunk(*chunk, mlimit, fixed_m_max, order, tol, block, fail_message);
     return Spectral{};
   }
-  Spectral total;
-  std::vector<LogDetResult> batch(kMBatch);
-  for (int m0 = 0; m0 <= mlimit; m0 += kMBatch) {
-    const int m1 = std::min(mlimit + 1, m0 + kMBatch);
-    // A cancellation request (guards.h) is seen before each block and inside the W builders;
-    // the first exception of the batch is rethrown after it (solver/parallel_for.h).
-    // The frequency is then abandoned as a whole (never recorded). Polling changes no number.
-    parallel_for(m0, m1, [&](long m) {
-      throw_if_cancelled();
-      batch[m - m0] = block(m);
-    });
-    for (int m = m0; m < m1; ++m) {
-      const LogDetResult& r = batch[m - m0];
-      if (!r.ok) throw std::runtime_error(fail_message(m, r));
-      total += r.s * (m == 0 ? 1.0 : 2.0);
-    }
-    if (fixed_m_max || m1 - m0 < 2) continue;
-    const bool done = tail_below_tolerance(batch, m1 - m0, total, order, tol);
-    if (done) break;
-  }
-  return total;
+  MWalk w(mlimit, fixed_m_max, order, tol);
+  while (!w.done()) step(w, block, fail_message);
+  return w.total();
 }
 
 std::vector<Spectral> sum_over_m_many(
     int count, int mlimit, bool fixed_m_max, DerivativeOrder order, double tol,
     const std::function<std::vector<LogDetResult>(int, const std::vector<char>&)>& blocks,
     const std::function<std::string(int, int, const LogDetResult&)>& fail_message) {
-  std::vector<Spectral> total(count);
-  std::vector<char> active(count, 1);
-  std::vector<std::vector<LogDetResult>> batch(kMBatch);
-  for (int m0 = 0; m0 <= mlimit; m0 += kMBatch) {
-    const int m1 = std::min(mlimit + 1, m0 + kMBatch);
-    parallel_for(m0, m1, [&](long m) {
+  std::vector<MWalk> walks;
+  for (int k = 0; k < count; ++k) walks.emplace_back(mlimit, fixed_m_max, order, tol);
+  for (;;) {
+    // The union of the blocks the unfinished walks need; each block built for those that need it.
+    std::vector<int> ms;
+    for (const MWalk& w : walks)
+      if (!w.done()) ms.insert(ms.end(), w.next().begin(), w.next().end());
+    if (ms.empty()) break;
+    std::sort(ms.begin(), ms.end());
+    ms.erase(std::unique(ms.begin(), ms.end()), ms.end());
+    std::vector<std::vector<LogDetResult>> r(ms.size());
+    parallel_for(0, static_cast<long>(ms.size()), [&](long i) {
       throw_if_cancelled();
-      batch[m - m0] = blocks(m, active);
-    });
-    bool any = false;
-    for (int k = 0; k < count; ++k) {
-      if (!active[k]) continue;
-      std::vector<LogDetResult> mine(m1 - m0);
-      for (int m = m0; m < m1; ++m) {
-        mine[m - m0] = std::move(batch[m - m0][k]);
-        const LogDetResult& r = mine[m - m0];
-        if (!r.ok) throw std::runtime_error(fail_message(k, m, r));
-        total[k] += r.s * (m == 0 ? 1.0 : 2.0);
+      std::vector<char> need(count, 0);
+      for (int k = 0; k < count; ++k) {
+        const std::vector<int>& n = walks[k].next();
+        need[k] = !walks[k].done() && std::binary_search(n.begin(), n.end(), ms[i]);
       }
-      if (!fixed_m_max && m1 - m0 >= 2 && tail_below_tolerance(mine, m1 - m0, total[k], order, tol))
-        active[k] = 0;
-      any = any || active[k];
+      r[i] = blocks(ms[i], need);
+    });
+    for (int k = 0; k < count; ++k) {
+      if (walks[k].done()) continue;
+      std::vector<Spectral> v;
+      for (int m : walks[k].next()) {
+        const std::size_t i = std::lower_bound(ms.begin(), ms.end(), m) - ms.begin();
+        const LogDetResult& x = r[i][k];
+        if (!x.ok) throw std::runtime_error(fail_message(k, m, x));
+        v.push_back(x.s);
+      }
+      walks[k].feed(v);
     }
-    if (!any) break;
   }
+  std::vector<Spectral> total(count);
+  for (int k = 0; k < count; ++k) total[k] = walks[k].total();
   return total;
 }
 

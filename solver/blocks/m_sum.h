@@ -7,45 +7,51 @@
 #include <vector>
 
 #include "solver/blocks/chunk.h"
+#include "solver/blocks/m_walk.h"
 #include "solver/logdet/low_rank.h"
 #include "solver/spectral.h"
 
 namespace roundtrip::blocks {
 
-/// m-blocks computed per parallel batch; fixed so that the set of computed m (and hence the
-/// result) does not depend on the thread count.
-inline constexpr int kMBatch = 8;
+/// m-blocks of the first batch (and of every batch with a fixed m_max); fixed so that the set
+/// of computed m (and hence the result) does not depend on the thread count.
+inline constexpr int kMBatch = MWalk::kBatch;
 
-/// Sum over m = 0 .. mlimit of block(m), in batches of kMBatch computed in parallel (OpenMP,
-/// fixed reduction order). Unless `fixed_m_max`, the terms are taken to fall off geometrically
-/// once m exceeds ~sqrt(R/L) (measured for sphere-plate): the ratio r is estimated from each
-/// batch and the sum stops when the tail, last * r/(1-r), is below 0.1 tol for every derivative
-/// up to `order`. A block that fails throws std::runtime_error(fail_message(m, result)).
+/// Sum over m = 0 .. mlimit of block(m) by the walk of m_walk.h: blocks 0 .. 7, then panels of
+/// stride h whose blocks between the computed ones are interpolated (log|s_m| by polynomials,
+/// error-controlled per panel against kPanelBudget rel_tol), each step's blocks computed in
+/// parallel (OpenMP, fixed order of addition). Unless `fixed_m_max`, the terms are taken to
+/// fall off geometrically once m exceeds ~sqrt(R/L) (measured for sphere-plate): the ratio r is
+/// estimated from the first and last block of each step and the sum stops when the tail,
+/// last * r/(1-r), is below 0.1 tol for every derivative up to `order`. With `fixed_m_max`
+/// every block up to mlimit is computed and added. A block that fails throws
+/// std::runtime_error(fail_message(m, result)).
 Spectral sum_over_m(int mlimit, bool fixed_m_max, DerivativeOrder order, double tol,
                     const std::function<LogDetResult(int)>& block,
                     const std::function<std::string(int, const LogDetResult&)>& fail_message);
 
 /// The same for `count` sums at once whose blocks are built together (spheres that differ only in
 /// their materials): blocks(m, active) returns one result per sum, computed for the sums still
-/// active (the others' entries are ignored). Each sum stops by its own tail test, after the same
-/// batches as sum_over_m would stop it, so sum k equals sum_over_m on its own blocks.
+/// active and need block m (the others' entries are ignored). Each sum follows its own walk
+/// (the union of the blocks the walks need is built per step), so sum k equals sum_over_m on
+/// its own blocks.
 std::vector<Spectral> sum_over_m_many(
     int count, int mlimit, bool fixed_m_max, DerivativeOrder order, double tol,
     const std::function<std::vector<LogDetResult>(int, const std::vector<char>&)>& blocks,
     const std::function<std::string(int, int, const LogDetResult&)>& fail_message);
 
 /// Part of one frequency's m sum computed alone (block items, solver/blocks/chunk.h): under a
-/// ChunkScope, sum_over_m computes the blocks chunk.begin <= m < chunk.end (begin a multiple of
-/// kMBatch) and records mlimit, fixed_m_max, order and tol, which decide where the sum stops
-/// (replay_sum_over_m).
+/// ChunkScope, sum_over_m computes every block chunk.begin <= m < chunk.end (begin a multiple of
+/// kMBatch; the walk may use only some of them) and records mlimit, fixed_m_max, order and tol,
+/// which decide where the sum stops (replay_sum_over_m).
 using MChunk = Chunk;
 using MChunkScope = ChunkScope;
 
 /// Block m of a replayed sum: its value, or nothing if not computed yet; a failed block throws.
 using BlockValue = std::function<std::optional<Spectral>(int m)>;
 
-/// The m sum of sum_over_m replayed on block values computed elsewhere (chunks): the same
-/// order of addition and the same stopping test, so the total is sum_over_m's bit for bit.
+/// The m sum of sum_over_m replayed on block values computed elsewhere (chunks): the same walk
+/// (blocks, order of addition, stopping test), so the total is sum_over_m's bit for bit.
 /// Returns the total, or nothing and sets *missing to the first m whose value is needed but
 /// unknown.
 std::optional<Spectral> replay_sum_over_m(int mlimit, bool fixed_m_max, DerivativeOrder order,

@@ -187,7 +187,9 @@ TEST(MChunks, ReplayedChunksGiveTheWholeSumBitForBit) {
     };
     EXPECT_FALSE(blocks::replay_sum_over_m(mlimit, fixed, DerivativeOrder::kGradient, 1e-6,
                                            value(false), &missing));
-    EXPECT_EQ(missing, 24);
+    // The first block needed beyond the first chunk (the walk samples m; m_walk.h).
+    EXPECT_GE(missing, 24);
+    EXPECT_LT(missing, 48);
     const auto total = blocks::replay_sum_over_m(mlimit, fixed, DerivativeOrder::kGradient, 1e-6,
                                                  value(true), &missing);
     ASSERT_TRUE(total);
