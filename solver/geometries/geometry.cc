@@ -7,17 +7,24 @@
 namespace roundtrip {
 namespace {
 
-constexpr int kMBatch = 8;  // m blocks are computed in batches of 8 (solver/blocks/m_sum.h)
+constexpr double kMBatch = 8.0;  // the first batch of m blocks (solver/blocks/m_walk.h)
 
-// Blocks m = 0 .. m_est: the m sum is cut when its geometric tail is below rel_tol, and the
-// terms fall off beyond m ~ sqrt(R/L) (measured on sphere-plate): m_est = 8 ceil(sqrt(R/L)
-// ln(10/rel_tol) / 16), at most l_max + 1. In double: at R/L ~ 1e8 and beyond, l_max and the
-// block count leave the int range (such plans are refused, solver/plan.h).
+// Blocks the m sum computes. It reaches m = 0 .. m_est: cut when its geometric tail is below
+// rel_tol, and the terms fall off beyond m ~ sqrt(R/L) (measured on sphere-plate): m_est =
+// 8 ceil(sqrt(R/L) ln(10/rel_tol) / 16), at most l_max + 1. Beyond the first batch the walk of
+// solver/blocks/m_walk.h samples m: panels of 4 blocks whose stride doubles from 2 while the
+// interpolation is easy, so 8 + 4k blocks reach m = 7 + 8 (2^k - 1); one panel more for
+// refinements (measured 24 ... 44 blocks at R/L = 150 ... 1000, rel_tol 1e-4 and 1e-5; this
+// gives 28 ... 32). In double: at R/L ~ 1e8 and beyond, l_max and the block count leave the
+// int range (such plans are refused, solver/plan.h).
 double estimated_blocks(std::optional<double> R, double gap, double lmax, double rel_tol) {
   if (!R) return lmax + 1.0;
   const double m = std::sqrt(*R / gap) * std::log(10.0 / rel_tol) / 2.0;
   const double batches = std::max(1.0, std::ceil(m / kMBatch));
-  return std::min(lmax + 1.0, batches * kMBatch);
+  const double reach = std::min(lmax + 1.0, batches * kMBatch);
+  if (reach <= kMBatch) return reach;
+  const double panels = std::ceil(std::log2((reach - 7.0) / 8.0 + 1.0)) + 1.0;
+  return std::min(reach, kMBatch + 4.0 * panels);
 }
 
 }  // namespace
