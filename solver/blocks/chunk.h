@@ -36,13 +36,15 @@ using BlochKey = std::pair<long, long>;
 /// refinement step with nodes not among the gathered ones (listed in Chunk::bloch_missing).
 struct BlochNodesMissing {};
 
-/// One chunk. Asked: the units begin <= i < end (for m, begin a multiple of kMBatch, so the
-/// batches are those of the whole sum; for k_z nodes, cylinder::axial_node_index). Filled in by
+/// One chunk. Asked: the units begin <= i < end, every `stride`-th from begin (m blocks: the
+/// walk of m_walk.h samples m, so a chunk is one arithmetic run of the blocks it needs; k_z
+/// nodes, cylinder::axial_node_index, stride 1). Filled in by
 /// the reduction: which one ran, the parameters that decide where it stops, and the unit values
 /// in order, up to the first failed unit.
 struct Chunk {
   int begin = 0;
   int end = 0;
+  int stride = 1;
   BlockSum sum = BlockSum::kNone;  ///< the reduction that filled it in
   bool seen = false;  ///< the reduction ran (else the geometry reduced nothing at this frequency)
   // m sums (sum_over_m): the m limit, fixed m_max, derivative order, tolerance.
@@ -53,7 +55,7 @@ struct Chunk {
   // k_z integrals (de_integrate): first level allowed to stop, factor applied to the integral.
   int min_level = 1;
   double factor = 1.0;
-  std::vector<Spectral> values;  ///< units begin, begin + 1, ... (before any failure)
+  std::vector<Spectral> values;  ///< units begin, begin + stride, ... (before any failure)
   int failed_at = -1;            ///< first failed unit in the chunk, -1 if none
   std::string failure;           ///< its message
   // Bloch integrals (BlochIntegral). Computing a chunk: the nodes asked for (sorted) and their

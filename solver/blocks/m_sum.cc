@@ -1,6 +1,7 @@
 #include "solver/blocks/m_sum.h"
 
 #include <algorithm>
+#include <array>
 #include <cmath>
 #include <exception>
 #include <stdexcept>
@@ -18,24 +19,25 @@ void compute_chunk(MChunk& c, int mlimit, bool fixed_m_max, DerivativeOrder orde
                    const std::function<LogDetResult(int)>& block,
                    const std::function<std::string(int, const LogDetResult&)>& fail_message) {
   claim_chunk(c, BlockSum::kM);
-  if (c.begin % kMBatch != 0) throw std::logic_error("an m chunk must start on a batch");
   c.mlimit = mlimit;
   c.fixed_m_max = fixed_m_max;
   c.order = order;
   c.tol = tol;
-  const int end = std::min(c.end, mlimit + 1);
+  std::vector<int> ms;
+  for (int m = c.begin; m < std::min(c.end, mlimit + 1); m += std::max(c.stride, 1))
+    ms.push_back(m);
   std::vector<LogDetResult> batch(kMBatch);
-  for (int m0 = c.begin; m0 < end; m0 += kMBatch) {
-    const int m1 = std::min(end, m0 + kMBatch);
-    parallel_for(m0, m1, [&](long m) {
+  for (std::size_t i0 = 0; i0 < ms.size(); i0 += kMBatch) {
+    const std::size_t i1 = std::min(ms.size(), i0 + kMBatch);
+    parallel_for(static_cast<long>(i0), static_cast<long>(i1), [&](long i) {
       throw_if_cancelled();
-      batch[m - m0] = block(m);
+      batch[i - i0] = block(ms[i]);
     });
-    for (int m = m0; m < m1; ++m) {
-      const LogDetResult& r = batch[m - m0];
+    for (std::size_t i = i0; i < i1; ++i) {
+      const LogDetResult& r = batch[i - i0];
       if (!r.ok) {
-        c.failed_at = m;
-        c.failure = fail_message(m, r);
+        c.failed_at = ms[i];
+        c.failure = fail_message(ms[i], r);
         return;
       }
       c.values.push_back(r.s);
@@ -66,21 +68,46 @@ void step(MWalk& w, const std::function<LogDetResult(int)>& block,
 }  // namespace
 
 std::optional<Spectral> replay_sum_over_m(int mlimit, bool fixed_m_max, DerivativeOrder order,
-                                          double tol, const BlockValue& value, int* missing) {
+                                          double tol, const BlockValue& value, int* missing,
+                                          std::vector<int>* needed) {
   MWalk w(mlimit, fixed_m_max, order, tol);
   while (!w.done()) {
     std::vector<Spectral> v;
+    bool complete = true;
     for (int m : w.next()) {
       const std::optional<Spectral> x = value(m);
       if (!x) {
-        if (missing) *missing = m;
-        return std::nullopt;
+        if (complete && missing) *missing = m;
+        complete = false;
+        if (needed) needed->push_back(m);
+        if (!needed) break;
+        continue;
       }
       v.push_back(*x);
     }
+    if (!complete) return std::nullopt;
     w.feed(v);
   }
   return w.total();
+}
+
+std::vector<std::array<int, 3>> likely_m_chunks(int mlimit, bool fixed_m_max, int blocks) {
+  std::vector<std::array<int, 3>> runs;
+  const int first = std::min(mlimit, kMBatch - 1);
+  runs.push_back({0, first + 1, 1});
+  if (fixed_m_max) {
+    for (int b = first + 1; b <= mlimit; b += kMBatch)
+      runs.push_back({b, std::min(b + kMBatch, mlimit + 1), 1});
+    return runs;
+  }
+  int a = first, h = 2, count = first + 1;
+  while (count < blocks && a + 4 * h <= mlimit) {
+    runs.push_back({a + h, a + 4 * h + 1, h});
+    a += 4 * h;
+    h = std::min(2 * h, MWalk::kMaxStride);
+    count += 4;
+  }
+  return runs;
 }
 
 Spectral sum_over_m(int mlimit, bool fixed_m_max, DerivativeOrder order, double tol,

@@ -1,6 +1,7 @@
 #pragma once
 // Sum over the azimuthal number m of per-m log dets for bodies on a common axis (+m and -m give
 // the same block, so m > 0 counts twice). Shared by sphere-plate and sphere-sphere.
+#include <array>
 #include <functional>
 #include <optional>
 #include <string>
@@ -53,8 +54,15 @@ using BlockValue = std::function<std::optional<Spectral>(int m)>;
 /// The m sum of sum_over_m replayed on block values computed elsewhere (chunks): the same walk
 /// (blocks, order of addition, stopping test), so the total is sum_over_m's bit for bit.
 /// Returns the total, or nothing and sets *missing to the first m whose value is needed but
-/// unknown.
+/// unknown and, if `needed` is given, appends every unknown block of the walk's step there.
 std::optional<Spectral> replay_sum_over_m(int mlimit, bool fixed_m_max, DerivativeOrder order,
-                                          double tol, const BlockValue& value, int* missing);
+                                          double tol, const BlockValue& value, int* missing,
+                                          std::vector<int>* needed = nullptr);
+
+/// The chunks (begin, end, stride) a first round of block items asks for: the first batch and
+/// the panels of the walk while its stride doubles (m_walk.h), about `blocks` blocks (the cost
+/// model's count); with a fixed m_max, every block in batches. Later rounds ask for the blocks
+/// the replay found missing.
+std::vector<std::array<int, 3>> likely_m_chunks(int mlimit, bool fixed_m_max, int blocks);
 
 }  // namespace roundtrip::blocks

@@ -4,12 +4,14 @@
 #include <omp.h>
 
 #include <algorithm>
+#include <array>
 #include <bit>
 #include <chrono>
 #include <climits>
 #include <cmath>
 #include <cstdlib>
 #include <exception>
+#include <limits>
 #include <stdexcept>
 
 #include "solver/geometries/axial_integral.h"
@@ -69,6 +71,7 @@ TaskValue compute_task(const std::vector<SweepInput>& inputs, const Task& task) 
   } else if (task.kind == TaskKind::kBlocks) {
     v.chunk.begin = task.m_begin;
     v.chunk.end = task.m_end;
+    v.chunk.stride = task.m_stride;
     v.chunk.bloch_keys = task.bloch_keys;
     const blocks::ChunkScope scope(&v.chunk);
     v.s =
@@ -219,42 +222,37 @@ std::optional<Spectral> SweepRounds::settle_bloch(const Key& key, Split& split,
 
 std::optional<Spectral> SweepRounds::settle_m(const Key& key, Split& split,
                                               std::vector<Task>* tasks) {
-  int missing = 0;
-  std::optional<Spectral> total;
-  if (!split.chunks.empty()) {
-    const blocks::Chunk& meta = split.chunks.begin()->second;
-    int used = 0;
-    const auto value = [&](int m) -> std::optional<Spectral> {
-      const auto c = split.chunks.find(m - m % split.chunk_m);
-      if (c == split.chunks.end()) return std::nullopt;
-      const std::size_t i = static_cast<std::size_t>(m - c->second.begin);
-      if (i < c->second.values.size()) {
-        used = std::max(used, m + 1);
-        return c->second.values[i];
-      }
-      if (c->second.failed_at == m) throw std::runtime_error(c->second.failure);  // as serial
-      throw std::logic_error("an m chunk holds fewer blocks than it was asked for");
-    };
-    total = blocks::replay_sum_over_m(meta.mlimit, meta.fixed_m_max, meta.order, meta.tol, value,
-                                      &missing);
-    if (total) {
-      int computed = 0;
-      for (const auto& [b, c] : split.chunks) computed += static_cast<int>(c.values.size());
-      stats_.unused_blocks += std::max(0, computed - used);
-      split.chunks.clear();  // the value is kept in values_
-      return total;
-    }
+  if (!split.m_meta) return std::nullopt;  // the first round's chunks are still out
+  const blocks::Chunk& meta = *split.m_meta;
+  int missing = 0, used = 0;
+  std::vector<int> needed;
+  const auto value = [&](int m) -> std::optional<Spectral> {
+    if (const auto f = split.m_failed.find(m); f != split.m_failed.end())
+      throw std::runtime_error(f->second);  // as serial
+    const auto v = split.m_values.find(m);
+    if (v == split.m_values.end()) return std::nullopt;
+    ++used;
+    return v->second;
+  };
+  const std::optional<Spectral> total = blocks::replay_sum_over_m(
+      meta.mlimit, meta.fixed_m_max, meta.order, meta.tol, value, &missing, &needed);
+  if (total) {
+    stats_.unused_blocks += std::max(0, split.m_computed - used);
+    split.m_values.clear();  // the value is kept in values_
+    return total;
   }
-  // The next chunks from the first missing block on, as many as the first round asked for, not
-  // beyond the sum's last block once it is known.
-  const int last = split.chunks.empty() ? INT_MAX : split.chunks.begin()->second.mlimit;
+  // The blocks of the walk's step that are missing, as arithmetic runs (one task each).
   const auto& [point, gap, xi, rel_tol] = key;
-  for (int i = 0, b = missing - missing % split.chunk_m; i < split.parts && b <= last;
-       ++i, b += split.chunk_m)
-    if (!split.chunks.count(b) && chunks_asked_.insert({key, b}).second)
+  for (std::size_t i = 0; i < needed.size();) {
+    std::size_t j = i + 1;
+    const int stride = j < needed.size() ? needed[j] - needed[i] : 1;
+    while (j < needed.size() && needed[j] - needed[j - 1] == stride) ++j;
+    if (chunks_asked_.insert({key, needed[i]}).second)
       tasks->push_back(Task{TaskKind::kBlocks, point, gap, std::bit_cast<double>(xi),
-                            std::bit_cast<double>(rel_tol), split.cost / split.parts, b,
-                            b + split.chunk_m});
+                            std::bit_cast<double>(rel_tol), split.cost / split.parts, needed[i],
+                            needed[j - 1] + 1, stride});
+    i = j;
+  }
   return std::nullopt;
 }
 
@@ -385,21 +383,22 @@ void SweepRounds::split_largest(std::vector<Task>& tasks) {
     }
     const FrequencyCost fc =
         in.geometry->cost(in.gaps[t.gap], in.options.quantities.order(), t.rel_tol);
-    const double batches = std::ceil(std::min(fc.blocks, 1e6) / blocks::kMBatch);
-    const int parts = static_cast<int>(std::min(batches, std::ceil(t.cost / target)));
+    const std::vector<std::array<int, 3>> runs = blocks::likely_m_chunks(
+        std::numeric_limits<int>::max() / 4, false, static_cast<int>(std::min(fc.blocks, 1e6)));
+    const int parts =
+        static_cast<int>(std::min(static_cast<double>(runs.size()), std::ceil(t.cost / target)));
     if (parts < 2) {
       out.push_back(t);
       continue;
     }
     Split sp;
     sp.sum = kind;
-    sp.chunk_m = blocks::kMBatch * static_cast<int>(std::ceil(batches / parts));
-    sp.parts = static_cast<int>(std::ceil(batches * blocks::kMBatch / sp.chunk_m));
+    sp.parts = static_cast<int>(runs.size());
     sp.cost = t.cost;
-    for (int i = 0; i < sp.parts; ++i) {
-      chunks_asked_.insert({k, i * sp.chunk_m});
-      out.push_back(Task{TaskKind::kBlocks, t.point, t.gap, t.xi, t.rel_tol, t.cost / sp.parts,
-                         i * sp.chunk_m, (i + 1) * sp.chunk_m});
+    for (const auto& [b, e, stride] : runs) {
+      chunks_asked_.insert({k, b});
+      out.push_back(Task{TaskKind::kBlocks, t.point, t.gap, t.xi, t.rel_tol, t.cost / sp.parts, b,
+                         e, stride});
     }
     splits_.emplace(k, std::move(sp));
     ++stats_.split_frequencies;
@@ -462,6 +461,18 @@ void SweepRounds::deliver(const Task& task, const TaskValue& value) {
         sp.bloch[task.bloch_keys[i]].assign(
             c.bloch_values.begin() + static_cast<std::ptrdiff_t>(i * nc),
             c.bloch_values.begin() + static_cast<std::ptrdiff_t>((i + 1) * nc));
+      return;
+    }
+    if (sp.sum == blocks::BlockSum::kM) {
+      const blocks::Chunk& c = value.chunk;
+      if (c.seen && !sp.m_meta) {
+        sp.m_meta = c;
+        sp.m_meta->values.clear();
+      }
+      for (std::size_t i = 0; i < c.values.size(); ++i)
+        sp.m_values[task.m_begin + static_cast<int>(i) * task.m_stride] = c.values[i];
+      if (c.failed_at >= 0) sp.m_failed[c.failed_at] = c.failure;
+      sp.m_computed += static_cast<int>(c.values.size());
       return;
     }
     sp.chunks[task.m_begin] = value.chunk;
@@ -528,6 +539,10 @@ std::vector<RunResult> run_sweeps_in_rounds(const std::vector<SweepInput>& input
     std::exception_ptr failure;
 #pragma omp parallel for schedule(dynamic, 1) num_threads(std::max(1, slots))
     for (int i = 0; i < n; ++i) {
+      // A task runs as on a rank's slot with one OpenMP thread (mpi.cc, Pool): without this, the
+      // nested regions inside it would leave Eigen free to split a large product over threads,
+      // and a block's rounding would depend on where it ran.
+      omp_set_num_threads(1);
       try {
         values[i] = compute_task(inputs, tasks[i]);
         done[i] = 1;

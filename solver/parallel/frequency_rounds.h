@@ -29,9 +29,11 @@
 // bit; units computed beyond where the reduction stopped are not used (`unused_blocks`), and a
 // reduction that goes on beyond the chunks asked for asks for more in the next round. Chunks are
 // not journaled; the frequency's value is, once known.
-//  - m sums (sphere-plate, sphere-sphere; blocks::replay_sum_over_m): chunks of whole batches of
-//    m blocks over the blocks the cost model expects (Geometry::cost); the replay stops at the
-//    first missing block and the next round asks for chunks from there on.
+//  - m sums (sphere-plate, sphere-sphere; blocks::replay_sum_over_m): the walk over m samples
+//    blocks (solver/blocks/m_walk.h), so a chunk is an arithmetic run of m (begin, end, stride):
+//    the first round asks for the first batch and the walk's panels while its stride doubles
+//    (blocks::likely_m_chunks, as many blocks as the cost model expects); the replay stops at the
+//    first step with blocks missing and the next round asks for exactly those.
 //  - k_z integrals (cylinder-plate, cylinder-cylinder; cylinder::replay_de_integrate): the
 //    node set depends on the values (the level-0 march and the number of levels), so the
 //    replay goes on over missing nodes with stand-ins and asks for every node it visited (a
@@ -98,6 +100,7 @@ struct Task {
   double cost = 0.0;     ///< model cost, for largest-first ordering
   int m_begin = 0;       ///< block tasks: the units m_begin <= i < m_end of frequency xi (m
   int m_end = 0;         ///< blocks or k_z node indices, blocks::Chunk)
+  int m_stride = 1;      ///< block tasks: every m_stride-th unit from m_begin (m blocks)
   /// Bloch node tasks: the (p, q) nodes to compute, sorted (m_begin numbers the chunk).
   std::vector<blocks::BlochKey> bloch_keys = {};
 };
@@ -175,12 +178,17 @@ class SweepRounds {
   // A frequency computed in chunks (m blocks or k_z nodes).
   struct Split {
     blocks::BlockSum sum = blocks::BlockSum::kM;
-    int chunk_m = 0;  // m: blocks per chunk, a multiple of blocks::kMBatch
-    int parts = 0;    // chunks asked for at once
+    int parts = 0;  // chunks asked for at once
     double cost = 0.0;
     double unit_cost = 0.0;               // k_z: model cost of one node
-    std::map<int, blocks::Chunk> chunks;  // delivered, by first unit
-    std::optional<Spectral> whole;        // the geometry ran no reduction at this xi
+    std::map<int, blocks::Chunk> chunks;  // k_z: delivered, by first unit
+    // m sums: the delivered blocks by m, the blocks that failed (their messages), and the sum's
+    // parameters from the first delivered chunk.
+    std::map<int, Spectral> m_values;
+    std::map<int, std::string> m_failed;
+    std::optional<blocks::Chunk> m_meta;
+    int m_computed = 0;
+    std::optional<Spectral> whole;  // the geometry ran no reduction at this xi
     std::map<blocks::BlochKey, std::vector<double>> bloch;  // Bloch: gathered node values
     int next_chunk = 0;                                     // Bloch: number of the next chunk
   };

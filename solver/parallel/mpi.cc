@@ -99,8 +99,8 @@ namespace {
 
 enum Tag : int {
   kReady = 1,      // worker -> 0: int, compute slots free
-  kTask = 2,       // 0 -> worker: double[8 + 2n] {id, kind, point, gap, xi, rel_tol, begin,
-                   // end, then n Bloch nodes (p, q)}
+  kTask = 2,       // 0 -> worker: double[9 + 2n] {id, kind, point, gap, xi, rel_tol, begin,
+                   // end, stride, then n Bloch nodes (p, q)}
   kResult = 3,     // worker -> 0: bytes, encode_result
   kStop = 4,       // 0 -> worker: int, 1 if the run was interrupted
   kFailed = 5,     // worker -> 0: chars, the error
@@ -110,7 +110,7 @@ enum Tag : int {
 };
 
 constexpr int kHostChars = 64;
-constexpr int kTaskDoubles = 8;
+constexpr int kTaskDoubles = 9;
 
 // A task's value as bytes (MPI_BYTE; every rank runs the same program on the same kind of
 // machine): id, s, present, seconds, then the chunk of a block task (m blocks or k_z nodes).
@@ -484,7 +484,8 @@ std::vector<RunResult> run_sweeps_distributed(const std::vector<SweepInput>& inp
                  b[5],
                  0.0,
                  static_cast<int>(b[6]),
-                 static_cast<int>(b[7])};
+                 static_cast<int>(b[7]),
+                 static_cast<int>(b[8])};
           // Bloch node tasks: the (p, q) pairs follow (exact in a double, < 2^53).
           for (int i = kTaskDoubles; i + 1 < n; i += 2)
             t.bloch_keys.emplace_back(static_cast<long>(b[i]), static_cast<long>(b[i + 1]));
@@ -622,7 +623,8 @@ std::vector<RunResult> run_sweeps_distributed(const std::vector<SweepInput>& inp
                                    t.xi,
                                    t.rel_tol,
                                    double(t.m_begin),
-                                   double(t.m_end)};
+                                   double(t.m_end),
+                                   double(t.m_stride)};
           for (const blocks::BlochKey& k : t.bloch_keys) {
             b.push_back(double(k.first));
             b.push_back(double(k.second));

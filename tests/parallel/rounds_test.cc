@@ -326,9 +326,10 @@ TEST(AxialChunks, NodeIndicesGiveTheSerialAbscissae) {
   EXPECT_EQ(g, cylinder::axial_node_count());
 }
 
-// A sphere-plate and a sphere-sphere with many m blocks and few frequencies (R = 30 um, L = 3 um,
-// 300 K: ~6 frequencies, fewer than kItemsPerSlot x 2 slots): with 2 and 4 slots the rounds cut the
-// frequencies into m-block tasks and still give the serial numbers bit for bit. Invented values.
+// A sphere-plate and a sphere-sphere with many m blocks and few frequencies (R = 300 um and two
+// 150 um spheres, L = 3 um, 300 K: ~7 frequencies, fewer than kItemsPerSlot x 2 slots; R/L = 100,
+// so the walk over m samples): with 2 and 4 slots the rounds cut the frequencies into m-block
+// tasks (arithmetic runs of m) and still give the serial numbers bit for bit. Invented values.
 TEST(FrequencyRounds, MBlockTasksGiveTheSerialNumbersBitForBit) {
   for (const char* kind : {"sphere-plate", "sphere-sphere"}) {
     SCOPED_TRACE(kind);
@@ -337,7 +338,8 @@ TEST(FrequencyRounds, MBlockTasksGiveTheSerialNumbersBitForBit) {
       for (std::size_t at = text.find(from); at != std::string::npos; at = text.find(from, at))
         text.replace(at, from.size(), to), at += to.size();
     };
-    swap("radius = \"1 um\"", "radius = \"30 um\"");
+    swap("radius = \"1 um\"", "radius = \"RADIUS\"");
+    swap("RADIUS", std::string(kind) == "sphere-plate" ? "300 um" : "150 um");
     swap("values = [\"400 nm\", \"700 nm\"]", "values = [\"3 um\"]");
     const io::CaseSpec spec = io::parse_case(text, "blocks.toml");
     const auto g = io::build_geometry(spec);
@@ -355,6 +357,12 @@ TEST(FrequencyRounds, MBlockTasksGiveTheSerialNumbersBitForBit) {
       expect_same(serial, r[0]);
       EXPECT_GT(stats.split_frequencies, 0);
       EXPECT_GT(stats.block_tasks, stats.split_frequencies);
+      std::cout << kind << ", " << slots << " slots: " << stats.split_frequencies
+                << " frequencies split into " << stats.block_tasks << " m-block tasks, "
+                << stats.rounds << " rounds, " << stats.unused_blocks << " of " << stats.block_units
+                << " blocks not used\n";
+      // The chunks follow the walk over m (m_walk.h): most computed blocks are used.
+      EXPECT_LE(3 * stats.unused_blocks, stats.block_units);
       // Every frequency the serial sum used is in the journal, split or not.
       for (const auto& t : serial.points[0].frequencies.terms)
         EXPECT_TRUE(store.written.count({0, t.xi})) << t.xi;
