@@ -51,8 +51,6 @@ class MWalk {
   bool done() const { return finished_; }
   /// The sum, m > 0 counted twice.
   const Spectral& total() const { return total_; }
-  /// Blocks computed so far.
-  int computed() const { return static_cast<int>(known_.size()); }
 
  private:
   void advance();                  // add what the known blocks allow; set next_
