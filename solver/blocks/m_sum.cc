@@ -14,7 +14,8 @@
 namespace roundtrip::blocks {
 namespace {
 
-// sum_over_m under an MChunkScope: the chunk's blocks only, batch by batch as the whole sum.
+// sum_over_m under an MChunkScope: the chunk's blocks only (begin, begin + stride, ... < end, not
+// beyond mlimit), kMBatch at a time in parallel; the values in that order.
 void compute_chunk(MChunk& c, int mlimit, bool fixed_m_max, DerivativeOrder order, double tol,
                    const std::function<LogDetResult(int)>& block,
                    const std::function<std::string(int, const LogDetResult&)>& fail_message) {
