@@ -694,15 +694,21 @@ double term_tolerance(double share_j, int k, double rel_tol) {
   return std::clamp(relaxed, 0.5 * rel_tol, std::max(0.5 * rel_tol, kMaxTermRelTol));
 }
 
-FrequencySum pade_spectrum(const TolerantSpectralFunction& f, double xi_scale,
-                           const ThermalRuleChoice& choice, const FrequencyRuleOptions& opts) {
+// The Pade rule's frequencies, weights and first per-term accuracies (before any recompute).
+struct PadePlan {
+  std::vector<FrequencyTerm> terms;  // xi, weight, rel_tol
+  std::vector<double> eps;           // the split budget's accuracies
+  bool split = false;
+};
+
+PadePlan pade_plan(double xi_scale, const ThermalRuleChoice& choice,
+                   const FrequencyRuleOptions& opts) {
   const double kT = kBoltzmann * opts.temperature_K;
   const PadePoles p = pade_spectrum_poles(choice.pade_poles);
   const int k = choice.pade_poles + 1;
-  FrequencySum out;
-  out.rule = FrequencyRuleKind::kPadeSpectrum;
-  out.pade_poles = choice.pade_poles;
-  std::vector<FrequencyTerm> terms(k);
+  PadePlan plan;
+  std::vector<FrequencyTerm>& terms = plan.terms;
+  terms.resize(k);
   for (int j = 0; j < k; ++j) {
     terms[j].xi = j == 0 ? 0.0 : 2.0 * p.y[j - 1] * kT / kHbar;
     terms[j].weight = j == 0 ? 0.5 * kT : kT * p.eta[j - 1];
@@ -718,17 +724,29 @@ FrequencySum pade_spectrum(const TolerantSpectralFunction& f, double xi_scale,
   // model of multipole geometries: work ~ l_max^2 ~ ln(20/eps)^2 per term (sphere_plate.cc's
   // l_max ~ ln(B/eps), B ~ 20). When the sum is spread over many comparable terms, halving
   // their accuracy costs more than the few small ones save.
-  std::vector<double> eps(k);
+  plan.eps.resize(k);
   double split_cost = 0.0;
   for (int j = 0; j < k; ++j) {
-    eps[j] = term_tolerance(share(model[j], model_total), k, opts.rel_tol);
-    split_cost += std::pow(std::log(20.0 / eps[j]), 2);
+    plan.eps[j] = term_tolerance(share(model[j], model_total), k, opts.rel_tol);
+    split_cost += std::pow(std::log(20.0 / plan.eps[j]), 2);
   }
-  const bool split = split_cost < k * std::pow(std::log(20.0 / opts.rel_tol), 2);
+  plan.split = split_cost < k * std::pow(std::log(20.0 / opts.rel_tol), 2);
+  for (int j = 0; j < k; ++j) terms[j].rel_tol = plan.split ? plan.eps[j] : opts.rel_tol;
+  return plan;
+}
+
+FrequencySum pade_spectrum(const TolerantSpectralFunction& f, double xi_scale,
+                           const ThermalRuleChoice& choice, const FrequencyRuleOptions& opts) {
+  const int k = choice.pade_poles + 1;
+  FrequencySum out;
+  out.rule = FrequencyRuleKind::kPadeSpectrum;
+  out.pade_poles = choice.pade_poles;
+  PadePlan plan = pade_plan(xi_scale, choice, opts);
+  std::vector<FrequencyTerm>& terms = plan.terms;
+  const bool split = plan.split;
   CompensatedSum total;
   for (int j = 0; j < k; ++j) {
     FrequencyTerm& term = terms[j];
-    term.rel_tol = split ? eps[j] : opts.rel_tol;
     term.s = f(term.xi, term.rel_tol);
     if (split && all_finite(term.s) && term.rel_tol > 0.5 * opts.rel_tol) {
       // The computed share, against the sum so far (terms ascend in xi and fall off, so this
@@ -837,6 +855,17 @@ ThermalRuleChoice choose_thermal_rule(double xi_scale, const FrequencyRuleOption
     c.rule = FrequencyRuleKind::kMatsubaraIntegralTail;
   }
   return c;
+}
+
+std::vector<std::pair<double, double>> planned_frequency_terms(double xi_scale,
+                                                               const FrequencyRuleOptions& opts) {
+  std::vector<std::pair<double, double>> out;
+  if (opts.temperature_K == 0.0) return out;
+  const ThermalRuleChoice c = choose_thermal_rule(xi_scale, opts);
+  if (c.rule != FrequencyRuleKind::kPadeSpectrum) return out;
+  for (const FrequencyTerm& t : pade_plan(xi_scale, c, opts).terms)
+    out.emplace_back(t.xi, t.rel_tol);
+  return out;
 }
 
 std::string frequency_rule_problem(double xi_scale, const FrequencyRuleOptions& opts) {

@@ -124,6 +124,14 @@ struct GregoryCorrection {
 };
 GregoryCorrection gregory_tail_correction(const std::vector<Spectral>& f);
 
+/// The (xi, rel_tol) the rule will ask s for first, in order, when they are known before any
+/// value: the Pade rule's terms with their per-term accuracies (a term may be asked again, more
+/// accurately, if its computed share turns out larger than the model's). Empty for the other
+/// rules (they choose their frequencies from the values). A caller may compute these ahead, in
+/// parallel, and serve them when asked (solver/run.cc).
+std::vector<std::pair<double, double>> planned_frequency_terms(double xi_scale,
+                                                               const FrequencyRuleOptions& opts);
+
 /// Apply the rule selected by opts.temperature_K to s(xi). xi_scale (rad/s) is the frequency at
 /// which s has decayed by about e^-1 (Geometry::frequency_scale). s is called sequentially.
 FrequencySum sum_over_frequencies(const SpectralFunction& s, double xi_scale,
