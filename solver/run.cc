@@ -67,7 +67,6 @@ PointResult run_point(const Geometry& geometry, int index, double gap, const Run
     for (const auto& key :
          planned_frequency_terms(geometry.frequency_scale(gap), options.frequency)) {
       Spectral v;
-      if (ahead.count(key)) continue;
       if (options.store && options.store->lookup(index, key.first, v))
         ahead[key] = Ahead{v, true};
       else

@@ -92,17 +92,11 @@ std::optional<Spectral> replay_sum_over_m(int mlimit, bool fixed_m_max, Derivati
   return w.total();
 }
 
-std::vector<std::array<int, 3>> likely_m_chunks(int mlimit, bool fixed_m_max, int blocks) {
+std::vector<std::array<int, 3>> likely_m_chunks(int blocks) {
   std::vector<std::array<int, 3>> runs;
-  const int first = std::min(mlimit, kMBatch - 1);
-  runs.push_back({0, first + 1, 1});
-  if (fixed_m_max) {
-    for (int b = first + 1; b <= mlimit; b += kMBatch)
-      runs.push_back({b, std::min(b + kMBatch, mlimit + 1), 1});
-    return runs;
-  }
-  int a = first, h = 2, count = first + 1;
-  while (count < blocks && a + 4 * h <= mlimit) {
+  runs.push_back({0, kMBatch, 1});
+  int a = kMBatch - 1, h = 2, count = kMBatch;
+  while (count < blocks) {
     runs.push_back({a + h, a + 4 * h + 1, h});
     a += 4 * h;
     h = std::min(2 * h, MWalk::kMaxStride);

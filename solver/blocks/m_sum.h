@@ -59,10 +59,11 @@ std::optional<Spectral> replay_sum_over_m(int mlimit, bool fixed_m_max, Derivati
                                           double tol, const BlockValue& value, int* missing,
                                           std::vector<int>* needed = nullptr);
 
-/// The chunks (begin, end, stride) a first round of block items asks for: the first batch and
-/// the panels of the walk while its stride doubles (m_walk.h), about `blocks` blocks (the cost
-/// model's count); with a fixed m_max, every block in batches. Later rounds ask for the blocks
-/// the replay found missing.
-std::vector<std::array<int, 3>> likely_m_chunks(int mlimit, bool fixed_m_max, int blocks);
+/// The chunks (begin, end, stride) a first round of block items asks for, before the sum's m
+/// limit is known: the first batch and the panels of the walk while its stride doubles
+/// (m_walk.h), about `blocks` blocks (the cost model's count). A chunk computes nothing beyond
+/// the limit; later rounds ask for the blocks the replay found missing (with a fixed m_max:
+/// the rest of the dense sum).
+std::vector<std::array<int, 3>> likely_m_chunks(int blocks);
 
 }  // namespace roundtrip::blocks

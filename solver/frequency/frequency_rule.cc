@@ -697,8 +697,7 @@ double term_tolerance(double share_j, int k, double rel_tol) {
 // The Pade rule's frequencies, weights and first per-term accuracies (before any recompute).
 struct PadePlan {
   std::vector<FrequencyTerm> terms;  // xi, weight, rel_tol
-  std::vector<double> eps;           // the split budget's accuracies
-  bool split = false;
+  bool split = false;                // the split budget's accuracies (else rel_tol for all)
 };
 
 PadePlan pade_plan(double xi_scale, const ThermalRuleChoice& choice,
@@ -724,14 +723,14 @@ PadePlan pade_plan(double xi_scale, const ThermalRuleChoice& choice,
   // model of multipole geometries: work ~ l_max^2 ~ ln(20/eps)^2 per term (sphere_plate.cc's
   // l_max ~ ln(B/eps), B ~ 20). When the sum is spread over many comparable terms, halving
   // their accuracy costs more than the few small ones save.
-  plan.eps.resize(k);
+  std::vector<double> eps(k);
   double split_cost = 0.0;
   for (int j = 0; j < k; ++j) {
-    plan.eps[j] = term_tolerance(share(model[j], model_total), k, opts.rel_tol);
-    split_cost += std::pow(std::log(20.0 / plan.eps[j]), 2);
+    eps[j] = term_tolerance(share(model[j], model_total), k, opts.rel_tol);
+    split_cost += std::pow(std::log(20.0 / eps[j]), 2);
   }
   plan.split = split_cost < k * std::pow(std::log(20.0 / opts.rel_tol), 2);
-  for (int j = 0; j < k; ++j) terms[j].rel_tol = plan.split ? plan.eps[j] : opts.rel_tol;
+  for (int j = 0; j < k; ++j) terms[j].rel_tol = plan.split ? eps[j] : opts.rel_tol;
   return plan;
 }
 

@@ -7,11 +7,9 @@
 #include <array>
 #include <bit>
 #include <chrono>
-#include <climits>
 #include <cmath>
 #include <cstdlib>
 #include <exception>
-#include <limits>
 #include <stdexcept>
 
 #include "solver/geometries/axial_integral.h"
@@ -383,8 +381,8 @@ void SweepRounds::split_largest(std::vector<Task>& tasks) {
     }
     const FrequencyCost fc =
         in.geometry->cost(in.gaps[t.gap], in.options.quantities.order(), t.rel_tol);
-    const std::vector<std::array<int, 3>> runs = blocks::likely_m_chunks(
-        std::numeric_limits<int>::max() / 4, false, static_cast<int>(std::min(fc.blocks, 1e6)));
+    const std::vector<std::array<int, 3>> runs =
+        blocks::likely_m_chunks(static_cast<int>(std::min(fc.blocks, 1e6)));
     const int parts =
         static_cast<int>(std::min(static_cast<double>(runs.size()), std::ceil(t.cost / target)));
     if (parts < 2) {

@@ -52,6 +52,12 @@ Walked walk(const Terms& f, int mlimit, bool fixed, double tol,
   return w;
 }
 
+void expect_equal(const Spectral& got, const Spectral& ref) {
+  EXPECT_EQ(got.value, ref.value);
+  EXPECT_EQ(got.d1, ref.d1);
+  EXPECT_EQ(got.d2, ref.d2);
+}
+
 void expect_within(const Spectral& got, const Spectral& ref, double rel) {
   EXPECT_LE(std::abs(got.value - ref.value), rel * std::abs(ref.value));
   EXPECT_LE(std::abs(got.d1 - ref.d1), rel * std::abs(ref.d1));
@@ -100,19 +106,13 @@ TEST(MWalk, FastFallOffStopsInTheFirstBatchAsTheDenseSum) {
   };
   const Walked w = walk(f, 400, false, 1e-4);
   EXPECT_EQ(w.computed.size(), 8u);
-  const Spectral first = plain_sum(f, 7);
-  EXPECT_EQ(w.total.value, first.value);
-  EXPECT_EQ(w.total.d1, first.d1);
-  EXPECT_EQ(w.total.d2, first.d2);
+  expect_equal(w.total, plain_sum(f, 7));
 }
 
 TEST(MWalk, FixedMMaxAddsEveryBlockInOrder) {
   const Walked w = walk(sphere_like, 150, true, 1e-4);
   EXPECT_EQ(w.computed.size(), 151u);
-  const Spectral all = plain_sum(sphere_like, 150);
-  EXPECT_EQ(w.total.value, all.value);
-  EXPECT_EQ(w.total.d1, all.d1);
-  EXPECT_EQ(w.total.d2, all.d2);
+  expect_equal(w.total, plain_sum(sphere_like, 150));
 }
 
 TEST(MWalk, ShortLimitsAndEnergyOnly) {
@@ -132,9 +132,7 @@ TEST(MWalk, SameNumbersOnOneAndTwoThreads) {
   omp_set_num_threads(2);
   const Walked two = walk(sphere_like, 5000, false, 1e-5);
   omp_set_num_threads(threads);
-  EXPECT_EQ(one.total.value, two.total.value);
-  EXPECT_EQ(one.total.d1, two.total.d1);
-  EXPECT_EQ(one.total.d2, two.total.d2);
+  expect_equal(one.total, two.total);
   EXPECT_EQ(one.computed, two.computed);
 }
 
